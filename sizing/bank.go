@@ -1,0 +1,88 @@
+package sizing
+
+import "math"
+
+// SeriesCount returns the fewest cells in series that keep each cell at or
+// below ceilingV (V) when the string sits at maxV (V):
+//
+//	n = ⌈maxV / ceilingV⌉
+//
+// judged in decimal intent: a quotient that is a whole number in decimal
+// (42.0 V / 2.8 V = 15) counts as that number even when binary rounding
+// makes it 15.000000000000002, so floating-point division never adds a cell.
+// The tolerance is 1e-9 relative, far below any real voltage's precision.
+// It returns 0 when either voltage is not positive and finite.
+func SeriesCount(maxV, ceilingV float64) int {
+	if !(maxV > 0) || !(ceilingV > 0) || math.IsInf(maxV, 0) || math.IsInf(ceilingV, 0) {
+		return 0
+	}
+	q := maxV / ceilingV
+	if n := math.Round(q); n >= 1 && math.Abs(q-n) <= 1e-9*n {
+		return int(n)
+	}
+	return int(math.Ceil(q))
+}
+
+// BankCapacitance returns the capacitance, in F, of parallel strings of
+// series cells, each cell of capacitance cellF (F):
+//
+//	C_bank = C_cell · parallel / series
+//
+// (REFERENCES.md 3.3, circuit theory).
+func BankCapacitance(cellF float64, series, parallel int) float64 {
+	return cellF * float64(parallel) / float64(series)
+}
+
+// BankESR returns the series resistance, in Ω, of parallel strings of series
+// cells, each of ESR cellOhm (Ω):
+//
+//	R_bank = R_cell · series / parallel
+//
+// (REFERENCES.md 3.3). The time constant R·C is the same for cell and bank.
+func BankESR(cellOhm float64, series, parallel int) float64 {
+	return cellOhm * float64(series) / float64(parallel)
+}
+
+// StoredEnergy returns ½·C·V², in J, for C in F and V in V (REFERENCES.md 3.1).
+func StoredEnergy(capacitanceF, v float64) float64 { return 0.5 * capacitanceF * v * v }
+
+// UsableEnergy returns the energy, in J, a capacitor gives up between maxV
+// and minV (V), with no loss:
+//
+//	ΔE = ½·C·(maxV² − minV²)
+//
+// (REFERENCES.md 3.2). The fraction of the stored energy is 1 − (minV/maxV)².
+func UsableEnergy(capacitanceF, maxV, minV float64) float64 {
+	return 0.5 * capacitanceF * (maxV - minV) * (maxV + minV)
+}
+
+// roomC is the temperature, in °C, at which datasheet ESR is given.
+const roomC = 25.0
+
+// ColdESRFactor returns the factor by which the ESR at coldC (°C) exceeds
+// the ESR at 25 °C, from one datasheet point: the factor f measured at
+// pointC (< 25 °C). Between the two temperatures it interpolates
+// log-linearly,
+//
+//	k(T) = f^((25 − T)/(25 − pointC)),
+//
+// since electrolyte resistance rises roughly exponentially as it cools
+// (an assumption of capbank, no source; REFERENCES.md 8.3 gives the trend).
+// Above 25 °C it returns 1; below pointC it returns f and beyond = true:
+// the datasheet says nothing colder, and the caller must say so.
+func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
+	switch {
+	case coldC >= roomC:
+		return 1, false
+	case coldC <= pointC:
+		return f, coldC < pointC
+	}
+	return math.Pow(f, (roomC-coldC)/(roomC-pointC)), false
+}
+
+// bankModel is the worst-case equivalent circuit of a bank: an ideal
+// capacitor c (F) behind the series resistance r (Ω), with the leakage as a
+// conductance g (S) across the capacitor.
+type bankModel struct {
+	c, r, g float64
+}

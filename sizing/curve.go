@@ -1,0 +1,166 @@
+package sizing
+
+import "math"
+
+// curvePoints is the most points a Curve holds (about; see curve).
+const curvePoints = 2000
+
+// curve traces the sizing pass on bank m. When every step edge fits in the
+// budget, it keeps each edge (the jump at a step start shows as two points
+// at one time) and adds points inside the steps whose voltage bends
+// (resistor, constant power, and steps that reach the window top). Longer
+// passes are decimated into time buckets that each keep their first, last,
+// lowest and highest terminal voltage and current, so every extreme of the
+// pass stays in the curve. Every point is on the exact solution.
+func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, budget int) *Curve {
+	n := len(steps) * repeat
+	total := 0.0
+	for _, s := range steps {
+		total += s.dur
+	}
+	total *= float64(repeat)
+	cv := &Curve{MaxV: maxV, MinV: minV}
+	var sink pointSink
+	if 2*n+1 <= budget {
+		sink = &fullSink{c: cv}
+	} else {
+		cv.Decimated = true
+		sink = newBucketSink(cv, total, budget/6)
+	}
+	interior := 0
+	if !cv.Decimated {
+		bends := 0
+		for _, s := range steps {
+			if s.kind == kindPower || s.kind == kindResistance {
+				bends++
+			}
+		}
+		if bends > 0 {
+			interior = min(24, (budget-2*n-1)/(bends*repeat))
+		}
+	}
+	v, t := maxV, 0.0
+	sink.add(t, v, v, 0)
+	for range repeat {
+		for _, s := range steps {
+			o := m.solveStep(s, v, minV, maxV)
+			sink.add(t, o.uStart, v, o.iStart)
+			k := 0
+			if s.kind == kindPower || s.kind == kindResistance {
+				k = interior
+			}
+			for i := 1; i <= k; i++ {
+				sub := s
+				sub.dur = o.t * float64(i) / float64(k+1)
+				q := m.solveStep(sub, v, minV, maxV)
+				sink.add(t+sub.dur, q.uEnd, q.v1, q.iEnd)
+			}
+			if o.tTop > 0 && o.tTop < o.t && !cv.Decimated {
+				sub := s
+				sub.dur = o.tTop
+				q := m.solveStep(sub, v, minV, maxV)
+				sink.add(t+o.tTop, q.uEnd, q.v1, q.iEnd)
+			}
+			t += o.t
+			v = o.v1
+			sink.add(t, o.uEnd, v, o.iEnd)
+			if o.stop != stopNone {
+				sink.flush()
+				return cv
+			}
+		}
+	}
+	sink.flush()
+	return cv
+}
+
+type pointSink interface {
+	add(t, u, v, i float64)
+	flush()
+}
+
+type fullSink struct{ c *Curve }
+
+func (s *fullSink) add(t, u, v, i float64) { s.c.append(point{t: t, u: u, v: v, i: i}) }
+func (s *fullSink) flush()                 {}
+
+type point struct {
+	t, u, v, i float64
+	seq        int // arrival order, to keep a jump's two points in order
+}
+
+func (c *Curve) append(p point) {
+	c.TimeS = append(c.TimeS, p.t)
+	c.TerminalV = append(c.TerminalV, p.u)
+	c.CapacitorV = append(c.CapacitorV, p.v)
+	c.CurrentA = append(c.CurrentA, p.i)
+}
+
+// bucketSink keeps, per time bucket, the first and last point and the
+// points of lowest and highest terminal voltage and current.
+type bucketSink struct {
+	c      *Curve
+	width  float64
+	bucket int
+	have   bool
+	keep   [6]point // first, last, minU, maxU, minI, maxI
+	seq    int
+}
+
+func newBucketSink(c *Curve, total float64, buckets int) *bucketSink {
+	if buckets < 1 {
+		buckets = 1
+	}
+	return &bucketSink{c: c, width: total / float64(buckets)}
+}
+
+func (s *bucketSink) add(t, u, v, i float64) {
+	s.seq++
+	p := point{t: t, u: u, v: v, i: i, seq: s.seq}
+	b := 0
+	if s.width > 0 {
+		b = int(t / s.width)
+	}
+	if s.have && b != s.bucket {
+		s.flush()
+	}
+	if !s.have {
+		s.keep = [6]point{p, p, p, p, p, p}
+		s.bucket, s.have = b, true
+		return
+	}
+	s.keep[1] = p
+	if u < s.keep[2].u {
+		s.keep[2] = p
+	}
+	if u > s.keep[3].u {
+		s.keep[3] = p
+	}
+	if i < s.keep[4].i {
+		s.keep[4] = p
+	}
+	if i > s.keep[5].i {
+		s.keep[5] = p
+	}
+}
+
+func (s *bucketSink) flush() {
+	if !s.have {
+		return
+	}
+	s.have = false
+	pts := s.keep
+	// Emit in time order, each distinct point once.
+	for i := 1; i < len(pts); i++ {
+		for j := i; j > 0 && pts[j].seq < pts[j-1].seq; j-- {
+			pts[j], pts[j-1] = pts[j-1], pts[j]
+		}
+	}
+	last := point{t: math.NaN()}
+	for _, p := range pts {
+		if p != last {
+			s.c.append(p)
+			last = p
+		}
+	}
+}

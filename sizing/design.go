@@ -1,0 +1,134 @@
+package sizing
+
+// Design is everything capbank needs to size a bank: the voltage window, the
+// load profile, the worst-case factors and the candidate cells. It is the
+// design file read by `capbank size` and posted to the web API.
+//
+// Optional numbers are pointers: nil means "not given" and takes the default
+// documented on the field; a given zero is checked like any other value.
+type Design struct {
+	// Name labels the design in reports.
+	Name string `json:"name" validate:"max=200"`
+	// Window is the voltage window at the bank terminals.
+	Window Window `json:"window"`
+	// CellMaxV, in V, is the per-cell ceiling the series count is judged
+	// against. nil: each cell's rated voltage. A ceiling above a cell's
+	// rating is not used for that cell (its rating applies, with a flag).
+	CellMaxV *float64 `json:"cell_max_v,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
+	// Load is the load profile the bank must carry.
+	Load Load `json:"load"`
+	// EOL holds the end-of-life factors. nil: the defaults of EOL.
+	EOL *EOL `json:"eol,omitempty"`
+	// AmbientC, in °C, is the ambient temperature. nil: 25 °C.
+	AmbientC *float64 `json:"ambient_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+	// ColdC, in °C, is the coldest temperature the bank must work at. When
+	// given, each cell's ESR is raised by its cold factor (see Cell).
+	ColdC *float64 `json:"cold_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+	// RankBy orders the feasible candidates: "price" (default, lowest total
+	// price), "cells" (fewest cells), "mass" or "volume" (least).
+	RankBy string `json:"rank_by,omitempty" validate:"omitempty,oneof=price cells mass volume"`
+	// Cells are the candidate cells, each sized on its own.
+	Cells []Cell `json:"cells" validate:"min=1,max=1000,dive"`
+}
+
+// Window is the voltage window at the bank terminals, in V: the bank starts
+// at rest at MaxV (fully charged) and must keep its terminal voltage at or
+// above MinV (the converter's cut-off) through the whole profile.
+type Window struct {
+	MaxV float64 `json:"max_v" validate:"finite,gt=0,lte=100000"`
+	MinV float64 `json:"min_v" validate:"finite,gt=0,lte=100000"`
+}
+
+// Load is a load profile: ordered steps, run Repeat times back to back.
+type Load struct {
+	// Efficiency of the converter between the bank and a power load, as a
+	// fraction in (0, 1]. A discharging power step draws power_w / efficiency
+	// from the bank; a charging (negative) power step delivers
+	// |power_w| × efficiency into it, since the converter loses energy both
+	// ways. nil: 1, meaning power_w is already given at the bank terminals.
+	// Current and resistance steps are at the bank terminals and ignore it.
+	Efficiency *float64 `json:"efficiency,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// Repeat is how many times the steps run in the sizing check. nil: 1.
+	Repeat *int `json:"repeat,omitempty" validate:"omitempty,gte=1,lte=1000000"`
+	// Steps are the profile's steps in order.
+	Steps []Step `json:"steps" validate:"min=1,max=1000000,dive"`
+}
+
+// Step is one piece of a load profile: exactly one of PowerW, CurrentA,
+// ResistanceOhm or Rest, held for DurationS. A negative PowerW or CurrentA is
+// energy flowing into the bank (a charger, regenerative braking).
+type Step struct {
+	// PowerW, in W, is a constant power at the converter output.
+	PowerW *float64 `json:"power_w,omitempty" validate:"omitempty,finite,gte=-1e9,lte=1e9"`
+	// CurrentA, in A, is a constant current at the bank terminals.
+	CurrentA *float64 `json:"current_a,omitempty" validate:"omitempty,finite,gte=-1e6,lte=1e6"`
+	// ResistanceOhm, in Ω, is a resistor across the bank terminals.
+	ResistanceOhm *float64 `json:"resistance_ohm,omitempty" validate:"omitempty,finite,gt=0,lte=1e12"`
+	// Rest means no load: only the bank's own drains act.
+	Rest bool `json:"rest,omitempty"`
+	// DurationS, in s, is how long the step lasts.
+	DurationS float64 `json:"duration_s" validate:"finite,gt=0,lte=1e9"`
+}
+
+// EOL holds the end-of-life factors applied to every cell for the worst case.
+type EOL struct {
+	// CapacitanceFactor multiplies the rated capacitance. nil: 0.8, the
+	// usual end-of-life criterion of 80 % of the initial capacitance
+	// (REFERENCES.md 4.4; common practice in supplier literature).
+	CapacitanceFactor *float64 `json:"capacitance_factor,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// ESRFactor multiplies the rated ESR. nil: 2.0, the usual end-of-life
+	// criterion of 200 % of the initial ESR (REFERENCES.md 4.4; common
+	// practice in supplier literature).
+	ESRFactor *float64 `json:"esr_factor,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
+}
+
+// Default end-of-life factors: capacitance down to 80 %, ESR up to 200 % of
+// the initial values (REFERENCES.md 4.4, common practice).
+const (
+	DefaultEOLCapacitanceFactor = 0.8
+	DefaultEOLESRFactor         = 2.0
+)
+
+// Cell is one candidate cell as its datasheet (or a measurement) gives it.
+type Cell struct {
+	ID   string `json:"id" validate:"required,max=100"`
+	Name string `json:"name,omitempty" validate:"max=200"`
+	// RatedV, in V, is the rated (continuous) cell voltage.
+	RatedV float64 `json:"rated_v" validate:"finite,gt=0,lte=1000"`
+	// SurgeV, in V, is the surge voltage; at least RatedV.
+	SurgeV *float64 `json:"surge_v,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
+	// CapacitanceF, in F, is the rated capacitance.
+	CapacitanceF float64 `json:"capacitance_f" validate:"finite,gt=0,lte=1e6"`
+	// CapacitanceTolerancePct is [minus, plus] in percent, e.g. [-10, 20].
+	CapacitanceTolerancePct []float64 `json:"capacitance_tolerance_pct,omitempty" validate:"omitempty,len=2,dive,finite"`
+	// ESROhm, in Ω, is the rated DC ESR (the datasheet maximum).
+	ESROhm float64 `json:"esr_ohm" validate:"finite,gt=0,lte=10000"`
+	// ColdESRFactor is the ESR at ColdESRTempC divided by the ESR at 25 °C.
+	ColdESRFactor *float64 `json:"cold_esr_factor,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
+	// ColdESRTempC, in °C, is where ColdESRFactor was measured; below 25 °C.
+	ColdESRTempC *float64 `json:"cold_esr_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lt=25"`
+	// LeakageA, in A, is the leakage current at rated voltage. It is modelled
+	// as a resistance RatedV/LeakageA across the capacitor.
+	LeakageA *float64 `json:"leakage_a,omitempty" validate:"omitempty,finite,gte=0,lte=1000"`
+	// MaxCurrentA, in A, is the maximum continuous current, checked against
+	// the cell's RMS current over the sizing pass (it is a heating limit).
+	MaxCurrentA *float64 `json:"max_current_a,omitempty" validate:"omitempty,finite,gt=0,lte=1e6"`
+	// PeakCurrentA, in A, is the peak current, checked against the largest
+	// cell current in the sizing pass.
+	PeakCurrentA *float64 `json:"peak_current_a,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
+	// ThermalResistanceKPerW, in K/W, is the cell's thermal resistance to
+	// ambient.
+	ThermalResistanceKPerW *float64 `json:"thermal_resistance_k_per_w,omitempty" validate:"omitempty,finite,gt=0,lte=10000"`
+	// MinTempC and MaxTempC, in °C, are the operating temperature range.
+	MinTempC *float64 `json:"min_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+	MaxTempC *float64 `json:"max_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+	// MassKg, in kg, VolumeL, in L, and UnitPrice, in the user's currency,
+	// are per cell.
+	MassKg    *float64 `json:"mass_kg,omitempty" validate:"omitempty,finite,gt=0,lte=10000"`
+	VolumeL   *float64 `json:"volume_l,omitempty" validate:"omitempty,finite,gt=0,lte=10000"`
+	UnitPrice *float64 `json:"unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+	// RatedLifeH, in h, is the rated life at rated voltage and
+	// RatedLifeTempC (°C).
+	RatedLifeH     *float64 `json:"rated_life_h,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
+	RatedLifeTempC *float64 `json:"rated_life_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+}

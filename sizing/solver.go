@@ -1,0 +1,446 @@
+package sizing
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"sort"
+	"sync"
+)
+
+// MaxParallel is the most strings the solver will try for one cell.
+const MaxParallel = 10000
+
+// MaxPassSteps bounds steps × repeat, the steps one sizing pass runs.
+const MaxPassSteps = 10_000_000
+
+// plan is a design made ready to size: defaults applied, steps compiled.
+type plan struct {
+	d        *Design
+	steps    []compiledStep
+	repeat   int
+	period   float64 // one pass of the steps, s
+	maxV     float64
+	minV     float64
+	capF     float64 // end-of-life capacitance factor
+	esrF     float64 // end-of-life ESR factor
+	rankBy   string
+	ambientC float64
+}
+
+func newPlan(d *Design) *plan {
+	p := &plan{d: d, repeat: 1, maxV: d.Window.MaxV, minV: d.Window.MinV,
+		capF: DefaultEOLCapacitanceFactor, esrF: DefaultEOLESRFactor, rankBy: "price", ambientC: roomC}
+	if d.Load.Repeat != nil {
+		p.repeat = *d.Load.Repeat
+	}
+	if d.EOL != nil && d.EOL.CapacitanceFactor != nil {
+		p.capF = *d.EOL.CapacitanceFactor
+	}
+	if d.EOL != nil && d.EOL.ESRFactor != nil {
+		p.esrF = *d.EOL.ESRFactor
+	}
+	if d.RankBy != "" {
+		p.rankBy = d.RankBy
+	}
+	if d.AmbientC != nil {
+		p.ambientC = *d.AmbientC
+	}
+	eff := 1.0
+	if d.Load.Efficiency != nil {
+		eff = *d.Load.Efficiency
+	}
+	p.steps = compileSteps(d.Load.Steps, eff)
+	for _, s := range p.steps {
+		p.period += s.dur
+	}
+	return p
+}
+
+// compileSteps turns the design's steps into what the bank sees. A
+// discharging power step draws P/η from the bank; a charging one delivers
+// |P|·η into it. Zero power or current is a rest.
+func compileSteps(steps []Step, eff float64) []compiledStep {
+	out := make([]compiledStep, len(steps))
+	for i, s := range steps {
+		c := compiledStep{kind: kindRest, dur: s.DurationS}
+		switch {
+		case s.PowerW != nil && *s.PowerW > 0:
+			c.kind, c.x = kindPower, *s.PowerW/eff
+		case s.PowerW != nil && *s.PowerW < 0:
+			c.kind, c.x = kindPower, *s.PowerW*eff
+		case s.CurrentA != nil && *s.CurrentA != 0:
+			c.kind, c.x = kindCurrent, *s.CurrentA
+		case s.ResistanceOhm != nil:
+			c.kind, c.x = kindResistance, *s.ResistanceOhm
+		}
+		out[i] = c
+	}
+	return out
+}
+
+// Size validates the design and sizes every candidate cell: for each, the
+// fewest cells in series that keep every cell within its ceiling at the
+// window top (SeriesCount), then the fewest parallel strings that carry
+// every step × repeat at worst case from rest at the window top, with the
+// terminal voltage never below the window bottom, never past the
+// maximum-power point, and each cell within its peak and RMS current
+// ratings. Runtime and the lowest terminal voltage only improve with more
+// strings, so the count is found by doubling, then bisection.
+//
+// Candidates are sized in parallel (up to GOMAXPROCS); the report does not
+// depend on the order they finish in. A design that fails Validate returns
+// its ValidationError and no report.
+func Size(d *Design) (*Report, error) {
+	if err := Validate(d); err != nil {
+		return nil, err
+	}
+	p := newPlan(d)
+	cands := make([]Candidate, len(d.Cells))
+	workers := min(runtime.GOMAXPROCS(0), len(d.Cells))
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for range workers {
+		wg.Go(func() {
+			for i := range next {
+				cands[i] = p.sizeCell(&d.Cells[i])
+			}
+		})
+	}
+	for i := range d.Cells {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+
+	rank(cands, p.rankBy)
+	r := &Report{
+		Design: d.Name, RankBy: p.rankBy, MaxV: p.maxV, MinV: p.minV,
+		EOLCapacitanceFactor: p.capF, EOLESRFactor: p.esrF, ColdC: d.ColdC,
+		ProfileDurationS: p.period, PassDurationS: p.period * float64(p.repeat), Repeat: p.repeat,
+		Candidates: cands,
+	}
+	if len(cands) > 0 && cands[0].Feasible {
+		id := cands[0].CellID
+		r.Recommended = &id
+		for i := range d.Cells {
+			if d.Cells[i].ID == id {
+				m := p.worstBank(&d.Cells[i], cands[0].Series, cands[0].Parallel)
+				r.Curve = m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints)
+			}
+		}
+	}
+	if err := checkFinite(r); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// cellLimits are a cell's worst-case figures, ready for any string count.
+type cellLimits struct {
+	s        int
+	ceiling  float64
+	cw, rw   float64 // worst-case cell capacitance (F) and ESR (Ω)
+	gCell    float64 // leakage conductance of one cell, S
+	coldK    float64
+	peakA    float64 // 0: not given
+	contA    float64 // 0: not given
+	passTime float64
+}
+
+func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
+	l := cellLimits{ceiling: c.RatedV, coldK: 1, passTime: p.period * float64(p.repeat)}
+	if p.d.CellMaxV != nil {
+		if *p.d.CellMaxV <= c.RatedV {
+			l.ceiling = *p.d.CellMaxV
+		} else {
+			*flags = append(*flags, Flag{Code: "ceiling_above_rating", Severity: Info, Message: fmt.Sprintf(
+				"The design's per-cell ceiling (%g V) is above this cell's rated voltage (%g V); the rated voltage is used for the series count.",
+				*p.d.CellMaxV, c.RatedV)})
+		}
+	}
+	l.s = SeriesCount(p.maxV, l.ceiling)
+	if cold := p.d.ColdC; cold != nil {
+		if c.ColdESRFactor != nil && c.ColdESRTempC != nil {
+			k, beyond := ColdESRFactor(*cold, *c.ColdESRTempC, *c.ColdESRFactor)
+			l.coldK = k
+			if beyond {
+				*flags = append(*flags, Flag{Code: "cold_beyond_datasheet", Severity: Warning, Message: fmt.Sprintf(
+					"The design's cold temperature (%g °C) is below the coldest ESR point the cell gives (%g °C, ×%g); capbank uses ×%g, and the real ESR may be higher. Get the ESR at %g °C from the maker or measure it.",
+					*cold, *c.ColdESRTempC, *c.ColdESRFactor, *c.ColdESRFactor, *cold)})
+			}
+		} else if *cold < roomC {
+			*flags = append(*flags, Flag{Code: "no_cold_esr", Severity: Warning, Message: fmt.Sprintf(
+				"The cell gives no ESR at a cold temperature, so the worst case at %g °C uses the 25 °C ESR; organic cells commonly show 1.5–10 × the ESR at −40 °C (REFERENCES.md 8.3, common practice). Add cold_esr_factor and cold_esr_temp_c.",
+				*cold)})
+		}
+		if c.MinTempC != nil && *cold < *c.MinTempC {
+			*flags = append(*flags, Flag{Code: "cold_below_range", Severity: Warning, Message: fmt.Sprintf(
+				"The design's cold temperature (%g °C) is below the cell's operating range (from %g °C).", *cold, *c.MinTempC)})
+		}
+	}
+	l.cw = c.CapacitanceF * p.capF
+	l.rw = c.ESROhm * p.esrF * l.coldK
+	if c.LeakageA != nil {
+		l.gCell = *c.LeakageA / c.RatedV
+	}
+	if c.PeakCurrentA != nil {
+		l.peakA = *c.PeakCurrentA
+	}
+	if c.MaxCurrentA != nil {
+		l.contA = *c.MaxCurrentA
+	}
+	return l
+}
+
+func (p *plan) worstBank(c *Cell, s, par int) bankModel {
+	var flags []Flag
+	l := p.limits(c, &flags)
+	return l.bank(par)
+}
+
+func (l *cellLimits) bank(par int) bankModel {
+	return bankModel{
+		c: BankCapacitance(l.cw, l.s, par),
+		r: BankESR(l.rw, l.s, par),
+		g: l.gCell * float64(par) / float64(l.s),
+	}
+}
+
+// trial is one string count tried.
+type trial struct {
+	par   int
+	ok    bool
+	limit string // what failed: voltage, power, peak_current, rms_current
+	stats passStats
+}
+
+func (p *plan) try(l *cellLimits, par int) trial {
+	m := l.bank(par)
+	s := m.run(p.steps, p.repeat, p.maxV, p.minV, p.maxV)
+	tr := trial{par: par, stats: s, ok: true}
+	switch {
+	case s.stop != stopNone:
+		tr.ok, tr.limit = false, s.stop.String()
+	case l.peakA > 0 && s.peakI/float64(par) > l.peakA:
+		tr.ok, tr.limit = false, "peak_current"
+	case l.contA > 0 && math.Sqrt(s.i2dt/l.passTime)/float64(par) > l.contA:
+		tr.ok, tr.limit = false, "rms_current"
+	}
+	return tr
+}
+
+func (p *plan) sizeCell(c *Cell) Candidate {
+	cand := Candidate{CellID: c.ID, CellName: c.Name, Flags: []Flag{}}
+	l := p.limits(c, &cand.Flags)
+	cand.Series = l.s
+	cand.CellCeilingV = l.ceiling
+	cand.CellV = p.maxV / float64(l.s)
+	cand.ColdESRFactor = l.coldK
+
+	// Doubling, then bisection: lo always fails, hi always carries the load.
+	var lo trial
+	hi := p.try(&l, 1)
+	for !hi.ok {
+		lo = hi
+		if hi.par >= MaxParallel {
+			cand.Reason = p.infeasibleReason(&l, hi)
+			p.fillFigures(&cand, c, &l, hi)
+			cand.Feasible = false
+			return cand
+		}
+		hi = p.try(&l, min(2*hi.par, MaxParallel))
+	}
+	for lo.par > 0 && hi.par-lo.par > 1 {
+		mid := p.try(&l, lo.par+(hi.par-lo.par)/2)
+		if mid.ok {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	cand.Feasible = true
+	cand.Limit = lo.limit
+	p.fillFigures(&cand, c, &l, hi)
+	return cand
+}
+
+func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
+	j := t.stats.stopStep
+	at := fmt.Sprintf("%.4g s into the pass (step %d)", t.stats.t, j+1)
+	switch t.limit {
+	case "voltage":
+		if p.steps[j].kind == kindRest {
+			return fmt.Sprintf("Leakage alone brings the bank below the window bottom (%g V) during a rest, %s; more strings do not help: shorten the rest, recharge before it, or choose a cell with less leakage.", p.minV, at)
+		}
+		return fmt.Sprintf("Even %d strings reach the window bottom (%g V) %s.", t.par, p.minV, at)
+	case "power":
+		return fmt.Sprintf("Even %d strings pass the maximum-power point of the load %s.", t.par, at)
+	case "peak_current":
+		return fmt.Sprintf("Even with %d strings the cell current peaks at %.4g A, above its peak rating of %g A.", t.par, t.stats.peakI/float64(t.par), l.peakA)
+	}
+	return fmt.Sprintf("Even with %d strings the cell RMS current exceeds its continuous rating of %g A.", t.par, l.contA)
+}
+
+// fillFigures writes the bank figures of the chosen string count.
+func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
+	par, s := t.par, l.s
+	cand.Parallel = par
+	cand.Cells = s * par
+	cand.CapacitanceF = BankCapacitance(c.CapacitanceF, s, par)
+	cand.ESROhm = BankESR(c.ESROhm, s, par)
+	m := l.bank(par)
+	cand.WorstCapacitanceF, cand.WorstESROhm = m.c, m.r
+	if m.g > 0 {
+		rp := 1 / m.g
+		cand.LeakageOhm = &rp
+	}
+	cand.StoredEnergyJ = StoredEnergy(cand.CapacitanceF, p.maxV)
+	cand.UsableEnergyJ = UsableEnergy(BankCapacitance(c.CapacitanceF*p.capF, s, par), p.maxV, p.minV)
+	st := t.stats
+	cand.MinTerminalV = st.minU
+	cand.EndCapacitorV = st.v
+	cand.PeakCurrentA = st.peakI
+	if st.t > 0 {
+		cand.RMSCurrentA = math.Sqrt(st.i2dt / st.t)
+	}
+	cand.CellPeakCurrentA = cand.PeakCurrentA / float64(par)
+	cand.CellRMSCurrentA = cand.RMSCurrentA / float64(par)
+	cand.DeliveredEnergyJ = st.eLoad
+	cand.ESRLossJ = m.r * st.i2dt
+	// The leakage loss by energy balance: ½C(v0² − v1²) = load + ESR + leakage.
+	cand.LeakageLossJ = math.Max(0, 0.5*m.c*(p.maxV-st.v)*(p.maxV+st.v)-st.eLoad-cand.ESRLossJ)
+	if m.g == 0 {
+		cand.LeakageLossJ = 0
+	}
+	cand.RejectedEnergyJ = st.reject
+	if c.UnitPrice != nil {
+		v := *c.UnitPrice * float64(cand.Cells)
+		cand.TotalPrice = &v
+	} else {
+		cand.Flags = append(cand.Flags, Flag{Code: "no_price", Severity: Info,
+			Message: "The cell has no unit price, so it ranks after priced candidates when ranking by price."})
+	}
+	if c.MassKg != nil {
+		v := *c.MassKg * float64(cand.Cells)
+		cand.MassKg = &v
+	}
+	if c.VolumeL != nil {
+		v := *c.VolumeL * float64(cand.Cells)
+		cand.VolumeL = &v
+	}
+	if !t.ok {
+		return
+	}
+	rt := m.runtime(p.steps, p.period, p.minV, p.maxV)
+	if rt.within {
+		v := rt.t
+		cand.RuntimeS = &v
+		cand.RuntimeEnd = rt.end.String()
+		if cand.RuntimeEnd == "" {
+			cand.RuntimeEnd = "voltage"
+		}
+		cand.RuntimeEstimated = rt.estimated
+		if rt.estimated {
+			cand.Flags = append(cand.Flags, Flag{Code: "runtime_estimated", Severity: Info, Message: fmt.Sprintf(
+				"The runtime (%.4g s) spans too many repeats of the steps to run one by one; the periods past the first %d steps were counted by averaging the voltage drop per period.",
+				rt.t, runtimeStepBudget)})
+		}
+	}
+	if st.reject > 0 {
+		cand.Flags = append(cand.Flags, Flag{Code: "energy_rejected", Severity: Warning, Message: fmt.Sprintf(
+			"Charging steps offer %.4g J that the bank cannot absorb because it is held at the window top (%g V); a brake resistor, a charger current limit or a larger window must take it.",
+			st.reject, p.maxV)})
+	}
+	// Common practice, no source: ESR losses above ~10 % of the energy
+	// delivered mean the cell is working far from its efficient range.
+	if st.eLoad > 0 && cand.ESRLossJ > 0.1*st.eLoad {
+		cand.Flags = append(cand.Flags, Flag{Code: "esr_loss_high", Severity: Info, Message: fmt.Sprintf(
+			"ESR losses are %.0f %% of the energy delivered over the pass (%.4g J of %.4g J); a lower-ESR cell or more strings would waste less and run cooler (10 %% is a rule of thumb, no source).",
+			100*cand.ESRLossJ/st.eLoad, cand.ESRLossJ, st.eLoad)})
+	}
+}
+
+// rank orders feasible candidates first, best first by the chosen figure
+// (ties: fewer cells, then id); infeasible ones follow in input order.
+func rank(c []Candidate, by string) {
+	key := func(x *Candidate) (float64, bool) {
+		switch by {
+		case "cells":
+			return float64(x.Cells), true
+		case "mass":
+			if x.MassKg != nil {
+				return *x.MassKg, true
+			}
+		case "volume":
+			if x.VolumeL != nil {
+				return *x.VolumeL, true
+			}
+		default:
+			if x.TotalPrice != nil {
+				return *x.TotalPrice, true
+			}
+		}
+		return 0, false
+	}
+	sort.SliceStable(c, func(i, j int) bool {
+		a, b := &c[i], &c[j]
+		if a.Feasible != b.Feasible {
+			return a.Feasible
+		}
+		if !a.Feasible {
+			return false
+		}
+		ka, oka := key(a)
+		kb, okb := key(b)
+		if oka != okb {
+			return oka
+		}
+		if ka != kb {
+			return ka < kb
+		}
+		if a.Cells != b.Cells {
+			return a.Cells < b.Cells
+		}
+		return a.CellID < b.CellID
+	})
+}
+
+// ErrNotFinite reports a figure that came out NaN or Inf: a bug in capbank,
+// never passed on as a number.
+var ErrNotFinite = errors.New("sizing: a computed figure is not finite")
+
+func checkFinite(r *Report) error {
+	bad := func(name string, xs ...float64) error {
+		for _, x := range xs {
+			if !finite(x) {
+				return fmt.Errorf("%w (%s); please report this design", ErrNotFinite, name)
+			}
+		}
+		return nil
+	}
+	for i := range r.Candidates {
+		c := &r.Candidates[i]
+		opt := func(p *float64) float64 {
+			if p == nil {
+				return 0
+			}
+			return *p
+		}
+		if err := bad(c.CellID, c.CellCeilingV, c.CellV, c.CapacitanceF, c.ESROhm, c.WorstCapacitanceF, c.WorstESROhm,
+			c.ColdESRFactor, opt(c.LeakageOhm), c.StoredEnergyJ, c.UsableEnergyJ, opt(c.RuntimeS), c.MinTerminalV,
+			c.EndCapacitorV, c.PeakCurrentA, c.RMSCurrentA, c.CellPeakCurrentA, c.CellRMSCurrentA, c.DeliveredEnergyJ,
+			c.ESRLossJ, c.LeakageLossJ, c.RejectedEnergyJ, opt(c.TotalPrice), opt(c.MassKg), opt(c.VolumeL)); err != nil {
+			return err
+		}
+	}
+	if r.Curve != nil {
+		for _, s := range [][]float64{r.Curve.TimeS, r.Curve.TerminalV, r.Curve.CapacitorV, r.Curve.CurrentA} {
+			if err := bad("curve", s...); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}

@@ -1,0 +1,411 @@
+package sizing
+
+import "math"
+
+// The exact solution of each step kind on the bank model: an ideal
+// capacitor C behind the series resistance R, with a leakage conductance g
+// across the capacitor. v is the capacitor voltage, u the terminal voltage,
+// i the bank current (positive out of the bank), u = v − i·R.
+//
+//	constant current I:  C·dv/dt = −(I + g·v)
+//	   v(t) = v0 − (I + g·v0)·(t/C)·φ(−g·t/C),   φ(x) = (e^x − 1)/x
+//	resistor R_L:        i = v/(R_L + R),  C·dv/dt = −v/(R_L + R) − g·v
+//	   v(t) = v0·e^(−k·t),  k = (1/(R_L + R) + g)/C
+//	rest:                v(t) = v0·e^(−g·t/C)
+//	constant power P:    u·i = P, so v = u + P·R/u and i = P/u; with
+//	   a = P·(1 + R·g), A = −P·R/a, B = 1 + P·R·g/a the time from u0 to u is
+//	   t(u) = C·[A·ln(u0/u) + B/(2g)·ln((a + g·u0²)/(a + g·u²))]
+//	   (partial fractions of C·(u² − PR)/(u·(a + g·u²)); for g = 0 it is
+//	   C·(u0² − u²)/(2P) − R·C·ln(u0/u), REFERENCES.md 3.10), and the
+//	   end voltage of a step is its root, found by Newton's method.
+//
+// A discharging constant-power step exists only while v ≥ 2√(PR), i.e.
+// u ≥ √(PR) (REFERENCES.md 3.8): there the load collapses. In u the terminal
+// falls monotonically to √(PR), so the step stops at u = max(min_v, √(PR)):
+// at the window bottom when min_v² ≥ P·R, else at the collapse.
+//
+// Charging steps (negative I or P) raise v; once v reaches the window top
+// the bank is held there (a charger's constant-voltage phase or a brake
+// chopper): only the leakage is then supplied, and the rest of what the
+// source offers is counted as rejected energy.
+
+type stepKind uint8
+
+const (
+	kindRest stepKind = iota
+	kindCurrent
+	kindPower
+	kindResistance
+)
+
+func (k stepKind) String() string {
+	return [...]string{"rest", "current", "power", "resistance"}[k]
+}
+
+// compiledStep is a step as the bank sees it: x is the current (A), the
+// power at the bank terminals (W, after the converter efficiency) or the
+// load resistance (Ω).
+type compiledStep struct {
+	kind stepKind
+	x    float64
+	dur  float64
+}
+
+// stopReason says why a step ended before its duration.
+type stopReason uint8
+
+const (
+	stopNone    stopReason = iota
+	stopVoltage            // terminal voltage reached min_v
+	stopPower              // maximum-power point of a constant-power load
+)
+
+func (s stopReason) String() string {
+	return [...]string{"", "voltage", "power"}[s]
+}
+
+// stepOutcome is what a step did to the bank.
+type stepOutcome struct {
+	t      float64    // time run, s (the duration unless stopped)
+	v1     float64    // capacitor voltage at the end, V
+	uStart float64    // terminal voltage just after the step starts, V
+	uEnd   float64    // terminal voltage at the end, V
+	iStart float64    // bank current just after the step starts, A
+	iEnd   float64    // bank current at the end, A
+	iPeak  float64    // largest |i| in the step, A
+	i2dt   float64    // ∫ i² dt, A²·s
+	eLoad  float64    // ∫ u·i dt, J: energy delivered at the terminals
+	reject float64    // energy offered by a charging source but not absorbed, J
+	tTop   float64    // time at which a charging step reached the window top (−1: never)
+	stop   stopReason // why it ended early, if it did
+}
+
+// solveStep runs one step from capacitor voltage v0 on bank m, stopping at
+// terminal voltage minV and holding charging steps at capacitor voltage
+// maxV. It never returns NaN or Inf for finite, physical inputs.
+func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64) stepOutcome {
+	switch st.kind {
+	case kindCurrent:
+		return m.currentStep(st.x, st.dur, v0, minV, maxV)
+	case kindPower:
+		return m.powerStep(st.x, st.dur, v0, minV, maxV)
+	case kindResistance:
+		return m.resistorStep(st.x, st.dur, v0, minV)
+	}
+	return m.restStep(st.dur, v0, minV)
+}
+
+// currentStep: constant current I (A) at the terminals.
+func (m *bankModel) currentStep(I, dur, v0, minV, maxV float64) stepOutcome {
+	c, r, g := m.c, m.r, m.g
+	o := stepOutcome{t: dur, tTop: -1, iStart: I, iEnd: I, iPeak: math.Abs(I)}
+	o.uStart = v0 - I*r
+	drain := I + g*v0 // C·(−dv/dt) at the start
+	// vAt: the capacitor voltage t seconds in.
+	vAt := func(t float64) float64 { return v0 - drain*(t/c)*expm1OverX(-g*t/c) }
+	// tTo: the time to reach capacitor voltage vs, or −1 if never.
+	tTo := func(vs float64) float64 {
+		y := g * (vs - v0) / drain
+		if drain == 0 || !(1+y > 0) {
+			return -1
+		}
+		return c * (v0 - vs) / drain * log1pOverX(y)
+	}
+	if I > 0 {
+		vStop := minV + I*r
+		run := dur
+		if v0 <= vStop {
+			run, o.stop = 0, stopVoltage
+		} else if vAt(dur) < vStop {
+			if ts := tTo(vStop); ts >= 0 && ts <= dur {
+				run, o.stop = ts, stopVoltage
+			}
+		}
+		v1 := vAt(run)
+		if o.stop != stopNone && run > 0 {
+			v1 = vStop
+		}
+		o.t, o.v1, o.uEnd = run, v1, v1-I*r
+		o.i2dt = I * I * run
+		o.eLoad = I*m.integralV(I, v0, run) - I*I*r*run
+		return o
+	}
+	// Charging (I < 0) or zero current: may reach the top and be held.
+	tHold := 0.0
+	run := dur
+	if I < 0 {
+		if v0 >= maxV {
+			run, tHold = 0, dur
+		} else if ts := tTo(maxV); ts >= 0 && ts < dur {
+			run, tHold = ts, dur-ts
+		}
+	}
+	v1 := v0
+	if run > 0 {
+		v1 = vAt(run)
+	}
+	if tHold > 0 {
+		v1 = maxV
+		o.tTop = run
+	}
+	o.v1 = v1
+	o.uEnd = v1 - I*r
+	o.i2dt = I * I * run
+	o.eLoad = I*m.integralV(I, v0, run) - I*I*r*run
+	if tHold > 0 {
+		m.hold(&o, maxV, tHold, -I*(maxV-I*r)*tHold)
+		o.uEnd = maxV + g*maxV*r
+		o.iEnd = -g * maxV
+	}
+	return o
+}
+
+// integralV returns ∫v dt over t seconds of constant current I from v0:
+//
+//	∫v dt = v0·t·φ(x) − I·t²·ψ(x)/C,  x = −g·t/C,  ψ(x) = (e^x − 1 − x)/x²
+func (m *bankModel) integralV(I, v0, t float64) float64 {
+	x := -m.g * t / m.c
+	return v0*t*expm1OverX(x) - I*t*t*expm1MinusXOverX2(x)/m.c
+}
+
+// hold keeps the capacitor at vTop for t seconds: the source supplies only
+// the leakage; offered is the energy it offered in that time, J.
+func (m *bankModel) hold(o *stepOutcome, vTop, t, offered float64) {
+	iLeak := m.g * vTop // into the bank, A
+	uHold := vTop + iLeak*m.r
+	absorbed := iLeak * uHold * t
+	o.i2dt += iLeak * iLeak * t
+	o.eLoad -= absorbed
+	if rej := offered - absorbed; rej > 0 {
+		o.reject += rej
+	}
+	if iLeak > o.iPeak {
+		o.iPeak = iLeak
+	}
+}
+
+// resistorStep: a resistor rl (Ω) across the terminals.
+func (m *bankModel) resistorStep(rl, dur, v0, minV float64) stepOutcome {
+	c, r, g := m.c, m.r, m.g
+	rs := rl + r
+	k := (1/rs + g) / c
+	o := stepOutcome{t: dur, tTop: -1}
+	o.uStart = v0 * rl / rs
+	o.iStart = v0 / rs
+	o.iPeak = o.iStart
+	vStop := minV * rs / rl
+	t := dur
+	if v0 <= vStop {
+		t = 0
+		o.stop = stopVoltage
+	} else if v1 := v0 * math.Exp(-k*dur); v1 < vStop {
+		t = math.Log(v0/vStop) / k
+		o.stop = stopVoltage
+	}
+	o.t = t
+	v1 := v0 * math.Exp(-k*t)
+	if o.stop != stopNone {
+		v1 = math.Min(v1, v0)
+	}
+	o.v1 = v1
+	o.uEnd = v1 * rl / rs
+	o.iEnd = v1 / rs
+	// ∫v² dt = v0²·t·φ(−2k·t)
+	iv2 := v0 * v0 * t * expm1OverX(-2*k*t)
+	o.i2dt = iv2 / (rs * rs)
+	o.eLoad = iv2 * rl / (rs * rs)
+	return o
+}
+
+// restStep: no load; only the leakage drains the bank.
+func (m *bankModel) restStep(dur, v0, minV float64) stepOutcome {
+	o := stepOutcome{t: dur, tTop: -1, uStart: v0}
+	k := m.g / m.c
+	if v0 <= minV {
+		o.v1, o.uEnd, o.t, o.stop = v0, v0, 0, stopVoltage
+		return o
+	}
+	v1 := v0 * math.Exp(-k*dur)
+	if v1 < minV && k > 0 {
+		o.t = math.Log(v0/minV) / k
+		o.stop = stopVoltage
+		v1 = minV
+	}
+	o.v1, o.uEnd = v1, v1
+	return o
+}
+
+// powerStep: constant power p (W) at the bank terminals; p < 0 charges.
+func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64) stepOutcome {
+	if p == 0 {
+		return m.restStep(dur, v0, minV)
+	}
+	c, r, g := m.c, m.r, m.g
+	pr := p * r
+	o := stepOutcome{t: dur, tTop: -1}
+	disc := v0*v0 - 4*pr
+	if disc < 0 { // discharging only: below the maximum-power point already
+		o.t, o.v1, o.stop = 0, v0, stopPower
+		o.uStart, o.uEnd = v0/2, v0/2
+		o.iStart = v0 / (2 * r)
+		o.iEnd, o.iPeak = o.iStart, o.iStart
+		return o
+	}
+	u0 := (v0 + math.Sqrt(disc)) / 2
+	o.uStart, o.iStart = u0, p/u0
+	cp := cpSolution{c: c, pr: pr, g: g, u0: u0, a: p * (1 + r*g)}
+	cp.A = -pr / cp.a
+	cp.B = 1 + pr*g/cp.a
+
+	if p > 0 {
+		uStop, why := minV, stopVoltage
+		if minV*minV < pr {
+			uStop, why = math.Sqrt(pr), stopPower
+		}
+		if u0 <= uStop {
+			return m.powerStopped(o, cp, p, u0, 0, why)
+		}
+		// The step cannot reach uStop if even the largest current it could
+		// draw (p/uStop) and the starting leakage would not bring v down to
+		// the stop in dur; otherwise look at the exact time of the stop.
+		vStop := uStop + pr/uStop
+		if v0-(p/uStop+g*v0)*dur/c <= vStop {
+			if ts, _, _ := cp.time(uStop); ts <= dur {
+				return m.powerStopped(o, cp, p, uStop, ts, why)
+			}
+		}
+		u1 := cp.solve(dur, uStop, u0)
+		return m.powerFinished(o, cp, p, u1, dur)
+	}
+
+	// Charging.
+	if v0 >= maxV {
+		o.v1, o.tTop = maxV, 0
+		m.hold(&o, maxV, dur, -p*dur)
+		o.uStart = maxV + g*maxV*r
+		o.uEnd, o.iStart, o.iEnd = o.uStart, -g*maxV, -g*maxV
+		return o
+	}
+	uTop := (maxV + math.Sqrt(maxV*maxV-4*pr)) / 2
+	reach := v0-p/u0*dur/c >= maxV // an upper bound on the rise reaches the top
+	if reach && cp.a+g*uTop*uTop < 0 {
+		if ts, _, _ := cp.time(uTop); ts < dur {
+			o = m.powerFinished(o, cp, p, uTop, ts)
+			o.t, o.v1, o.tTop = dur, maxV, ts
+			m.hold(&o, maxV, dur-ts, -p*(dur-ts))
+			o.uEnd = maxV + g*maxV*r
+			o.iEnd = -g * maxV
+			return o
+		}
+	}
+	u1 := cp.solve(dur, uTop, u0)
+	return m.powerFinished(o, cp, p, u1, dur)
+}
+
+func (m *bankModel) powerStopped(o stepOutcome, cp cpSolution, p, u, t float64, why stopReason) stepOutcome {
+	o = m.powerFinished(o, cp, p, u, t)
+	o.stop = why
+	return o
+}
+
+// powerFinished fills the outcome of a constant-power step that ran t
+// seconds and ended at terminal voltage u1.
+func (m *bankModel) powerFinished(o stepOutcome, cp cpSolution, p, u1, t float64) stepOutcome {
+	o.t = t
+	o.uEnd = u1
+	o.v1 = u1 + cp.pr/u1
+	o.iEnd = p / u1
+	o.iPeak = math.Max(math.Abs(o.iStart), math.Abs(o.iEnd))
+	o.eLoad = p * t
+	o.i2dt = cp.integralI2(p, u1)
+	return o
+}
+
+// cpSolution holds the constants of one constant-power step's closed form.
+type cpSolution struct {
+	c, pr, g, u0 float64
+	a, A, B      float64
+}
+
+// time returns t(u) for the step, and the two logarithms it used:
+// lnRatio = ln(u0/u) and yLy = ln((a + g·u0²)/(a + g·u²)) (so the
+// ∫i² dt formula can reuse them).
+func (cp *cpSolution) time(u float64) (t, lnRatio, yLy float64) {
+	du := cp.u0 - u
+	lnRatio = log1p(du / u)
+	dw := du * (cp.u0 + u) // u0² − u², without cancellation
+	den := cp.a + cp.g*u*u
+	y := cp.g * dw / den
+	yLy = y * log1pOverX(y)
+	// B/(2g)·ln(1 + y) = B·dw/(2·den)·L(y)
+	t = cp.c * (cp.A*lnRatio + cp.B*dw/(2*den)*log1pOverX(y))
+	return t, lnRatio, yLy
+}
+
+// rate returns du/dt = −u·(a + g·u²)/(C·(u² − PR)) and its derivative in u,
+// (a·w + a·PR − g·w² + 3·g·PR·w)/(C·(w − PR)²) with w = u².
+func (cp *cpSolution) rate(u float64) (f, df float64) {
+	w := u * u
+	q := w - cp.pr
+	f = -u * (cp.a + cp.g*w) / (cp.c * q)
+	df = (cp.a*w + cp.a*cp.pr - cp.g*w*w + 3*cp.g*cp.pr*w) / (cp.c * q * q)
+	return f, df
+}
+
+// solve returns the terminal voltage after dur seconds, known to lie
+// between uFar (where t(uFar) ≥ dur) and u0. It starts from the
+// second-order Taylor step u0 + f·t + ½·f·f′·t² and refines by Newton's
+// method on t(u) = dur, falling back to bisection of the bracket if an
+// iterate leaves it.
+func (cp *cpSolution) solve(dur, uFar, u0 float64) float64 {
+	lo, hi := math.Min(uFar, u0), math.Max(uFar, u0)
+	f0, df0 := cp.rate(u0)
+	u := u0 + f0*dur + 0.5*f0*df0*dur*dur
+	if !(u > lo && u < hi) {
+		u = u0 + f0*dur
+		if !(u > lo && u < hi) {
+			u = lo + (hi-lo)/2
+		}
+	}
+	falling := uFar < u0
+	for i := 0; i < 100; i++ {
+		t, _, _ := cp.time(u)
+		f, df := cp.rate(u)
+		// k estimates the Newton error constant |t″/(2t′)| = |f′/(2f)|.
+		k := math.Abs(df / (2 * f))
+		next := u + (dur-t)*f // Newton: u − (t(u) − dur)/t′(u), t′ = 1/f
+		// Keep the bracket: t grows from 0 at u0 towards uFar.
+		if (t < dur) == falling {
+			hi = u
+		} else {
+			lo = u
+		}
+		if !(next > lo && next < hi) {
+			next = lo + (hi-lo)/2
+		}
+		d := math.Abs(next - u)
+		u = next
+		// Stop at rounding level, or when quadratic convergence puts the
+		// next correction below it.
+		if d <= 2*eps*u || k*d*d <= 0.5*eps*u || hi-lo <= 2*eps*hi {
+			break
+		}
+	}
+	return u
+}
+
+// integralI2 returns ∫ i² dt from u0 to u1, i = P/u:
+//
+//	∫ i² dt = (C·P²/2)·[α·(ln(w0/w1) − ln((a + g·w0)/(a + g·w1))) + β·(1/w1 − 1/w0)]
+//
+// with w = u², β = −PR/a and α = B/a (partial fractions of
+// (w − PR)/(w²·(a + g·w)); capbank's own derivation, checked against
+// numerical quadrature in the tests).
+func (cp *cpSolution) integralI2(p, u1 float64) float64 {
+	_, lnRatio, yLy := cp.time(u1)
+	w0, w1 := cp.u0*cp.u0, u1*u1
+	dw := (cp.u0 - u1) * (cp.u0 + u1)
+	alpha := cp.B / cp.a
+	beta := -cp.pr / cp.a
+	return cp.c * p * p / 2 * (alpha*(2*lnRatio-yLy) + beta*dw/(w0*w1))
+}

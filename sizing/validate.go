@@ -1,0 +1,260 @@
+package sizing
+
+import (
+	"fmt"
+	"math"
+	"reflect"
+	"sort"
+	"strings"
+	"sync"
+
+	"github.com/go-playground/validator/v10"
+)
+
+// FieldError is one problem with a design, named by its field path in the
+// design file (`load.steps[2].duration_s`).
+type FieldError struct {
+	// Field is the JSON path of the offending value.
+	Field string `json:"field"`
+	// Rule is a short machine name for the rule broken ("gt", "finite",
+	// "below_max_v", …).
+	Rule string `json:"rule"`
+	// Message says what is wrong and what to do, in plain words.
+	Message string `json:"message"`
+}
+
+func (e FieldError) Error() string { return e.Field + ": " + e.Message }
+
+// ValidationError lists every problem found in a design.
+type ValidationError []FieldError
+
+func (v ValidationError) Error() string {
+	lines := make([]string, len(v))
+	for i, e := range v {
+		lines[i] = e.Error()
+	}
+	return strings.Join(lines, "\n")
+}
+
+var (
+	validateOnce sync.Once
+	validate     *validator.Validate
+)
+
+func designValidator() *validator.Validate {
+	validateOnce.Do(func() {
+		v := validator.New(validator.WithRequiredStructEnabled())
+		v.RegisterTagNameFunc(func(f reflect.StructField) string {
+			name, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+			if name == "-" {
+				return ""
+			}
+			return name
+		})
+		// finite: rejects NaN and ±Inf, which JSON cannot carry but forms
+		// and Go callers can.
+		if err := v.RegisterValidation("finite", func(fl validator.FieldLevel) bool {
+			f := fl.Field()
+			if f.Kind() != reflect.Float64 && f.Kind() != reflect.Float32 {
+				return true
+			}
+			x := f.Float()
+			return !math.IsNaN(x) && !math.IsInf(x, 0)
+		}); err != nil {
+			panic("sizing: " + err.Error())
+		}
+		validate = v
+	})
+	return validate
+}
+
+// Validate checks a design in full: shapes and ranges by the validator tags
+// on the design types, then the cross-field physics rules. It returns nil or
+// a ValidationError listing every problem, each with its field path, sorted
+// by path. The command line and the web both call it; nothing is sized
+// until it passes.
+func Validate(d *Design) error {
+	var errs ValidationError
+	if err := designValidator().Struct(d); err != nil {
+		var ves validator.ValidationErrors
+		if ok := asValidationErrors(err, &ves); !ok {
+			return ValidationError{{Field: "design", Rule: "invalid", Message: err.Error()}}
+		}
+		for _, fe := range ves {
+			errs = append(errs, FieldError{
+				Field:   fieldPath(fe.Namespace()),
+				Rule:    fe.Tag(),
+				Message: ruleMessage(fe),
+			})
+		}
+	}
+	errs = append(errs, physicsRules(d)...)
+	if len(errs) == 0 {
+		return nil
+	}
+	sort.SliceStable(errs, func(i, j int) bool { return errs[i].Field < errs[j].Field })
+	return dedupe(errs)
+}
+
+func asValidationErrors(err error, out *validator.ValidationErrors) bool {
+	ves, ok := err.(validator.ValidationErrors)
+	if ok {
+		*out = ves
+	}
+	return ok
+}
+
+// fieldPath turns the validator's namespace "Design.load.steps[2].duration_s"
+// into the design-file path "load.steps[2].duration_s".
+func fieldPath(ns string) string {
+	if _, rest, ok := strings.Cut(ns, "."); ok {
+		return rest
+	}
+	return ns
+}
+
+func ruleMessage(fe validator.FieldError) string {
+	p := fe.Param()
+	isList := fe.Kind() == reflect.Slice || fe.Kind() == reflect.Array
+	switch fe.Tag() {
+	case "required":
+		return "is required"
+	case "finite":
+		return "must be a finite number"
+	case "gt":
+		return "must be greater than " + p
+	case "gte":
+		if isList {
+			return "must have at least " + p + " items"
+		}
+		return "must be at least " + p
+	case "lt":
+		return "must be less than " + p
+	case "lte":
+		if isList {
+			return "must have at most " + p + " items"
+		}
+		return "must be at most " + p
+	case "min":
+		if isList {
+			return "must have at least " + p + " item" + plural(p)
+		}
+		return "must be at least " + p + " long"
+	case "max":
+		if isList {
+			return "must have at most " + p + " items"
+		}
+		return "must be at most " + p + " characters"
+	case "len":
+		return "must have exactly " + p + " items"
+	case "oneof":
+		return "must be one of: " + strings.ReplaceAll(p, " ", ", ")
+	}
+	return "breaks rule " + fe.Tag()
+}
+
+func plural(n string) string {
+	if n == "1" {
+		return ""
+	}
+	return "s"
+}
+
+// dedupe drops a second error on the same field with the same rule (the
+// finite tag and a range tag can both fire on one NaN).
+func dedupe(errs ValidationError) ValidationError {
+	out := errs[:0]
+	seen := map[string]bool{}
+	for _, e := range errs {
+		key := e.Field
+		if seen[key] && (e.Rule == "gt" || e.Rule == "gte" || e.Rule == "lt" || e.Rule == "lte") {
+			continue
+		}
+		seen[key] = true
+		out = append(out, e)
+	}
+	return out
+}
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// physicsRules are the cross-field rules the tags cannot say.
+func physicsRules(d *Design) ValidationError {
+	var errs ValidationError
+	add := func(field, rule, format string, a ...any) {
+		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+	}
+	w := d.Window
+	if finite(w.MaxV) && finite(w.MinV) && w.MinV > 0 && w.MinV >= w.MaxV {
+		add("window.min_v", "below_max_v", "must be below window.max_v (%g V ≥ %g V)", w.MinV, w.MaxV)
+	}
+	for i, s := range d.Load.Steps {
+		n := 0
+		if s.PowerW != nil {
+			n++
+		}
+		if s.CurrentA != nil {
+			n++
+		}
+		if s.ResistanceOhm != nil {
+			n++
+		}
+		if s.Rest {
+			n++
+		}
+		if n != 1 {
+			add(fmt.Sprintf("load.steps[%d]", i), "one_kind",
+				"must give exactly one of power_w, current_a, resistance_ohm or rest (found %d)", n)
+		}
+	}
+	if d.Load.Repeat != nil && *d.Load.Repeat > 0 && len(d.Load.Steps)*(*d.Load.Repeat) > MaxPassSteps {
+		add("load.repeat", "pass_steps",
+			"gives %d steps × %d repeats = %d steps in the sizing pass, more than %d; lower the repeat count or merge steps",
+			len(d.Load.Steps), *d.Load.Repeat, len(d.Load.Steps)*(*d.Load.Repeat), MaxPassSteps)
+	}
+	ids := map[string]int{}
+	for i, c := range d.Cells {
+		p := fmt.Sprintf("cells[%d]", i)
+		if c.ID != "" {
+			if j, dup := ids[c.ID]; dup {
+				add(p+".id", "unique", "repeats the id of cells[%d] (%q); give each candidate its own id", j, c.ID)
+			} else {
+				ids[c.ID] = i
+			}
+		}
+		if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
+			add(p+".surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
+		}
+		if t := c.CapacitanceTolerancePct; len(t) == 2 && finite(t[0]) && finite(t[1]) {
+			if t[0] > 0 || t[0] <= -100 {
+				add(p+".capacitance_tolerance_pct[0]", "tolerance_minus",
+					"the minus tolerance must be in (−100, 0] percent, e.g. -10 (got %g)", t[0])
+			}
+			if t[1] < 0 || t[1] > 200 {
+				add(p+".capacitance_tolerance_pct[1]", "tolerance_plus",
+					"the plus tolerance must be in [0, 200] percent, e.g. 20 (got %g)", t[1])
+			}
+		}
+		if (c.ColdESRFactor == nil) != (c.ColdESRTempC == nil) {
+			add(p+".cold_esr_temp_c", "cold_pair",
+				"cold_esr_factor and cold_esr_temp_c go together: give both or neither")
+		}
+		if c.MinTempC != nil && c.MaxTempC != nil && *c.MinTempC >= *c.MaxTempC {
+			add(p+".min_temp_c", "below_max_temp", "must be below max_temp_c (%g °C ≥ %g °C)", *c.MinTempC, *c.MaxTempC)
+		}
+		if c.MaxCurrentA != nil && c.PeakCurrentA != nil && *c.PeakCurrentA < *c.MaxCurrentA {
+			add(p+".peak_current_a", "gte_max_current",
+				"must be at least max_current_a (%g A < %g A)", *c.PeakCurrentA, *c.MaxCurrentA)
+		}
+		if (c.RatedLifeH == nil) != (c.RatedLifeTempC == nil) {
+			add(p+".rated_life_temp_c", "life_pair", "rated_life_h and rated_life_temp_c go together: give both or neither")
+		}
+		if c.LeakageA != nil && finite(*c.LeakageA) && finite(c.RatedV) && finite(c.CapacitanceF) && *c.LeakageA > 0 &&
+			c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
+			add(p+".leakage_a", "leakage_plausible",
+				"is so large that the cell would empty itself in under a second (R·C = %.3g s); check the unit (A, not mA)",
+				c.RatedV/(*c.LeakageA)*c.CapacitanceF)
+		}
+	}
+	return errs
+}
