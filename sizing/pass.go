@@ -64,14 +64,15 @@ type runtimeResult struct {
 // window top until a step stops. Each period is a monotone map of its
 // starting voltage, v → f(v), so:
 //   - a period that ends at or above its starting voltage never runs out;
-//   - otherwise periods are run one by one while the step budget lasts;
+//   - otherwise periods are run one by one while the step budget lasts
+//     (runtimeStepBudget in a sizing);
 //   - past the budget, the remaining periods are counted by averaging,
 //     N = ∫ dv / (v − f(v)) from the lowest starting voltage that still
 //     completes a period (found by bisection) to the present one, with a
 //     16-point Gauss–Legendre rule (gonum integrate/quad). That is accurate
 //     when each period takes only a small bite of the voltage, which is the
 //     only way to exhaust the budget; the result is marked estimated.
-func (m *bankModel) runtime(steps []compiledStep, period, minV, maxV float64) runtimeResult {
+func (m *bankModel) runtime(steps []compiledStep, period, minV, maxV float64, budget int) runtimeResult {
 	v, t := maxV, 0.0
 	for evals := 0; ; evals += len(steps) {
 		if t >= RuntimeLimitS {
@@ -85,7 +86,7 @@ func (m *bankModel) runtime(steps []compiledStep, period, minV, maxV float64) ru
 			return runtimeResult{}
 		}
 		v, t = s.v, t+s.t
-		if evals+len(steps) > runtimeStepBudget {
+		if evals+len(steps) > budget {
 			break
 		}
 	}

@@ -333,7 +333,7 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 	if !t.ok {
 		return
 	}
-	rt := m.runtime(p.steps, p.period, p.minV, p.maxV)
+	rt := m.runtime(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget)
 	if rt.within {
 		v := rt.t
 		cand.RuntimeS = &v
