@@ -1,0 +1,148 @@
+package sizing
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+)
+
+// validDesign is a small invented design that passes Validate.
+func validDesign() *Design {
+	return &Design{Name: "ok", Window: Window{MaxV: 42, MinV: 21}, CellMaxV: fp(2.8),
+		Load: Load{Efficiency: fp(0.94), Repeat: ip(1), Steps: []Step{
+			{PowerW: fp(3500), DurationS: 11}, {CurrentA: fp(40), DurationS: 1.5},
+			{ResistanceOhm: fp(2.2), DurationS: 18}, {Rest: true, DurationS: 3.5}}},
+		Cells: []Cell{testCell("a")}}
+}
+
+func TestValidateAcceptsValid(t *testing.T) {
+	t.Parallel()
+	if err := Validate(validDesign()); err != nil {
+		t.Fatalf("valid design rejected: %v", err)
+	}
+}
+
+func TestValidateBadDesigns(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name   string
+		break_ func(d *Design)
+		field  string // the field path the error must name
+		msg    string // a part of its message
+	}{
+		{"zero duration", func(d *Design) { d.Load.Steps[2].DurationS = 0 }, "load.steps[2].duration_s", "must be greater than 0"},
+		{"negative duration", func(d *Design) { d.Load.Steps[0].DurationS = -1 }, "load.steps[0].duration_s", "must be greater than 0"},
+		{"NaN duration", func(d *Design) { d.Load.Steps[1].DurationS = math.NaN() }, "load.steps[1].duration_s", "finite"},
+		{"infinite power", func(d *Design) { d.Load.Steps[0].PowerW = fp(math.Inf(1)) }, "load.steps[0].power_w", "finite"},
+		{"two kinds in a step", func(d *Design) { d.Load.Steps[0].CurrentA = fp(3) }, "load.steps[0]", "exactly one of"},
+		{"no kind in a step", func(d *Design) { d.Load.Steps[3].Rest = false }, "load.steps[3]", "exactly one of"},
+		{"negative resistance", func(d *Design) { d.Load.Steps[2].ResistanceOhm = fp(-2) }, "load.steps[2].resistance_ohm", "greater than 0"},
+		{"no steps", func(d *Design) { d.Load.Steps = nil }, "load.steps", "at least 1 item"},
+		{"window upside down", func(d *Design) { d.Window.MinV = 50 }, "window.min_v", "must be below window.max_v (50 V ≥ 42 V)"},
+		{"window equal", func(d *Design) { d.Window.MinV = 42 }, "window.min_v", "below window.max_v"},
+		{"window top zero", func(d *Design) { d.Window.MaxV = 0 }, "window.max_v", "greater than 0"},
+		{"efficiency zero", func(d *Design) { d.Load.Efficiency = fp(0) }, "load.efficiency", "greater than 0"},
+		{"efficiency above one", func(d *Design) { d.Load.Efficiency = fp(1.2) }, "load.efficiency", "at most 1"},
+		{"repeat zero", func(d *Design) { d.Load.Repeat = ip(0) }, "load.repeat", "at least 1"},
+		{"pass too long", func(d *Design) { d.Load.Repeat = ip(3_000_000) }, "load.repeat", "at most"},
+		{"pass steps limit", func(d *Design) {
+			d.Load.Repeat = ip(1_000_000)
+			d.Load.Steps = append(d.Load.Steps, d.Load.Steps...)
+			d.Load.Steps = append(d.Load.Steps, d.Load.Steps...)
+		},
+			"load.repeat", "more than 10000000"},
+		{"EOL capacitance factor", func(d *Design) { d.EOL = &EOL{CapacitanceFactor: fp(1.3)} }, "eol.capacitance_factor", "at most 1"},
+		{"EOL ESR factor", func(d *Design) { d.EOL = &EOL{ESRFactor: fp(0.5)} }, "eol.esr_factor", "at least 1"},
+		{"rank by", func(d *Design) { d.RankBy = "colour" }, "rank_by", "one of: price, cells, mass, volume"},
+		{"no cells", func(d *Design) { d.Cells = nil }, "cells", "at least 1 item"},
+		{"cell without id", func(d *Design) { d.Cells[0].ID = "" }, "cells[0].id", "is required"},
+		{"duplicate id", func(d *Design) { d.Cells = append(d.Cells, d.Cells[0]) }, "cells[1].id", "repeats the id of cells[0]"},
+		{"zero capacitance", func(d *Design) { d.Cells[0].CapacitanceF = 0 }, "cells[0].capacitance_f", "greater than 0"},
+		{"zero ESR", func(d *Design) { d.Cells[0].ESROhm = 0 }, "cells[0].esr_ohm", "greater than 0"},
+		{"surge below rated", func(d *Design) { d.Cells[0].SurgeV = fp(2.5) }, "cells[0].surge_v", "at least rated_v (2.5 V < 2.7 V)"},
+		{"tolerance minus positive", func(d *Design) { d.Cells[0].CapacitanceTolerancePct = []float64{5, 20} }, "cells[0].capacitance_tolerance_pct[0]", "minus tolerance"},
+		{"tolerance plus huge", func(d *Design) { d.Cells[0].CapacitanceTolerancePct = []float64{-10, 500} }, "cells[0].capacitance_tolerance_pct[1]", "plus tolerance"},
+		{"tolerance one number", func(d *Design) { d.Cells[0].CapacitanceTolerancePct = []float64{-10} }, "cells[0].capacitance_tolerance_pct", "exactly 2"},
+		{"cold factor alone", func(d *Design) { d.Cells[0].ColdESRFactor = fp(2) }, "cells[0].cold_esr_temp_c", "give both or neither"},
+		{"cold point warm", func(d *Design) { d.Cells[0].ColdESRFactor = fp(2); d.Cells[0].ColdESRTempC = fp(30) }, "cells[0].cold_esr_temp_c", "less than 25"},
+		{"cold factor below one", func(d *Design) { d.Cells[0].ColdESRFactor = fp(0.5); d.Cells[0].ColdESRTempC = fp(-40) }, "cells[0].cold_esr_factor", "at least 1"},
+		{"temperature range", func(d *Design) { d.Cells[0].MinTempC = fp(70); d.Cells[0].MaxTempC = fp(65) }, "cells[0].min_temp_c", "below max_temp_c"},
+		{"peak below continuous", func(d *Design) { d.Cells[0].MaxCurrentA = fp(100); d.Cells[0].PeakCurrentA = fp(50) }, "cells[0].peak_current_a", "at least max_current_a"},
+		{"leakage in mA by mistake", func(d *Design) { d.Cells[0].LeakageA = fp(1000) }, "cells[0].leakage_a", "check the unit"},
+		{"negative price", func(d *Design) { d.Cells[0].UnitPrice = fp(-1) }, "cells[0].unit_price", "at least 0"},
+		{"ceiling zero", func(d *Design) { d.CellMaxV = fp(0) }, "cell_max_v", "greater than 0"},
+		{"cold far off", func(d *Design) { d.ColdC = fp(-300) }, "cold_c", "at least -100"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			d := validDesign()
+			c.break_(d)
+			err := Validate(d)
+			var ve ValidationError
+			if !errors.As(err, &ve) {
+				t.Fatalf("Validate = %v, want a ValidationError", err)
+			}
+			for _, fe := range ve {
+				if fe.Field == c.field && strings.Contains(fe.Message, c.msg) {
+					return
+				}
+			}
+			t.Errorf("no error on %s containing %q; got:\n%v", c.field, c.msg, err)
+		})
+	}
+}
+
+func TestValidateReportsEveryProblem(t *testing.T) {
+	t.Parallel()
+	d := validDesign()
+	d.Load.Steps[0].DurationS = 0
+	d.Load.Steps[2].DurationS = -3
+	d.Window.MinV = 99
+	err := Validate(d)
+	lines := strings.Split(err.Error(), "\n")
+	want := []string{
+		"load.steps[0].duration_s: must be greater than 0",
+		"load.steps[2].duration_s: must be greater than 0",
+		"window.min_v: must be below window.max_v (99 V ≥ 42 V)",
+	}
+	if strings.Join(lines, "\n") != strings.Join(want, "\n") {
+		t.Errorf("errors:\n%s\nwant:\n%s", err, strings.Join(want, "\n"))
+	}
+	if _, err := Size(d); err == nil {
+		t.Errorf("Size sized an invalid design")
+	}
+}
+
+func TestDecodeDesignErrors(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name, in, field, msg string
+	}{
+		{"string for a number", `{"window":{"max_v":"42","min_v":21}}`, "window.max_v", "must be a number, not a JSON string"},
+		{"unknown key", `{"window":{"max_v":42,"min_v":21},"windw":{}}`, "windw", "not a design key"},
+		{"nested unknown key", `{"load":{"steps":[{"power":5,"duration_s":1}]}}`, "power", "not a design key"},
+		{"truncated", `{"window":{"max_v":42,`, "design", "truncated"},
+		{"syntax", `{"window":{"max_v":42,,}}`, "design", "line 1, column"},
+		{"empty", ``, "design", "is empty"},
+		{"trailing data", `{} {}`, "design", "after the closing brace"},
+		{"NaN spelled", `{"window":{"max_v":NaN}}`, "design", "not valid JSON"},
+		{"list for an object", `{"window":[42,21]}`, "window", "must be an object"},
+		{"fraction for a count", `{"load":{"repeat":1.5}}`, "load.repeat", "a whole number"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			_, err := DecodeDesign(strings.NewReader(c.in))
+			var ve ValidationError
+			if !errors.As(err, &ve) || len(ve) != 1 || ve[0].Field != c.field || !strings.Contains(ve[0].Message, c.msg) {
+				t.Errorf("DecodeDesign(%q) = %v; want %s: …%s…", c.in, err, c.field, c.msg)
+			}
+		})
+	}
+	// A byte-order mark is accepted (some editors write one).
+	if _, err := DecodeDesign(strings.NewReader("\ufeff{}")); err != nil {
+		t.Errorf("BOM: %v", err)
+	}
+}
