@@ -43,7 +43,7 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 	sink.add(t, v, v, 0)
 	for range repeat {
 		for _, s := range steps {
-			o := m.solveStep(s, v, minV, maxV)
+			o := m.step(s, v, minV, maxV)
 			sink.add(t, o.uStart, v, o.iStart)
 			k := 0
 			if s.kind == kindPower || s.kind == kindResistance {
@@ -52,13 +52,13 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 			for i := 1; i <= k; i++ {
 				sub := s
 				sub.dur = o.t * float64(i) / float64(k+1)
-				q := m.solveStep(sub, v, minV, maxV)
+				q := m.step(sub, v, minV, maxV)
 				sink.add(t+sub.dur, q.uEnd, q.v1, q.iEnd)
 			}
 			if o.tTop > 0 && o.tTop < o.t && !cv.Decimated {
 				sub := s
 				sub.dur = o.tTop
-				q := m.solveStep(sub, v, minV, maxV)
+				q := m.step(sub, v, minV, maxV)
 				sink.add(t+o.tTop, q.uEnd, q.v1, q.iEnd)
 			}
 			t += o.t

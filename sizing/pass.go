@@ -26,6 +26,7 @@ type passStats struct {
 	reject   float64    // charging energy not absorbed, J
 	stop     stopReason // why the run ended early, if it did
 	stopStep int        // index of the step that stopped it
+	steps    int        // steps solved
 }
 
 // run runs the steps repeat times back to back from capacitor voltage v0,
@@ -33,16 +34,18 @@ type passStats struct {
 // allocates nothing.
 func (m *bankModel) run(steps []compiledStep, repeat int, v0, minV, maxV float64) passStats {
 	s := passStats{v: v0, minU: math.Inf(1)}
+	var o stepOutcome
 	for range repeat {
 		for j := range steps {
-			o := m.solveStep(steps[j], s.v, minV, maxV)
+			m.solveStep(steps[j], s.v, minV, maxV, &o)
 			s.t += o.t
 			s.v = o.v1
-			s.minU = math.Min(s.minU, math.Min(o.uStart, o.uEnd))
-			s.peakI = math.Max(s.peakI, o.iPeak)
+			s.minU = min(s.minU, o.uStart, o.uEnd)
+			s.peakI = max(s.peakI, o.iPeak)
 			s.i2dt += o.i2dt
 			s.eLoad += o.eLoad
 			s.reject += o.reject
+			s.steps++
 			if o.stop != stopNone {
 				s.stop, s.stopStep = o.stop, j
 				return s
@@ -79,6 +82,7 @@ func (m *bankModel) runtime(steps []compiledStep, period, minV, maxV float64, bu
 			return runtimeResult{}
 		}
 		s := m.run(steps, 1, v, minV, maxV)
+		m.work += s.steps
 		if s.stop != stopNone {
 			return m.within(t+s.t, s.stop, false)
 		}
@@ -103,6 +107,7 @@ func (m *bankModel) within(t float64, end stopReason, estimated bool) runtimeRes
 func (m *bankModel) averagedRuntime(steps []compiledStep, period, v, t, minV, maxV float64) runtimeResult {
 	completes := func(v0 float64) (passStats, bool) {
 		s := m.run(steps, 1, v0, minV, maxV)
+		m.work += s.steps
 		return s, s.stop == stopNone
 	}
 	lo, hi := 0.0, v

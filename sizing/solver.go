@@ -7,6 +7,7 @@ import (
 	"runtime"
 	"sort"
 	"sync"
+	"sync/atomic"
 )
 
 // MaxParallel is the most strings the solver will try for one cell.
@@ -27,6 +28,7 @@ type plan struct {
 	esrF     float64 // end-of-life ESR factor
 	rankBy   string
 	ambientC float64
+	work     atomic.Int64 // steps solved, for the benchmarks
 }
 
 func newPlan(d *Design) *plan {
@@ -68,8 +70,10 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 		switch {
 		case s.PowerW != nil && *s.PowerW > 0:
 			c.kind, c.x = kindPower, *s.PowerW/eff
+			c.inv = 1 / c.x
 		case s.PowerW != nil && *s.PowerW < 0:
 			c.kind, c.x = kindPower, *s.PowerW*eff
+			c.inv = 1 / c.x
 		case s.CurrentA != nil && *s.CurrentA != 0:
 			c.kind, c.x = kindCurrent, *s.CurrentA
 		case s.ResistanceOhm != nil:
@@ -93,8 +97,14 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 // depend on the order they finish in. A design that fails Validate returns
 // its ValidationError and no report.
 func Size(d *Design) (*Report, error) {
+	r, _, err := size(d)
+	return r, err
+}
+
+// size is Size, also returning the number of steps it solved.
+func size(d *Design) (*Report, int64, error) {
 	if err := Validate(d); err != nil {
-		return nil, err
+		return nil, 0, err
 	}
 	p := newPlan(d)
 	cands := make([]Candidate, len(d.Cells))
@@ -132,9 +142,9 @@ func Size(d *Design) (*Report, error) {
 		}
 	}
 	if err := checkFinite(r); err != nil {
-		return nil, err
+		return nil, 0, err
 	}
-	return r, nil
+	return r, p.work.Load(), nil
 }
 
 // cellLimits are a cell's worst-case figures, ready for any string count.
@@ -201,11 +211,7 @@ func (p *plan) worstBank(c *Cell, s, par int) bankModel {
 }
 
 func (l *cellLimits) bank(par int) bankModel {
-	return bankModel{
-		c: BankCapacitance(l.cw, l.s, par),
-		r: BankESR(l.rw, l.s, par),
-		g: l.gCell * float64(par) / float64(l.s),
-	}
+	return newBankModel(BankCapacitance(l.cw, l.s, par), BankESR(l.rw, l.s, par), l.gCell*float64(par)/float64(l.s))
 }
 
 // trial is one string count tried.
@@ -219,6 +225,7 @@ type trial struct {
 func (p *plan) try(l *cellLimits, par int) trial {
 	m := l.bank(par)
 	s := m.run(p.steps, p.repeat, p.maxV, p.minV, p.maxV)
+	p.work.Add(int64(s.steps))
 	tr := trial{par: par, stats: s, ok: true}
 	switch {
 	case s.stop != stopNone:
@@ -334,6 +341,7 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		return
 	}
 	rt := m.runtime(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget)
+	p.work.Add(int64(m.work))
 	if rt.within {
 		v := rt.t
 		cand.RuntimeS = &v

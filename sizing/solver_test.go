@@ -223,7 +223,7 @@ func TestRuntimeRepeatsAndAveraging(t *testing.T) {
 	// A slow drain: 1 A for 1 s, rest 9 s, on a bank that lasts thousands of
 	// periods. The averaged count (small budget) must agree with running every
 	// period (large budget) to well within one period.
-	m := bankModel{c: 20, r: 0.01, g: 1e-4}
+	m := newBankModel(20, 0.01, 1e-4)
 	steps := []compiledStep{{kind: kindCurrent, x: 1, dur: 1}, {kind: kindRest, dur: 9}}
 	exact := m.runtime(steps, 10, 10, 20, 1<<30)
 	est := m.runtime(steps, 10, 10, 20, 200)
@@ -238,7 +238,7 @@ func TestRuntimeRepeatsAndAveraging(t *testing.T) {
 	// no-leak case instead: 200 C of usable charge ((20 − 10 − 0.01) V × 20 F
 	// → 199.8 C at the last pulse) at 1 C per period ends in period 200, 0.8 s
 	// into its pulse: 199·10 + 0.8 s (hand computed from REFERENCES.md 3.5).
-	m.g = 0
+	m = newBankModel(m.c, m.r, 0)
 	got := m.runtime(steps, 10, 10, 20, 1<<30)
 	near(t, "runtime of 200 periods", got.t, 1990.8, 1e-9)
 	// A period that ends where it started never runs out: nil runtime.

@@ -48,6 +48,7 @@ func (k stepKind) String() string {
 type compiledStep struct {
 	kind stepKind
 	x    float64
+	inv  float64 // 1/x for power steps
 	dur  float64
 }
 
@@ -82,82 +83,87 @@ type stepOutcome struct {
 
 // solveStep runs one step from capacitor voltage v0 on bank m, stopping at
 // terminal voltage minV and holding charging steps at capacitor voltage
-// maxV. It never returns NaN or Inf for finite, physical inputs.
-func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64) stepOutcome {
+// maxV, and writes what happened to o. It never produces NaN or Inf for
+// finite, physical inputs, and allocates nothing.
+func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64, o *stepOutcome) {
+	*o = stepOutcome{t: st.dur, tTop: -1}
 	switch st.kind {
 	case kindCurrent:
-		return m.currentStep(st.x, st.dur, v0, minV, maxV)
+		m.currentStep(st.x, st.dur, v0, minV, maxV, o)
 	case kindPower:
-		return m.powerStep(st.x, st.dur, v0, minV, maxV)
+		m.powerStep(st.x, st.inv, st.dur, v0, minV, maxV, o)
 	case kindResistance:
-		return m.resistorStep(st.x, st.dur, v0, minV)
+		m.resistorStep(st.x, st.dur, v0, minV, o)
+	default:
+		m.restStep(st.dur, v0, minV, o)
 	}
-	return m.restStep(st.dur, v0, minV)
+}
+
+// step is solveStep returning the outcome, for tests and the curve.
+func (m *bankModel) step(st compiledStep, v0, minV, maxV float64) stepOutcome {
+	var o stepOutcome
+	m.solveStep(st, v0, minV, maxV, &o)
+	return o
 }
 
 // currentStep: constant current I (A) at the terminals.
-func (m *bankModel) currentStep(I, dur, v0, minV, maxV float64) stepOutcome {
+func (m *bankModel) currentStep(I, dur, v0, minV, maxV float64, o *stepOutcome) {
 	c, r, g := m.c, m.r, m.g
-	o := stepOutcome{t: dur, tTop: -1, iStart: I, iEnd: I, iPeak: math.Abs(I)}
+	o.iStart, o.iEnd, o.iPeak = I, I, abs(I)
 	o.uStart = v0 - I*r
 	drain := I + g*v0 // C·(−dv/dt) at the start
-	// vAt: the capacitor voltage t seconds in.
-	vAt := func(t float64) float64 { return v0 - drain*(t/c)*expm1OverX(-g*t/c) }
-	// tTo: the time to reach capacitor voltage vs, or −1 if never.
-	tTo := func(vs float64) float64 {
-		y := g * (vs - v0) / drain
-		if drain == 0 || !(1+y > 0) {
-			return -1
-		}
-		return c * (v0 - vs) / drain * log1pOverX(y)
-	}
+	run, tHold := dur, 0.0
 	if I > 0 {
 		vStop := minV + I*r
-		run := dur
 		if v0 <= vStop {
 			run, o.stop = 0, stopVoltage
-		} else if vAt(dur) < vStop {
-			if ts := tTo(vStop); ts >= 0 && ts <= dur {
+		} else if currentV(v0, drain, c, g, dur) < vStop {
+			if ts := currentTime(v0, drain, c, g, vStop); ts >= 0 && ts <= dur {
 				run, o.stop = ts, stopVoltage
 			}
 		}
-		v1 := vAt(run)
-		if o.stop != stopNone && run > 0 {
-			v1 = vStop
-		}
-		o.t, o.v1, o.uEnd = run, v1, v1-I*r
-		o.i2dt = I * I * run
-		o.eLoad = I*m.integralV(I, v0, run) - I*I*r*run
-		return o
-	}
-	// Charging (I < 0) or zero current: may reach the top and be held.
-	tHold := 0.0
-	run := dur
-	if I < 0 {
+	} else if I < 0 {
+		// Charging: may reach the top and be held there.
 		if v0 >= maxV {
 			run, tHold = 0, dur
-		} else if ts := tTo(maxV); ts >= 0 && ts < dur {
+		} else if ts := currentTime(v0, drain, c, g, maxV); ts >= 0 && ts < dur {
 			run, tHold = ts, dur-ts
 		}
 	}
 	v1 := v0
 	if run > 0 {
-		v1 = vAt(run)
+		v1 = currentV(v0, drain, c, g, run)
 	}
-	if tHold > 0 {
-		v1 = maxV
-		o.tTop = run
+	if o.stop != stopNone && run > 0 {
+		v1 = minV + I*r
 	}
-	o.v1 = v1
-	o.uEnd = v1 - I*r
+	o.t, o.v1, o.uEnd = run, v1, v1-I*r
 	o.i2dt = I * I * run
 	o.eLoad = I*m.integralV(I, v0, run) - I*I*r*run
 	if tHold > 0 {
-		m.hold(&o, maxV, tHold, -I*(maxV-I*r)*tHold)
-		o.uEnd = maxV + g*maxV*r
-		o.iEnd = -g * maxV
+		o.t, o.v1, o.tTop = dur, maxV, run
+		m.hold(o, maxV, tHold, -I*(maxV-I*r)*tHold)
 	}
-	return o
+}
+
+// currentV is the capacitor voltage t seconds into a constant-current
+// step, v0 − (I + g·v0)·(t/C)·φ(−g·t/C).
+func currentV(v0, drain, c, g, t float64) float64 {
+	return v0 - drain*(t/c)*expm1OverX(-g*t/c)
+}
+
+// currentTime is the time a constant-current step takes to bring the
+// capacitor to vs, C·(v0 − vs)/(I + g·v0)·L(y), y = g·(vs − v0)/(I + g·v0),
+// L(y) = ln(1 + y)/y; −1 if it never gets there.
+func currentTime(v0, drain, c, g, vs float64) float64 {
+	if drain == 0 {
+		return -1
+	}
+	y := g * (vs - v0) / drain
+	if !(1+y > 0) {
+		return -1
+	}
+	return c * (v0 - vs) / drain * log1pOverX(y)
 }
 
 // integralV returns ∫v dt over t seconds of constant current I from v0:
@@ -182,31 +188,26 @@ func (m *bankModel) hold(o *stepOutcome, vTop, t, offered float64) {
 	if iLeak > o.iPeak {
 		o.iPeak = iLeak
 	}
+	o.uEnd, o.iEnd = uHold, -iLeak
 }
 
 // resistorStep: a resistor rl (Ω) across the terminals.
-func (m *bankModel) resistorStep(rl, dur, v0, minV float64) stepOutcome {
+func (m *bankModel) resistorStep(rl, dur, v0, minV float64, o *stepOutcome) {
 	c, r, g := m.c, m.r, m.g
 	rs := rl + r
 	k := (1/rs + g) / c
-	o := stepOutcome{t: dur, tTop: -1}
 	o.uStart = v0 * rl / rs
 	o.iStart = v0 / rs
 	o.iPeak = o.iStart
 	vStop := minV * rs / rl
 	t := dur
+	v1 := v0 + v0*expm1(-k*dur)
 	if v0 <= vStop {
-		t = 0
-		o.stop = stopVoltage
-	} else if v1 := v0 * math.Exp(-k*dur); v1 < vStop {
-		t = math.Log(v0/vStop) / k
-		o.stop = stopVoltage
+		t, v1, o.stop = 0, v0, stopVoltage
+	} else if v1 < vStop {
+		t, v1, o.stop = math.Log(v0/vStop)/k, vStop, stopVoltage
 	}
 	o.t = t
-	v1 := v0 * math.Exp(-k*t)
-	if o.stop != stopNone {
-		v1 = math.Min(v1, v0)
-	}
 	o.v1 = v1
 	o.uEnd = v1 * rl / rs
 	o.iEnd = v1 / rs
@@ -214,48 +215,54 @@ func (m *bankModel) resistorStep(rl, dur, v0, minV float64) stepOutcome {
 	iv2 := v0 * v0 * t * expm1OverX(-2*k*t)
 	o.i2dt = iv2 / (rs * rs)
 	o.eLoad = iv2 * rl / (rs * rs)
-	return o
 }
 
 // restStep: no load; only the leakage drains the bank.
-func (m *bankModel) restStep(dur, v0, minV float64) stepOutcome {
-	o := stepOutcome{t: dur, tTop: -1, uStart: v0}
+func (m *bankModel) restStep(dur, v0, minV float64, o *stepOutcome) {
+	o.uStart = v0
 	k := m.g / m.c
 	if v0 <= minV {
 		o.v1, o.uEnd, o.t, o.stop = v0, v0, 0, stopVoltage
-		return o
+		return
 	}
-	v1 := v0 * math.Exp(-k*dur)
+	v1 := v0 + v0*expm1(-k*dur)
 	if v1 < minV && k > 0 {
 		o.t = math.Log(v0/minV) / k
 		o.stop = stopVoltage
 		v1 = minV
 	}
 	o.v1, o.uEnd = v1, v1
-	return o
 }
 
 // powerStep: constant power p (W) at the bank terminals; p < 0 charges.
-func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64) stepOutcome {
+func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutcome) {
 	if p == 0 {
-		return m.restStep(dur, v0, minV)
+		m.restStep(dur, v0, minV, o)
+		return
 	}
 	c, r, g := m.c, m.r, m.g
 	pr := p * r
-	o := stepOutcome{t: dur, tTop: -1}
 	disc := v0*v0 - 4*pr
 	if disc < 0 { // discharging only: below the maximum-power point already
 		o.t, o.v1, o.stop = 0, v0, stopPower
 		o.uStart, o.uEnd = v0/2, v0/2
 		o.iStart = v0 / (2 * r)
 		o.iEnd, o.iPeak = o.iStart, o.iStart
-		return o
+		return
+	}
+	if p < 0 && v0 >= maxV {
+		// Charging a full bank: held at the top from the start.
+		o.v1, o.tTop = maxV, 0
+		m.hold(o, maxV, dur, -p*dur)
+		o.uStart, o.iStart = o.uEnd, o.iEnd
+		return
 	}
 	u0 := (v0 + math.Sqrt(disc)) / 2
 	o.uStart, o.iStart = u0, p/u0
-	cp := cpSolution{c: c, pr: pr, g: g, u0: u0, a: p * (1 + r*g)}
-	cp.A = -pr / cp.a
-	cp.B = 1 + pr*g/cp.a
+	// A = −PR/a and B = 1 + PR·g/a do not depend on P: with a = P·(1 + R·g),
+	// A = −R/(1 + R·g) and B = 1 + R·g/(1 + R·g); they are the bank's.
+	a := p * (1 + r*g)
+	cp := cpSolution{c: c, pr: pr, g: g, u0: u0, a: a, A: m.cpA, B: m.cpB, invA: invP * m.inv1RG}
 
 	if p > 0 {
 		uStop, why := minV, stopVoltage
@@ -263,83 +270,69 @@ func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64) stepOutcome {
 			uStop, why = math.Sqrt(pr), stopPower
 		}
 		if u0 <= uStop {
-			return m.powerStopped(o, cp, p, u0, 0, why)
+			cp.finish(o, p, u0, 0)
+			o.stop = why
+			return
 		}
 		// The step cannot reach uStop if even the largest current it could
 		// draw (p/uStop) and the starting leakage would not bring v down to
 		// the stop in dur; otherwise look at the exact time of the stop.
 		vStop := uStop + pr/uStop
 		if v0-(p/uStop+g*v0)*dur/c <= vStop {
-			if ts, _, _ := cp.time(uStop); ts <= dur {
-				return m.powerStopped(o, cp, p, uStop, ts, why)
+			if ts := cp.time(uStop); ts <= dur {
+				cp.finish(o, p, uStop, ts)
+				o.stop = why
+				return
 			}
 		}
-		u1 := cp.solve(dur, uStop, u0)
-		return m.powerFinished(o, cp, p, u1, dur)
+		cp.finish(o, p, cp.solve(dur, uStop), dur)
+		return
 	}
 
 	// Charging.
-	if v0 >= maxV {
-		o.v1, o.tTop = maxV, 0
-		m.hold(&o, maxV, dur, -p*dur)
-		o.uStart = maxV + g*maxV*r
-		o.uEnd, o.iStart, o.iEnd = o.uStart, -g*maxV, -g*maxV
-		return o
-	}
 	uTop := (maxV + math.Sqrt(maxV*maxV-4*pr)) / 2
 	reach := v0-p/u0*dur/c >= maxV // an upper bound on the rise reaches the top
-	if reach && cp.a+g*uTop*uTop < 0 {
-		if ts, _, _ := cp.time(uTop); ts < dur {
-			o = m.powerFinished(o, cp, p, uTop, ts)
+	if reach && a+g*uTop*uTop < 0 {
+		if ts := cp.time(uTop); ts < dur {
+			cp.finish(o, p, uTop, ts)
 			o.t, o.v1, o.tTop = dur, maxV, ts
-			m.hold(&o, maxV, dur-ts, -p*(dur-ts))
-			o.uEnd = maxV + g*maxV*r
-			o.iEnd = -g * maxV
-			return o
+			m.hold(o, maxV, dur-ts, -p*(dur-ts))
+			return
 		}
 	}
-	u1 := cp.solve(dur, uTop, u0)
-	return m.powerFinished(o, cp, p, u1, dur)
+	cp.finish(o, p, cp.solve(dur, uTop), dur)
 }
 
-func (m *bankModel) powerStopped(o stepOutcome, cp cpSolution, p, u, t float64, why stopReason) stepOutcome {
-	o = m.powerFinished(o, cp, p, u, t)
-	o.stop = why
-	return o
+func abs(x float64) float64 {
+	if x < 0 {
+		return -x
+	}
+	return x
 }
 
-// powerFinished fills the outcome of a constant-power step that ran t
-// seconds and ended at terminal voltage u1.
-func (m *bankModel) powerFinished(o stepOutcome, cp cpSolution, p, u1, t float64) stepOutcome {
-	o.t = t
-	o.uEnd = u1
-	o.v1 = u1 + cp.pr/u1
-	o.iEnd = p / u1
-	o.iPeak = math.Max(math.Abs(o.iStart), math.Abs(o.iEnd))
-	o.eLoad = p * t
-	o.i2dt = cp.integralI2(p, u1)
-	return o
-}
-
-// cpSolution holds the constants of one constant-power step's closed form.
+// cpSolution holds the constants of one constant-power step's closed form,
+// and the logarithms of the last t(u) evaluated, for ∫i² dt.
 type cpSolution struct {
 	c, pr, g, u0 float64
 	a, A, B      float64
+	invA         float64 // 1/a
+	lastU        float64 // u of the last time evaluation
+	lnRatio      float64 // ln(u0/lastU)
+	yLy          float64 // ln((a + g·u0²)/(a + g·lastU²))
 }
 
-// time returns t(u) for the step, and the two logarithms it used:
-// lnRatio = ln(u0/u) and yLy = ln((a + g·u0²)/(a + g·u²)) (so the
-// ∫i² dt formula can reuse them).
-func (cp *cpSolution) time(u float64) (t, lnRatio, yLy float64) {
+// time returns t(u) for the step and keeps the two logarithms it used.
+func (cp *cpSolution) time(u float64) float64 {
 	du := cp.u0 - u
-	lnRatio = log1p(du / u)
+	cp.lastU = u
+	cp.lnRatio = log1p(du / u)
 	dw := du * (cp.u0 + u) // u0² − u², without cancellation
 	den := cp.a + cp.g*u*u
 	y := cp.g * dw / den
-	yLy = y * log1pOverX(y)
+	ly := log1pOverX(y)
+	cp.yLy = y * ly
 	// B/(2g)·ln(1 + y) = B·dw/(2·den)·L(y)
-	t = cp.c * (cp.A*lnRatio + cp.B*dw/(2*den)*log1pOverX(y))
-	return t, lnRatio, yLy
+	return cp.c * (cp.A*cp.lnRatio + cp.B*dw/(2*den)*ly)
 }
 
 // rate returns du/dt = −u·(a + g·u²)/(C·(u² − PR)) and its derivative in u,
@@ -347,8 +340,9 @@ func (cp *cpSolution) time(u float64) (t, lnRatio, yLy float64) {
 func (cp *cpSolution) rate(u float64) (f, df float64) {
 	w := u * u
 	q := w - cp.pr
-	f = -u * (cp.a + cp.g*w) / (cp.c * q)
-	df = (cp.a*w + cp.a*cp.pr - cp.g*w*w + 3*cp.g*cp.pr*w) / (cp.c * q * q)
+	cq := 1 / (cp.c * q)
+	f = -u * (cp.a + cp.g*w) * cq
+	df = (cp.a*w + cp.a*cp.pr - cp.g*w*w + 3*cp.g*cp.pr*w) * cq / q
 	return f, df
 }
 
@@ -357,8 +351,13 @@ func (cp *cpSolution) rate(u float64) (f, df float64) {
 // second-order Taylor step u0 + f·t + ½·f·f′·t² and refines by Newton's
 // method on t(u) = dur, falling back to bisection of the bracket if an
 // iterate leaves it.
-func (cp *cpSolution) solve(dur, uFar, u0 float64) float64 {
-	lo, hi := math.Min(uFar, u0), math.Max(uFar, u0)
+func (cp *cpSolution) solve(dur, uFar float64) float64 {
+	u0 := cp.u0
+	lo, hi := uFar, u0
+	falling := uFar < u0
+	if !falling {
+		lo, hi = u0, uFar
+	}
 	f0, df0 := cp.rate(u0)
 	u := u0 + f0*dur + 0.5*f0*df0*dur*dur
 	if !(u > lo && u < hi) {
@@ -367,12 +366,9 @@ func (cp *cpSolution) solve(dur, uFar, u0 float64) float64 {
 			u = lo + (hi-lo)/2
 		}
 	}
-	falling := uFar < u0
 	for i := 0; i < 100; i++ {
-		t, _, _ := cp.time(u)
+		t := cp.time(u)
 		f, df := cp.rate(u)
-		// k estimates the Newton error constant |t″/(2t′)| = |f′/(2f)|.
-		k := math.Abs(df / (2 * f))
 		next := u + (dur-t)*f // Newton: u − (t(u) − dur)/t′(u), t′ = 1/f
 		// Keep the bracket: t grows from 0 at u0 towards uFar.
 		if (t < dur) == falling {
@@ -383,15 +379,28 @@ func (cp *cpSolution) solve(dur, uFar, u0 float64) float64 {
 		if !(next > lo && next < hi) {
 			next = lo + (hi-lo)/2
 		}
-		d := math.Abs(next - u)
+		d := abs(next - u)
 		u = next
 		// Stop at rounding level, or when quadratic convergence puts the
-		// next correction below it.
-		if d <= 2*eps*u || k*d*d <= 0.5*eps*u || hi-lo <= 2*eps*hi {
+		// next correction below it: the error after a Newton step is about
+		// k·d², k = |t″/(2t′)| = |f′/(2f)|.
+		if d <= 2*eps*u || abs(df/(2*f))*d*d <= 0.5*eps*u || hi-lo <= 2*eps*hi {
 			break
 		}
 	}
 	return u
+}
+
+// finish fills the outcome of a constant-power step that ran t seconds and
+// ended at terminal voltage u1.
+func (cp *cpSolution) finish(o *stepOutcome, p, u1, t float64) {
+	o.t = t
+	o.uEnd = u1
+	o.v1 = u1 + cp.pr/u1
+	o.iEnd = p / u1
+	o.iPeak = max(abs(o.iStart), abs(o.iEnd))
+	o.eLoad = p * t
+	o.i2dt = cp.integralI2(p, u1)
 }
 
 // integralI2 returns ∫ i² dt from u0 to u1, i = P/u:
@@ -400,12 +409,26 @@ func (cp *cpSolution) solve(dur, uFar, u0 float64) float64 {
 //
 // with w = u², β = −PR/a and α = B/a (partial fractions of
 // (w − PR)/(w²·(a + g·w)); capbank's own derivation, checked against
-// numerical quadrature in the tests).
+// numerical quadrature in the tests). The logarithms come from the last
+// t(u) evaluated, moved to u1 by ln(u/u1) = log1p((u − u1)/u1): after
+// Newton's method has converged that argument is at rounding level and the
+// series costs a few multiplications.
 func (cp *cpSolution) integralI2(p, u1 float64) float64 {
-	_, lnRatio, yLy := cp.time(u1)
+	lnRatio, yLy := cp.lnRatio, cp.yLy
+	if u1 != cp.lastU {
+		if cp.lastU == 0 || abs(cp.lastU-u1) > 1e-6*u1 {
+			cp.time(u1)
+			lnRatio, yLy = cp.lnRatio, cp.yLy
+		} else {
+			w, wl := u1*u1, cp.lastU*cp.lastU
+			lnRatio += log1p((cp.lastU - u1) / u1)
+			// ln((a+g·wl)/(a+g·w)) moves ln((a+g·w0)/(a+g·wl)) to w.
+			yLy += log1p(cp.g * (wl - w) / (cp.a + cp.g*w))
+		}
+	}
 	w0, w1 := cp.u0*cp.u0, u1*u1
 	dw := (cp.u0 - u1) * (cp.u0 + u1)
-	alpha := cp.B / cp.a
-	beta := -cp.pr / cp.a
+	alpha := cp.B * cp.invA
+	beta := cp.A // −PR/a
 	return cp.c * p * p / 2 * (alpha*(2*lnRatio-yLy) + beta*dw/(w0*w1))
 }

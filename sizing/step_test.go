@@ -10,7 +10,16 @@ import (
 
 // The common bank of REFERENCES.md 10.1–10.5: 2500 F / 0.40 mΩ cells, 18 in
 // series, one string: C = 138.888 889 F, R = 7.2 mΩ.
-var refBank = bankModel{c: 2500.0 / 18, r: 18 * 0.0004}
+var refBank = newBankModel(2500.0/18, 18*0.0004, 0)
+
+// stepOf solves one step of kind k with value x (A, W or Ω).
+func (m *bankModel) stepOf(k stepKind, x, dur, v0, minV, maxV float64) stepOutcome {
+	st := compiledStep{kind: k, x: x, dur: dur}
+	if k == kindPower {
+		st.inv = 1 / x
+	}
+	return m.step(st, v0, minV, maxV)
+}
 
 func near(t *testing.T, name string, got, want, rel float64) {
 	t.Helper()
@@ -30,40 +39,40 @@ func TestHandbookClosedForms(t *testing.T) {
 	m := refBank
 	// REFERENCES.md 10.3 / 3.5: 100 A from open-circuit 48 V to terminal 24 V,
 	// t = C·(V0 − I·R − Vmin)/I = 32.333 333 s.
-	o := m.currentStep(100, 1000, 48, 24, 48)
+	o := m.stepOf(kindCurrent, 100, 1000, 48, 24, 48)
 	near(t, "constant-current cut-off time", o.t, 32.333333333333333, 1e-12)
 	near(t, "constant-current end terminal", o.uEnd, 24, 1e-12)
 	if o.stop != stopVoltage {
 		t.Errorf("constant-current stop = %v, want voltage", o.stop)
 	}
 	// REFERENCES.md 3.5: linear discharge, v(10 s) = 48 − 100·10/C.
-	o = m.currentStep(100, 10, 48, 1, 48)
+	o = m.stepOf(kindCurrent, 100, 10, 48, 1, 48)
 	near(t, "constant-current v(10 s)", o.v1, 48-1000/m.c, 1e-13)
 
 	// REFERENCES.md 10.4 / 3.6: 1 Ω resistor, τ = (1 + 0.0072)·C = 139.888 889 s,
 	// v(60 s) = 31.258 432 V; 48 → 24 V internal takes τ·ln 2 = 96.963 589 s.
-	o = m.resistorStep(1, 60, 48, 0.001)
+	o = m.stepOf(kindResistance, 1, 60, 48, 0.001, 1e9)
 	near(t, "RC v(60 s)", o.v1, 31.258432, 1e-7)
 	near(t, "RC load voltage at 60 s", o.uEnd, 31.258432/1.0072, 1e-7)
-	o = m.resistorStep(1, 1000, 48, 24/1.0072)
+	o = m.stepOf(kindResistance, 1, 1000, 48, 24/1.0072, 1e9)
 	near(t, "RC time 48→24 V internal", o.t, 139.8888888888889*math.Ln2, 1e-12)
 
 	// REFERENCES.md 10.2(c) / 3.7: 5 kW with no ESR, 48 → 24 V: t = C(V1² − V2²)/(2P) = 24 s.
-	ideal := bankModel{c: m.c}
-	o = ideal.powerStep(5000, 1000, 48, 24, 48)
+	ideal := newBankModel(m.c, 0, 0)
+	o = ideal.stepOf(kindPower, 5000, 1000, 48, 24, 48)
 	near(t, "constant power, no ESR", o.t, 24, 1e-12)
 
 	// REFERENCES.md 10.2(b): 5 kW from open-circuit 48 V to terminal 24 V with
 	// 7.2 mΩ: u1 = 47.237 900 08 V, t = 22.314 790 68 s, E_load = 111 573.95 J,
 	// E_drawn = 114 843.75 J, internal voltage at cut-off 25.5 V.
-	o = m.powerStep(5000, 1000, 48, 24, 48)
+	o = m.stepOf(kindPower, 5000, 1000, 48, 24, 48)
 	near(t, "constant power start terminal", o.uStart, 47.23790008, 1e-9)
 	near(t, "constant power cut-off time", o.t, 22.31479068, 1e-9)
 	near(t, "constant power internal at cut-off", o.v1, 25.5, 1e-12)
 	near(t, "constant power load energy", o.eLoad, 111573.95, 1e-7)
 	near(t, "constant power drawn energy", o.eLoad+m.r*o.i2dt, 114843.75, 1e-9)
 	// REFERENCES.md 10.2(d): 40 kW, u1 = 40.970 562 75 V, t = 1.379 413 566 s.
-	o = m.powerStep(40000, 1000, 48, 24, 48)
+	o = m.stepOf(kindPower, 40000, 1000, 48, 24, 48)
 	near(t, "40 kW start terminal", o.uStart, 40.97056275, 1e-9)
 	near(t, "40 kW cut-off time", o.t, 1.379413566, 1e-9)
 }
@@ -83,15 +92,15 @@ func TestConstantPowerAgainstQuadrature(t *testing.T) {
 		{"reference bank 5 kW, 10 s", refBank, 5000, 10, 48, 24},
 		{"reference bank 40 kW, 1 s", refBank, 40000, 1, 48, 24},
 		{"reference bank 5 kW, 1 ms", refBank, 5000, 0.001, 48, 24},
-		{"high ESR near the power limit", bankModel{c: 20, r: 0.5}, 200, 0.5, 48, 24},
-		{"leaky bank", bankModel{c: 10, r: 0.05, g: 0.01}, 50, 20, 24, 10},
-		{"leak stronger than load", bankModel{c: 10, r: 0.05, g: 0.5}, 5, 3, 24, 5},
-		{"small logger bank", bankModel{c: 2.5, r: 0.09, g: 1e-5}, 0.4, 30, 5, 3},
+		{"high ESR near the power limit", newBankModel(20, 0.5, 0), 200, 0.5, 48, 24},
+		{"leaky bank", newBankModel(10, 0.05, 0.01), 50, 20, 24, 10},
+		{"leak stronger than load", newBankModel(10, 0.05, 0.5), 5, 3, 24, 5},
+		{"small logger bank", newBankModel(2.5, 0.09, 1e-5), 0.4, 30, 5, 3},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
-			o := c.m.powerStep(c.p, c.dur, c.v0, c.minV, c.v0)
+			o := c.m.stepOf(kindPower, c.p, c.dur, c.v0, c.minV, c.v0)
 			if o.stop != stopNone {
 				t.Fatalf("step stopped (%v) at %v s; the case must run its whole duration", o.stop, o.t)
 			}
@@ -116,9 +125,9 @@ func TestConstantPowerCollapse(t *testing.T) {
 	// 20 kW on a 0.1 Ω bank: P·R = 2000 V², so the maximum-power point is at
 	// terminal √(PR) = 44.72 V, capacitor 2√(PR) = 89.44 V (REFERENCES.md 3.8).
 	// A window bottom of 30 V is below it: the load collapses first.
-	m := bankModel{c: 50, r: 0.1}
+	m := newBankModel(50, 0.1, 0)
 	p := 20000.0
-	o := m.powerStep(p, 100, 120, 30, 120)
+	o := m.stepOf(kindPower, p, 100, 120, 30, 120)
 	if o.stop != stopPower {
 		t.Fatalf("stop = %v, want power", o.stop)
 	}
@@ -134,7 +143,7 @@ func TestConstantPowerCollapse(t *testing.T) {
 	}
 	near(t, "time to collapse", o.t, gl(f, 0, math.Acosh(120/v2), 64), 1e-9)
 	// Already below the maximum-power point: stops at once, no NaN.
-	o = m.powerStep(p, 10, 80, 30, 120)
+	o = m.stepOf(kindPower, p, 10, 80, 30, 120)
 	if o.stop != stopPower || o.t != 0 || !finite(o.uEnd) || !finite(o.iEnd) {
 		t.Errorf("below the limit: %+v, want an immediate power stop with finite figures", o)
 	}
@@ -145,32 +154,32 @@ func TestCurrentAndRestWithLeakage(t *testing.T) {
 	// Leakage as a parallel resistance Rp makes constant current an affine
 	// ODE: v(t) = −I·Rp + (v0 + I·Rp)·e^(−t/(Rp·C)) (textbook first-order
 	// circuit; PHYSICS-NOTES.md, drains).
-	m := bankModel{c: 5, r: 0.02, g: 1.0 / 50}
+	m := newBankModel(5, 0.02, 1.0/50)
 	rp := 1 / m.g
 	I, v0 := 0.3, 12.0
-	o := m.currentStep(I, 40, v0, 1, v0)
+	o := m.stepOf(kindCurrent, I, 40, v0, 1, v0)
 	near(t, "v(40 s)", o.v1, -I*rp+(v0+I*rp)*math.Exp(-40/(rp*m.c)), 1e-12)
 	// ∫v dt against quadrature of the same exponential.
 	iv := gl(func(s float64) float64 { return -I*rp + (v0+I*rp)*math.Exp(-s/(rp*m.c)) }, 0, 40, 32)
 	near(t, "delivered energy", o.eLoad, I*iv-I*I*m.r*40, 1e-12)
 	// Cut-off: terminal v − I·R reaches 6 V.
-	o = m.currentStep(I, 1000, v0, 6, v0)
+	o = m.stepOf(kindCurrent, I, 1000, v0, 6, v0)
 	vStop := 6 + I*m.r
 	near(t, "cut-off time", o.t, rp*m.c*math.Log((v0+I*rp)/(vStop+I*rp)), 1e-12)
 	// Rest: v0·e^(−t/(Rp·C)).
-	o = m.restStep(100, v0, 1)
+	o = m.stepOf(kindRest, 0, 100, v0, 1, 1e9)
 	near(t, "rest v(100 s)", o.v1, v0*math.Exp(-100/(rp*m.c)), 1e-12)
-	o = m.restStep(1000, v0, 6)
+	o = m.stepOf(kindRest, 0, 1000, v0, 6, 1e9)
 	near(t, "rest cut-off", o.t, rp*m.c*math.Ln2, 1e-12)
 }
 
 func TestChargingHeldAtTop(t *testing.T) {
 	t.Parallel()
-	m := bankModel{c: 10, r: 0.05}
+	m := newBankModel(10, 0.05, 0)
 	// −4 A from 20 V into a 10 F bank: reaches 24 V after C·ΔV/I = 10 s
 	// (textbook linear charge), then is held for 5 s; the source offered
 	// 4 A at 24 + 4·0.05 = 24.2 V during the hold: 484 J rejected.
-	o := m.currentStep(-4, 15, 20, 10, 24)
+	o := m.stepOf(kindCurrent, -4, 15, 20, 10, 24)
 	near(t, "time to top", o.tTop, 10, 1e-12)
 	near(t, "held voltage", o.v1, 24, 1e-15)
 	near(t, "rejected energy", o.reject, 4*24.2*5, 1e-12)
@@ -181,16 +190,16 @@ func TestChargingHeldAtTop(t *testing.T) {
 	// C/j(v), j = (−v + √(v² + 4|P|R))/(2R) the charging current (REFERENCES.md 3.8
 	// with the sign of P reversed); then held, rejecting 100 W × the rest.
 	p := -100.0
-	o = m.powerStep(p, 60, 20, 10, 24)
+	o = m.stepOf(kindPower, p, 60, 20, 10, 24)
 	j := func(v float64) float64 { return 2 * -p / (v + math.Sqrt(v*v-4*p*m.r)) }
 	tTop := gl(func(v float64) float64 { return m.c / j(v) }, 20, 24, 64)
 	near(t, "constant-power time to top", o.tTop, tTop, 1e-9)
 	near(t, "constant-power rejected", o.reject, -p*(60-tTop), 1e-9)
 	// Starting at the top: everything offered is rejected.
-	o = m.powerStep(p, 3, 24, 10, 24)
+	o = m.stepOf(kindPower, p, 3, 24, 10, 24)
 	near(t, "rejected at top", o.reject, 300, 1e-12)
 	// A charge that does not reach the top: end voltage from the closed form.
-	o = m.powerStep(p, 2, 20, 10, 24)
+	o = m.stepOf(kindPower, p, 2, 20, 10, 24)
 	near(t, "partial charge by quadrature", gl(func(v float64) float64 { return m.c / j(v) }, 20, o.v1, 64), 2, 1e-9)
 	if o.reject != 0 || o.tTop != -1 {
 		t.Errorf("partial charge: reject %v, tTop %v; want 0 and −1", o.reject, o.tTop)
