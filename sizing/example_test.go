@@ -1,0 +1,55 @@
+package sizing_test
+
+import (
+	"fmt"
+
+	"capbank/sizing"
+)
+
+func f(x float64) *float64 { return &x }
+
+// Size a 24 V bank for a 150 W hold-up of 20 s through a 92 % converter,
+// down to 12 V, with one invented demo cell (not a real product).
+func ExampleSize() {
+	d := &sizing.Design{
+		Name:   "example hold-up",
+		Window: sizing.Window{MaxV: 24, MinV: 12},
+		Load: sizing.Load{Efficiency: f(0.92), Steps: []sizing.Step{
+			{PowerW: f(150), DurationS: 20},
+		}},
+		Cells: []sizing.Cell{{ID: "demo-100f", RatedV: 2.7, CapacitanceF: 100, ESROhm: 0.012, UnitPrice: f(2.5)}},
+	}
+	r, err := sizing.Size(d)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	c := r.Candidates[0]
+	fmt.Printf("%d s × %d p, %d cells, runtime %.1f s, lowest terminal %.2f V\n",
+		c.Series, c.Parallel, c.Cells, *c.RuntimeS, c.MinTerminalV)
+	// The runtime checks by hand with REFERENCES.md 3.10: C = 100·0.8·2/9 F,
+	// R = 0.012·2·9/2 Ω, P = 150/0.92 W, u1 = (24 + √(24² − 4PR))/2, so
+	// t = C(u1² − 12²)/(2P) − RC·ln(u1/12) = 20.33 s.
+
+	// Output:
+	// 9 s × 2 p, 18 cells, runtime 20.3 s, lowest terminal 12.28 V
+}
+
+// SeriesCount judges the quotient in decimal: 42.0 V over 2.8 V cells is 15.
+func ExampleSeriesCount() {
+	fmt.Println(sizing.SeriesCount(42.0, 2.8), sizing.SeriesCount(42.1, 2.8))
+	// Output: 15 16
+}
+
+// Validate names the field of every problem.
+func ExampleValidate() {
+	d := &sizing.Design{
+		Window: sizing.Window{MaxV: 20, MinV: 21},
+		Load:   sizing.Load{Steps: []sizing.Step{{PowerW: f(100), DurationS: 0}}},
+		Cells:  []sizing.Cell{{ID: "x", RatedV: 2.7, CapacitanceF: 10, ESROhm: 0.05}},
+	}
+	fmt.Println(sizing.Validate(d))
+	// Output:
+	// load.steps[0].duration_s: must be greater than 0
+	// window.min_v: must be below window.max_v (21 V ≥ 20 V)
+}
