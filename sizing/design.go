@@ -27,9 +27,67 @@ type Design struct {
 	// RankBy orders the feasible candidates: "price" (default, lowest total
 	// price), "cells" (fewest cells), "mass" or "volume" (least).
 	RankBy string `json:"rank_by,omitempty" validate:"omitempty,oneof=price cells mass volume"`
+	// LifeYears, in years, is the service life the bank must reach; when
+	// given, a shorter expected life raises the life-short flag.
+	LifeYears *float64 `json:"life_years,omitempty" validate:"omitempty,finite,gt=0,lte=100"`
+	// StandbyH, in h, is how long the charged bank must hold on the shelf or
+	// in standby, with no charger, above the window bottom; when given, a
+	// shorter shelf hold time raises the self-discharge flag.
+	StandbyH *float64 `json:"standby_h,omitempty" validate:"omitempty,finite,gt=0,lte=1000000"`
+	// Balancing chooses how the cells of a string are balanced. nil: passive
+	// resistors by the defaults of Balancing.
+	Balancing *Balancing `json:"balancing,omitempty"`
+	// Life holds the life-model factors. nil: the defaults of LifeModel.
+	Life *LifeModel `json:"life,omitempty"`
 	// Cells are the candidate cells, each sized on its own.
 	Cells []Cell `json:"cells" validate:"min=1,max=1000,dive"`
 }
+
+// Balancing is how the cells of each string are kept near equal voltage.
+type Balancing struct {
+	// Kind: "passive" (a resistor across each cell, the default), "active"
+	// (a balancing circuit per cell that draws QuiescentA), or "none".
+	Kind string `json:"kind,omitempty" validate:"omitempty,oneof=passive active none"`
+	// CurrentMultiple sets the passive resistor's current at the cell voltage
+	// as a multiple of the leakage spread. nil: 10, the usual rule
+	// (REFERENCES.md 5.4; common practice in supplier application notes).
+	CurrentMultiple *float64 `json:"current_multiple,omitempty" validate:"omitempty,finite,gte=1,lte=1000"`
+	// LeakageSpreadA, in A, is the worst difference in leakage current
+	// between two cells of a string. nil: the cell's leakage_a, as if one
+	// cell leaked nothing and another the datasheet maximum (the worst case).
+	LeakageSpreadA *float64 `json:"leakage_spread_a,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
+	// Series is the preferred-value series the resistor is rounded down to:
+	// "E12", "E24" (default) or "E96" (IEC 60063).
+	Series string `json:"series,omitempty" validate:"omitempty,oneof=E12 E24 E96"`
+	// QuiescentA, in A, is what an active balancing circuit draws from its
+	// cell; required for kind "active".
+	QuiescentA *float64 `json:"quiescent_a,omitempty" validate:"omitempty,finite,gte=0,lte=10"`
+}
+
+// LifeModel holds the rules of thumb that scale a cell's rated life.
+type LifeModel struct {
+	// TempStepK, in K: life halves for each TempStepK of cell temperature
+	// above the rated-life temperature (and doubles for each below). nil: 10,
+	// REFERENCES.md 4.1 (common practice in supplier literature).
+	TempStepK *float64 `json:"temp_step_k,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
+	// VoltageStepV, in V: life halves for each VoltageStepV of cell voltage
+	// above the operating point below rated voltage (doubles for each below
+	// the rating). nil: 0.2, the milder of the published steps (REFERENCES.md
+	// 4.2 gives 0.1 V to 0.2 V), so derating is not over-credited.
+	VoltageStepV *float64 `json:"voltage_step_v,omitempty" validate:"omitempty,finite,gte=0.01,lte=10"`
+}
+
+// Defaults of Balancing and LifeModel.
+const (
+	DefaultBalancingMultiple = 10.0
+	DefaultBalancingSeries   = "E24"
+	DefaultLifeTempStepK     = 10.0
+	DefaultLifeVoltageStepV  = 0.2
+	// DefaultSpecificHeat, in J/(kg·K), is a cell's specific heat when the
+	// cell does not give one: REFERENCES.md 8.5, an estimate from the mix of
+	// aluminium, carbon and organic solvent (plausible range 900–1300).
+	DefaultSpecificHeat = 1000.0
+)
 
 // Window is the voltage window at the bank terminals, in V: the bank starts
 // at rest at MaxV (fully charged) and must keep its terminal voltage at or
@@ -131,4 +189,11 @@ type Cell struct {
 	// RatedLifeTempC (°C).
 	RatedLifeH     *float64 `json:"rated_life_h,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
 	RatedLifeTempC *float64 `json:"rated_life_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
+	// SpecificHeatJPerKgK, in J/(kg·K), with MassKg gives the cell's heat
+	// capacity. nil: DefaultSpecificHeat.
+	SpecificHeatJPerKgK *float64 `json:"specific_heat_j_per_kg_k,omitempty" validate:"omitempty,finite,gte=100,lte=10000"`
+	// Electrolyte: "organic" (flammable solvent, the usual EDLC), "aqueous",
+	// "ionic-liquid" or "hybrid". Empty: not given, taken as organic for the
+	// fire check (the usual and the more cautious case), with a flag.
+	Electrolyte string `json:"electrolyte,omitempty" validate:"omitempty,oneof=organic aqueous ionic-liquid hybrid"`
 }

@@ -58,8 +58,8 @@ type Candidate struct {
 	WorstESROhm       float64 `json:"worst_esr_ohm"`
 	// ColdESRFactor is the cold factor applied to the ESR (1 when none).
 	ColdESRFactor float64 `json:"cold_esr_factor"`
-	// LeakageOhm, in Ω, is the bank's leakage as a parallel resistance; nil
-	// when the cell gives no leakage current.
+	// LeakageOhm, in Ω, is the bank's leakage and balancing drain together,
+	// as one resistance across the capacitor; nil when there is neither.
 	LeakageOhm *float64 `json:"leakage_ohm"`
 	// StoredEnergyJ = ½·C·max_v², beginning of life, in J.
 	StoredEnergyJ float64 `json:"stored_energy_j"`
@@ -97,7 +97,115 @@ type Candidate struct {
 	TotalPrice *float64 `json:"total_price"`
 	MassKg     *float64 `json:"mass_kg"`
 	VolumeL    *float64 `json:"volume_l"`
-	Flags      []Flag   `json:"flags"`
+	// Thermal is the ESR heating of a cell; nil when the cell gives no
+	// thermal resistance.
+	Thermal *Thermal `json:"thermal"`
+	// Spread is the worst cell voltage from the capacitance tolerance.
+	Spread *Spread `json:"spread"`
+	// Balancing is the balancing chosen for the strings.
+	Balancing *BalancingResult `json:"balancing"`
+	// Life is the expected life; nil when the cell gives no rated life.
+	Life *Life `json:"life"`
+	// Hazards are the figures the safety flags judge.
+	Hazards Hazards `json:"hazards"`
+	Flags   []Flag  `json:"flags"`
+}
+
+// Thermal is the ESR heating of the hottest cell at worst case.
+type Thermal struct {
+	// CellRMSCurrentA and CellPeakCurrentA, in A, over the sizing pass.
+	CellRMSCurrentA  float64 `json:"cell_rms_current_a"`
+	CellPeakCurrentA float64 `json:"cell_peak_current_a"`
+	// CellLossW and BankLossW, in W: I_rms²·ESR at the worst-case ESR.
+	CellLossW float64 `json:"cell_loss_w"`
+	BankLossW float64 `json:"bank_loss_w"`
+	// SteadyRiseK, in K: ΔT = P·R_th with the pass's RMS loss.
+	SteadyRiseK float64 `json:"steady_rise_k"`
+	// PeakRiseK, in K: the highest rise over the pass by the first-order
+	// model from ambient; DutyPeakRiseK the highest rise once the repeating
+	// steps have reached their periodic steady state (nil for repeat 1).
+	PeakRiseK     float64  `json:"peak_rise_k"`
+	DutyPeakRiseK *float64 `json:"duty_peak_rise_k"`
+	// HotSpotC, in °C: ambient + the larger of the two peak rises.
+	HotSpotC float64 `json:"hot_spot_c"`
+	// TimeConstantS, in s: τ = R_th·m·c_p; nil without the cell's mass (the
+	// peak is then the steady rise, the cautious limit).
+	TimeConstantS *float64 `json:"time_constant_s"`
+	// SpecificHeatJPerKgK used, and whether it was the default.
+	SpecificHeatJPerKgK float64 `json:"specific_heat_j_per_kg_k"`
+	SpecificHeatDefault bool    `json:"specific_heat_default"`
+	// Curve is the cell temperature over the sizing pass, °C, at the times
+	// of the report's Curve (only on the recommended candidate).
+	CurveC []float64 `json:"curve_c,omitempty"`
+}
+
+// Spread is the voltage of the worst cell when a string is charged with no
+// balancing acting: the cell of lowest capacitance among cells of the
+// highest, all carrying the same charge.
+type Spread struct {
+	// WorstCellV, in V, at the window top.
+	WorstCellV float64 `json:"worst_cell_v"`
+	// MinusPct and PlusPct are the tolerance used.
+	MinusPct float64 `json:"minus_pct"`
+	PlusPct  float64 `json:"plus_pct"`
+}
+
+// BalancingResult is the balancing of each string.
+type BalancingResult struct {
+	// Kind: "passive", "active" or "none".
+	Kind string `json:"kind"`
+	// Series is the preferred-value series of a passive resistor.
+	Series string `json:"series,omitempty"`
+	// ResistorOhm, in Ω, is the resistor across each cell; RuleOhm the value
+	// from the current multiple and BoundOhm the worst-case bound (nil when
+	// the string has no headroom below the ceiling).
+	ResistorOhm *float64 `json:"resistor_ohm"`
+	RuleOhm     *float64 `json:"rule_ohm,omitempty"`
+	BoundOhm    *float64 `json:"bound_ohm,omitempty"`
+	// ResistorPowerW, in W, is the power rating chosen (2 × margin on
+	// DissipationW, what each resistor dissipates at the window top).
+	ResistorPowerW *float64 `json:"resistor_power_w"`
+	DissipationW   *float64 `json:"dissipation_w,omitempty"`
+	// QuiescentA, in A, per active circuit.
+	QuiescentA *float64 `json:"quiescent_a,omitempty"`
+	// Count is the number of resistors or circuits, one per cell.
+	Count int `json:"count"`
+	// LossW, in W, is the standing loss of all of them at the window top.
+	LossW float64 `json:"loss_w"`
+	// TimeConstantS, in s: R·C of one cell with its resistor (equalisation).
+	TimeConstantS *float64 `json:"time_constant_s"`
+	// ShelfHoldH, in h: how long the charged bank takes to fall from the
+	// window top to the window bottom through leakage and balancing, at
+	// worst-case capacitance, with no load; nil when it never does.
+	ShelfHoldH *float64 `json:"shelf_hold_h"`
+	// LeakageSpreadA, in A, is the spread the resistor was sized for.
+	LeakageSpreadA float64 `json:"leakage_spread_a"`
+	// WorstStaticCellV, in V, is the highest cell voltage after a long hold
+	// at the window top with that leakage spread (REFERENCES.md 5.5).
+	WorstStaticCellV *float64 `json:"worst_static_cell_v"`
+}
+
+// Life is the expected service life of the cells.
+type Life struct {
+	ExpectedH     float64 `json:"expected_h"`
+	ExpectedYears float64 `json:"expected_years"`
+	// TemperatureC and CellV, the conditions the life was scaled to.
+	TemperatureC float64 `json:"temperature_c"`
+	CellV        float64 `json:"cell_v"`
+	// DesignYears is the design's life_years, if given.
+	DesignYears *float64 `json:"design_years"`
+}
+
+// Hazards are the figures the safety flags judge, with the thresholds.
+type Hazards struct {
+	// MaxV, in V, the bank voltage at the window top.
+	MaxV float64 `json:"max_v"`
+	// StoredEnergyJ, in J, at the window top, beginning of life.
+	StoredEnergyJ float64 `json:"stored_energy_j"`
+	// ShortCircuitCurrentA, in A: max_v / bank ESR at beginning of life.
+	ShortCircuitCurrentA float64 `json:"short_circuit_current_a"`
+	// CellEnergyWh, in Wh: ½·C·U_R²/3600 per cell, as UN SP 361 counts it.
+	CellEnergyWh float64 `json:"cell_energy_wh"`
 }
 
 // Severity grades a Flag.
@@ -113,7 +221,12 @@ const (
 type Flag struct {
 	Code     string   `json:"code"`
 	Severity Severity `json:"severity"`
-	Message  string   `json:"message"`
+	// Message says what was found, with the figure, the threshold and its
+	// source.
+	Message string `json:"message"`
+	// Caution, where someone can be hurt, says what to do and defers to
+	// local codes and licensed practice.
+	Caution string `json:"caution,omitempty"`
 }
 
 // Curve is a decimated worst-case trace of the sizing pass: time in s,

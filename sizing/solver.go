@@ -6,6 +6,7 @@ import (
 	"math"
 	"runtime"
 	"sort"
+	"strings"
 	"sync"
 	"sync/atomic"
 )
@@ -157,6 +158,8 @@ type cellLimits struct {
 	peakA    float64 // 0: not given
 	contA    float64 // 0: not given
 	passTime float64
+	gLeak    float64 // leakage conductance of one cell alone, S
+	bal      balancingPlan
 }
 
 func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
@@ -165,7 +168,7 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 		if *p.d.CellMaxV <= c.RatedV {
 			l.ceiling = *p.d.CellMaxV
 		} else {
-			*flags = append(*flags, Flag{Code: "ceiling_above_rating", Severity: Info, Message: fmt.Sprintf(
+			*flags = append(*flags, Flag{Code: "ceiling-above-rating", Severity: Info, Message: fmt.Sprintf(
 				"The design's per-cell ceiling (%g V) is above this cell's rated voltage (%g V); the rated voltage is used for the series count.",
 				*p.d.CellMaxV, c.RatedV)})
 		}
@@ -176,25 +179,29 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 			k, beyond := ColdESRFactor(*cold, *c.ColdESRTempC, *c.ColdESRFactor)
 			l.coldK = k
 			if beyond {
-				*flags = append(*flags, Flag{Code: "cold_beyond_datasheet", Severity: Warning, Message: fmt.Sprintf(
+				*flags = append(*flags, Flag{Code: "cold-beyond-datasheet", Severity: Warning, Message: fmt.Sprintf(
 					"The design's cold temperature (%g °C) is below the coldest ESR point the cell gives (%g °C, ×%g); capbank uses ×%g, and the real ESR may be higher. Get the ESR at %g °C from the maker or measure it.",
 					*cold, *c.ColdESRTempC, *c.ColdESRFactor, *c.ColdESRFactor, *cold)})
 			}
 		} else if *cold < roomC {
-			*flags = append(*flags, Flag{Code: "no_cold_esr", Severity: Warning, Message: fmt.Sprintf(
+			*flags = append(*flags, Flag{Code: "no-cold-esr", Severity: Warning, Message: fmt.Sprintf(
 				"The cell gives no ESR at a cold temperature, so the worst case at %g °C uses the 25 °C ESR; organic cells commonly show 1.5–10 × the ESR at −40 °C (REFERENCES.md 8.3, common practice). Add cold_esr_factor and cold_esr_temp_c.",
 				*cold)})
 		}
 		if c.MinTempC != nil && *cold < *c.MinTempC {
-			*flags = append(*flags, Flag{Code: "cold_below_range", Severity: Warning, Message: fmt.Sprintf(
+			*flags = append(*flags, Flag{Code: "cold-below-range", Severity: Warning, Message: fmt.Sprintf(
 				"The design's cold temperature (%g °C) is below the cell's operating range (from %g °C).", *cold, *c.MinTempC)})
 		}
 	}
 	l.cw = c.CapacitanceF * p.capF
 	l.rw = c.ESROhm * p.esrF * l.coldK
 	if c.LeakageA != nil {
-		l.gCell = *c.LeakageA / c.RatedV
+		l.gLeak = *c.LeakageA / c.RatedV
 	}
+	// The balancing drain acts across each cell like its leakage.
+	l.bal = p.planBalancing(c, l.s, l.ceiling)
+	*flags = append(*flags, l.bal.flags...)
+	l.gCell = l.gLeak + l.bal.gCell
 	if c.PeakCurrentA != nil {
 		l.peakA = *c.PeakCurrentA
 	}
@@ -326,7 +333,7 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		v := *c.UnitPrice * float64(cand.Cells)
 		cand.TotalPrice = &v
 	} else {
-		cand.Flags = append(cand.Flags, Flag{Code: "no_price", Severity: Info,
+		cand.Flags = append(cand.Flags, Flag{Code: "no-price", Severity: Info,
 			Message: "The cell has no unit price, so it ranks after priced candidates when ranking by price."})
 	}
 	if c.MassKg != nil {
@@ -337,9 +344,12 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		v := *c.VolumeL * float64(cand.Cells)
 		cand.VolumeL = &v
 	}
+	cand.Balancing = &l.bal.res
+	p.fillSafety(cand, c, l, m)
 	if !t.ok {
 		return
 	}
+	p.fillHeatAndLife(cand, c, l, m)
 	rt := m.runtime(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget)
 	p.work.Add(int64(m.work))
 	if rt.within {
@@ -351,21 +361,21 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		}
 		cand.RuntimeEstimated = rt.estimated
 		if rt.estimated {
-			cand.Flags = append(cand.Flags, Flag{Code: "runtime_estimated", Severity: Info, Message: fmt.Sprintf(
+			cand.Flags = append(cand.Flags, Flag{Code: "runtime-estimated", Severity: Info, Message: fmt.Sprintf(
 				"The runtime (%.4g s) spans too many repeats of the steps to run one by one; the periods past the first %d steps were counted by averaging the voltage drop per period.",
 				rt.t, runtimeStepBudget)})
 		}
 	}
 	if st.reject > 0 {
-		cand.Flags = append(cand.Flags, Flag{Code: "energy_rejected", Severity: Warning, Message: fmt.Sprintf(
+		cand.Flags = append(cand.Flags, Flag{Code: "energy-rejected", Severity: Warning, Message: fmt.Sprintf(
 			"Charging steps offer %.4g J that the bank cannot absorb because it is held at the window top (%g V); a brake resistor, a charger current limit or a larger window must take it.",
 			st.reject, p.maxV)})
 	}
 	// Common practice, no source: ESR losses above ~10 % of the energy
 	// delivered mean the cell is working far from its efficient range.
 	if st.eLoad > 0 && cand.ESRLossJ > 0.1*st.eLoad {
-		cand.Flags = append(cand.Flags, Flag{Code: "esr_loss_high", Severity: Info, Message: fmt.Sprintf(
-			"ESR losses are %.0f %% of the energy delivered over the pass (%.4g J of %.4g J); a lower-ESR cell or more strings would waste less and run cooler (10 %% is a rule of thumb, no source).",
+		cand.Flags = append(cand.Flags, Flag{Code: "esr-loss-high", Severity: Info, Message: fmt.Sprintf(
+			"ESR losses are %.1f %% of the energy delivered over the pass (%.4g J of %.4g J); a lower-ESR cell or more strings would waste less and run cooler (10 %% is a rule of thumb, no source).",
 			100*cand.ESRLossJ/st.eLoad, cand.ESRLossJ, st.eLoad)})
 	}
 }
@@ -451,4 +461,139 @@ func checkFinite(r *Report) error {
 		}
 	}
 	return nil
+}
+
+// fillSafety writes the hazard figures, the string's voltage spread and
+// balancing figures, and their flags.
+func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) {
+	cand.Hazards = Hazards{
+		MaxV:                 p.maxV,
+		StoredEnergyJ:        cand.StoredEnergyJ,
+		ShortCircuitCurrentA: p.maxV / cand.ESROhm,
+		CellEnergyWh:         StoredEnergy(c.CapacitanceF, c.RatedV) / 3600,
+	}
+	cand.Flags = append(cand.Flags, hazardFlags(cand.Hazards)...)
+
+	minus, plus := 0.0, 0.0
+	if t := c.CapacitanceTolerancePct; len(t) == 2 {
+		minus, plus = -t[0]/100, t[1]/100
+	}
+	sp := &Spread{WorstCellV: WorstSpreadVoltage(p.maxV, l.s, minus, plus), MinusPct: -minus * 100, PlusPct: plus * 100}
+	if sp.MinusPct == 0 {
+		sp.MinusPct = 0 // not −0
+	}
+	cand.Spread = sp
+	const spreadSrc = "worst cell of lowest capacitance among cells of the highest, equal charge in series (REFERENCES.md 5.2)"
+	switch {
+	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Danger, Message: fmt.Sprintf(
+			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
+			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
+			Caution: "A cell past its surge voltage can vent or rupture. Limit the charge current so the balancing keeps up, use active balancing, or add a cell in series. " + cautionCodes})
+	case l.s > 1 && sp.WorstCellV > c.RatedV*(1+1e-9):
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
+			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, above its %g V rating (%s).",
+			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
+			Caution: "Charge slowly enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
+	}
+	if b := cand.Balancing; b.WorstStaticCellV != nil && *b.WorstStaticCellV > c.RatedV*(1+1e-9) {
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
+			"After a long hold at %.4g V, a leakage spread of %.3g A can leave one cell at %.4g V with the %s balancing, above its %g V rating (REFERENCES.md 5.5).",
+			p.maxV, b.LeakageSpreadA, *b.WorstStaticCellV, b.Kind, c.RatedV),
+			Caution: "Lower the balancing resistor, add a cell in series, or use active balancing. " + cautionCodes})
+	}
+	// Shelf hold: the charged bank, no load and no charger, at worst-case
+	// capacitance, from the window top to the window bottom.
+	vTop, vMin := p.maxV/float64(l.s), p.minV/float64(l.s)
+	iq := 0.0
+	g := l.gCell
+	if b := cand.Balancing; b.Kind == "active" && b.QuiescentA != nil {
+		iq, g = *b.QuiescentA, l.gLeak
+	}
+	if ts := shelfHold(l.cw, g, iq, vTop, vMin); ts > 0 {
+		h := ts / 3600
+		cand.Balancing.ShelfHoldH = &h
+	}
+	if p.d.StandbyH != nil {
+		hold := cand.Balancing.ShelfHoldH
+		if hold != nil && *hold < *p.d.StandbyH {
+			cand.Flags = append(cand.Flags, Flag{Code: "self-discharge", Severity: Warning, Message: fmt.Sprintf(
+				"Through leakage and balancing, the charged bank falls to the window bottom (%g V) in %.4g h on the shelf, shorter than the %g h standby the design asks for.",
+				p.minV, *hold, *p.d.StandbyH)})
+		}
+	}
+	// The power limit: the string count was set by the load's maximum-power point.
+	if cand.Limit == "power" {
+		cand.Flags = append(cand.Flags, Flag{Code: "power-limit", Severity: Info, Message: fmt.Sprintf(
+			"With one string fewer the load would pass the bank's maximum-power point (terminal voltage √(P·R), REFERENCES.md 3.8) and collapse; the %d strings are set by power, not energy.", cand.Parallel)})
+	}
+	if !cand.Feasible && strings.Contains(cand.Reason, "maximum-power") {
+		cand.Flags = append(cand.Flags, Flag{Code: "power-limit", Severity: Danger, Message: "The load passes the bank's maximum-power point (terminal voltage √(P·R), REFERENCES.md 3.8): the converter's input collapses. " + cand.Reason})
+	}
+	if !cand.Feasible && strings.Contains(cand.Reason, "current") {
+		cand.Flags = append(cand.Flags, Flag{Code: "over-current", Severity: Danger, Message: cand.Reason,
+			Caution: "A cell run past its current rating overheats. " + cautionCodes})
+	}
+}
+
+// fillHeatAndLife writes the thermal figures and the expected life of a
+// feasible bank, and their flags.
+func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankModel) {
+	if c.ThermalResistanceKPerW != nil {
+		cp, def := DefaultSpecificHeat, true
+		if c.SpecificHeatJPerKgK != nil {
+			cp, def = *c.SpecificHeatJPerKgK, false
+		}
+		h := heatModel{rth: *c.ThermalResistanceKPerW, rCell: l.rw, par: float64(cand.Parallel)}
+		th := &Thermal{CellRMSCurrentA: cand.CellRMSCurrentA, CellPeakCurrentA: cand.CellPeakCurrentA,
+			SpecificHeatJPerKgK: cp, SpecificHeatDefault: def}
+		if c.MassKg != nil {
+			h.tau = h.rth * *c.MassKg * cp
+			tau := h.tau
+			th.TimeConstantS = &tau
+		}
+		th.CellLossW = cand.CellRMSCurrentA * cand.CellRMSCurrentA * l.rw
+		th.BankLossW = th.CellLossW * float64(cand.Cells)
+		th.SteadyRiseK = th.CellLossW * h.rth
+		hr := m.heat(p.steps, p.repeat, p.maxV, p.minV, h)
+		th.PeakRiseK, th.DutyPeakRiseK = hr.peak, hr.dutyPeak
+		th.HotSpotC = p.ambientC + math.Max(hr.peak, ptr0(hr.dutyPeak))
+		cand.Thermal = th
+	} else {
+		cand.Flags = append(cand.Flags, Flag{Code: "heat-unchecked", Severity: Info, Message: "The cell gives no thermal resistance, so its ESR heating and hot spot are not checked; add thermal_resistance_k_per_w."})
+	}
+	cand.Flags = append(cand.Flags, thermalFlags(c, cand.Thermal, cand.StoredEnergyJ)...)
+	if c.Electrolyte == "" {
+		cand.Flags = append(cand.Flags, Flag{Code: "electrolyte-unknown", Severity: Info, Message: "The cell does not name its electrolyte; the fire check takes it as organic (flammable), the usual EDLC case."})
+	}
+
+	if c.RatedLifeH == nil {
+		cand.Flags = append(cand.Flags, Flag{Code: "life-unchecked", Severity: Info, Message: "The cell gives no rated life, so its expected life is not estimated; add rated_life_h and rated_life_temp_c."})
+		return
+	}
+	tStep, vStep := DefaultLifeTempStepK, DefaultLifeVoltageStepV
+	if lm := p.d.Life; lm != nil {
+		if lm.TempStepK != nil {
+			tStep = *lm.TempStepK
+		}
+		if lm.VoltageStepV != nil {
+			vStep = *lm.VoltageStepV
+		}
+	}
+	temp := p.ambientC
+	if cand.Thermal != nil {
+		temp = cand.Thermal.HotSpotC
+	}
+	hours := ExpectedLife(*c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, temp, cand.CellV, tStep, vStep)
+	life := &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears}
+	cand.Life = life
+	if p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
+		cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
+			"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower; REFERENCES.md 4.1–4.3, common practice). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (4.4).",
+			life.ExpectedYears, temp, cand.CellV, *p.d.LifeYears, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, tStep, vStep)})
+	}
+	if p.capF > DefaultEOLCapacitanceFactor || p.esrF < DefaultEOLESRFactor {
+		cand.Flags = append(cand.Flags, Flag{Code: "eol-stricter", Severity: Info, Message: fmt.Sprintf(
+			"The design's end-of-life factors (capacitance ×%g, ESR ×%g) are stricter than the usual criteria (×0.8, ×2, REFERENCES.md 4.4) a rated life refers to, so the bank reaches them sooner than the expected life says.", p.capF, p.esrF)})
+	}
 }

@@ -212,6 +212,10 @@ func physicsRules(d *Design) ValidationError {
 			"gives %d steps × %d repeats = %d steps in the sizing pass, more than %d; lower the repeat count or merge steps",
 			len(d.Load.Steps), *d.Load.Repeat, len(d.Load.Steps)*(*d.Load.Repeat), MaxPassSteps)
 	}
+	if b := d.Balancing; b != nil && b.Kind == "active" && b.QuiescentA == nil {
+		add("balancing.quiescent_a", "required_active",
+			"is required for active balancing: give the current each balancing circuit draws from its cell, in A")
+	}
 	ids := map[string]int{}
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)

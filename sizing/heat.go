@@ -1,0 +1,90 @@
+package sizing
+
+import "math"
+
+// heatModel is a cell's first-order thermal model: a thermal resistance to
+// ambient rth (K/W) with the cell's heat capacity m·c_p, so
+//
+//	m·c_p·dΔT/dt = P − ΔT/R_th,   τ = R_th·m·c_p,
+//
+// and under a constant loss P the rise approaches P·R_th as
+// ΔT(t) = P·R_th + (ΔT0 − P·R_th)·e^(−t/τ) (REFERENCES.md 3.14,
+// heat-transfer textbook). With no heat capacity known, tau is 0 and the
+// rise follows the loss at once: the cautious limit.
+type heatModel struct {
+	rth, tau float64
+	rCell    float64 // worst-case cell ESR, Ω
+	par      float64 // strings: the cell current is the bank current / par
+}
+
+// advance returns the rise, K, after d seconds at loss w (W) from rise x.
+func (h heatModel) advance(x, w, d float64) float64 {
+	inf := w * h.rth
+	if h.tau <= 0 {
+		return inf
+	}
+	return x + (x-inf)*expm1(-d/h.tau)
+}
+
+// loss returns the cell's mean ESR loss, W, over a step that ran t seconds
+// with bank ∫i² dt = i2dt: R_cell·i2dt/(par²·t).
+func (h heatModel) loss(i2dt, t float64) float64 {
+	if t <= 0 {
+		return 0
+	}
+	return h.rCell * i2dt / (h.par * h.par * t)
+}
+
+// heatResult is the thermal outcome of the sizing pass.
+type heatResult struct {
+	peak     float64  // highest rise over the pass from ambient, K
+	dutyPeak *float64 // highest rise at the periodic steady state, K
+}
+
+// heat runs the sizing pass on bank m with the thermal model h. Each step
+// heats the cell at its mean loss (exact energy per step). When the steps
+// repeat, the periodic steady state of the repeating duty is found from
+// the period's affine map ΔT_end = α·ΔT_start + β, α = e^(−T/τ), whose
+// fixed point is β/(1 − α); the losses of the pass's last repeat are used
+// for it, the most drained and so the most lossy.
+func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h heatModel) heatResult {
+	var o stepOutcome
+	v, x := maxV, 0.0
+	res := heatResult{}
+	last := make([]float64, len(steps))
+	for k := range repeat {
+		for j, st := range steps {
+			m.solveStep(st, v, minV, maxV, &o)
+			w := h.loss(o.i2dt, o.t)
+			x = h.advance(x, w, o.t)
+			res.peak = math.Max(res.peak, x)
+			v = o.v1
+			if k == repeat-1 {
+				last[j] = w
+			}
+			if o.stop != stopNone {
+				return res
+			}
+		}
+	}
+	if repeat <= 1 {
+		return res
+	}
+	period := 0.0
+	beta := 0.0
+	for j, st := range steps {
+		beta = h.advance(beta, last[j], st.dur)
+		period += st.dur
+	}
+	var start float64
+	if h.tau > 0 {
+		start = beta / -expm1(-period/h.tau) // β/(1 − α)
+	}
+	x, peak := start, start
+	for j, st := range steps {
+		x = h.advance(x, last[j], st.dur)
+		peak = math.Max(peak, x)
+	}
+	res.dutyPeak = &peak
+	return res
+}
