@@ -12,7 +12,7 @@ const curvePoints = 2000
 // passes are decimated into time buckets that each keep their first, last,
 // lowest and highest terminal voltage and current, so every extreme of the
 // pass stays in the curve. Every point is on the exact solution.
-func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, budget int) *Curve {
+func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, budget int, heat *heatModel, ambientC float64) *Curve {
 	n := len(steps) * repeat
 	total := 0.0
 	for _, s := range steps {
@@ -21,6 +21,9 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 	total *= float64(repeat)
 	cv := &Curve{MaxV: maxV, MinV: minV}
 	var sink pointSink
+	if heat != nil {
+		cv.TemperatureC = []float64{}
+	}
 	if 2*n+1 <= budget {
 		sink = &fullSink{c: cv}
 	} else {
@@ -40,11 +43,24 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 		}
 	}
 	v, t := maxV, 0.0
-	sink.add(t, v, v, 0)
+	// rise is the cell's temperature rise at the start of the step; riseAt
+	// the rise d seconds into a step of mean loss w.
+	rise, w := 0.0, 0.0
+	riseAt := func(d float64) float64 {
+		if heat == nil {
+			return 0
+		}
+		return heat.advance(rise, w, d)
+	}
+	add := func(tt, u, vv, i, d float64) { sink.add(tt, u, vv, i, ambientC+riseAt(d)) }
+	add(t, v, v, 0, 0)
 	for range repeat {
 		for _, s := range steps {
 			o := m.step(s, v, minV, maxV)
-			sink.add(t, o.uStart, v, o.iStart)
+			if heat != nil {
+				w = heat.loss(o.i2dt, o.t)
+			}
+			add(t, o.uStart, v, o.iStart, 0)
 			k := 0
 			if s.kind == kindPower || s.kind == kindResistance {
 				k = interior
@@ -53,17 +69,18 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 				sub := s
 				sub.dur = o.t * float64(i) / float64(k+1)
 				q := m.step(sub, v, minV, maxV)
-				sink.add(t+sub.dur, q.uEnd, q.v1, q.iEnd)
+				add(t+sub.dur, q.uEnd, q.v1, q.iEnd, sub.dur)
 			}
 			if o.tTop > 0 && o.tTop < o.t && !cv.Decimated {
 				sub := s
 				sub.dur = o.tTop
 				q := m.step(sub, v, minV, maxV)
-				sink.add(t+o.tTop, q.uEnd, q.v1, q.iEnd)
+				add(t+o.tTop, q.uEnd, q.v1, q.iEnd, o.tTop)
 			}
+			add(t+o.t, o.uEnd, o.v1, o.iEnd, o.t)
+			rise = riseAt(o.t)
 			t += o.t
 			v = o.v1
-			sink.add(t, o.uEnd, v, o.iEnd)
 			if o.stop != stopNone {
 				sink.flush()
 				return cv
@@ -75,18 +92,20 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 }
 
 type pointSink interface {
-	add(t, u, v, i float64)
+	add(t, u, v, i, temp float64)
 	flush()
 }
 
 type fullSink struct{ c *Curve }
 
-func (s *fullSink) add(t, u, v, i float64) { s.c.append(point{t: t, u: u, v: v, i: i}) }
-func (s *fullSink) flush()                 {}
+func (s *fullSink) add(t, u, v, i, temp float64) {
+	s.c.append(point{t: t, u: u, v: v, i: i, temp: temp})
+}
+func (s *fullSink) flush() {}
 
 type point struct {
-	t, u, v, i float64
-	seq        int // arrival order, to keep a jump's two points in order
+	t, u, v, i, temp float64
+	seq              int // arrival order, to keep a jump's two points in order
 }
 
 func (c *Curve) append(p point) {
@@ -94,6 +113,9 @@ func (c *Curve) append(p point) {
 	c.TerminalV = append(c.TerminalV, p.u)
 	c.CapacitorV = append(c.CapacitorV, p.v)
 	c.CurrentA = append(c.CurrentA, p.i)
+	if c.TemperatureC != nil {
+		c.TemperatureC = append(c.TemperatureC, p.temp)
+	}
 }
 
 // bucketSink keeps, per time bucket, the first and last point and the
@@ -114,9 +136,9 @@ func newBucketSink(c *Curve, total float64, buckets int) *bucketSink {
 	return &bucketSink{c: c, width: total / float64(buckets)}
 }
 
-func (s *bucketSink) add(t, u, v, i float64) {
+func (s *bucketSink) add(t, u, v, i, temp float64) {
 	s.seq++
-	p := point{t: t, u: u, v: v, i: i, seq: s.seq}
+	p := point{t: t, u: u, v: v, i: i, temp: temp, seq: s.seq}
 	b := 0
 	if s.width > 0 {
 		b = int(t / s.width)

@@ -134,9 +134,6 @@ type Thermal struct {
 	// SpecificHeatJPerKgK used, and whether it was the default.
 	SpecificHeatJPerKgK float64 `json:"specific_heat_j_per_kg_k"`
 	SpecificHeatDefault bool    `json:"specific_heat_default"`
-	// Curve is the cell temperature over the sizing pass, °C, at the times
-	// of the report's Curve (only on the recommended candidate).
-	CurveC []float64 `json:"curve_c,omitempty"`
 }
 
 // Spread is the voltage of the worst cell when a string is charged with no
@@ -237,7 +234,11 @@ type Curve struct {
 	TerminalV  []float64 `json:"terminal_v"`
 	CapacitorV []float64 `json:"capacitor_v"`
 	CurrentA   []float64 `json:"current_a"`
-	Decimated  bool      `json:"decimated"`
-	MaxV       float64   `json:"max_v"`
-	MinV       float64   `json:"min_v"`
+	// TemperatureC is the hottest cell's temperature, °C, by the thermal
+	// model (each step heating at its mean loss); absent when the cell gives
+	// no thermal resistance.
+	TemperatureC []float64 `json:"temperature_c,omitempty"`
+	Decimated    bool      `json:"decimated"`
+	MaxV         float64   `json:"max_v"`
+	MinV         float64   `json:"min_v"`
 }

@@ -137,8 +137,9 @@ func size(d *Design) (*Report, int64, error) {
 		r.Recommended = &id
 		for i := range d.Cells {
 			if d.Cells[i].ID == id {
-				m := p.worstBank(&d.Cells[i], cands[0].Series, cands[0].Parallel)
-				r.Curve = m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints)
+				c := &d.Cells[i]
+				m := p.worstBank(c, cands[0].Series, cands[0].Parallel)
+				r.Curve = m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints, p.heatModel(c, cands[0].Parallel), p.ambientC)
 			}
 		}
 	}
@@ -536,19 +537,36 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	}
 }
 
+// heatModel returns the thermal model of cell c in a bank of par strings,
+// or nil when the cell gives no thermal resistance.
+func (p *plan) heatModel(c *Cell, par int) *heatModel {
+	if c.ThermalResistanceKPerW == nil {
+		return nil
+	}
+	var flags []Flag
+	l := p.limits(c, &flags)
+	h := &heatModel{rth: *c.ThermalResistanceKPerW, rCell: l.rw, par: float64(par)}
+	if c.MassKg != nil {
+		cp := DefaultSpecificHeat
+		if c.SpecificHeatJPerKgK != nil {
+			cp = *c.SpecificHeatJPerKgK
+		}
+		h.tau = h.rth * *c.MassKg * cp
+	}
+	return h
+}
+
 // fillHeatAndLife writes the thermal figures and the expected life of a
 // feasible bank, and their flags.
 func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankModel) {
-	if c.ThermalResistanceKPerW != nil {
-		cp, def := DefaultSpecificHeat, true
-		if c.SpecificHeatJPerKgK != nil {
-			cp, def = *c.SpecificHeatJPerKgK, false
-		}
-		h := heatModel{rth: *c.ThermalResistanceKPerW, rCell: l.rw, par: float64(cand.Parallel)}
+	if hp := p.heatModel(c, cand.Parallel); hp != nil {
+		h := *hp
 		th := &Thermal{CellRMSCurrentA: cand.CellRMSCurrentA, CellPeakCurrentA: cand.CellPeakCurrentA,
-			SpecificHeatJPerKgK: cp, SpecificHeatDefault: def}
-		if c.MassKg != nil {
-			h.tau = h.rth * *c.MassKg * cp
+			SpecificHeatJPerKgK: DefaultSpecificHeat, SpecificHeatDefault: c.SpecificHeatJPerKgK == nil}
+		if c.SpecificHeatJPerKgK != nil {
+			th.SpecificHeatJPerKgK = *c.SpecificHeatJPerKgK
+		}
+		if h.tau > 0 {
 			tau := h.tau
 			th.TimeConstantS = &tau
 		}

@@ -315,6 +315,16 @@ func TestUPSDemoFigures(t *testing.T) {
 	if c.DeliveredEnergyJ < 3500/0.94*11 {
 		t.Errorf("delivered %v J, less than the power step alone", c.DeliveredEnergyJ)
 	}
+	// The curve's cell temperature peaks at the hot spot: the curve holds
+	// every step end, where the first-order rise of a heating step peaks.
+	hot := math.Inf(-1)
+	for _, x := range r.Curve.TemperatureC {
+		hot = math.Max(hot, x)
+	}
+	if len(r.Curve.TemperatureC) != len(r.Curve.TimeS) {
+		t.Fatalf("temperature curve has %d points, time %d", len(r.Curve.TemperatureC), len(r.Curve.TimeS))
+	}
+	near(t, "curve hot spot", hot, c.Thermal.HotSpotC, 1e-12)
 }
 
 func TestReportJSONKeys(t *testing.T) {
