@@ -123,6 +123,7 @@ func TestSizeCheckDesignText(t *testing.T) {
 	for line := range strings.Lines(out) {
 		if strings.HasPrefix(line, "check-2500f ") {
 			row = line
+			break // the candidates table comes before the heat table
 		}
 	}
 	// 32.33 s (REFERENCES.md 10.3), 25.68 V (3.5), 120 kJ (10.1), 100 A.
@@ -176,6 +177,24 @@ func TestSizeUPSDesign(t *testing.T) {
 	for _, f := range rec.Flags {
 		if !strings.Contains(text, f.Code) || !strings.Contains(text, string(f.Severity)) {
 			t.Errorf("text report lacks flag %s (%s) of %s", f.Code, f.Severity, rec.CellID)
+		}
+	}
+	// The heat, balancing and life table shows the JSON report's figures
+	// for the recommended cell, to the significant figures it prints.
+	_, heat, ok := strings.Cut(text, "Heat, balancing and life")
+	if !ok || rec.Thermal == nil || rec.Balancing == nil || rec.Balancing.ResistorOhm == nil || rec.Life == nil {
+		t.Fatalf("no heat table, or the demo's recommended cell lacks thermal, balancing or life figures:\n%s", text)
+	}
+	var row string
+	for line := range strings.Lines(heat) {
+		if strings.HasPrefix(line, rec.CellID+" ") {
+			row = line
+		}
+	}
+	for _, want := range []string{formatSig(rec.Thermal.HotSpotC, 3), formatSI(*rec.Balancing.ResistorOhm, "Ω"),
+		formatSig(*rec.Balancing.ShelfHoldH, sigFigs), formatSig(rec.Life.ExpectedYears, 3)} {
+		if !strings.Contains(row, want) {
+			t.Errorf("heat row %q has no %q", row, want)
 		}
 	}
 }

@@ -22,9 +22,10 @@ const sigFigs = 4
 const none = "—"
 
 // writeText writes the report for a terminal: a headline with the
-// recommended bank, the assumptions applied, one table row per candidate and
+// recommended bank, the assumptions applied, one table row per candidate,
 // the flags of the recommended candidate, most severe first, each with its
-// caution.
+// caution, and last a table of every candidate's heat, balancing and life
+// figures.
 func writeText(w io.Writer, r *sizing.Report) {
 	name := r.Design
 	if name == "" {
@@ -44,6 +45,11 @@ func writeText(w io.Writer, r *sizing.Report) {
 	fmt.Fprintln(w, assumptions(r))
 	fmt.Fprintln(w)
 	writeTable(w, candidateTable(r.Candidates))
+	defer func() {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, "Heat, balancing and life (hottest cell at worst case; balancing per string):")
+		writeTable(w, safetyTable(r.Candidates))
+	}()
 	if rec == nil {
 		return
 	}
@@ -158,6 +164,66 @@ func candidateTable(cs []sizing.Candidate) table {
 			formatSig(c.RMSCurrentA/rScale, sigFigs),
 			price, mass, c.Reason,
 		})
+	}
+	return t
+}
+
+// safetyTable is one row per candidate with its thermal, spread,
+// balancing and life figures.
+func safetyTable(cs []sizing.Candidate) table {
+	t := table{
+		right: []bool{false, true, true, true, true, false, true, true, true, true},
+		rows: [][]string{{
+			"cell", "hot spot (°C)", "peak rise (K)", "loss/cell (W)", "spread cell (V)",
+			"balancing", "standing loss (W)", "shelf hold (h)", "static cell (V)", "life (years)",
+		}},
+	}
+	opt := func(p *float64) string {
+		if p == nil {
+			return none
+		}
+		return formatSig(*p, sigFigs)
+	}
+	for _, c := range cs {
+		hot, rise, loss := none, none, none
+		if th := c.Thermal; th != nil {
+			hot = formatSig(th.HotSpotC, 3)
+			r := th.PeakRiseK
+			if th.DutyPeakRiseK != nil {
+				r = max(r, *th.DutyPeakRiseK)
+			}
+			rise = formatSig(r, 3)
+			loss = formatSig(th.CellLossW, 3)
+		}
+		spread := none
+		if c.Spread != nil {
+			spread = formatSig(c.Spread.WorstCellV, sigFigs)
+		}
+		bal, standing, shelf, static := none, none, none, none
+		if b := c.Balancing; b != nil {
+			bal = b.Kind
+			if b.ResistorOhm != nil {
+				bal += " " + formatSI(*b.ResistorOhm, "Ω")
+				if b.ResistorPowerW != nil {
+					bal += " " + formatSig(*b.ResistorPowerW, 3) + " W"
+				}
+				bal += " " + b.Series
+			}
+			if b.QuiescentA != nil {
+				bal += " " + formatSI(*b.QuiescentA, "A")
+			}
+			if b.Count > 0 {
+				bal += fmt.Sprintf(" ×%d", b.Count)
+				standing = formatSig(b.LossW*float64(c.Parallel), 3)
+			}
+			shelf = opt(b.ShelfHoldH)
+			static = opt(b.WorstStaticCellV)
+		}
+		life := none
+		if c.Life != nil {
+			life = formatSig(c.Life.ExpectedYears, 3)
+		}
+		t.rows = append(t.rows, []string{c.CellID, hot, rise, loss, spread, bal, standing, shelf, static, life})
 	}
 	return t
 }
