@@ -39,8 +39,40 @@ type Design struct {
 	Balancing *Balancing `json:"balancing,omitempty"`
 	// Life holds the life-model factors. nil: the defaults of LifeModel.
 	Life *LifeModel `json:"life,omitempty"`
+	// BOQ holds the prices and extra lines of the bill of quantities.
+	BOQ *BOQOptions `json:"boq,omitempty"`
 	// Cells are the candidate cells, each sized on its own.
 	Cells []Cell `json:"cells" validate:"min=1,max=1000,dive"`
+}
+
+// BOQOptions are the purchasing inputs of a bill of quantities. Prices are
+// in Currency, with no conversion; a price left out leaves its line unpriced
+// (and the total marked incomplete), never zero.
+type BOQOptions struct {
+	// Currency is a label for every price, e.g. "EUR"; empty: none shown.
+	Currency string `json:"currency,omitempty" validate:"max=12"`
+	// LinkUnitPrice is the price of one interconnect link or busbar lug.
+	LinkUnitPrice *float64 `json:"link_unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+	// ResistorUnitPrice is the price of one balancing resistor;
+	// BalancerUnitPrice of one active balancing circuit.
+	ResistorUnitPrice *float64 `json:"resistor_unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+	BalancerUnitPrice *float64 `json:"balancer_unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+	// BleederUnitPrice is the price of the service bleeder resistor.
+	BleederUnitPrice *float64 `json:"bleeder_unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+	// BleederTimeS, in s, is how long the bleeder may take to bring the bank
+	// to its service voltage (see BleederPlan). nil: 300 s.
+	BleederTimeS *float64 `json:"bleeder_time_s,omitempty" validate:"omitempty,finite,gt=0,lte=1e6"`
+	// Extras are lines the user adds: enclosure, fuses, monitoring.
+	Extras []BOQExtra `json:"extras,omitempty" validate:"max=200,dive"`
+}
+
+// BOQExtra is a line the user adds to the bill of quantities.
+type BOQExtra struct {
+	Item        string   `json:"item" validate:"required,max=100"`
+	Description string   `json:"description,omitempty" validate:"max=500"`
+	Quantity    float64  `json:"quantity" validate:"finite,gt=0,lte=1e9"`
+	Unit        string   `json:"unit,omitempty" validate:"max=20"`
+	UnitPrice   *float64 `json:"unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
 }
 
 // Balancing is how the cells of each string are kept near equal voltage.
