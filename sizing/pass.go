@@ -76,7 +76,12 @@ type runtimeResult struct {
 //     when each period takes only a small bite of the voltage, which is the
 //     only way to exhaust the budget; the result is marked estimated.
 func (m *bankModel) runtime(steps []compiledStep, period, minV, maxV float64, budget int) runtimeResult {
-	v, t := maxV, 0.0
+	return m.runtimeFrom(steps, period, minV, maxV, budget, maxV, 0)
+}
+
+// runtimeFrom is runtime going on from capacitor voltage v at time t, the
+// end of whole periods already run from the top.
+func (m *bankModel) runtimeFrom(steps []compiledStep, period, minV, maxV float64, budget int, v, t float64) runtimeResult {
 	for evals := 0; ; evals += len(steps) {
 		if t >= RuntimeLimitS {
 			return runtimeResult{}

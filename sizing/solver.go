@@ -254,9 +254,15 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 	cand.CellV = p.maxV / float64(l.s)
 	cand.ColdESRFactor = l.coldK
 
-	// Doubling, then bisection: lo always fails, hi always carries the load.
+	// Start at the fewest strings the energy and current bounds allow (all
+	// below lo fail), then doubling, then bisection: lo always fails, hi
+	// always carries the load.
 	var lo trial
-	hi := p.try(&l, 1)
+	p0, why := p.stringBound(&l)
+	if p0 > 1 {
+		lo = trial{par: p0 - 1, limit: why}
+	}
+	hi := p.try(&l, p0)
 	for !hi.ok {
 		lo = hi
 		if hi.par >= MaxParallel {
@@ -279,6 +285,68 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 	cand.Limit = lo.limit
 	p.fillFigures(&cand, c, &l, hi)
 	return cand
+}
+
+// stringBound returns the fewest strings that can possibly carry the pass,
+// and what sets it, from bounds that need no simulation:
+//
+//   - energy: the capacitor stays at or above min_v (its terminal voltage
+//     does, and v ≥ u while discharging), so p strings give at most
+//     ½·C_w·(p/s)·(max_v² − min_v²); the pass needs at least the largest
+//     running deficit of energy drawn, with every step's draw taken at its
+//     least (constant current I·min_v, resistor min_v²/R_L, power P) and
+//     every charge at its most, the deficit never below zero since the bank
+//     is held at the top;
+//   - current: each cell's peak and RMS current at p strings is at least
+//     the bank current's lower bound (I; P/max_v; min_v/(R_L + R_string))
+//     divided by p.
+//
+// Leakage and ESR losses only add to the need, so every count below the
+// bound fails; the bound is taken 1e-9 low so rounding never skips the
+// answer.
+func (p *plan) stringBound(l *cellLimits) (int, string) {
+	rString := l.rw * float64(l.s) // one string: the largest R of any count
+	deficit, need := 0.0, 0.0
+	peak, i2dt := 0.0, 0.0
+	for range p.repeat {
+		for _, st := range p.steps {
+			e, i := 0.0, 0.0
+			switch st.kind {
+			case kindCurrent:
+				i = abs(st.x)
+				if st.x > 0 {
+					e = st.x * p.minV * st.dur
+				} else {
+					e = st.x * (p.maxV - st.x*rString) * st.dur
+				}
+			case kindPower:
+				e = st.x * st.dur
+				if st.x > 0 {
+					i = st.x / p.maxV
+				}
+			case kindResistance:
+				e = p.minV * p.minV / st.x * st.dur
+				i = p.minV / (st.x + rString)
+			}
+			deficit = max(0, deficit+e)
+			need = max(need, deficit)
+			peak = max(peak, i)
+			i2dt += i * i * st.dur
+		}
+	}
+	perString := 0.5 * l.cw / float64(l.s) * (p.maxV - p.minV) * (p.maxV + p.minV)
+	bound, why := need/perString, "voltage"
+	if l.peakA > 0 && peak/l.peakA > bound {
+		bound, why = peak/l.peakA, "peak_current"
+	}
+	if rms := math.Sqrt(i2dt / l.passTime); l.contA > 0 && rms/l.contA > bound {
+		bound, why = rms/l.contA, "rms_current"
+	}
+	n := math.Ceil(bound * (1 - 1e-9))
+	if !(n >= 1) {
+		return 1, ""
+	}
+	return int(min(n, MaxParallel)), why
 }
 
 func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
@@ -351,7 +419,9 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		return
 	}
 	p.fillHeatAndLife(cand, c, l, m)
-	rt := m.runtime(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget)
+	// The runtime's first repeats are the sizing pass just run: go on from
+	// where it ended.
+	rt := m.runtimeFrom(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget, st.v, st.t)
 	p.work.Add(int64(m.work))
 	if rt.within {
 		v := rt.t

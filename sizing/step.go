@@ -113,7 +113,9 @@ func (m *bankModel) currentStep(I, dur, v0, minV, maxV float64, o *stepOutcome) 
 	o.uStart = v0 - I*r
 	drain := I + g*v0 // C·(−dv/dt) at the start
 	run, tHold := dur, 0.0
-	if I > 0 {
+	if drain > 0 {
+		// Falling (a discharge, or a charge weaker than the drains): may
+		// reach the window bottom.
 		vStop := minV + I*r
 		if v0 <= vStop {
 			run, o.stop = 0, stopVoltage
@@ -122,8 +124,8 @@ func (m *bankModel) currentStep(I, dur, v0, minV, maxV float64, o *stepOutcome) 
 				run, o.stop = ts, stopVoltage
 			}
 		}
-	} else if I < 0 {
-		// Charging: may reach the top and be held there.
+	} else if drain < 0 {
+		// Rising: may reach the top and be held there.
 		if v0 >= maxV {
 			run, tHold = 0, dur
 		} else if ts := currentTime(v0, drain, c, g, maxV); ts >= 0 && ts < dur {
@@ -290,6 +292,27 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 	}
 
 	// Charging.
+	if a+g*u0*u0 > 0 {
+		// The drains take more than the charge gives: v falls towards the
+		// equilibrium a + g·u² = 0 (never reached), and may meet min_v first.
+		uEq := math.Sqrt(-a / g)
+		if minV > uEq {
+			if u0 <= minV {
+				cp.finish(o, p, u0, 0)
+				o.stop = stopVoltage
+				return
+			}
+			if ts := cp.time(minV); ts <= dur {
+				cp.finish(o, p, minV, ts)
+				o.stop = stopVoltage
+				return
+			}
+			cp.finish(o, p, cp.solve(dur, minV), dur)
+			return
+		}
+		cp.finish(o, p, cp.solve(dur, uEq), dur)
+		return
+	}
 	uTop := (maxV + math.Sqrt(maxV*maxV-4*pr)) / 2
 	reach := v0-p/u0*dur/c >= maxV // an upper bound on the rise reaches the top
 	if reach && a+g*uTop*uTop < 0 {
@@ -300,7 +323,12 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 			return
 		}
 	}
-	cp.finish(o, p, cp.solve(dur, uTop), dur)
+	// Rising towards the top, or towards the equilibrium below it.
+	uFar := uTop
+	if g > 0 && a+g*uTop*uTop >= 0 {
+		uFar = math.Sqrt(-a / g)
+	}
+	cp.finish(o, p, cp.solve(dur, uFar), dur)
 }
 
 func abs(x float64) float64 {

@@ -226,3 +226,38 @@ func TestNumericHelpers(t *testing.T) {
 		}
 	}
 }
+
+func TestChargeWeakerThanDrains(t *testing.T) {
+	t.Parallel()
+	// A charge smaller than the leakage and balancing drain: the bank falls
+	// even while "charging". 0.1 W into 450 F at 40 V against g = 5.6e-4 S
+	// (0.9 W of drain): checked against quadrature of dt = C·dv/(i + g·v)
+	// with i = 2P/(v + √(v² − 4PR)) < 0 (REFERENCES.md 3.8, sign of P
+	// reversed). A capbank bug once sent this case to the window top.
+	m := newBankModel(450, 0.003, 9.0/16000)
+	p := -0.1
+	o := m.stepOf(kindPower, p, 10, 40, 24, 48)
+	if !(o.v1 < 40) || o.stop != stopNone {
+		t.Fatalf("v1 = %v (stop %v), want a small fall below 40 V", o.v1, o.stop)
+	}
+	// The net drain i + g·v is positive, so dt = C·dv/(i + g·v) from v1 up to v0.
+	dtdv := func(v float64) float64 { return m.c / (iCP(p, m.r, v) + m.g*v) }
+	near(t, "duration", gl(dtdv, o.v1, 40, 64), 10, 1e-9)
+	i2 := gl(func(v float64) float64 { i := iCP(p, m.r, v); return i * i * dtdv(v) }, o.v1, 40, 64)
+	near(t, "∫i²dt", o.i2dt, i2, 1e-9)
+	// The same drain meets the window bottom during the "charge": from a
+	// capacitor voltage of 24.001 V the terminal reaches 24 V; the time by
+	// quadrature as above.
+	o = m.stepOf(kindPower, p, 1e5, 24.001, 24, 48)
+	// The terminal meets 24 V at capacitor voltage v = u + P·R/u.
+	vStop := 24 + p*m.r/24
+	if o.stop != stopVoltage {
+		t.Fatalf("stop = %v, want voltage", o.stop)
+	}
+	near(t, "time to the bottom", o.t, gl(dtdv, vStop, 24.001, 64), 1e-9)
+	// Constant current −2 mA against the same drain (22 mA at 40 V): falls
+	// by the affine solution v(t) = v∞ + (v0 − v∞)·e^(−g·t/C), v∞ = −I/g.
+	o = m.stepOf(kindCurrent, -0.002, 100, 40, 24, 48)
+	vInf := 0.002 / m.g
+	near(t, "current charge weaker than drain", o.v1, vInf+(40-vInf)*math.Exp(-m.g*100/m.c), 1e-12)
+}
