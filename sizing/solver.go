@@ -254,26 +254,47 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 	cand.CellV = p.maxV / float64(l.s)
 	cand.ColdESRFactor = l.coldK
 
-	// Start at the fewest strings the energy and current bounds allow (all
-	// below lo fail), then doubling, then bisection: lo always fails, hi
-	// always carries the load.
-	var lo trial
-	p0, why := p.stringBound(&l)
+	if t, ok := p.drainAlone(&l); ok {
+		cand.Reason = fmt.Sprintf("The leakage and balancing drain alone (time constant C/g = %.3g h, the same for any string count) brings the bank from %g V to the window bottom (%g V) in %.4g s, within the %.4g s pass, and no step charges it; no number of strings helps. Choose active balancing (balancing.kind), a cell with less leakage, or a shorter pass.",
+			l.cw/l.gCell/3600, p.maxV, p.minV, t, l.passTime)
+		p.fillFigures(&cand, c, &l, p.try(&l, MaxParallel))
+		return cand
+	}
+	// Every count below the bound p0 fails. Start at the estimate, step
+	// outwards (1, 2, 4, … strings) until the answer is bracketed, then
+	// bisect: lo always fails, hi always carries the load.
+	p0, why, guess := p.stringBound(&l)
+	var lo, hi trial
 	if p0 > 1 {
 		lo = trial{par: p0 - 1, limit: why}
 	}
-	hi := p.try(&l, p0)
-	for !hi.ok {
-		lo = hi
-		if hi.par >= MaxParallel {
-			cand.Reason = p.infeasibleReason(&l, hi)
-			p.fillFigures(&cand, c, &l, hi)
-			cand.Feasible = false
-			return cand
+	if t := p.try(&l, guess); t.ok {
+		hi = t
+		for step := 1; hi.par-lo.par > 1; step *= 2 {
+			t := p.try(&l, max(lo.par+1, hi.par-step))
+			if !t.ok {
+				lo = t
+				break
+			}
+			hi = t
 		}
-		hi = p.try(&l, min(2*hi.par, MaxParallel))
+	} else {
+		lo = t
+		for step := 1; ; step *= 2 {
+			if lo.par >= MaxParallel {
+				cand.Reason = p.infeasibleReason(&l, lo)
+				p.fillFigures(&cand, c, &l, lo)
+				return cand
+			}
+			t := p.try(&l, min(MaxParallel, lo.par+step))
+			if t.ok {
+				hi = t
+				break
+			}
+			lo = t
+		}
 	}
-	for lo.par > 0 && hi.par-lo.par > 1 {
+	for hi.par-lo.par > 1 {
 		mid := p.try(&l, lo.par+(hi.par-lo.par)/2)
 		if mid.ok {
 			hi = mid
@@ -304,10 +325,12 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 // Leakage and ESR losses only add to the need, so every count below the
 // bound fails; the bound is taken 1e-9 low so rounding never skips the
 // answer.
-func (p *plan) stringBound(l *cellLimits) (int, string) {
+func (p *plan) stringBound(l *cellLimits) (int, string, int) {
 	rString := l.rw * float64(l.s) // one string: the largest R of any count
 	deficit, need := 0.0, 0.0
 	peak, i2dt := 0.0, 0.0
+	vMid := (p.maxV + p.minV) / 2
+	i2est := 0.0 // ∫i²dt with the current at mid-window, for the ESR loss
 	for range p.repeat {
 		for _, st := range p.steps {
 			e, i := 0.0, 0.0
@@ -332,6 +355,14 @@ func (p *plan) stringBound(l *cellLimits) (int, string) {
 			need = max(need, deficit)
 			peak = max(peak, i)
 			i2dt += i * i * st.dur
+			ie := i
+			switch st.kind {
+			case kindPower:
+				ie = abs(st.x) / vMid
+			case kindResistance:
+				ie = vMid / st.x
+			}
+			i2est += ie * ie * st.dur
 		}
 	}
 	perString := 0.5 * l.cw / float64(l.s) * (p.maxV - p.minV) * (p.maxV + p.minV)
@@ -344,9 +375,36 @@ func (p *plan) stringBound(l *cellLimits) (int, string) {
 	}
 	n := math.Ceil(bound * (1 - 1e-9))
 	if !(n >= 1) {
-		return 1, ""
+		n, why = 1, ""
 	}
-	return int(min(n, MaxParallel)), why
+	n = min(n, MaxParallel)
+	// The estimate adds the ESR loss, which falls as 1/p for the same bank
+	// current: p·A = D + L/p with A the energy per string, D the need and
+	// L = R_string·∫i²dt, so p = (D + √(D² + 4·A·L))/(2A).
+	ld := rString * i2est
+	est := math.Ceil((need + math.Sqrt(need*need+4*perString*ld)) / (2 * perString))
+	guess := n
+	if est > n && est < MaxParallel {
+		guess = est
+	}
+	return int(n), why, int(guess)
+}
+
+// drainAlone reports whether the drain alone (leakage and balancing, the
+// same time constant C/g for any string count, v = max_v·e^(−t·g/C))
+// brings the bank to min_v within the pass when no step charges it, so no
+// number of strings can carry the pass; and when it does.
+func (p *plan) drainAlone(l *cellLimits) (float64, bool) {
+	if l.gCell <= 0 {
+		return 0, false
+	}
+	for _, st := range p.steps {
+		if st.x < 0 {
+			return 0, false
+		}
+	}
+	t := l.cw / l.gCell * math.Log(p.maxV/p.minV)
+	return t, t < l.passTime
 }
 
 func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
@@ -356,6 +414,10 @@ func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
 	case "voltage":
 		if p.steps[j].kind == kindRest {
 			return fmt.Sprintf("Leakage alone brings the bank below the window bottom (%g V) during a rest, %s; more strings do not help: shorten the rest, recharge before it, or choose a cell with less leakage.", p.minV, at)
+		}
+		if l.gCell > 0 {
+			return fmt.Sprintf("Even %d strings reach the window bottom (%g V) %s. With that many strings the load hardly matters: the leakage and balancing drain, whose time constant C/g = %.3g h is the same for any string count, empties the bank. Choose active balancing (balancing.kind), a cell with less leakage, or recharge sooner.",
+				t.par, p.minV, at, l.cw/l.gCell/3600)
 		}
 		return fmt.Sprintf("Even %d strings reach the window bottom (%g V) %s.", t.par, p.minV, at)
 	case "power":

@@ -172,7 +172,7 @@ func TestSizeInfeasibleAndRanking(t *testing.T) {
 		t.Fatalf("order %v, recommended %v; want cheap,light,leaky and cheap", ids, r.Recommended)
 	}
 	bad := r.Candidates[2]
-	if bad.Feasible || !strings.Contains(bad.Reason, "Leakage alone") {
+	if bad.Feasible || !strings.Contains(bad.Reason, "drain alone") {
 		t.Errorf("leaky cell: feasible %v, reason %q; want infeasible, blamed on leakage", bad.Feasible, bad.Reason)
 	}
 	d.RankBy = "mass"
