@@ -183,6 +183,12 @@ const (
 type Cell struct {
 	ID   string `json:"id" validate:"required,max=100"`
 	Name string `json:"name,omitempty" validate:"max=200"`
+	// Source says where the figures come from: "datasheet", "measured" or
+	// "demo" (invented demo data). Empty: not said.
+	Source string `json:"source,omitempty" validate:"omitempty,oneof=datasheet measured demo"`
+	// Notes is free text: a measured cell's test summary, a datasheet's
+	// revision.
+	Notes string `json:"notes,omitempty" validate:"max=2000"`
 	// RatedV, in V, is the rated (continuous) cell voltage.
 	RatedV float64 `json:"rated_v" validate:"finite,gt=0,lte=1000"`
 	// SurgeV, in V, is the surge voltage; at least RatedV.
