@@ -20,6 +20,7 @@ func DecodeDesign(r io.Reader) (*Design, error) {
 		return nil, ValidationError{{Field: "design", Rule: "read", Message: "could not be read: " + err.Error()}}
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf")) // a UTF-8 byte-order mark some editors write
+	data, refs := cellReferences(data)
 	dec := json.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()
 	var d Design
@@ -29,7 +30,47 @@ func DecodeDesign(r io.Reader) (*Design, error) {
 	if dec.More() {
 		return nil, ValidationError{{Field: "design", Rule: "json", Message: "has data after the closing brace; a design file holds one JSON object"}}
 	}
+	for _, i := range refs {
+		if i < len(d.Cells) {
+			d.Cells[i].libraryRef = true
+		}
+	}
 	return &d, nil
+}
+
+// cellReferences finds the entries of "cells" that are a JSON string (a
+// library cell's id) and writes each as {"id": …} so the strict decode can
+// read it; it returns the rewritten file and the indices. A file it cannot
+// read this way is returned unchanged, for the strict decode to report.
+func cellReferences(data []byte) ([]byte, []int) {
+	if !bytes.Contains(data, []byte(`"cells"`)) {
+		return data, nil
+	}
+	var top map[string]json.RawMessage
+	if json.Unmarshal(data, &top) != nil {
+		return data, nil
+	}
+	var cells []json.RawMessage
+	if json.Unmarshal(top["cells"], &cells) != nil {
+		return data, nil
+	}
+	var refs []int
+	for i, c := range cells {
+		var id string
+		if len(c) > 0 && c[0] == '"' && json.Unmarshal(c, &id) == nil {
+			cells[i], _ = json.Marshal(map[string]string{"id": id})
+			refs = append(refs, i)
+		}
+	}
+	if len(refs) == 0 {
+		return data, nil
+	}
+	top["cells"], _ = json.Marshal(cells)
+	out, err := json.Marshal(top)
+	if err != nil {
+		return data, nil
+	}
+	return out, refs
 }
 
 func decodeError(err error, data []byte) error {

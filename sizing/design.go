@@ -225,6 +225,9 @@ type Cell struct {
 	UnitPrice *float64 `json:"unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
 	// RatedLifeH, in h, is the rated life at rated voltage and
 	// RatedLifeTempC (°C).
+	// libraryRef marks a cell the design file named only by id ("cells":
+	// ["id"]); ResolveCells fills it from a cell library.
+	libraryRef     bool
 	RatedLifeH     *float64 `json:"rated_life_h,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
 	RatedLifeTempC *float64 `json:"rated_life_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
 	// SpecificHeatJPerKgK, in J/(kg·K), with MassKg gives the cell's heat
@@ -234,4 +237,23 @@ type Cell struct {
 	// "ionic-liquid" or "hybrid". Empty: not given, taken as organic for the
 	// fire check (the usual and the more cautious case), with a flag.
 	Electrolyte string `json:"electrolyte,omitempty" validate:"omitempty,oneof=organic aqueous ionic-liquid hybrid"`
+}
+
+// IsReference reports whether the cell is only an id naming a cell of a
+// library (the design file gave "cells": ["id"]), not yet resolved.
+func (c *Cell) IsReference() bool { return c.libraryRef }
+
+// ResolveCells replaces each cell the design named only by id with the
+// library's cell of that id, as lookup returns it. Cells lookup does not
+// know stay references, and Validate reports them.
+func (d *Design) ResolveCells(lookup func(id string) (Cell, bool)) {
+	for i := range d.Cells {
+		if !d.Cells[i].libraryRef {
+			continue
+		}
+		if c, ok := lookup(d.Cells[i].ID); ok {
+			c.libraryRef = false
+			d.Cells[i] = c
+		}
+	}
 }

@@ -81,6 +81,9 @@ func Validate(d *Design) error {
 			return ValidationError{{Field: "design", Rule: "invalid", Message: err.Error()}}
 		}
 		for _, fe := range ves {
+			if isRefField(d, fieldPath(fe.Namespace())) {
+				continue // an unresolved library cell: reported once below
+			}
 			errs = append(errs, FieldError{
 				Field:   fieldPath(fe.Namespace()),
 				Rule:    fe.Tag(),
@@ -219,6 +222,10 @@ func physicsRules(d *Design) ValidationError {
 	ids := map[string]int{}
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)
+		if c.libraryRef {
+			add(p, "library_cell", "names library cell %q, which is not in the cell library; add it to the library or give the cell inline", c.ID)
+			continue
+		}
 		if c.ID != "" {
 			if j, dup := ids[c.ID]; dup {
 				add(p+".id", "unique", "repeats the id of cells[%d] (%q); give each candidate its own id", j, c.ID)
@@ -226,39 +233,86 @@ func physicsRules(d *Design) ValidationError {
 				ids[c.ID] = i
 			}
 		}
-		if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
-			add(p+".surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
-		}
-		if t := c.CapacitanceTolerancePct; len(t) == 2 && finite(t[0]) && finite(t[1]) {
-			if t[0] > 0 || t[0] <= -100 {
-				add(p+".capacitance_tolerance_pct[0]", "tolerance_minus",
-					"the minus tolerance must be in (−100, 0] percent, e.g. -10 (got %g)", t[0])
-			}
-			if t[1] < 0 || t[1] > 200 {
-				add(p+".capacitance_tolerance_pct[1]", "tolerance_plus",
-					"the plus tolerance must be in [0, 200] percent, e.g. 20 (got %g)", t[1])
-			}
-		}
-		if (c.ColdESRFactor == nil) != (c.ColdESRTempC == nil) {
-			add(p+".cold_esr_temp_c", "cold_pair",
-				"cold_esr_factor and cold_esr_temp_c go together: give both or neither")
-		}
-		if c.MinTempC != nil && c.MaxTempC != nil && *c.MinTempC >= *c.MaxTempC {
-			add(p+".min_temp_c", "below_max_temp", "must be below max_temp_c (%g °C ≥ %g °C)", *c.MinTempC, *c.MaxTempC)
-		}
-		if c.MaxCurrentA != nil && c.PeakCurrentA != nil && *c.PeakCurrentA < *c.MaxCurrentA {
-			add(p+".peak_current_a", "gte_max_current",
-				"must be at least max_current_a (%g A < %g A)", *c.PeakCurrentA, *c.MaxCurrentA)
-		}
-		if (c.RatedLifeH == nil) != (c.RatedLifeTempC == nil) {
-			add(p+".rated_life_temp_c", "life_pair", "rated_life_h and rated_life_temp_c go together: give both or neither")
-		}
-		if c.LeakageA != nil && finite(*c.LeakageA) && finite(c.RatedV) && finite(c.CapacitanceF) && *c.LeakageA > 0 &&
-			c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
-			add(p+".leakage_a", "leakage_plausible",
-				"is so large that the cell would empty itself in under a second (R·C = %.3g s); check the unit (A, not mA)",
-				c.RatedV/(*c.LeakageA)*c.CapacitanceF)
-		}
+		errs = append(errs, cellRules(&c, p)...)
 	}
 	return errs
+}
+
+// cellRules are the cross-field rules of one cell whose fields sit under
+// path p ("cells[2]", or "" for a cell on its own).
+func cellRules(c *Cell, p string) ValidationError {
+	var errs ValidationError
+	add := func(field, rule, format string, a ...any) {
+		if p != "" {
+			field = p + "." + field
+		}
+		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+	}
+	if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
+		add("surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
+	}
+	if t := c.CapacitanceTolerancePct; len(t) == 2 && finite(t[0]) && finite(t[1]) {
+		if t[0] > 0 || t[0] <= -100 {
+			add("capacitance_tolerance_pct[0]", "tolerance_minus",
+				"the minus tolerance must be in (−100, 0] percent, e.g. -10 (got %g)", t[0])
+		}
+		if t[1] < 0 || t[1] > 200 {
+			add("capacitance_tolerance_pct[1]", "tolerance_plus",
+				"the plus tolerance must be in [0, 200] percent, e.g. 20 (got %g)", t[1])
+		}
+	}
+	if (c.ColdESRFactor == nil) != (c.ColdESRTempC == nil) {
+		add("cold_esr_temp_c", "cold_pair",
+			"cold_esr_factor and cold_esr_temp_c go together: give both or neither")
+	}
+	if c.MinTempC != nil && c.MaxTempC != nil && *c.MinTempC >= *c.MaxTempC {
+		add("min_temp_c", "below_max_temp", "must be below max_temp_c (%g °C ≥ %g °C)", *c.MinTempC, *c.MaxTempC)
+	}
+	if c.MaxCurrentA != nil && c.PeakCurrentA != nil && *c.PeakCurrentA < *c.MaxCurrentA {
+		add("peak_current_a", "gte_max_current",
+			"must be at least max_current_a (%g A < %g A)", *c.PeakCurrentA, *c.MaxCurrentA)
+	}
+	if (c.RatedLifeH == nil) != (c.RatedLifeTempC == nil) {
+		add("rated_life_temp_c", "life_pair", "rated_life_h and rated_life_temp_c go together: give both or neither")
+	}
+	if c.LeakageA != nil && finite(*c.LeakageA) && finite(c.RatedV) && finite(c.CapacitanceF) && *c.LeakageA > 0 &&
+		c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
+		add("leakage_a", "leakage_plausible",
+			"is so large that the cell would empty itself in under a second (R·C = %.3g s); check the unit (A, not mA)",
+			c.RatedV/(*c.LeakageA)*c.CapacitanceF)
+	}
+	return errs
+}
+
+// ValidateCell checks one cell on its own, as a cell library does before
+// it stores it: the validator tags and the cross-field rules of Validate,
+// with field paths relative to the cell ("esr_ohm").
+func ValidateCell(c *Cell) error {
+	var errs ValidationError
+	if err := designValidator().Struct(c); err != nil {
+		var ves validator.ValidationErrors
+		if !asValidationErrors(err, &ves) {
+			return ValidationError{{Field: "cell", Rule: "invalid", Message: err.Error()}}
+		}
+		for _, fe := range ves {
+			errs = append(errs, FieldError{Field: fieldPath(fe.Namespace()), Rule: fe.Tag(), Message: ruleMessage(fe)})
+		}
+	}
+	errs = append(errs, cellRules(c, "")...)
+	if len(errs) == 0 {
+		return nil
+	}
+	sort.SliceStable(errs, func(i, j int) bool { return errs[i].Field < errs[j].Field })
+	return dedupe(errs)
+}
+
+// isRefField reports whether path lies inside a cell that is an unresolved
+// library reference.
+func isRefField(d *Design, path string) bool {
+	for i := range d.Cells {
+		if d.Cells[i].libraryRef && strings.HasPrefix(path, fmt.Sprintf("cells[%d].", i)) {
+			return true
+		}
+	}
+	return false
 }

@@ -146,3 +146,42 @@ func TestDecodeDesignErrors(t *testing.T) {
 		t.Errorf("BOM: %v", err)
 	}
 }
+
+func TestValidateCell(t *testing.T) {
+	t.Parallel()
+	c := testCell("lib")
+	if err := ValidateCell(&c); err != nil {
+		t.Fatalf("valid cell: %v", err)
+	}
+	c.ESROhm = 0
+	c.SurgeV = fp(2.0)
+	err := ValidateCell(&c)
+	want := "esr_ohm: must be greater than 0\nsurge_v: must be at least rated_v (2 V < 2.7 V)"
+	if err == nil || err.Error() != want {
+		t.Errorf("ValidateCell = %v, want\n%s", err, want)
+	}
+}
+
+func TestLibraryCellReferences(t *testing.T) {
+	t.Parallel()
+	in := `{"window":{"max_v":27,"min_v":13.5},"load":{"steps":[{"current_a":5,"duration_s":10}]},
+		"cells":["lib-a",{"id":"inline","rated_v":2.7,"capacitance_f":300,"esr_ohm":0.004},"lib-missing"]}`
+	d, err := DecodeDesign(strings.NewReader(in))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !d.Cells[0].IsReference() || d.Cells[1].IsReference() || !d.Cells[2].IsReference() {
+		t.Fatalf("references: %v %v %v", d.Cells[0].IsReference(), d.Cells[1].IsReference(), d.Cells[2].IsReference())
+	}
+	lib := map[string]Cell{"lib-a": testCell("lib-a")}
+	d.ResolveCells(func(id string) (Cell, bool) { c, ok := lib[id]; return c, ok })
+	err = Validate(d)
+	want := `cells[2]: names library cell "lib-missing", which is not in the cell library; add it to the library or give the cell inline`
+	if err == nil || err.Error() != want {
+		t.Errorf("Validate = %v, want %s", err, want)
+	}
+	d.Cells = d.Cells[:2]
+	if r := mustSize(t, d); r.Candidates[0].CellID != "lib-a" && r.Candidates[1].CellID != "lib-a" {
+		t.Errorf("resolved library cell not sized")
+	}
+}
