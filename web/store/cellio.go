@@ -1,0 +1,359 @@
+package store
+
+import (
+	"bufio"
+	"bytes"
+	"context"
+	"database/sql"
+	"encoding/csv"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"capbank/sizing"
+)
+
+// MaxImportRows bounds a cell import.
+const MaxImportRows = 100_000
+
+// cellColumns are the cell CSV's columns, in order: the design-file keys,
+// units in the names, with the capacitance tolerance split in two.
+var cellColumns = []string{
+	"id", "name", "source", "rated_v", "surge_v", "capacitance_f", "capacitance_minus_pct", "capacitance_plus_pct",
+	"esr_ohm", "cold_esr_factor", "cold_esr_temp_c", "leakage_a", "max_current_a", "peak_current_a",
+	"thermal_resistance_k_per_w", "specific_heat_j_per_kg_k", "min_temp_c", "max_temp_c", "mass_kg", "volume_l",
+	"unit_price", "rated_life_h", "rated_life_temp_c", "electrolyte", "notes",
+}
+
+var requiredColumns = []string{"id", "rated_v", "capacitance_f", "esr_ohm"}
+
+// ImportRow is the fate of one row (CSV line, or JSON list item) of an import.
+type ImportRow struct {
+	Line     int    `json:"line"`
+	ID       string `json:"id"`
+	Accepted bool   `json:"accepted"`
+	Reason   string `json:"reason,omitempty"`
+}
+
+// ImportReport tells row by row what an import did. Imported is true only
+// when every row was accepted: a file with any bad row leaves the library
+// as it was.
+type ImportReport struct {
+	Imported bool        `json:"imported"`
+	Accepted int         `json:"accepted"`
+	Rejected int         `json:"rejected"`
+	Rows     []ImportRow `json:"rows"`
+	// Error is a problem with the file as a whole (header, encoding).
+	Error string `json:"error,omitempty"`
+}
+
+type parsedCell struct {
+	line int
+	cell sizing.Cell
+	err  string
+}
+
+// ImportCellsCSV reads cells from CSV (RFC 4180, a header row of the
+// cellColumns names; id, rated_v, capacitance_f and esr_ohm required, the
+// others optional; numbers plain, in the unit the column names) and adds
+// them to the library — all of them, or, if any row is bad, none.
+func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader) (ImportReport, error) {
+	rows, fileErr := parseCellsCSV(r)
+	if fileErr != "" {
+		return ImportReport{Error: fileErr}, nil
+	}
+	return s.importRows(ctx, rows)
+}
+
+// ImportCellsJSON reads cells as a JSON list of design-file cells (or an
+// object {"cells": [...]}) and imports them as ImportCellsCSV does; the
+// report's Line is the item's position in the list, from 1.
+func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport, error) {
+	data, err := io.ReadAll(r)
+	if err != nil {
+		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
+	}
+	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
+	var items []json.RawMessage
+	if err := json.Unmarshal(data, &items); err != nil {
+		var wrap struct {
+			Cells []json.RawMessage `json:"cells"`
+		}
+		if err2 := json.Unmarshal(data, &wrap); err2 != nil || wrap.Cells == nil {
+			return ImportReport{Error: "is not a JSON list of cells (or an object with a \"cells\" list): " + err.Error()}, nil
+		}
+		items = wrap.Cells
+	}
+	if len(items) > MaxImportRows {
+		return ImportReport{Error: fmt.Sprintf("holds %d cells, more than %d", len(items), MaxImportRows)}, nil
+	}
+	rows := make([]parsedCell, len(items))
+	for i, it := range items {
+		rows[i].line = i + 1
+		dec := json.NewDecoder(bytes.NewReader(it))
+		dec.DisallowUnknownFields()
+		if err := dec.Decode(&rows[i].cell); err != nil {
+			rows[i].err = strings.TrimPrefix(err.Error(), "json: ")
+		}
+	}
+	return s.importRows(ctx, rows)
+}
+
+func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport, error) {
+	rep := ImportReport{Rows: make([]ImportRow, len(rows))}
+	seen := map[string]int{}
+	for i := range rows {
+		p := &rows[i]
+		row := ImportRow{Line: p.line, ID: p.cell.ID}
+		if p.err == "" {
+			if err := sizing.ValidateCell(&p.cell); err != nil {
+				p.err = strings.ReplaceAll(err.Error(), "\n", "; ")
+			}
+		}
+		if p.err == "" {
+			if j, dup := seen[p.cell.ID]; dup {
+				p.err = fmt.Sprintf("repeats the id %q of line %d", p.cell.ID, j)
+			} else {
+				seen[p.cell.ID] = p.line
+				if _, err := s.GetCell(ctx, p.cell.ID); err == nil {
+					p.err = fmt.Sprintf("id %q is already in the library; give the cell another id or edit the existing one", p.cell.ID)
+				} else if !errors.Is(err, ErrNotFound) {
+					return rep, err
+				}
+			}
+		}
+		if p.err != "" {
+			row.Reason = p.err
+			rep.Rejected++
+		} else {
+			row.Accepted = true
+			rep.Accepted++
+		}
+		rep.Rows[i] = row
+	}
+	if rep.Rejected > 0 || len(rows) == 0 {
+		if len(rows) == 0 {
+			rep.Error = "holds no cells"
+		}
+		return rep, nil
+	}
+	err := s.tx(ctx, func(tx *sql.Tx) error {
+		for i := range rows {
+			if err := insertCell(ctx, tx, &rows[i].cell, false); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return ImportReport{}, err
+	}
+	rep.Imported = true
+	return rep, nil
+}
+
+// parseCellsCSV reads the CSV into rows; a file-level problem comes back as
+// a message.
+func parseCellsCSV(r io.Reader) ([]parsedCell, string) {
+	br := bufio.NewReader(r)
+	if b, err := br.Peek(3); err == nil && string(b) == "\ufeff" {
+		br.Discard(3)
+	}
+	cr := csv.NewReader(br)
+	cr.FieldsPerRecord = -1
+	cr.TrimLeadingSpace = true
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, "is empty; the first row must name the columns (id, rated_v, capacitance_f, esr_ohm, …)"
+	}
+	if err != nil {
+		return nil, "line 1: " + csvMessage(err)
+	}
+	col := map[string]int{}
+	known := map[string]bool{}
+	for _, c := range cellColumns {
+		known[c] = true
+	}
+	for i, h := range header {
+		h = strings.ToLower(strings.TrimSpace(h))
+		if h == "" {
+			continue
+		}
+		if !known[h] {
+			for _, c := range cellColumns {
+				if strings.HasPrefix(c, h+"_") {
+					return nil, fmt.Sprintf("line 1: column %q has no unit; name it %q (capbank's columns carry their SI unit)", h, c)
+				}
+			}
+			return nil, fmt.Sprintf("line 1: unknown column %q; the columns are: %s", h, strings.Join(cellColumns, ", "))
+		}
+		if _, dup := col[h]; dup {
+			return nil, fmt.Sprintf("line 1: column %q appears twice", h)
+		}
+		col[h] = i
+	}
+	for _, c := range requiredColumns {
+		if _, ok := col[c]; !ok {
+			return nil, fmt.Sprintf("line 1: the required column %q is missing (required: %s)", c, strings.Join(requiredColumns, ", "))
+		}
+	}
+	var rows []parsedCell
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		line, _ := cr.FieldPos(0)
+		if err != nil {
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				line = pe.Line
+			}
+			return nil, fmt.Sprintf("line %d: %s", line, csvMessage(err))
+		}
+		if len(rows) >= MaxImportRows {
+			return nil, fmt.Sprintf("line %d: more than %d cells in one import", line, MaxImportRows)
+		}
+		rows = append(rows, cellFromRecord(rec, col, line))
+	}
+	return rows, ""
+}
+
+func csvMessage(err error) string {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		return pe.Err.Error()
+	}
+	return err.Error()
+}
+
+// cellFromRecord builds a cell from one CSV row.
+func cellFromRecord(rec []string, col map[string]int, line int) parsedCell {
+	p := parsedCell{line: line}
+	get := func(name string) string {
+		i, ok := col[name]
+		if !ok || i >= len(rec) {
+			return ""
+		}
+		return unneutralise(strings.TrimSpace(rec[i]))
+	}
+	var problems []string
+	num := func(name string) *float64 {
+		v := get(name)
+		if v == "" {
+			return nil
+		}
+		x, err := strconv.ParseFloat(v, 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) || strings.ContainsAny(v, "xXpP_") {
+			problems = append(problems, fmt.Sprintf("%s: %q is not a plain number; write it in the column's unit with a decimal point (e.g. 0.0028 in esr_ohm for 2.8 mΩ)", name, v))
+			return nil
+		}
+		return &x
+	}
+	req := func(name string) float64 {
+		x := num(name)
+		if x == nil {
+			if get(name) == "" {
+				problems = append(problems, name+": is required")
+			}
+			return 0
+		}
+		return *x
+	}
+	c := sizing.Cell{ID: get("id"), Name: get("name"), Source: get("source"), Notes: get("notes"), Electrolyte: get("electrolyte")}
+	if c.ID == "" {
+		problems = append(problems, "id: is required")
+	}
+	c.RatedV = req("rated_v")
+	c.CapacitanceF = req("capacitance_f")
+	c.ESROhm = req("esr_ohm")
+	c.SurgeV = num("surge_v")
+	minus, plus := num("capacitance_minus_pct"), num("capacitance_plus_pct")
+	switch {
+	case minus != nil && plus != nil:
+		c.CapacitanceTolerancePct = []float64{*minus, *plus}
+	case minus != nil || plus != nil:
+		problems = append(problems, "capacitance_minus_pct and capacitance_plus_pct go together: give both or neither")
+	}
+	c.ColdESRFactor = num("cold_esr_factor")
+	c.ColdESRTempC = num("cold_esr_temp_c")
+	c.LeakageA = num("leakage_a")
+	c.MaxCurrentA = num("max_current_a")
+	c.PeakCurrentA = num("peak_current_a")
+	c.ThermalResistanceKPerW = num("thermal_resistance_k_per_w")
+	c.SpecificHeatJPerKgK = num("specific_heat_j_per_kg_k")
+	c.MinTempC = num("min_temp_c")
+	c.MaxTempC = num("max_temp_c")
+	c.MassKg = num("mass_kg")
+	c.VolumeL = num("volume_l")
+	c.UnitPrice = num("unit_price")
+	c.RatedLifeH = num("rated_life_h")
+	c.RatedLifeTempC = num("rated_life_temp_c")
+	p.cell = c
+	if len(problems) > 0 {
+		p.err = strings.Join(problems, "; ")
+	}
+	return p
+}
+
+// ExportCellsCSV writes cells as CSV with the cellColumns header. Text
+// that a spreadsheet would run as a formula (leading =, +, -, @, tab, CR)
+// is written with a leading single quote; ImportCellsCSV removes it again.
+func ExportCellsCSV(w io.Writer, cells []sizing.Cell) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(cellColumns); err != nil {
+		return err
+	}
+	f := func(p *float64) string {
+		if p == nil {
+			return ""
+		}
+		return strconv.FormatFloat(*p, 'g', -1, 64)
+	}
+	for i := range cells {
+		c := &cells[i]
+		var minus, plus string
+		if len(c.CapacitanceTolerancePct) == 2 {
+			minus, plus = f(&c.CapacitanceTolerancePct[0]), f(&c.CapacitanceTolerancePct[1])
+		}
+		rec := []string{Neutralise(c.ID), Neutralise(c.Name), Neutralise(c.Source), f(&c.RatedV), f(c.SurgeV), f(&c.CapacitanceF),
+			minus, plus, f(&c.ESROhm), f(c.ColdESRFactor), f(c.ColdESRTempC), f(c.LeakageA), f(c.MaxCurrentA), f(c.PeakCurrentA),
+			f(c.ThermalResistanceKPerW), f(c.SpecificHeatJPerKgK), f(c.MinTempC), f(c.MaxTempC), f(c.MassKg), f(c.VolumeL),
+			f(c.UnitPrice), f(c.RatedLifeH), f(c.RatedLifeTempC), Neutralise(c.Electrolyte), Neutralise(c.Notes)}
+		if err := cw.Write(rec); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// ExportCellsJSON writes cells as an indented JSON list of design-file cells.
+func ExportCellsJSON(w io.Writer, cells []sizing.Cell) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	if cells == nil {
+		cells = []sizing.Cell{}
+	}
+	return enc.Encode(cells)
+}
+
+// Neutralise prefixes a single quote to text a spreadsheet would run as a
+// formula: a leading =, +, -, @, tab or carriage return.
+func Neutralise(s string) string {
+	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
+		return "'" + s
+	}
+	return s
+}
+
+func unneutralise(s string) string {
+	if len(s) > 1 && s[0] == '\'' && strings.ContainsRune("=+-@\t\r", rune(s[1])) {
+		return s[1:]
+	}
+	return s
+}

@@ -1,0 +1,274 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"strings"
+	"time"
+
+	"capbank/sizing"
+)
+
+// CellRecord is a library cell with its bookkeeping.
+type CellRecord struct {
+	Cell sizing.Cell `json:"cell"`
+	// ReadOnly marks the built-in demo cells: duplicate one to edit it.
+	ReadOnly  bool      `json:"read_only"`
+	CreatedAt time.Time `json:"created_at"`
+	UpdatedAt time.Time `json:"updated_at"`
+}
+
+// CellFilter narrows ListCells; zero fields do not filter.
+type CellFilter struct {
+	// Search matches the id or name, case-insensitively.
+	Search string
+	// MinRatedV, MaxRatedV in V; MinCapacitanceF, MaxCapacitanceF in F.
+	MinRatedV, MaxRatedV             float64
+	MinCapacitanceF, MaxCapacitanceF float64
+}
+
+// SeedDemo writes the built-in demo cells as read-only library cells,
+// replacing older copies of them, in one transaction. User cells are never
+// touched; a user cell with a demo cell's id keeps its place.
+func (s *Store) SeedDemo(ctx context.Context, cells []sizing.Cell) error {
+	return s.tx(ctx, func(tx *sql.Tx) error {
+		for i := range cells {
+			c := cells[i]
+			var ro int
+			err := tx.QueryRowContext(ctx, `SELECT read_only FROM cells WHERE id = ?`, c.ID).Scan(&ro)
+			switch {
+			case errors.Is(err, sql.ErrNoRows):
+				if err := insertCell(ctx, tx, &c, true); err != nil {
+					return err
+				}
+			case err != nil:
+				return err
+			case ro == 1:
+				if err := updateCell(ctx, tx, &c); err != nil {
+					return err
+				}
+			}
+		}
+		return nil
+	})
+}
+
+func insertCell(ctx context.Context, tx *sql.Tx, c *sizing.Cell, readOnly bool) error {
+	b, err := json.Marshal(c)
+	if err != nil {
+		return err
+	}
+	t := now()
+	ro := 0
+	if readOnly {
+		ro = 1
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO cells (id, name, rated_v, capacitance_f, source, read_only, cell_json, created_at, updated_at)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`, c.ID, c.Name, c.RatedV, c.CapacitanceF, c.Source, ro, string(b), t, t)
+	return err
+}
+
+func updateCell(ctx context.Context, tx *sql.Tx, c *sizing.Cell) error {
+	b, err := json.Marshal(c)
+	if err != nil {
+		return err
+	}
+	_, err = tx.ExecContext(ctx, `UPDATE cells SET name = ?, rated_v = ?, capacitance_f = ?, source = ?, cell_json = ?, updated_at = ?
+		WHERE id = ?`, c.Name, c.RatedV, c.CapacitanceF, c.Source, string(b), now(), c.ID)
+	return err
+}
+
+// ListCells returns the library's cells that pass the filter, ordered by
+// rated voltage, then capacitance, then id.
+func (s *Store) ListCells(ctx context.Context, f CellFilter) ([]CellRecord, error) {
+	q := `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE 1 = 1`
+	var args []any
+	if f.Search != "" {
+		q += ` AND (lower(id) LIKE ? ESCAPE '\' OR lower(name) LIKE ? ESCAPE '\')`
+		pat := "%" + likeEscape(strings.ToLower(f.Search)) + "%"
+		args = append(args, pat, pat)
+	}
+	for _, c := range []struct {
+		cond string
+		v    float64
+	}{{`rated_v >= ?`, f.MinRatedV}, {`rated_v <= ?`, f.MaxRatedV}, {`capacitance_f >= ?`, f.MinCapacitanceF}, {`capacitance_f <= ?`, f.MaxCapacitanceF}} {
+		if c.v > 0 {
+			q += ` AND ` + c.cond
+			args = append(args, c.v)
+		}
+	}
+	q += ` ORDER BY rated_v, capacitance_f, id`
+	rows, err := s.db.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []CellRecord
+	for rows.Next() {
+		r, err := scanCell(rows)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, r)
+	}
+	return out, rows.Err()
+}
+
+func likeEscape(s string) string {
+	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
+}
+
+type scanner interface{ Scan(...any) error }
+
+func scanCell(r scanner) (CellRecord, error) {
+	var js, created, updated string
+	var ro int
+	if err := r.Scan(&js, &ro, &created, &updated); err != nil {
+		return CellRecord{}, err
+	}
+	var rec CellRecord
+	if err := json.Unmarshal([]byte(js), &rec.Cell); err != nil {
+		return CellRecord{}, fmt.Errorf("store: a stored cell does not decode: %w", err)
+	}
+	rec.ReadOnly = ro == 1
+	rec.CreatedAt, rec.UpdatedAt = parseTime(created), parseTime(updated)
+	return rec, nil
+}
+
+// GetCell returns the cell of that id, or ErrNotFound.
+func (s *Store) GetCell(ctx context.Context, id string) (CellRecord, error) {
+	r, err := scanCell(s.db.QueryRowContext(ctx, `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE id = ?`, id))
+	if errors.Is(err, sql.ErrNoRows) {
+		return CellRecord{}, fmt.Errorf("cell %q: %w", id, ErrNotFound)
+	}
+	return r, err
+}
+
+// Lookup returns the cell of that id, for sizing.Design.ResolveCells.
+func (s *Store) Lookup(ctx context.Context) func(id string) (sizing.Cell, bool) {
+	return func(id string) (sizing.Cell, bool) {
+		r, err := s.GetCell(ctx, id)
+		return r.Cell, err == nil
+	}
+}
+
+// validCell wraps sizing.ValidateCell's problems in ErrInvalid.
+func validCell(c *sizing.Cell) error {
+	if err := sizing.ValidateCell(c); err != nil {
+		return fmt.Errorf("%w: %w", ErrInvalid, err)
+	}
+	return nil
+}
+
+// CreateCell adds a user cell; ErrExists when the id is taken, ErrInvalid
+// (wrapping the sizing.ValidationError) when the cell is not valid.
+func (s *Store) CreateCell(ctx context.Context, c sizing.Cell) error {
+	if err := validCell(&c); err != nil {
+		return err
+	}
+	return s.tx(ctx, func(tx *sql.Tx) error {
+		var n int
+		if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, c.ID).Scan(&n); err != nil {
+			return err
+		}
+		if n > 0 {
+			return fmt.Errorf("cell %q: %w", c.ID, ErrExists)
+		}
+		return insertCell(ctx, tx, &c, false)
+	})
+}
+
+// UpdateCell replaces a user cell; ErrNotFound, ErrReadOnly for a demo cell,
+// ErrInvalid.
+func (s *Store) UpdateCell(ctx context.Context, c sizing.Cell) error {
+	if err := validCell(&c); err != nil {
+		return err
+	}
+	return s.tx(ctx, func(tx *sql.Tx) error {
+		if err := writable(ctx, tx, c.ID); err != nil {
+			return err
+		}
+		return updateCell(ctx, tx, &c)
+	})
+}
+
+func writable(ctx context.Context, tx *sql.Tx, id string) error {
+	var ro int
+	err := tx.QueryRowContext(ctx, `SELECT read_only FROM cells WHERE id = ?`, id).Scan(&ro)
+	if errors.Is(err, sql.ErrNoRows) {
+		return fmt.Errorf("cell %q: %w", id, ErrNotFound)
+	}
+	if err != nil {
+		return err
+	}
+	if ro == 1 {
+		return fmt.Errorf("cell %q is a demo cell; duplicate it to edit: %w", id, ErrReadOnly)
+	}
+	return nil
+}
+
+// DeleteCell removes a user cell. Saved designs keep their own copy of
+// every cell, so they are not affected. ErrNotFound, ErrReadOnly.
+func (s *Store) DeleteCell(ctx context.Context, id string) error {
+	return s.tx(ctx, func(tx *sql.Tx) error {
+		if err := writable(ctx, tx, id); err != nil {
+			return err
+		}
+		_, err := tx.ExecContext(ctx, `DELETE FROM cells WHERE id = ?`, id)
+		return err
+	})
+}
+
+// DuplicateCell copies cell id (a demo cell or a user cell) to a new,
+// writable user cell newID; an empty newID takes id + "-copy" (or -copy2…).
+func (s *Store) DuplicateCell(ctx context.Context, id, newID string) (CellRecord, error) {
+	var out CellRecord
+	err := s.tx(ctx, func(tx *sql.Tx) error {
+		r, err := scanCell(tx.QueryRowContext(ctx, `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE id = ?`, id))
+		if errors.Is(err, sql.ErrNoRows) {
+			return fmt.Errorf("cell %q: %w", id, ErrNotFound)
+		}
+		if err != nil {
+			return err
+		}
+		if newID == "" {
+			for i := 1; ; i++ {
+				newID = id + "-copy"
+				if i > 1 {
+					newID = fmt.Sprintf("%s-copy%d", id, i)
+				}
+				var n int
+				if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, newID).Scan(&n); err != nil {
+					return err
+				}
+				if n == 0 {
+					break
+				}
+			}
+		}
+		c := r.Cell
+		c.ID = newID
+		if c.Source == "demo" {
+			c.Source = ""
+		}
+		if err := validCell(&c); err != nil {
+			return err
+		}
+		var n int
+		if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, newID).Scan(&n); err != nil {
+			return err
+		}
+		if n > 0 {
+			return fmt.Errorf("cell %q: %w", newID, ErrExists)
+		}
+		if err := insertCell(ctx, tx, &c, false); err != nil {
+			return err
+		}
+		out = CellRecord{Cell: c}
+		return nil
+	})
+	return out, err
+}

@@ -1,0 +1,165 @@
+// Package store keeps capbank's cell library and saved designs in an
+// embedded SQLite database (modernc.org/sqlite, pure Go): one file in the
+// data directory, created on first open with no set-up step.
+//
+// The schema is a numbered list of embedded SQL migrations, applied in order
+// at open and recorded in schema_migrations. The database runs in WAL mode
+// with foreign keys on; every write is one transaction; every query takes a
+// context.
+package store
+
+import (
+	"context"
+	"database/sql"
+	"embed"
+	"errors"
+	"fmt"
+	"io/fs"
+	"path"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" driver
+)
+
+//go:embed migrations/*.sql
+var migrationFiles embed.FS
+
+// Errors a caller maps to a status: ErrNotFound (404), ErrExists and
+// ErrReadOnly (409), ErrInvalid (422).
+var (
+	ErrNotFound = errors.New("not found")
+	ErrExists   = errors.New("already exists")
+	ErrReadOnly = errors.New("read-only")
+	ErrInvalid  = errors.New("invalid")
+)
+
+// Store is an open capbank database.
+type Store struct {
+	db *sql.DB
+}
+
+// FileName is the database file's name in the data directory.
+const FileName = "capbank.db"
+
+// Open opens (creating if needed) the database file at path and applies
+// any migrations it lacks.
+func Open(ctx context.Context, path string) (*Store, error) {
+	return openTo(ctx, path, 0)
+}
+
+// openTo opens the database and migrates it to version upTo (0: the
+// latest); tests use it to build older versions.
+func openTo(ctx context.Context, dbPath string, upTo int) (*Store, error) {
+	// _pragma parameters apply to every connection the pool opens.
+	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=busy_timeout(5000)&_pragma=synchronous(NORMAL)"
+	db, err := sql.Open("sqlite", dsn)
+	if err != nil {
+		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
+	}
+	if err := db.PingContext(ctx); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
+	}
+	s := &Store{db: db}
+	if err := s.migrate(ctx, upTo); err != nil {
+		db.Close()
+		return nil, err
+	}
+	return s, nil
+}
+
+// Close closes the database.
+func (s *Store) Close() error { return s.db.Close() }
+
+type migration struct {
+	version int
+	name    string
+	sql     string
+}
+
+func migrations() ([]migration, error) {
+	entries, err := fs.ReadDir(migrationFiles, "migrations")
+	if err != nil {
+		return nil, err
+	}
+	var ms []migration
+	for _, e := range entries {
+		num, _, ok := strings.Cut(e.Name(), "_")
+		v, err := strconv.Atoi(num)
+		if !ok || err != nil {
+			return nil, fmt.Errorf("store: migration %s is not named NNNN_name.sql", e.Name())
+		}
+		b, err := migrationFiles.ReadFile(path.Join("migrations", e.Name()))
+		if err != nil {
+			return nil, err
+		}
+		ms = append(ms, migration{version: v, name: e.Name(), sql: string(b)})
+	}
+	sort.Slice(ms, func(i, j int) bool { return ms[i].version < ms[j].version })
+	return ms, nil
+}
+
+// SchemaVersion returns the highest migration applied.
+func (s *Store) SchemaVersion(ctx context.Context) (int, error) {
+	var v sql.NullInt64
+	err := s.db.QueryRowContext(ctx, `SELECT MAX(version) FROM schema_migrations`).Scan(&v)
+	return int(v.Int64), err
+}
+
+func (s *Store) migrate(ctx context.Context, upTo int) error {
+	if _, err := s.db.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
+		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
+		return fmt.Errorf("store: migrations table: %w", err)
+	}
+	ms, err := migrations()
+	if err != nil {
+		return err
+	}
+	for _, m := range ms {
+		if upTo > 0 && m.version > upTo {
+			break
+		}
+		err := s.tx(ctx, func(tx *sql.Tx) error {
+			var n int
+			if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM schema_migrations WHERE version = ?`, m.version).Scan(&n); err != nil {
+				return err
+			}
+			if n > 0 {
+				return nil
+			}
+			if _, err := tx.ExecContext(ctx, m.sql); err != nil {
+				return err
+			}
+			_, err := tx.ExecContext(ctx, `INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)`,
+				m.version, m.name, now())
+			return err
+		})
+		if err != nil {
+			return fmt.Errorf("store: migration %s: %w", m.name, err)
+		}
+	}
+	return nil
+}
+
+// tx runs f in one transaction, committing when it returns nil.
+func (s *Store) tx(ctx context.Context, f func(*sql.Tx) error) error {
+	tx, err := s.db.BeginTx(ctx, nil)
+	if err != nil {
+		return err
+	}
+	if err := f(tx); err != nil {
+		tx.Rollback()
+		return err
+	}
+	return tx.Commit()
+}
+
+func now() string { return time.Now().UTC().Format(time.RFC3339Nano) }
+
+func parseTime(s string) time.Time {
+	t, _ := time.Parse(time.RFC3339Nano, s)
+	return t
+}

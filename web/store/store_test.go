@@ -1,0 +1,363 @@
+package store
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+
+	"capbank/sizing"
+)
+
+func fp(x float64) *float64 { return &x }
+
+// testCell is an invented cell (not a real product).
+func testCell(id string, c float64) sizing.Cell {
+	return sizing.Cell{ID: id, Name: "test cell " + id, RatedV: 2.7, SurgeV: fp(2.85), CapacitanceF: c,
+		CapacitanceTolerancePct: []float64{-10, 20}, ESROhm: 0.9 / c, LeakageA: fp(2e-6 * c), MassKg: fp(0.0002 * c), UnitPrice: fp(0.5 + 0.01*c)}
+}
+
+func mustOpen(t *testing.T, path string) *Store {
+	t.Helper()
+	s, err := Open(context.Background(), path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { s.Close() })
+	return s
+}
+
+func TestOpenFreshDatabase(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	v, err := s.SchemaVersion(ctx)
+	if err != nil || v != 2 {
+		t.Fatalf("schema version %d, %v; want 2 (two migrations)", v, err)
+	}
+	var mode string
+	var fk int
+	if err := s.db.QueryRowContext(ctx, `PRAGMA journal_mode`).Scan(&mode); err != nil || mode != "wal" {
+		t.Errorf("journal_mode %q (%v), want wal", mode, err)
+	}
+	if err := s.db.QueryRowContext(ctx, `PRAGMA foreign_keys`).Scan(&fk); err != nil || fk != 1 {
+		t.Errorf("foreign_keys %d (%v), want 1", fk, err)
+	}
+}
+
+func TestMigrateFromVersion1(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), FileName)
+	old, err := openTo(ctx, path, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if v, _ := old.SchemaVersion(ctx); v != 1 {
+		t.Fatalf("old database at version %d, want 1", v)
+	}
+	if err := old.CreateCell(ctx, testCell("kept", 100)); err != nil {
+		t.Fatal(err)
+	}
+	old.Close()
+	s := mustOpen(t, path)
+	if v, _ := s.SchemaVersion(ctx); v != 2 {
+		t.Fatalf("migrated to %d, want 2", v)
+	}
+	if _, err := s.GetCell(ctx, "kept"); err != nil {
+		t.Errorf("cell lost in migration: %v", err)
+	}
+	if _, err := s.SaveDesign(ctx, "after migration", []byte(`{}`)); err != nil {
+		t.Errorf("designs table missing after migration: %v", err)
+	}
+	// Opening again applies nothing twice.
+	s.Close()
+	s2 := mustOpen(t, path)
+	var n int
+	s2.db.QueryRowContext(ctx, `SELECT COUNT(*) FROM schema_migrations`).Scan(&n)
+	if n != 2 {
+		t.Errorf("%d migration records, want 2", n)
+	}
+}
+
+func TestDemoCellsAreReadOnly(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	demo := testCell("demo-a", 50)
+	demo.Source = "demo"
+	if err := s.SeedDemo(ctx, []sizing.Cell{demo}); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.SeedDemo(ctx, []sizing.Cell{demo}); err != nil { // idempotent
+		t.Fatal(err)
+	}
+	r, err := s.GetCell(ctx, "demo-a")
+	if err != nil || !r.ReadOnly {
+		t.Fatalf("demo cell %+v, %v; want read-only", r, err)
+	}
+	demo.Name = "edited"
+	if err := s.UpdateCell(ctx, demo); !errors.Is(err, ErrReadOnly) {
+		t.Errorf("update of a demo cell: %v, want ErrReadOnly", err)
+	}
+	if err := s.DeleteCell(ctx, "demo-a"); !errors.Is(err, ErrReadOnly) {
+		t.Errorf("delete of a demo cell: %v, want ErrReadOnly", err)
+	}
+	dup, err := s.DuplicateCell(ctx, "demo-a", "")
+	if err != nil || dup.Cell.ID != "demo-a-copy" || dup.Cell.Source == "demo" {
+		t.Fatalf("duplicate: %+v, %v", dup, err)
+	}
+	dup.Cell.Name = "my copy"
+	if err := s.UpdateCell(ctx, dup.Cell); err != nil {
+		t.Errorf("update of the copy: %v", err)
+	}
+	if d2, _ := s.DuplicateCell(ctx, "demo-a", ""); d2.Cell.ID != "demo-a-copy2" {
+		t.Errorf("second copy id %q, want demo-a-copy2", d2.Cell.ID)
+	}
+}
+
+func TestUserCellLifecycle(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), FileName)
+	s := mustOpen(t, path)
+	c := testCell("mine", 300)
+	if err := s.CreateCell(ctx, c); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.CreateCell(ctx, c); !errors.Is(err, ErrExists) {
+		t.Errorf("second create: %v, want ErrExists", err)
+	}
+	bad := c
+	bad.ID = "bad"
+	bad.ESROhm = -1
+	err := s.CreateCell(ctx, bad)
+	if !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "esr_ohm: must be greater than 0") {
+		t.Errorf("invalid cell: %v", err)
+	}
+	c.Name = "renamed"
+	if err := s.UpdateCell(ctx, c); err != nil {
+		t.Fatal(err)
+	}
+	// Survives a restart, figure for figure.
+	s.Close()
+	s = mustOpen(t, path)
+	r, err := s.GetCell(ctx, "mine")
+	if err != nil || !reflect.DeepEqual(r.Cell, c) {
+		t.Fatalf("after restart: %+v, %v; want %+v", r.Cell, err, c)
+	}
+	if err := s.DeleteCell(ctx, "mine"); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.GetCell(ctx, "mine"); !errors.Is(err, ErrNotFound) {
+		t.Errorf("after delete: %v, want ErrNotFound", err)
+	}
+}
+
+func TestListCellsFilters(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	for _, c := range []sizing.Cell{testCell("small", 5), testCell("mid", 400), testCell("big_one", 3000)} {
+		if err := s.CreateCell(ctx, c); err != nil {
+			t.Fatal(err)
+		}
+	}
+	hv := testCell("hybrid", 200)
+	hv.RatedV, hv.SurgeV = 3.8, fp(4.0)
+	s.CreateCell(ctx, hv)
+	ids := func(f CellFilter) string {
+		rs, err := s.ListCells(ctx, f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var out []string
+		for _, r := range rs {
+			out = append(out, r.Cell.ID)
+		}
+		return strings.Join(out, ",")
+	}
+	for _, c := range []struct {
+		f    CellFilter
+		want string
+	}{
+		{CellFilter{}, "small,mid,big_one,hybrid"},
+		{CellFilter{MinCapacitanceF: 100, MaxCapacitanceF: 1000}, "mid,hybrid"},
+		{CellFilter{MinRatedV: 3}, "hybrid"},
+		{CellFilter{Search: "BIG"}, "big_one"},
+		{CellFilter{Search: "_"}, "big_one"}, // a literal underscore, not a LIKE wildcard
+	} {
+		if got := ids(c.f); got != c.want {
+			t.Errorf("filter %+v: %s, want %s", c.f, got, c.want)
+		}
+	}
+}
+
+func TestDesignRoundTripAndSnapshot(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	c := testCell("used", 300)
+	s.CreateCell(ctx, c)
+	// Odd spacing and key order must survive byte for byte.
+	js := []byte("{\"name\": \"hold-up\",  \"cells\": [{\"id\":\"used\",\"rated_v\":2.7,\"capacitance_f\":300,\"esr_ohm\":0.003}],\n \"window\": {\"min_v\": 12, \"max_v\": 24}}")
+	id, err := s.SaveDesign(ctx, "hold-up", js)
+	if err != nil {
+		t.Fatal(err)
+	}
+	id2, _ := s.SaveDesign(ctx, "hold-up", js) // save again: a new design, never an overwrite
+	if id2 == id {
+		t.Errorf("saving again reused id %d", id)
+	}
+	// Deleting the library cell does not touch the saved design: it keeps
+	// its own copy of every cell.
+	if err := s.DeleteCell(ctx, "used"); err != nil {
+		t.Fatal(err)
+	}
+	d, err := s.GetDesign(ctx, id)
+	if err != nil || !bytes.Equal(d.JSON, js) || d.Name != "hold-up" {
+		t.Fatalf("design %q %q, %v", d.Name, d.JSON, err)
+	}
+	if err := s.RenameDesign(ctx, id, "hold-up v2"); err != nil {
+		t.Fatal(err)
+	}
+	dup, err := s.DuplicateDesign(ctx, id, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dd, _ := s.GetDesign(ctx, dup)
+	if dd.Name != "hold-up v2 (copy)" || !bytes.Equal(dd.JSON, js) {
+		t.Errorf("duplicate %q", dd.Name)
+	}
+	list, _ := s.ListDesigns(ctx)
+	if len(list) != 3 {
+		t.Errorf("%d designs, want 3", len(list))
+	}
+	if err := s.DeleteDesign(ctx, id); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.GetDesign(ctx, id); !errors.Is(err, ErrNotFound) {
+		t.Errorf("deleted design: %v", err)
+	}
+	if err := s.RenameDesign(ctx, 9999, "x"); !errors.Is(err, ErrNotFound) {
+		t.Errorf("rename of a missing design: %v", err)
+	}
+	if _, err := s.SaveDesign(ctx, "  ", js); !errors.Is(err, ErrInvalid) {
+		t.Errorf("blank name: %v", err)
+	}
+}
+
+func TestImportCellsCSV(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	cases := []struct {
+		name      string
+		csv       string
+		imported  int
+		fileError string
+		rowError  string // in the first rejected row's reason
+		badLine   int
+	}{
+		{"plain", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,0.009\nb,2.7,200,0.0045\n", 2, "", "", 0},
+		{"BOM and CRLF", "\ufeffid,rated_v,capacitance_f,esr_ohm\r\na,2.7,100,0.009\r\n", 1, "", "", 0},
+		{"quoted comma", "id,name,rated_v,capacitance_f,esr_ohm\na,\"cell, big\",2.7,100,0.009\n", 1, "", "", 0},
+		{"tolerance pair", "id,rated_v,capacitance_f,esr_ohm,capacitance_minus_pct,capacitance_plus_pct\na,2.7,100,0.009,-10,20\n", 1, "", "", 0},
+		{"missing column", "id,rated_v,capacitance_f\na,2.7,100\n", 0, `required column "esr_ohm" is missing`, "", 0},
+		{"unit-less column", "id,rated_v,capacitance,esr_ohm\na,2.7,100,0.009\n", 0, `column "capacitance" has no unit; name it "capacitance_f"`, "", 0},
+		{"unknown column", "id,rated_v,capacitance_f,esr_ohm,colour\na,2.7,100,0.009,red\n", 0, `unknown column "colour"`, "", 0},
+		{"number with a prefix", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,9m\n", 0, "", `esr_ohm: "9m" is not a plain number`, 2},
+		{"decimal comma", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,\"0,009\"\n", 0, "", `esr_ohm: "0,009" is not a plain number`, 2},
+		{"NaN", "id,rated_v,capacitance_f,esr_ohm\na,2.7,NaN,0.009\n", 0, "", `capacitance_f: "NaN"`, 2},
+		{"physics", "id,rated_v,surge_v,capacitance_f,esr_ohm\na,2.7,2.5,100,0.009\n", 0, "", "surge_v: must be at least rated_v", 2},
+		{"one bad row stops all", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,0.009\nb,2.7,,0.009\nc,2.7,300,0.003\n", 0, "", "capacitance_f: is required", 3},
+		{"repeated id", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,0.009\na,2.7,100,0.009\n", 0, "", `repeats the id "a" of line 2`, 3},
+		{"bad quote", "id,rated_v,capacitance_f,esr_ohm\na,2.7,100,\"0.009\n", 0, "line 2", "", 0},
+		{"empty", "", 0, "is empty", "", 0},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+			rep, err := s.ImportCellsCSV(ctx, strings.NewReader(c.csv))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if c.fileError != "" {
+				if !strings.Contains(rep.Error, c.fileError) {
+					t.Errorf("file error %q, want …%s…", rep.Error, c.fileError)
+				}
+				return
+			}
+			all, _ := s.ListCells(ctx, CellFilter{})
+			if len(all) != c.imported || rep.Imported != (c.imported > 0) {
+				t.Errorf("library holds %d cells (imported %v), want %d; report %+v", len(all), rep.Imported, c.imported, rep)
+			}
+			if c.rowError != "" {
+				var bad *ImportRow
+				for i := range rep.Rows {
+					if !rep.Rows[i].Accepted {
+						bad = &rep.Rows[i]
+						break
+					}
+				}
+				if bad == nil || bad.Line != c.badLine || !strings.Contains(bad.Reason, c.rowError) {
+					t.Errorf("rejected row %+v, want line %d: …%s…", bad, c.badLine, c.rowError)
+				}
+			}
+		})
+	}
+}
+
+func TestImportTenThousandAndRoundTrip(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	var b strings.Builder
+	b.WriteString("id,name,rated_v,capacitance_f,esr_ohm,leakage_a\n")
+	for i := range 10000 {
+		fmt.Fprintf(&b, "c%05d,=cmd|' /C calc'!A0,2.7,%d,%g,%g\n", i, 10+i, 0.9/float64(10+i), 2e-6*float64(10+i))
+	}
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(b.String()))
+	if err != nil || !rep.Imported || rep.Accepted != 10000 {
+		t.Fatalf("10 000 rows: %+v, %v", rep.Error, err)
+	}
+	rs, _ := s.ListCells(ctx, CellFilter{})
+	cells := make([]sizing.Cell, len(rs))
+	for i, r := range rs {
+		cells[i] = r.Cell
+	}
+	// Export neutralises formula-looking text; import into a fresh library
+	// restores it; the cells come back equal.
+	var out bytes.Buffer
+	if err := ExportCellsCSV(&out, cells); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(out.String(), ",'=cmd") {
+		t.Errorf("export did not neutralise a formula-looking name")
+	}
+	s2 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	rep, _ = s2.ImportCellsCSV(ctx, &out)
+	if !rep.Imported {
+		t.Fatalf("re-import: %+v", rep.Rows[:1])
+	}
+	back, _ := s2.GetCell(ctx, "c00042")
+	if !reflect.DeepEqual(back.Cell, cells[42]) {
+		t.Errorf("round trip: %+v\nwant %+v", back.Cell, cells[42])
+	}
+	// JSON export and import, too.
+	var js bytes.Buffer
+	ExportCellsJSON(&js, cells[:3])
+	s3 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	rep, _ = s3.ImportCellsJSON(ctx, &js)
+	if !rep.Imported || rep.Accepted != 3 {
+		t.Errorf("JSON import: %+v", rep)
+	}
+	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`))
+	if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, `unknown field "colour"`) {
+		t.Errorf("JSON import with an unknown key: %+v", rep)
+	}
+}
