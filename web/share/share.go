@@ -1,0 +1,71 @@
+// Package share turns a design file into a compact, URL-safe token and
+// back, so a link can carry a whole design to another capbank with no
+// database row: the JSON is compacted, compressed with DEFLATE (RFC 1951,
+// compress/flate) and written in unpadded base64url (RFC 4648 §5).
+package share
+
+import (
+	"bytes"
+	"compress/flate"
+	"encoding/base64"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+)
+
+// MaxDesignBytes bounds the design a token may unpack to, so a small token
+// cannot expand into a huge one (a "zip bomb").
+const MaxDesignBytes = 4 << 20
+
+// MaxTokenBytes bounds the token itself; browsers and servers handle URLs
+// of a few tens of kilobytes at most (common practice, no source).
+const MaxTokenBytes = 64 << 10
+
+// ErrToken is wrapped by every decoding problem.
+var ErrToken = errors.New("share link")
+
+// Encode returns the token of a design file (any JSON object).
+func Encode(designJSON []byte) (string, error) {
+	var compact bytes.Buffer
+	if err := json.Compact(&compact, designJSON); err != nil {
+		return "", fmt.Errorf("%w: the design is not valid JSON: %v", ErrToken, err)
+	}
+	var z bytes.Buffer
+	w, _ := flate.NewWriter(&z, flate.BestCompression)
+	w.Write(compact.Bytes())
+	w.Close()
+	tok := base64.RawURLEncoding.EncodeToString(z.Bytes())
+	if len(tok) > MaxTokenBytes {
+		return "", fmt.Errorf("%w: the design is too large for a link (%d characters, at most %d); save it and share the file instead", ErrToken, len(tok), MaxTokenBytes)
+	}
+	return tok, nil
+}
+
+// Decode returns the design file a token carries. Every problem is an
+// ErrToken with a plain message.
+func Decode(token string) ([]byte, error) {
+	if token == "" {
+		return nil, fmt.Errorf("%w: the link carries no design", ErrToken)
+	}
+	if len(token) > MaxTokenBytes {
+		return nil, fmt.Errorf("%w: the link is too long (%d characters, at most %d)", ErrToken, len(token), MaxTokenBytes)
+	}
+	z, err := base64.RawURLEncoding.DecodeString(token)
+	if err != nil {
+		return nil, fmt.Errorf("%w: the link is damaged (not base64url: %v); copy it again in full", ErrToken, err)
+	}
+	r := flate.NewReader(bytes.NewReader(z))
+	defer r.Close()
+	out, err := io.ReadAll(io.LimitReader(r, MaxDesignBytes+1))
+	if err != nil {
+		return nil, fmt.Errorf("%w: the link is damaged or cut short (%v); copy it again in full", ErrToken, err)
+	}
+	if len(out) > MaxDesignBytes {
+		return nil, fmt.Errorf("%w: the design in the link is larger than %d bytes", ErrToken, MaxDesignBytes)
+	}
+	if !json.Valid(out) {
+		return nil, fmt.Errorf("%w: the link does not hold a design file", ErrToken)
+	}
+	return out, nil
+}

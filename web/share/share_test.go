@@ -1,0 +1,76 @@
+package share
+
+import (
+	"bytes"
+	"compress/flate"
+	"encoding/base64"
+	"encoding/json"
+	"errors"
+	"os"
+	"strings"
+	"testing"
+)
+
+func TestRoundTripDemoDesign(t *testing.T) {
+	t.Parallel()
+	raw, err := os.ReadFile("../../testdata/ups-ride-through.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	tok, err := Encode(raw)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// URL-safe: only the base64url alphabet (RFC 4648 §5), no padding.
+	if strings.Trim(tok, "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_") != "" {
+		t.Errorf("token has characters outside base64url: %q", tok)
+	}
+	// Compact: well under the pretty-printed file.
+	if len(tok) >= len(raw)/2 {
+		t.Errorf("token %d characters for a %d-byte file; want under half", len(tok), len(raw))
+	}
+	back, err := Decode(tok)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var want bytes.Buffer
+	json.Compact(&want, raw)
+	if !bytes.Equal(back, want.Bytes()) {
+		t.Errorf("round trip changed the design")
+	}
+}
+
+func TestDecodeErrors(t *testing.T) {
+	t.Parallel()
+	tok, _ := Encode([]byte(`{"name":"x"}`))
+	bomb := func() string {
+		var z bytes.Buffer
+		w, _ := flate.NewWriter(&z, flate.BestCompression)
+		w.Write(bytes.Repeat([]byte(" "), MaxDesignBytes+10))
+		w.Close()
+		return base64.RawURLEncoding.EncodeToString(z.Bytes())
+	}()
+	notJSON := func() string {
+		var z bytes.Buffer
+		w, _ := flate.NewWriter(&z, 9)
+		w.Write([]byte("hello"))
+		w.Close()
+		return base64.RawURLEncoding.EncodeToString(z.Bytes())
+	}()
+	for _, c := range []struct{ name, tok, want string }{
+		{"empty", "", "carries no design"},
+		{"not base64", "abc$def", "not base64url"},
+		{"cut short", tok[:len(tok)/2], "damaged or cut short"},
+		{"expands too far", bomb, "larger than"},
+		{"not a design", notJSON, "does not hold a design"},
+		{"too long", strings.Repeat("A", MaxTokenBytes+1), "too long"},
+	} {
+		_, err := Decode(c.tok)
+		if !errors.Is(err, ErrToken) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want …%s…", c.name, err, c.want)
+		}
+	}
+	if _, err := Encode([]byte(`{"x":`)); !errors.Is(err, ErrToken) {
+		t.Errorf("Encode of broken JSON: %v", err)
+	}
+}
