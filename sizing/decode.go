@@ -95,7 +95,11 @@ func decodeError(err error, data []byte) error {
 	}
 	msg := strings.TrimPrefix(err.Error(), "json: ")
 	if name, ok := strings.CutPrefix(msg, "unknown field "); ok {
-		return ValidationError{{Field: strings.Trim(name, `"`), Rule: "unknown",
+		name = strings.Trim(name, `"`)
+		if name == "" {
+			return ValidationError{{Field: "design", Rule: "unknown", Message: `has an empty key ""; every key must be a design key from the README`}}
+		}
+		return ValidationError{{Field: name, Rule: "unknown",
 			Message: "is not a design key; check its spelling against the design-file format in the README"}}
 	}
 	return ValidationError{{Field: "design", Rule: "json", Message: msg}}
