@@ -74,3 +74,25 @@ func TestDecodeErrors(t *testing.T) {
 		t.Errorf("Encode of broken JSON: %v", err)
 	}
 }
+
+// FuzzDecode: any token either decodes to valid JSON within the size limit
+// or fails with an ErrToken; it never panics or hangs.
+func FuzzDecode(f *testing.F) {
+	tok, _ := Encode([]byte(`{"name":"x","window":{"max_v":42,"min_v":21}}`))
+	f.Add(tok)
+	f.Add("")
+	f.Add("AAAA")
+	f.Add("-_-_")
+	f.Fuzz(func(t *testing.T, s string) {
+		out, err := Decode(s)
+		if err != nil {
+			if !errors.Is(err, ErrToken) {
+				t.Fatalf("error %v is not an ErrToken", err)
+			}
+			return
+		}
+		if len(out) > MaxDesignBytes || !json.Valid(out) {
+			t.Fatalf("decoded %d bytes, valid JSON %v", len(out), json.Valid(out))
+		}
+	})
+}
