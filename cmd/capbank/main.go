@@ -1,9 +1,11 @@
 // Command capbank sizes supercapacitor (EDLC) banks.
 //
 //	capbank size [--format json|text] [-o FILE] DESIGN.json
+//	capbank size --format boq-csv|boq-xlsx|boq-json|pdf [--cell ID] [--paper a4|letter] -o FILE DESIGN.json
 //
 // reads a design file (or standard input for "-"), sizes every candidate
-// cell and prints the report. Exit status: 0 on success, 2 for a mistake in
+// cell and prints the report, or exports the bank's bill of quantities or
+// the PDF design report. Exit status: 0 on success, 2 for a mistake in
 // the command line or an invalid design (one line per problem on stderr,
 // each naming its field), 1 for any other failure.
 package main

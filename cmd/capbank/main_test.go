@@ -225,7 +225,7 @@ func TestRunCommandLine(t *testing.T) {
 		{"unknown flag", []string{"size", "--colour", "red", design}, 2, []string{"flag provided but not defined: -colour", sizeUsageLine}},
 		{"unknown flag after the file", []string{"size", design, "-v"}, 2, []string{"flag provided but not defined: -v", sizeUsageLine}},
 		{"flag without its value", []string{"size", design, "-o"}, 2, []string{"flag needs an argument: -o", sizeUsageLine}},
-		{"bad format", []string{"size", "--format", "xml", design}, 2, []string{`capbank size: --format must be json or text (got "xml")`, sizeUsageLine}},
+		{"bad format", []string{"size", "--format", "xml", design}, 2, []string{`capbank size: --format must be json, text, boq-csv, boq-xlsx, boq-json or pdf (got "xml")`, sizeUsageLine}},
 		{"no design file", []string{"size", "--format", "text"}, 2, []string{"capbank size: give the design file (or - for standard input)", sizeUsageLine}},
 		{"two design files", []string{"size", design, design}, 2, []string{"capbank size: give one design file, not 2", sizeUsageLine}},
 		{"size help", []string{"size", "-h"}, 0, []string{sizeUsageLine, "-format", "-o FILE"}},

@@ -13,6 +13,7 @@ import (
 	"runtime/debug"
 
 	"capbank/sizing"
+	"capbank/web/export"
 )
 
 // stdin is where the design comes from when the design file is "-"; tests
@@ -20,11 +21,17 @@ import (
 var stdin io.Reader = os.Stdin
 
 const sizeUsage = `usage: capbank size [--format json|text] [-o FILE] DESIGN.json
+       capbank size --format boq-csv|boq-json [--cell ID] [-o FILE] DESIGN.json
+       capbank size --format boq-xlsx|pdf [--cell ID] [--paper a4|letter] -o FILE DESIGN.json
 
 Sizes a supercapacitor bank for every candidate cell in the design file
-DESIGN.json ("-" reads standard input) and prints the report. An invalid
-design prints one line per problem on stderr, each naming its field, and
-exits with status 2.
+DESIGN.json ("-" reads standard input) and prints the report (json, text)
+or exports the bank: its bill of quantities (boq-csv, boq-xlsx, boq-json)
+or the design report (pdf). The exports are for the recommended cell, or
+the feasible cell --cell names. boq-xlsx and pdf are binary and need -o
+(-o - writes them to standard output on purpose). An invalid design prints
+one line per problem on stderr, each naming its field, and exits with
+status 2.
 
 flags:
 `
@@ -32,8 +39,10 @@ flags:
 func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	flags := flag.NewFlagSet("capbank size", flag.ContinueOnError)
 	flags.SetOutput(stderr)
-	format := flags.String("format", "json", "report format: json (the full report) or text (a table for a terminal)")
-	out := flags.String("o", "", "write the report to `FILE` instead of standard output")
+	format := flags.String("format", "json", "what to write, `FORMAT`: json (the full report), text (a table for a terminal), boq-csv, boq-xlsx, boq-json (the bill of quantities) or pdf (the design report)")
+	out := flags.String("o", "", "write to `FILE` instead of standard output (required for boq-xlsx and pdf)")
+	cellID := flags.String("cell", "", "export the bank of cell `ID` instead of the recommended one (boq-* and pdf)")
+	paper := flags.String("paper", "a4", "`SIZE` of the pdf's pages: a4 or letter")
 	usage := func(w io.Writer) {
 		fmt.Fprint(w, sizeUsage)
 		flags.PrintDefaults()
@@ -47,8 +56,27 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	if err != nil {
 		return usageError{err.Error()} // the flag package has printed it and the usage
 	}
-	if *format != "json" && *format != "text" {
-		return usageFailure(stderr, usage, "capbank size: --format must be json or text (got %q)", *format)
+	set := map[string]bool{}
+	flags.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	exp, isExport := export.LookupFormat(*format)
+	if *format != "json" && *format != "text" && !isExport {
+		return usageFailure(stderr, usage, "capbank size: --format must be json, text, boq-csv, boq-xlsx, boq-json or pdf (got %q)", *format)
+	}
+	if set["cell"] && !isExport {
+		return usageFailure(stderr, usage, "capbank size: --cell chooses the bank of an export (boq-csv, boq-xlsx, boq-json, pdf); the %s report has every candidate", *format)
+	}
+	if set["cell"] && *cellID == "" {
+		return usageFailure(stderr, usage, "capbank size: --cell needs a cell id from the design")
+	}
+	pdfPaper, err := export.ParsePaper(*paper)
+	if err != nil {
+		return usageFailure(stderr, usage, "capbank size: --%s", err)
+	}
+	if set["paper"] && *format != "pdf" {
+		return usageFailure(stderr, usage, "capbank size: --paper applies to --format pdf only")
+	}
+	if isExport && exp.Binary && *out == "" {
+		return usageFailure(stderr, usage, "capbank size: --format %s writes a binary file: give -o FILE (or -o - for standard output)", *format)
 	}
 	switch len(pos) {
 	case 0:
@@ -58,15 +86,26 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		return usageFailure(stderr, usage, "capbank size: give one design file, not %d", len(pos))
 	}
 
-	rep, err := sizeFile(ctx, pos[0])
+	d, rep, err := sizeFile(ctx, pos[0])
 	if err != nil {
 		return err
 	}
 	var buf bytes.Buffer
-	if *format == "text" {
+	switch {
+	case *format == "text":
 		writeText(&buf, rep)
-	} else if err := writeJSON(&buf, rep); err != nil {
-		return err
+	case *format == "json":
+		if err := writeJSON(&buf, rep); err != nil {
+			return err
+		}
+	default:
+		boq, err := chooseBOQ(d, rep, *cellID, exp, stderr)
+		if err != nil {
+			return err
+		}
+		if err := writeExport(&buf, exp, d, rep, boq, export.PDFOptions{Paper: pdfPaper, Date: today()}); err != nil {
+			return err
+		}
 	}
 	if *out == "" || *out == "-" {
 		_, err = stdout.Write(buf.Bytes())
@@ -103,49 +142,52 @@ func parseInterspersed(flags *flag.FlagSet, args []string) ([]string, error) {
 // sizeFile reads, decodes and sizes the design in the named file ("-" for
 // stdin). It gives up when ctx is done, so an interrupt ends a command left
 // waiting on a terminal's standard input or on a long sizing.
-func sizeFile(ctx context.Context, name string) (*sizing.Report, error) {
+func sizeFile(ctx context.Context, name string) (*sizing.Design, *sizing.Report, error) {
 	type outcome struct {
+		d   *sizing.Design
 		rep *sizing.Report
 		err error
 	}
 	done := make(chan outcome, 1)
 	in := stdin // read here: the goroutine may outlive this call
 	go func() {
-		rep, err := readAndSize(name, in)
-		done <- outcome{rep, err}
+		d, rep, err := readAndSize(name, in)
+		done <- outcome{d, rep, err}
 	}()
 	select {
 	case <-ctx.Done():
-		return nil, fmt.Errorf("interrupted before the sizing finished (%w)", context.Cause(ctx))
+		return nil, nil, fmt.Errorf("interrupted before the sizing finished (%w)", context.Cause(ctx))
 	case o := <-done:
-		return o.rep, o.err
+		return o.d, o.rep, o.err
 	}
 }
 
-// readAndSize sizes the design in the named file, or in stdin for "-".
-func readAndSize(name string, stdin io.Reader) (rep *sizing.Report, err error) {
+// readAndSize reads and sizes the design in the named file, or in stdin
+// for "-".
+func readAndSize(name string, stdin io.Reader) (d *sizing.Design, rep *sizing.Report, err error) {
 	r := stdin
 	if name != "-" {
 		f, err := os.Open(name)
 		if err != nil {
-			return nil, fmt.Errorf("cannot read the design file %q: %w", name, pathReason(err))
+			return nil, nil, fmt.Errorf("cannot read the design file %q: %w", name, pathReason(err))
 		}
 		defer f.Close()
 		if st, err := f.Stat(); err == nil && st.IsDir() {
-			return nil, fmt.Errorf("cannot read the design file %q: it is a directory", name)
+			return nil, nil, fmt.Errorf("cannot read the design file %q: it is a directory", name)
 		}
 		r = f
 	}
-	d, err := sizing.DecodeDesign(r)
+	d, err = sizing.DecodeDesign(r)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	defer func() {
 		if p := recover(); p != nil {
-			rep, err = nil, &internalError{value: p, stack: debug.Stack()}
+			d, rep, err = nil, nil, &internalError{value: p, stack: debug.Stack()}
 		}
 	}()
-	return sizing.Size(d)
+	rep, err = sizing.Size(d)
+	return d, rep, err
 }
 
 // pathReason drops the operation and path from a *fs.PathError, which the
