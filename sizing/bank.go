@@ -56,8 +56,12 @@ func UsableEnergy(capacitanceF, maxV, minV float64) float64 {
 	return 0.5 * capacitanceF * (maxV - minV) * (maxV + minV)
 }
 
+// DefaultAmbientC, in °C, is the ambient temperature when a design gives
+// none: 25 °C, where datasheets give ESR and capacitance.
+const DefaultAmbientC = 25.0
+
 // roomC is the temperature, in °C, at which datasheet ESR is given.
-const roomC = 25.0
+const roomC = DefaultAmbientC
 
 // ColdESRFactor returns the factor by which the ESR at coldC (°C) exceeds
 // the ESR at 25 °C, from one datasheet point: the factor f measured at

@@ -53,6 +53,10 @@ type BleederPlan struct {
 	TimeS float64 `json:"time_s"`
 	// TimeTo2VS, in s, is the time to 2 V, for banks whose target is 60 V.
 	TimeTo2VS float64 `json:"time_to_2v_s"`
+	// AskedS, in s, is the time asked for; Slower is true when the 100 W
+	// cap on the resistor made the bleeder slower than that.
+	AskedS float64 `json:"asked_s"`
+	Slower bool    `json:"slower"`
 }
 
 // Defaults of the bill of quantities.
@@ -154,8 +158,13 @@ func BillOfQuantities(d *Design, r *Report, cellID string) (*BOQ, error) {
 	}
 	b.Bleeder = PlanBleeder(r.MaxV, cand.CapacitanceF, bt)
 	bl := b.Bleeder
-	add("bleeder resistor", fmt.Sprintf("%s, %g W, switched across the bank for service: %.4g V → %g V in %s",
-		ohms(bl.ResistorOhm), bl.PowerW, r.MaxV, bl.TargetV, duration(bl.TimeS)), 1, "pc", opt.BleederUnitPrice)
+	desc := fmt.Sprintf("%s, %g W, switched across the bank for service: %.4g V → %g V in %s",
+		ohms(bl.ResistorOhm), bl.PowerW, r.MaxV, bl.TargetV, duration(bl.TimeS))
+	if bl.Slower {
+		desc += fmt.Sprintf(" (slower than the %s asked: %s in %s would dissipate over %g W at first; use a larger resistor bank or accept the wait)",
+			duration(bl.AskedS), fmt.Sprintf("%.4g V → %g V", r.MaxV, bl.TargetV), duration(bl.AskedS), maxBleederW)
+	}
+	add("bleeder resistor", desc, 1, "pc", opt.BleederUnitPrice)
 
 	for _, x := range opt.Extras {
 		unit := x.Unit
@@ -179,7 +188,7 @@ func PlanBleeder(maxV, c, timeS float64) BleederPlan {
 	if maxV > es1LimitV {
 		target = es1LimitV
 	}
-	bp := BleederPlan{TargetV: target}
+	bp := BleederPlan{TargetV: target, AskedS: timeS}
 	if maxV <= target {
 		// Already below the service voltage: a bleeder for the shelf.
 		target = maxV / 2
@@ -192,6 +201,7 @@ func PlanBleeder(maxV, c, timeS float64) BleederPlan {
 	}
 	if maxV*maxV/r > maxBleederW {
 		r = preferredCeil(maxV*maxV/maxBleederW, seriesE24)
+		bp.Slower = true
 	}
 	bp.ResistorOhm = r
 	bp.PeakW = maxV * maxV / r

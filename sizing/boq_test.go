@@ -69,6 +69,9 @@ func TestPlanBleeder(t *testing.T) {
 	near(t, "rating", b.PowerW, 100, 0)
 	near(t, "time to 60 V", b.TimeS, 1600*2*math.Log(400.0/60), 1e-12)
 	near(t, "time to 2 V", b.TimeTo2VS, 1600*2*math.Log(200), 1e-12)
+	if !b.Slower || b.AskedS != 300 {
+		t.Errorf("capped bleeder: slower %v, asked %v; want true, 300", b.Slower, b.AskedS)
+	}
 	// A small 12 V, 10 F bank: target 2 V; R = 300/(10·ln 6) = 16.74 Ω →
 	// 16 Ω; peak 144/16 = 9 W → 10 W part; time = 16·10·ln 6 = 286.7 s.
 	b = PlanBleeder(12, 10, 300)
@@ -76,6 +79,9 @@ func TestPlanBleeder(t *testing.T) {
 	near(t, "small resistor", b.ResistorOhm, 16, 1e-12)
 	near(t, "small rating", b.PowerW, 10, 0)
 	near(t, "small time", b.TimeS, 160*math.Log(6), 1e-12)
+	if b.Slower {
+		t.Errorf("a 9 W bleeder is not capped")
+	}
 }
 
 func TestBillOfQuantitiesUnpricedAndErrors(t *testing.T) {

@@ -135,18 +135,44 @@ func size(d *Design) (*Report, int64, error) {
 	if len(cands) > 0 && cands[0].Feasible {
 		id := cands[0].CellID
 		r.Recommended = &id
-		for i := range d.Cells {
-			if d.Cells[i].ID == id {
-				c := &d.Cells[i]
-				m := p.worstBank(c, cands[0].Series, cands[0].Parallel)
-				r.Curve = m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints, p.heatModel(c, cands[0].Parallel), p.ambientC)
-			}
-		}
+		r.Curve = p.curveOf(&cands[0])
 	}
 	if err := checkFinite(r); err != nil {
 		return nil, 0, err
 	}
 	return r, p.work.Load(), nil
+}
+
+// curveOf traces the worst-case pass of a candidate's bank.
+func (p *plan) curveOf(c *Candidate) *Curve {
+	for i := range p.d.Cells {
+		if cell := &p.d.Cells[i]; cell.ID == c.CellID {
+			m := p.worstBank(cell, c.Series, c.Parallel)
+			return m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints, p.heatModel(cell, c.Parallel), p.ambientC)
+		}
+	}
+	return nil
+}
+
+// CandidateCurve returns the worst-case curve of the sizing pass for the
+// report's candidate cellID (the report carries only the recommended
+// one's), as Size would draw it. The design must be the one sized.
+func CandidateCurve(d *Design, r *Report, cellID string) (*Curve, error) {
+	for i := range r.Candidates {
+		c := &r.Candidates[i]
+		if c.CellID != cellID {
+			continue
+		}
+		if !c.Feasible {
+			return nil, fmt.Errorf("cell %q cannot carry the load (%s), so its bank has no curve", cellID, c.Reason)
+		}
+		cv := newPlan(d).curveOf(c)
+		if cv == nil {
+			return nil, fmt.Errorf("cell %q is not in the design", cellID)
+		}
+		return cv, nil
+	}
+	return nil, fmt.Errorf("cell %q is not a candidate of this report", cellID)
 }
 
 // cellLimits are a cell's worst-case figures, ready for any string count.

@@ -376,3 +376,25 @@ func TestLongProfileCurveDecimated(t *testing.T) {
 	}
 	near(t, "decimated curve minimum", minU, r.Candidates[0].MinTerminalV, 1e-12)
 }
+
+func TestCandidateCurve(t *testing.T) {
+	t.Parallel()
+	d := loadDesign(t, "ups-ride-through.json")
+	r := mustSize(t, d)
+	for _, c := range r.Candidates[:2] {
+		cv, err := CandidateCurve(d, r, c.CellID)
+		if err != nil {
+			t.Fatal(err)
+		}
+		minU := math.Inf(1)
+		for _, u := range cv.TerminalV {
+			minU = math.Min(minU, u)
+		}
+		// The curve holds every step end, where the pass's lowest terminal
+		// voltage lies (PHYSICS-NOTES.md: monotone within a step).
+		near(t, c.CellID+" curve minimum", minU, c.MinTerminalV, 1e-12)
+	}
+	if _, err := CandidateCurve(d, r, "nope"); err == nil {
+		t.Errorf("curve of an unknown cell")
+	}
+}
