@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"strings"
+	"unicode/utf8"
 )
 
 // DecodeDesign reads a design file (JSON) strictly: unknown keys, a value of
@@ -20,6 +21,22 @@ func DecodeDesign(r io.Reader) (*Design, error) {
 		return nil, ValidationError{{Field: "design", Rule: "read", Message: "could not be read: " + err.Error()}}
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf")) // a UTF-8 byte-order mark some editors write
+	if bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")) {
+		return nil, ValidationError{{Field: "design", Rule: "encoding", Message: "is UTF-16 text; save the design file as UTF-8"}}
+	}
+	if !utf8.Valid(data) {
+		at := 0
+		for at < len(data) {
+			r, n := utf8.DecodeRune(data[at:])
+			if r == utf8.RuneError && n <= 1 {
+				break
+			}
+			at += n
+		}
+		line, col := lineCol(data, int64(at))
+		return nil, ValidationError{{Field: "design", Rule: "encoding", Message: fmt.Sprintf(
+			"is not valid UTF-8 at line %d, column %d (byte %d); save the design file as UTF-8", line, col, at)}}
+	}
 	data, refs := cellReferences(data)
 	dec := json.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()

@@ -210,7 +210,7 @@ func physicsRules(d *Design) ValidationError {
 				"must give exactly one of power_w, current_a, resistance_ohm or rest (found %d)", n)
 		}
 	}
-	if d.Load.Repeat != nil && *d.Load.Repeat > 0 && len(d.Load.Steps)*(*d.Load.Repeat) > MaxPassSteps {
+	if d.Load.Repeat != nil && *d.Load.Repeat > 0 && *d.Load.Repeat <= 1_000_000 && len(d.Load.Steps)*(*d.Load.Repeat) > MaxPassSteps {
 		add("load.repeat", "pass_steps",
 			"gives %d steps × %d repeats = %d steps in the sizing pass, more than %d; lower the repeat count or merge steps",
 			len(d.Load.Steps), *d.Load.Repeat, len(d.Load.Steps)*(*d.Load.Repeat), MaxPassSteps)

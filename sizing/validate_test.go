@@ -141,6 +141,15 @@ func TestDecodeDesignErrors(t *testing.T) {
 			}
 		})
 	}
+	for _, c := range []struct{ name, in, msg string }{
+		{"UTF-16", "\xff\xfe{\x00}\x00", "is UTF-16 text"},
+		{"Latin-1", "{\"name\": \"caf\xe9\"}", "not valid UTF-8 at line 1, column 14"},
+	} {
+		_, err := DecodeDesign(strings.NewReader(c.in))
+		if err == nil || !strings.Contains(err.Error(), c.msg) {
+			t.Errorf("%s: %v, want …%s…", c.name, err, c.msg)
+		}
+	}
 	// A byte-order mark is accepted (some editors write one).
 	if _, err := DecodeDesign(strings.NewReader("\ufeff{}")); err != nil {
 		t.Errorf("BOM: %v", err)

@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -95,4 +96,19 @@ func FuzzDecode(f *testing.F) {
 			t.Fatalf("decoded %d bytes, valid JSON %v", len(out), json.Valid(out))
 		}
 	})
+}
+
+// TestBadShareCorpus: every bad token in testdata/bad/share is an ErrToken.
+func TestBadShareCorpus(t *testing.T) {
+	t.Parallel()
+	files, _ := filepath.Glob("../../testdata/bad/share/*.txt")
+	if len(files) < 3 {
+		t.Fatalf("only %d bad tokens", len(files))
+	}
+	for _, f := range files {
+		b, _ := os.ReadFile(f)
+		if _, err := Decode(strings.TrimSpace(string(b))); !errors.Is(err, ErrToken) {
+			t.Errorf("%s: %v, want an ErrToken", filepath.Base(f), err)
+		}
+	}
 }
