@@ -27,8 +27,20 @@ var superscripts = map[rune]rune{
 
 var (
 	cp1252Once sync.Once
-	toCP1252   func(string) string
+	// cp1252Mu guards translate: fpdf's translator reuses one buffer, so
+	// two PDFs written at once (two web requests, parallel tests) would
+	// corrupt each other's text.
+	cp1252Mu  sync.Mutex
+	translate func(string) string
 )
+
+// toCP1252 is fpdf's Unicode-to-Windows-1252 translator, safe for
+// concurrent use.
+func toCP1252(s string) string {
+	cp1252Mu.Lock()
+	defer cp1252Mu.Unlock()
+	return translate(s)
+}
 
 // pdfText turns any string — capbank's messages or whatever a user typed —
 // into text for the core fonts: characters beyond Windows-1252 are spelt
@@ -38,7 +50,7 @@ var (
 // text enters the PDF.
 func pdfText(s string) string {
 	cp1252Once.Do(func() {
-		toCP1252 = fpdf.New("P", "mm", "A4", "").UnicodeTranslatorFromDescriptor("")
+		translate = fpdf.New("P", "mm", "A4", "").UnicodeTranslatorFromDescriptor("")
 	})
 	s = beyondCP1252.Replace(s)
 	var b strings.Builder
