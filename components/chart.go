@@ -1,0 +1,268 @@
+package components
+
+import (
+	"math"
+	"strconv"
+	"strings"
+
+	"capbank/sizing"
+)
+
+// Chart is a line chart ready to draw as SVG: every position is in the
+// SVG's user units (the viewBox), every label is display text.
+type Chart struct {
+	// ID names the chart (and its data-testid); Title and Desc describe it
+	// for the caption and for screen readers.
+	ID, Title, Desc string
+	XLabel, YLabel  string
+	W, H            float64
+	// The plot area.
+	Left, Right, Top, Bottom float64
+	XTicks, YTicks           []Tick
+	Series                   []Series
+	Refs                     []RefLine
+	// Zero is the y position of 0 when the range crosses it, else -1.
+	Zero float64
+	sc   scale
+}
+
+// Tick is one axis tick: its position along the axis and its label.
+type Tick struct {
+	Pos   float64
+	Label string
+}
+
+// Series is one line: its legend name, the CSS class that draws it and its
+// points as an SVG points list.
+type Series struct {
+	Name, Class, Points string
+}
+
+// RefLine is a labelled horizontal line, such as the window top.
+type RefLine struct {
+	Y            float64
+	Label, Class string
+}
+
+// Chart geometry, in SVG user units: a 560 × 250 box whose text stays
+// readable when the box is drawn between 480 and 720 px wide.
+const (
+	chartW      = 560.0
+	chartH      = 250.0
+	chartLeft   = 58.0
+	chartRight  = 14.0
+	chartTop    = 14.0
+	chartBottom = 44.0
+)
+
+// timeAxis picks the time unit for a span in s: s, min or h.
+func timeAxis(spanS float64) (scale float64, label string) {
+	switch {
+	case spanS > 3*3600:
+		return 3600, "Time (h)"
+	case spanS > 300:
+		return 60, "Time (min)"
+	}
+	return 1, "Time (s)"
+}
+
+// VoltageChart draws the terminal and capacitor voltage of the curve
+// against time, with the window top and bottom marked and labelled.
+func VoltageChart(c *sizing.Curve) Chart {
+	lo := min(c.MinV, minOf(c.TerminalV), minOf(c.CapacitorV))
+	hi := max(c.MaxV, maxOf(c.TerminalV), maxOf(c.CapacitorV))
+	ch := newChart("voltage", "Voltage at the bank", "Voltage (V)", c.TimeS, lo, hi)
+	ch.Desc = "Terminal and capacitor voltage of the recommended bank at worst case over the sizing pass, with the voltage window " +
+		Quantity(c.MaxV, "V", 4) + " to " + Quantity(c.MinV, "V", 4) + "."
+	ch.Refs = []RefLine{
+		{Y: ch.y(c.MaxV), Label: "window top " + Quantity(c.MaxV, "V", 4), Class: "ref-top"},
+		{Y: ch.y(c.MinV), Label: "window bottom " + Quantity(c.MinV, "V", 4), Class: "ref-bottom"},
+	}
+	ch.Series = []Series{
+		{Name: "Capacitor voltage", Class: "s-cap", Points: ch.points(c.TimeS, c.CapacitorV)},
+		{Name: "Terminal voltage", Class: "s-term", Points: ch.points(c.TimeS, c.TerminalV)},
+	}
+	return ch
+}
+
+// CurrentChart draws the bank current against time (positive out of the
+// bank).
+func CurrentChart(c *sizing.Curve) Chart {
+	lo, hi := min(0, minOf(c.CurrentA)), max(0, maxOf(c.CurrentA))
+	ch := newChart("current", "Bank current", "Current (A)", c.TimeS, lo, hi)
+	ch.Desc = "Current out of the recommended bank at worst case over the sizing pass; negative is charging."
+	ch.Series = []Series{{Name: "Bank current (+ out of the bank)", Class: "s-current", Points: ch.points(c.TimeS, c.CurrentA)}}
+	return ch
+}
+
+// TemperatureChart draws the hottest cell's temperature against time; ok
+// is false when the curve has none.
+func TemperatureChart(c *sizing.Curve) (Chart, bool) {
+	if len(c.TemperatureC) == 0 {
+		return Chart{}, false
+	}
+	lo, hi := minOf(c.TemperatureC), maxOf(c.TemperatureC)
+	ch := newChart("temperature", "Cell temperature", "Temperature (°C)", c.TimeS, lo, hi)
+	ch.Desc = "Temperature of the hottest cell of the recommended bank by the thermal model over the sizing pass."
+	ch.Series = []Series{{Name: "Hottest cell", Class: "s-temp", Points: ch.points(c.TimeS, c.TemperatureC)}}
+	return ch, true
+}
+
+// chart scales: data to user units.
+type scale struct {
+	x0, x1, y0, y1 float64 // data ranges
+	tScale         float64 // s per time-axis unit
+}
+
+func newChart(id, title, yLabel string, t []float64, lo, hi float64) Chart {
+	ch := Chart{ID: id, Title: title, YLabel: yLabel, W: chartW, H: chartH,
+		Left: chartLeft, Right: chartW - chartRight, Top: chartTop, Bottom: chartH - chartBottom, Zero: -1}
+	t0, t1 := 0.0, 1.0
+	if len(t) > 0 {
+		t0, t1 = t[0], t[len(t)-1]
+	}
+	if !(t1 > t0) {
+		t1 = t0 + 1
+	}
+	ts, xl := timeAxis(t1 - t0)
+	ch.XLabel = xl
+	ch.sc.tScale = ts
+	xt, x0, x1 := niceTicks(t0/ts, t1/ts, 6, true)
+	ch.sc.x0, ch.sc.x1 = x0, x1
+	if !(hi > lo) || !finite(lo) || !finite(hi) {
+		mid := lo
+		if !finite(mid) {
+			mid = 0
+		}
+		pad := max(math.Abs(mid)*0.05, 0.5)
+		lo, hi = mid-pad, mid+pad
+	}
+	yt, y0, y1 := niceTicks(lo, hi, 5, false)
+	ch.sc.y0, ch.sc.y1 = y0, y1
+	for _, v := range xt {
+		ch.XTicks = append(ch.XTicks, Tick{Pos: ch.xu(v), Label: tickLabel(v, xt)})
+	}
+	for _, v := range yt {
+		ch.YTicks = append(ch.YTicks, Tick{Pos: ch.y(v), Label: tickLabel(v, yt)})
+	}
+	if y0 < 0 && y1 > 0 {
+		ch.Zero = ch.y(0)
+	}
+	return ch
+}
+
+// xu is the x position of a time in axis units; y of a data value.
+func (c *Chart) xu(v float64) float64 {
+	return c.Left + (v-c.sc.x0)/(c.sc.x1-c.sc.x0)*(c.Right-c.Left)
+}
+
+func (c *Chart) y(v float64) float64 {
+	return c.Bottom - (v-c.sc.y0)/(c.sc.y1-c.sc.y0)*(c.Bottom-c.Top)
+}
+
+// points lists the curve as SVG points, thinned to what the plot can show:
+// within each column of user units only the first, lowest, highest and last
+// point are kept, in time order, so steps and spikes keep their extremes.
+func (c *Chart) points(t, v []float64) string {
+	n := min(len(t), len(v))
+	var b strings.Builder
+	b.Grow(n * 12)
+	write := func(i int) {
+		if b.Len() > 0 {
+			b.WriteByte(' ')
+		}
+		b.WriteString(coord(c.xu(t[i] / c.sc.tScale)))
+		b.WriteByte(',')
+		b.WriteString(coord(c.y(v[i])))
+	}
+	for i := 0; i < n; {
+		col := math.Floor(c.xu(t[i] / c.sc.tScale))
+		j := i
+		lo, hi := i, i
+		for j+1 < n && math.Floor(c.xu(t[j+1]/c.sc.tScale)) == col {
+			j++
+			if v[j] < v[lo] {
+				lo = j
+			}
+			if v[j] > v[hi] {
+				hi = j
+			}
+		}
+		keep := []int{i, lo, hi, j}
+		if hi < lo {
+			keep[1], keep[2] = hi, lo
+		}
+		last := -1
+		for _, k := range keep {
+			if k != last {
+				write(k)
+				last = k
+			}
+		}
+		i = j + 1
+	}
+	return b.String()
+}
+
+func coord(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
+
+// niceTicks returns tick values at a 1, 2 or 5 × 10ⁿ step covering
+// [lo, hi] with about n ticks, and the axis range: the outer ticks, or the
+// data range itself when tight is set (a time axis starts and ends with
+// the data).
+func niceTicks(lo, hi float64, n int, tight bool) (ticks []float64, a0, a1 float64) {
+	step := niceStep((hi - lo) / float64(n))
+	a0, a1 = lo, hi
+	if !tight {
+		a0, a1 = math.Floor(lo/step)*step, math.Ceil(hi/step)*step
+	}
+	for k := math.Ceil(a0/step - 1e-9); k*step <= a1+step*1e-9; k++ {
+		v := k * step
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		ticks = append(ticks, v)
+	}
+	return ticks, a0, a1
+}
+
+func niceStep(raw float64) float64 {
+	if !(raw > 0) || !finite(raw) {
+		return 1
+	}
+	p := math.Pow10(int(math.Floor(math.Log10(raw))))
+	for _, m := range []float64{1, 2, 5, 10} {
+		if raw <= m*p {
+			return m * p
+		}
+	}
+	return 10 * p
+}
+
+// tickLabel formats a tick with as many decimals as the step needs.
+func tickLabel(v float64, ticks []float64) string {
+	dec := 0
+	if len(ticks) > 1 {
+		step := ticks[1] - ticks[0]
+		dec = max(0, int(math.Ceil(-math.Log10(step)-1e-9)))
+	}
+	return Fixed(v, dec)
+}
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+func minOf(xs []float64) float64 {
+	m := math.Inf(1)
+	for _, x := range xs {
+		m = min(m, x)
+	}
+	return m
+}
+
+func maxOf(xs []float64) float64 {
+	m := math.Inf(-1)
+	for _, x := range xs {
+		m = max(m, x)
+	}
+	return m
+}

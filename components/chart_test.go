@@ -1,0 +1,114 @@
+package components
+
+import (
+	"bytes"
+	"context"
+	"math"
+	"reflect"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/sizing"
+)
+
+func TestNiceTicks(t *testing.T) {
+	t.Parallel()
+	// 1-2-5 steps, worked by hand.
+	cases := []struct {
+		lo, hi float64
+		n      int
+		tight  bool
+		want   []float64
+		a0, a1 float64
+	}{
+		{21, 42, 5, false, []float64{20, 25, 30, 35, 40, 45}, 20, 45},
+		{0, 34, 6, true, []float64{0, 10, 20, 30}, 0, 34}, // 34/6 = 5.7 rounds up to a step of 10
+		{-2, 147, 5, false, []float64{-50, 0, 50, 100, 150}, -50, 150},
+		{30, 30.25, 5, false, []float64{30, 30.05, 30.1, 30.15, 30.2, 30.25}, 30, 30.25},
+	}
+	for _, c := range cases {
+		got, a0, a1 := niceTicks(c.lo, c.hi, c.n, c.tight)
+		for i := range got {
+			got[i] = math.Round(got[i]*1e9) / 1e9
+		}
+		if !c.tight {
+			if a0 > c.lo || a1 < c.hi {
+				t.Errorf("niceTicks(%g, %g) range [%g, %g] misses the data", c.lo, c.hi, a0, a1)
+			}
+		}
+		if !reflect.DeepEqual(got, c.want) || math.Abs(a0-c.a0) > 1e-9 || math.Abs(a1-c.a1) > 1e-9 {
+			t.Errorf("niceTicks(%g, %g, %d) = %v [%g, %g], want %v [%g, %g]", c.lo, c.hi, c.n, got, a0, a1, c.want, c.a0, c.a1)
+		}
+	}
+}
+
+// Thinning keeps every column's extremes: a one-sample spike survives.
+func TestPointsKeepSpikes(t *testing.T) {
+	t.Parallel()
+	n := 20000
+	tm, v := make([]float64, n), make([]float64, n)
+	for i := range n {
+		tm[i] = float64(i) * 0.001
+		v[i] = 10
+	}
+	v[12345] = 50
+	c := &sizing.Curve{TimeS: tm, TerminalV: v, CapacitorV: v, CurrentA: v, MaxV: 60, MinV: 5}
+	ch := CurrentChart(c)
+	pts := strings.Fields(ch.Series[0].Points)
+	if len(pts) >= n/4 {
+		t.Errorf("%d points kept of %d; want far fewer", len(pts), n)
+	}
+	top := math.Inf(1)
+	for _, p := range pts {
+		_, y, _ := strings.Cut(p, ",")
+		f, _ := strconv.ParseFloat(y, 64)
+		top = min(top, f)
+	}
+	if want := ch.y(50); math.Abs(top-want) > 0.1 {
+		t.Errorf("highest point at y=%g, want the spike at %g", top, want)
+	}
+}
+
+func TestVoltageChartRenders(t *testing.T) {
+	t.Parallel()
+	c := &sizing.Curve{TimeS: []float64{0, 10, 20}, TerminalV: []float64{47, 40, 30}, CapacitorV: []float64{48, 42, 33},
+		CurrentA: []float64{10, 12, 15}, TemperatureC: []float64{25, 26, 27}, MaxV: 48, MinV: 24}
+	var buf bytes.Buffer
+	if err := Charts(c).Render(context.Background(), &buf); err != nil {
+		t.Fatal(err)
+	}
+	doc, err := goquery.NewDocumentFromReader(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for id, labels := range map[string][]string{
+		"voltage":     {"Time (s)", "Voltage (V)", "window top 48\u00a0V", "window bottom 24\u00a0V"},
+		"current":     {"Time (s)", "Current (A)"},
+		"temperature": {"Time (s)", "Temperature (°C)"},
+	} {
+		svg := doc.Find("[data-testid=chart-" + id + "] svg").First()
+		if svg.Length() == 0 {
+			t.Errorf("no %s chart", id)
+			continue
+		}
+		text := svg.Find("text").Text()
+		for _, l := range labels {
+			if !strings.Contains(text, l) {
+				t.Errorf("%s chart lacks %q", id, l)
+			}
+		}
+		if svg.Find(".y-ticks text").Length() < 3 || svg.Find(".x-ticks text").Length() < 3 {
+			t.Errorf("%s chart has too few ticks", id)
+		}
+	}
+	// Without a temperature trace there is no temperature chart.
+	c.TemperatureC = nil
+	buf.Reset()
+	Charts(c).Render(context.Background(), &buf)
+	if strings.Contains(buf.String(), "chart-temperature") {
+		t.Error("a temperature chart without temperatures")
+	}
+}

@@ -1,0 +1,125 @@
+package components
+
+import "capbank/sizing"
+
+// PageProps is everything the design page shows.
+type PageProps struct {
+	// Title is the document title.
+	Title string
+	// CSS and Script are the URLs of the stylesheet and the htmx file.
+	CSS, Script string
+	// APIHref is the OpenAPI document's URL, linked from the footer.
+	APIHref string
+	Form    FormProps
+	Results ResultsProps
+}
+
+// Choice is one option of a select.
+type Choice struct{ Value, Label string }
+
+// FieldProps is one labelled input with its unit, hint and message.
+type FieldProps struct {
+	// Name is the form name (the design file's JSON path); ID the element
+	// id of the input, and MessageID of its message beside it.
+	Name, ID, MessageID string
+	Label, Unit, Hint   string
+	// Value is what the user typed, shown again as typed.
+	Value string
+	// Message is the problem with the value, or "".
+	Message string
+	// Select is true for a choice among Choices.
+	Select   bool
+	Choices  []Choice
+	Required bool
+	// Text is true for free text (no number keyboard).
+	Text bool
+}
+
+// StepProps is one row of the load steps.
+type StepProps struct {
+	// Number is the 1-based step number shown; Index the 0-based one the
+	// form names use.
+	Number, Index int
+	// RowID and RowMessageID name the row and its own message slot (a
+	// problem with the step as a whole).
+	RowID, RowMessageID   string
+	RowMessage            string
+	Kind, Value, Duration FieldProps
+	// UnitID names the unit beside the value, which follows the kind.
+	UnitID      string
+	First, Last bool
+}
+
+// CellPickProps is one demo cell offered as a candidate.
+type CellPickProps struct {
+	ID, Name    string
+	Picked      bool
+	Electrolyte string
+	// Display-ready figures.
+	RatedV, Capacitance, ESR, Price string
+}
+
+// ProblemProps is one entry of the problem summary: the field's label, the
+// message and a link to the input.
+type ProblemProps struct{ Label, Message, Href string }
+
+// Slot is a message or unit slot for an out-of-band update: its element id
+// and its text.
+type Slot struct{ ID, Text string }
+
+// FormProps is the design form.
+type FormProps struct {
+	Name   FieldProps
+	Window []FieldProps
+	Load   []FieldProps
+	Steps  []StepProps
+	// StepsID and StepsMessage are the slot for a problem with the list of
+	// steps as a whole; MaxSteps is how many rows the form edits.
+	StepsMessageID, StepsMessage string
+	MaxSteps                     int
+	StepKinds                    []Choice
+	Pulse                        []FieldProps
+	// PulseOpen and CSVOpen unfold the pulse-train and profile-file tools
+	// when they have something to show.
+	PulseOpen, CSVOpen bool
+	// CSVMessageID and CSVMessage are the slot for the profile file.
+	CSVMessageID, CSVMessage string
+	// Notice says what the last action did (a profile loaded, pulses added).
+	Notice     string
+	Conditions []FieldProps
+	EOL        []FieldProps
+	Cells      []CellPickProps
+	// CellsMessageID and CellsMessage are the slot for the candidates.
+	CellsMessageID, CellsMessage string
+	Inline                       []FieldProps
+	// InlineTolerance is the slot for the tolerance pair as a whole.
+	InlineToleranceID, InlineToleranceMessage string
+	InlineOpen                                bool
+	RankBy                                    FieldProps
+	Problems                                  []ProblemProps
+}
+
+// ResultsProps is the results panel.
+type ResultsProps struct {
+	// Report is nil before the design first sizes.
+	Report *sizing.Report
+	// Recommended is the recommended candidate, nil when none is feasible.
+	Recommended *sizing.Candidate
+	// Candidates are the report's candidates in the order to show.
+	Candidates []sizing.Candidate
+	// Sort is the candidates table's order: "" (rank), "price", "cells",
+	// "mass", "volume" or "runtime".
+	Sort string
+	// Stale is true when the design has changed into one with problems and
+	// these results are from the last design that sized.
+	Stale bool
+	// Status is the line at the top of the panel ("" for none).
+	Status string
+	// Empty is what the panel says when there is no report.
+	Empty string
+	// LastGood is the design file of these results, carried by the form so
+	// they can be shown again, marked stale, while the design has problems.
+	LastGood string
+	// Summary describes the design as sized, for print.
+	Summary string
+}
