@@ -1,0 +1,68 @@
+package web
+
+import (
+	"bytes"
+	_ "embed"
+	"encoding/json"
+	"errors"
+	"io"
+	"mime"
+	"net/http"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/sizing"
+	"capbank/web/democells"
+)
+
+//go:embed openapi.json
+var openAPIDoc []byte
+
+// apiSize is POST /api/v1/size: the design file of `capbank size` in, the
+// same report out.
+func (s *Server) apiSize(c echo.Context) error {
+	r := c.Request()
+	if ct := r.Header.Get(echo.HeaderContentType); ct != "" {
+		mt, _, err := mime.ParseMediaType(ct)
+		if err != nil || (mt != "application/json" && mt != "text/json") {
+			return echo.NewHTTPError(http.StatusUnsupportedMediaType)
+		}
+	}
+	data, err := io.ReadAll(r.Body)
+	if err != nil {
+		var mbe *http.MaxBytesError
+		if errors.As(err, &mbe) {
+			return err
+		}
+		return &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole file"}}}
+	}
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		var ve sizing.ValidationError
+		if errors.As(err, &ve) {
+			return &malformedError{errs: ve}
+		}
+		return err
+	}
+	d.ResolveCells(democells.ByID) // a design may name a built-in demo cell by its id
+	rep, err := sizing.Size(d)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set(echo.HeaderContentType, echo.MIMEApplicationJSONCharsetUTF8)
+	c.Response().WriteHeader(http.StatusOK)
+	return jsonEncode(c.Response(), rep)
+}
+
+func (s *Server) openAPI(c echo.Context) error {
+	return c.Blob(http.StatusOK, "application/json; charset=utf-8", openAPIDoc)
+}
+
+// jsonEncode writes v as indented JSON, without escaping <, > and &, as
+// the command line writes the report.
+func jsonEncode(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}

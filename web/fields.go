@@ -1,0 +1,148 @@
+package web
+
+import "strings"
+
+// fieldKind is how a form field is typed.
+type fieldKind int
+
+const (
+	kindNumber fieldKind = iota // a number with an optional SI prefix and unit
+	kindCount                   // a whole number
+	kindText                    // free text
+	kindChoice                  // one of Choices
+)
+
+// choice is one option of a select.
+type choice struct{ Value, Label string }
+
+// field is one input of the design form. Its Name is the design file's JSON
+// path, so a sizing.FieldError names the input directly.
+type field struct {
+	Name     string
+	Label    string
+	Hint     string // the default, or what the field means
+	Kind     fieldKind
+	Units    unitSpec
+	Required bool
+	Choices  []choice
+}
+
+// The design-wide fields, by form section.
+var (
+	nameField = field{Name: "name", Label: "Design name", Kind: kindText, Hint: "labels the report; optional"}
+
+	windowFields = []field{
+		{Name: "window.max_v", Label: "Window top", Units: unitVolt, Required: true,
+			Hint: "charge voltage: the bank starts here, full"},
+		{Name: "window.min_v", Label: "Window bottom", Units: unitVolt, Required: true,
+			Hint: "converter cut-off: the terminal voltage stays at or above it"},
+		{Name: "cell_max_v", Label: "Per-cell ceiling", Units: unitVolt,
+			Hint: "empty: each cell's rated voltage"},
+	}
+
+	loadFields = []field{
+		{Name: "load.efficiency", Label: "Converter efficiency", Units: unitFraction,
+			Hint: "0.94 or 94 %; applies to power steps; empty: 1"},
+		{Name: "load.repeat", Label: "Repeat the steps", Kind: kindCount, Units: unitCount,
+			Hint: "times back to back; empty: 1"},
+	}
+
+	conditionFields = []field{
+		{Name: "ambient_c", Label: "Ambient temperature", Units: unitCelsius, Hint: "empty: 25 °C"},
+		{Name: "cold_c", Label: "Coldest temperature", Units: unitCelsius, Hint: "raises the ESR by each cell's cold factor; empty: no cold case"},
+		{Name: "life_years", Label: "Required service life", Units: unitYear, Hint: "empty: not checked"},
+		{Name: "standby_h", Label: "Standby hold without charger", Units: unitHour, Hint: "empty: not checked"},
+	}
+
+	eolFields = []field{
+		{Name: "eol.capacitance_factor", Label: "Capacitance at end of life", Units: unitFactor,
+			Hint: "× rated, e.g. 0.8 or 80 %; empty: 0.8"},
+		{Name: "eol.esr_factor", Label: "ESR at end of life", Units: unitFactor,
+			Hint: "× rated, e.g. 2; empty: 2"},
+	}
+
+	rankField = field{Name: "rank_by", Label: "Recommend the bank with", Kind: kindChoice, Choices: []choice{
+		{"", "lowest price (default)"}, {"cells", "fewest cells"}, {"mass", "least mass"}, {"volume", "least volume"},
+	}}
+
+	// stepKinds are the kinds of a load step and the unit of each value.
+	stepKinds = []choice{
+		{"power", "Power"}, {"current", "Current"}, {"resistance", "Resistance"}, {"rest", "Rest"},
+	}
+
+	pulseFields = []field{
+		{Name: "pulse.kind", Label: "Pulse kind", Kind: kindChoice, Choices: stepKinds[:3]},
+		{Name: "pulse.value", Label: "Pulse value", Units: unitNone, Hint: "W, A or Ω by the kind"},
+		{Name: "pulse.duration_s", Label: "Pulse length", Units: unitSecond},
+		{Name: "pulse.rest_s", Label: "Rest between pulses", Units: unitSecond},
+		{Name: "pulse.count", Label: "Number of pulses", Kind: kindCount, Units: unitCount},
+	}
+
+	// inlineFields are the keys of one cell typed into the form, named
+	// inline.<cell key>.
+	inlineFields = []field{
+		{Name: "inline.id", Label: "Id", Kind: kindText, Hint: "short and unique, e.g. my-cell"},
+		{Name: "inline.name", Label: "Name", Kind: kindText},
+		{Name: "inline.rated_v", Label: "Rated voltage", Units: unitVolt},
+		{Name: "inline.surge_v", Label: "Surge voltage", Units: unitVolt},
+		{Name: "inline.capacitance_f", Label: "Capacitance", Units: unitFarad},
+		{Name: "inline.capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: unitPercent, Hint: "e.g. -10"},
+		{Name: "inline.capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: unitPercent, Hint: "e.g. 20"},
+		{Name: "inline.esr_ohm", Label: "ESR (DC)", Units: unitOhm},
+		{Name: "inline.cold_esr_factor", Label: "Cold ESR factor", Units: unitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
+		{Name: "inline.cold_esr_temp_c", Label: "Cold ESR measured at", Units: unitCelsius},
+		{Name: "inline.leakage_a", Label: "Leakage current", Units: unitAmp},
+		{Name: "inline.max_current_a", Label: "Continuous current", Units: unitAmp},
+		{Name: "inline.peak_current_a", Label: "Peak current", Units: unitAmp},
+		{Name: "inline.thermal_resistance_k_per_w", Label: "Thermal resistance", Units: unitKPerW},
+		{Name: "inline.min_temp_c", Label: "Lowest operating temperature", Units: unitCelsius},
+		{Name: "inline.max_temp_c", Label: "Highest operating temperature", Units: unitCelsius},
+		{Name: "inline.mass_kg", Label: "Mass", Units: unitKilogram},
+		{Name: "inline.volume_l", Label: "Volume", Units: unitLitre},
+		{Name: "inline.unit_price", Label: "Unit price", Units: unitCurrencyEa, Hint: "in your currency"},
+		{Name: "inline.rated_life_h", Label: "Rated life", Units: unitHour},
+		{Name: "inline.rated_life_temp_c", Label: "Rated life at", Units: unitCelsius},
+		{Name: "inline.specific_heat_j_per_kg_k", Label: "Specific heat", Units: unitJPerKgK, Hint: "empty: 1000"},
+		{Name: "inline.electrolyte", Label: "Electrolyte", Kind: kindChoice, Choices: []choice{
+			{"", "not given"}, {"organic", "organic"}, {"aqueous", "aqueous"}, {"ionic-liquid", "ionic liquid"}, {"hybrid", "hybrid"},
+		}},
+	}
+)
+
+// stepValueUnit is the unit of a step's value by its kind.
+func stepValueUnit(kind string) unitSpec {
+	switch kind {
+	case "power":
+		return unitWatt
+	case "current":
+		return unitAmp
+	case "resistance":
+		return unitOhm
+	}
+	return unitNone
+}
+
+// fieldLabels maps every field name (and group name) to its label, for
+// the problem summary.
+var fieldLabels = func() map[string]string {
+	m := map[string]string{
+		"cells.pick":                       "Candidate cells",
+		"load.steps":                       "Load steps",
+		"profile_csv":                      "Profile file",
+		"inline.capacitance_tolerance_pct": "Capacitance tolerance",
+		"design":                           "Design",
+	}
+	for _, group := range [][]field{{nameField, rankField}, windowFields, loadFields, conditionFields, eolFields, pulseFields, inlineFields} {
+		for _, f := range group {
+			m[f.Name] = f.Label
+		}
+	}
+	return m
+}()
+
+// domID turns a field name into an HTML id fragment: load.steps[2].value
+// becomes load-steps-2-value.
+func domID(name string) string {
+	r := strings.NewReplacer(".", "-", "[", "-", "]", "")
+	return r.Replace(name)
+}

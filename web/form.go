@@ -1,0 +1,489 @@
+package web
+
+import (
+	"fmt"
+	"math"
+	"mime/multipart"
+	"net/url"
+	"regexp"
+	"slices"
+	"sort"
+	"strconv"
+	"strings"
+
+	"capbank/sizing"
+	"capbank/web/democells"
+)
+
+// maxFormSteps is the most step rows the form edits. A longer profile goes
+// through the JSON API or `capbank size`.
+const maxFormSteps = 500
+
+// maxPulses is the most pulses the pulse-train shortcut expands at once.
+const maxPulses = 200
+
+// stepRow is one load step as typed.
+type stepRow struct{ Kind, Value, Duration string }
+
+// designForm is the design form as submitted: every value as typed, so the
+// page can show it again.
+type designForm struct {
+	vals     url.Values
+	steps    []stepRow
+	picked   map[string]bool
+	sort     string
+	lastGood string
+	notice   string
+	// problems are what reading the form found (too many steps); the
+	// design cannot be sized until they are fixed. Decoding adds its own.
+	problems sizing.ValidationError
+	// actionProblems are what an action could not do (a bad pulse train or
+	// profile file); the design itself is unchanged and still sized.
+	actionProblems sizing.ValidationError
+}
+
+var stepField = regexp.MustCompile(`^load\.steps\[(\d{1,9})\]\.(kind|value|duration_s)$`)
+
+// readForm collects the submitted values. Step rows are ordered by their
+// index and renumbered from 0, so a row removed in the page leaves no gap.
+func readForm(vals url.Values) *designForm {
+	f := &designForm{vals: vals, picked: map[string]bool{}}
+	rows := map[int]*stepRow{}
+	overflow := false
+	for key, vs := range vals {
+		m := stepField.FindStringSubmatch(key)
+		if m == nil {
+			continue
+		}
+		i, _ := strconv.Atoi(m[1])
+		r := rows[i]
+		if r == nil {
+			if len(rows) >= maxFormSteps {
+				overflow = true
+				continue
+			}
+			r = &stepRow{}
+			rows[i] = r
+		}
+		switch m[2] {
+		case "kind":
+			r.Kind = vs[0]
+		case "value":
+			r.Value = vs[0]
+		case "duration_s":
+			r.Duration = vs[0]
+		}
+	}
+	idx := make([]int, 0, len(rows))
+	for i := range rows {
+		idx = append(idx, i)
+	}
+	sort.Ints(idx)
+	for _, i := range idx {
+		f.steps = append(f.steps, *rows[i])
+	}
+	if overflow {
+		f.problem("load.steps", "form_steps", fmt.Sprintf(
+			"holds more than %d steps, the most this form edits; send longer profiles to the JSON API or use capbank size", maxFormSteps))
+	}
+	for _, id := range vals["cells.pick"] {
+		f.picked[id] = true
+	}
+	f.sort = vals.Get("sort")
+	if vals.Has("sort_by") {
+		f.sort = vals.Get("sort_by")
+	}
+	if f.sort == "rank" || !slices.Contains(sortOrders, f.sort) {
+		f.sort = ""
+	}
+	f.lastGood = vals.Get("last_good")
+	return f
+}
+
+// sortOrders are the orders of the candidates table; "" is the report's
+// rank.
+var sortOrders = []string{"", "price", "cells", "mass", "volume", "runtime"}
+
+func (f *designForm) value(name string) string { return f.vals.Get(name) }
+
+func (f *designForm) problem(field, rule, msg string) {
+	f.problems = append(f.problems, sizing.FieldError{Field: field, Rule: rule, Message: msg})
+}
+
+func (f *designForm) actionProblem(field, rule, msg string) {
+	f.actionProblems = append(f.actionProblems, sizing.FieldError{Field: field, Rule: rule, Message: msg})
+}
+
+// apply carries out a form action: editing the step list, expanding the
+// pulse train or loading a profile CSV. An unknown action does nothing.
+func (f *designForm) apply(action string, csv *multipart.FileHeader) {
+	verb, arg, _ := strings.Cut(action, ":")
+	i, err := strconv.Atoi(arg)
+	if err != nil || i < 0 || i >= len(f.steps) {
+		i = -1
+	}
+	switch verb {
+	case "add-step":
+		if len(f.steps) >= maxFormSteps {
+			f.actionProblem("load.steps", "form_steps", fmt.Sprintf("has %d steps, the most this form edits", maxFormSteps))
+			return
+		}
+		kind := "power"
+		if n := len(f.steps); n > 0 && f.steps[n-1].Kind != "" {
+			kind = f.steps[n-1].Kind
+		}
+		f.steps = append(f.steps, stepRow{Kind: kind})
+	case "remove-step":
+		if i >= 0 {
+			f.steps = slices.Delete(f.steps, i, i+1)
+		}
+	case "step-up":
+		if i > 0 {
+			f.steps[i-1], f.steps[i] = f.steps[i], f.steps[i-1]
+		}
+	case "step-down":
+		if i >= 0 && i+1 < len(f.steps) {
+			f.steps[i], f.steps[i+1] = f.steps[i+1], f.steps[i]
+		}
+	case "add-pulses":
+		f.addPulses()
+	case "load-csv":
+		f.loadCSV(csv)
+	}
+}
+
+// addPulses appends count × (pulse, rest) to the steps. When the steps are
+// a single empty row (a new design), the pulses replace it.
+func (f *designForm) addPulses() {
+	kind := f.value("pulse.kind")
+	if !slices.Contains([]string{"power", "current", "resistance"}, kind) {
+		f.actionProblem("pulse.kind", "oneof", "must be one of: power, current, resistance")
+		return
+	}
+	ok := true
+	need := func(name string, u unitSpec) {
+		if _, err := parseSI(f.value(name), u); err != nil {
+			ok = false
+			f.actionProblem(name, "number", numberMessage(err, u))
+		}
+	}
+	need("pulse.value", stepValueUnit(kind))
+	need("pulse.duration_s", unitSecond)
+	need("pulse.rest_s", unitSecond)
+	count, err := parseCount(f.value("pulse.count"), unitCount)
+	switch {
+	case err != nil:
+		ok = false
+		f.actionProblem("pulse.count", "number", numberMessage(err, unitCount))
+	case count < 1 || count > maxPulses:
+		ok = false
+		f.actionProblem("pulse.count", "pulse_count", fmt.Sprintf(
+			"must be from 1 to %d; for a longer train, add one pulse and its rest and set Repeat the steps", maxPulses))
+	}
+	if !ok {
+		return
+	}
+	if len(f.steps) == 1 && f.steps[0].Value == "" && f.steps[0].Duration == "" {
+		f.steps = nil
+	}
+	if len(f.steps)+2*count > maxFormSteps {
+		f.actionProblem("pulse.count", "form_steps", fmt.Sprintf(
+			"%d pulses and their rests would make %d steps, more than the %d this form edits; use fewer pulses and Repeat the steps",
+			count, len(f.steps)+2*count, maxFormSteps))
+		return
+	}
+	for range count {
+		f.steps = append(f.steps,
+			stepRow{Kind: kind, Value: f.value("pulse.value"), Duration: f.value("pulse.duration_s")},
+			stepRow{Kind: "rest", Duration: f.value("pulse.rest_s")})
+	}
+	f.notice = fmt.Sprintf("Added %d pulses of %s %s for %s s, each followed by %s s of rest (%d steps).",
+		count, kind, strings.TrimSpace(f.value("pulse.value")), strings.TrimSpace(f.value("pulse.duration_s")),
+		strings.TrimSpace(f.value("pulse.rest_s")), 2*count)
+}
+
+// loadCSV replaces the steps with those of a logged profile.
+func (f *designForm) loadCSV(fh *multipart.FileHeader) {
+	if fh == nil || fh.Size == 0 {
+		f.actionProblem("profile_csv", "required", "choose a CSV file first (a header naming time_s and power_w or current_a)")
+		return
+	}
+	file, err := fh.Open()
+	if err != nil {
+		f.actionProblem("profile_csv", "read", "could not be read; try choosing the file again")
+		return
+	}
+	defer file.Close()
+	p, err := sizing.ParseProfileCSV(file)
+	if err != nil {
+		f.actionProblem("profile_csv", "csv", fh.Filename+": "+err.Error())
+		return
+	}
+	if len(p.Steps) > maxFormSteps {
+		f.actionProblem("profile_csv", "form_steps", fmt.Sprintf(
+			"%s: %d rows give %d steps, more than the %d this form edits; resample the log, or size it with the JSON API or capbank size",
+			fh.Filename, p.Rows, len(p.Steps), maxFormSteps))
+		return
+	}
+	kind := "power"
+	if p.Column == "current_a" {
+		kind = "current"
+	}
+	f.steps = f.steps[:0]
+	for _, s := range p.Steps {
+		row := stepRow{Kind: "rest", Duration: formatFloat(s.DurationS)}
+		switch {
+		case s.PowerW != nil:
+			row.Kind, row.Value = kind, formatFloat(*s.PowerW)
+		case s.CurrentA != nil:
+			row.Kind, row.Value = kind, formatFloat(*s.CurrentA)
+		}
+		f.steps = append(f.steps, row)
+	}
+	f.notice = fmt.Sprintf("Loaded %s: %d rows of %s became %d steps, %s s in all.",
+		fh.Filename, p.Rows, p.Column, len(p.Steps), formatFloat(p.DurationS))
+}
+
+func formatFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// numberMessage is the message for a number field that did not parse.
+func numberMessage(err error, u unitSpec) string {
+	if err == errSIEmpty {
+		if u.Unit != "" && u.Unit != "×" && u.Unit != "0–1" && u.Unit != "each" {
+			return "is required; enter a number in " + u.Unit
+		}
+		return "is required; enter a number"
+	}
+	return err.Error()
+}
+
+// decoded is the form turned into a design, with where each cell came from.
+type decoded struct {
+	design *sizing.Design
+	// sources[k] is the demo id of design.Cells[k], or "" for the inline cell.
+	sources []string
+	// problems are the fields that did not decode.
+	problems sizing.ValidationError
+}
+
+// decode turns the form into the design the command line would read. A
+// value that is not a number is a problem named by its field; an empty
+// optional field is nil (the default), never 0. A field that did not parse
+// holds NaN, so sizing.Validate's cross-field rules, which skip non-finite
+// values, do not report a second problem about it.
+func (f *designForm) decode() decoded {
+	d := &sizing.Design{Name: strings.TrimSpace(f.value("name"))}
+	out := decoded{design: d, problems: slices.Clone(f.problems)}
+	bad := func(name, rule, msg string) {
+		out.problems = append(out.problems, sizing.FieldError{Field: name, Rule: rule, Message: msg})
+	}
+	nan := math.NaN()
+	requiredText := func(name, text string, u unitSpec) float64 {
+		v, err := parseSI(text, u)
+		if err != nil {
+			bad(name, ruleOf(err), numberMessage(err, u))
+			return nan
+		}
+		return v
+	}
+	required := func(name string, u unitSpec) float64 { return requiredText(name, f.value(name), u) }
+	optional := func(name string, u unitSpec) *float64 {
+		v, err := parseSI(f.value(name), u)
+		if err == errSIEmpty {
+			return nil
+		}
+		if err != nil {
+			bad(name, "number", err.Error())
+			v = nan
+		}
+		return &v
+	}
+	optionalCount := func(name string) *int {
+		v, err := parseCount(f.value(name), unitCount)
+		if err == errSIEmpty {
+			return nil
+		}
+		if err != nil {
+			bad(name, "number", err.Error())
+			return nil
+		}
+		return &v
+	}
+
+	d.Window.MaxV = required("window.max_v", unitVolt)
+	d.Window.MinV = required("window.min_v", unitVolt)
+	d.CellMaxV = optional("cell_max_v", unitVolt)
+	d.Load.Efficiency = optional("load.efficiency", unitFraction)
+	d.Load.Repeat = optionalCount("load.repeat")
+	for i, r := range f.steps {
+		p := fmt.Sprintf("load.steps[%d]", i)
+		s := sizing.Step{DurationS: requiredText(p+".duration_s", r.Duration, unitSecond)}
+		switch r.Kind {
+		case "power", "current", "resistance":
+			v := requiredText(p+".value", r.Value, stepValueUnit(r.Kind))
+			switch r.Kind {
+			case "power":
+				s.PowerW = &v
+			case "current":
+				s.CurrentA = &v
+			default:
+				s.ResistanceOhm = &v
+			}
+		case "rest":
+			s.Rest = true
+			if strings.TrimSpace(r.Value) != "" {
+				bad(p+".value", "rest_value", "is not used by a rest step; clear it, or choose power, current or resistance")
+			}
+		default:
+			s.Rest = true // a placeholder, so the step is not reported a second time
+			bad(p+".kind", "oneof", "must be one of: power, current, resistance, rest")
+		}
+		d.Load.Steps = append(d.Load.Steps, s)
+	}
+	eol := sizing.EOL{
+		CapacitanceFactor: optional("eol.capacitance_factor", unitFactor),
+		ESRFactor:         optional("eol.esr_factor", unitFactor),
+	}
+	if eol.CapacitanceFactor != nil || eol.ESRFactor != nil {
+		d.EOL = &eol
+	}
+	d.AmbientC = optional("ambient_c", unitCelsius)
+	d.ColdC = optional("cold_c", unitCelsius)
+	d.LifeYears = optional("life_years", unitYear)
+	d.StandbyH = optional("standby_h", unitHour)
+	switch rb := f.value("rank_by"); rb {
+	case "", "price", "cells", "mass", "volume":
+		d.RankBy = rb
+	default:
+		bad("rank_by", "oneof", "must be one of: price, cells, mass, volume")
+	}
+
+	known := map[string]bool{}
+	for _, c := range democells.All() {
+		known[c.ID] = true
+		if f.picked[c.ID] {
+			d.Cells = append(d.Cells, c)
+			out.sources = append(out.sources, c.ID)
+		}
+	}
+	for id := range f.picked {
+		if !known[id] {
+			bad("cells.pick", "unknown", fmt.Sprintf("has %q, which is not one of the demo cells", id))
+		}
+	}
+	if c, ok := f.inlineCell(required, optional); ok {
+		d.Cells = append(d.Cells, c)
+		out.sources = append(out.sources, "")
+	}
+	return out
+}
+
+// inlineCell reads the cell typed into the form; ok is false when every
+// one of its fields is empty.
+func (f *designForm) inlineCell(required func(string, unitSpec) float64, optional func(string, unitSpec) *float64) (sizing.Cell, bool) {
+	any := false
+	for _, fl := range inlineFields {
+		if strings.TrimSpace(f.value(fl.Name)) != "" {
+			any = true
+		}
+	}
+	if !any {
+		return sizing.Cell{}, false
+	}
+	c := sizing.Cell{
+		ID:                     strings.TrimSpace(f.value("inline.id")),
+		Name:                   strings.TrimSpace(f.value("inline.name")),
+		RatedV:                 required("inline.rated_v", unitVolt),
+		SurgeV:                 optional("inline.surge_v", unitVolt),
+		CapacitanceF:           required("inline.capacitance_f", unitFarad),
+		ESROhm:                 required("inline.esr_ohm", unitOhm),
+		ColdESRFactor:          optional("inline.cold_esr_factor", unitFactor),
+		ColdESRTempC:           optional("inline.cold_esr_temp_c", unitCelsius),
+		LeakageA:               optional("inline.leakage_a", unitAmp),
+		MaxCurrentA:            optional("inline.max_current_a", unitAmp),
+		PeakCurrentA:           optional("inline.peak_current_a", unitAmp),
+		ThermalResistanceKPerW: optional("inline.thermal_resistance_k_per_w", unitKPerW),
+		MinTempC:               optional("inline.min_temp_c", unitCelsius),
+		MaxTempC:               optional("inline.max_temp_c", unitCelsius),
+		MassKg:                 optional("inline.mass_kg", unitKilogram),
+		VolumeL:                optional("inline.volume_l", unitLitre),
+		UnitPrice:              optional("inline.unit_price", unitCurrencyEa),
+		RatedLifeH:             optional("inline.rated_life_h", unitHour),
+		RatedLifeTempC:         optional("inline.rated_life_temp_c", unitCelsius),
+		SpecificHeatJPerKgK:    optional("inline.specific_heat_j_per_kg_k", unitJPerKgK),
+		Electrolyte:            f.value("inline.electrolyte"),
+	}
+	minus := optional("inline.capacitance_tolerance_pct[0]", unitPercent)
+	plus := optional("inline.capacitance_tolerance_pct[1]", unitPercent)
+	switch {
+	case minus != nil && plus != nil:
+		c.CapacitanceTolerancePct = []float64{*minus, *plus}
+	case minus != nil:
+		c.CapacitanceTolerancePct = []float64{*minus} // sizing.Validate asks for both
+	case plus != nil:
+		c.CapacitanceTolerancePct = []float64{*plus}
+	}
+	return c, true
+}
+
+func ruleOf(err error) string {
+	if err == errSIEmpty {
+		return "required"
+	}
+	return "number"
+}
+
+var (
+	stepValuePath = regexp.MustCompile(`^load\.steps\[(\d+)\]\.(power_w|current_a|resistance_ohm|rest)$`)
+	cellPath      = regexp.MustCompile(`^cells\[(\d+)\](.*)$`)
+)
+
+// formProblems translates sizing's field paths into the form's inputs: a
+// step's power_w, current_a or resistance_ohm is its value input, a typed
+// cell's keys are inline.*, a demo cell's problem goes to the cell picker
+// naming the cell. Problems on a field that already failed to decode are
+// dropped: the decoding message says what to fix first.
+func formProblems(dec decoded, validation sizing.ValidationError) sizing.ValidationError {
+	out := slices.Clone(dec.problems)
+	seen := map[string]bool{}
+	for _, p := range dec.problems {
+		seen[p.Field] = true
+	}
+	for _, e := range validation {
+		e.Field, e.Message = formPath(e.Field, e.Message, dec.sources)
+		if seen[e.Field] {
+			continue
+		}
+		out = append(out, e)
+	}
+	return out
+}
+
+func formPath(path, msg string, sources []string) (string, string) {
+	if m := stepValuePath.FindStringSubmatch(path); m != nil {
+		return "load.steps[" + m[1] + "].value", msg
+	}
+	if m := cellPath.FindStringSubmatch(path); m != nil {
+		k, _ := strconv.Atoi(m[1])
+		if k < len(sources) && sources[k] == "" {
+			if m[2] == "" {
+				return "inline.id", msg
+			}
+			return "inline" + m[2], msg
+		}
+		id := path
+		if k < len(sources) {
+			id = sources[k]
+		}
+		return "cells.pick", id + m[2] + ": " + msg
+	}
+	switch {
+	case path == "cells" && strings.HasPrefix(msg, "must have at least"):
+		return "cells.pick", "pick at least one demo cell, or enter a cell of your own below"
+	case path == "cells":
+		return "cells.pick", msg
+	case path == "load.steps" && strings.HasPrefix(msg, "must have at least"):
+		return path, "add at least one step"
+	}
+	return path, msg
+}

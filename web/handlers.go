@@ -1,0 +1,207 @@
+package web
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"mime/multipart"
+	"net/http"
+	"net/url"
+	"slices"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/components"
+	"capbank/sizing"
+)
+
+// maxFormMemory is how much of a multipart form is held in memory; the
+// rest of an upload goes to a temporary file that net/http removes.
+const maxFormMemory = 4 << 20
+
+// maxLastGood is the largest design the page carries back for showing
+// stale results; a larger one is simply not carried.
+const maxLastGood = 512 << 10
+
+// evaluation is a form read, decoded and sized.
+type evaluation struct {
+	form     *designForm
+	dec      decoded
+	problems sizing.ValidationError
+	// report is the design's report, or, when the design has problems and
+	// stale is set, the report of the last design that sized.
+	report *sizing.Report
+	// sized is the design the report is of.
+	sized *sizing.Design
+	stale bool
+	// pristine is a new, empty form: nothing is reported missing yet.
+	pristine bool
+}
+
+// evaluate decodes the form and sizes it. Problems from decoding and from
+// sizing.Validate are reported together, each beside its field; when there
+// are any and the form carries the last design that sized, that design's
+// report comes back marked stale.
+func evaluate(f *designForm) *evaluation {
+	ev := evaluateDesign(f)
+	ev.problems = append(slices.Clone(f.actionProblems), ev.problems...)
+	return ev
+}
+
+func evaluateDesign(f *designForm) *evaluation {
+	ev := &evaluation{form: f, dec: f.decode()}
+	if len(ev.dec.problems) > 0 {
+		ev.problems = formProblems(ev.dec, validationErrors(sizing.Validate(ev.dec.design)))
+	} else {
+		rep, err := sizing.Size(ev.dec.design)
+		switch {
+		case err == nil:
+			ev.report, ev.sized = rep, ev.dec.design
+			return ev
+		case errors.As(err, new(sizing.ValidationError)):
+			ev.problems = formProblems(ev.dec, validationErrors(err))
+		default:
+			p := problemFor(err)
+			ev.problems = sizing.ValidationError{{Field: "design", Rule: "size", Message: p.Title + ": " + p.Detail}}
+		}
+	}
+	if f.lastGood != "" && len(f.lastGood) <= maxLastGood {
+		if d, err := sizing.DecodeDesign(strings.NewReader(f.lastGood)); err == nil {
+			if rep, err := sizing.Size(d); err == nil {
+				ev.report, ev.sized, ev.stale = rep, d, true
+			}
+		}
+	}
+	return ev
+}
+
+func validationErrors(err error) sizing.ValidationError {
+	var ve sizing.ValidationError
+	errors.As(err, &ve)
+	return ve
+}
+
+// readPosted reads the posted form and carries out its action.
+func readPosted(c echo.Context) (*designForm, error) {
+	r := c.Request()
+	var file *multipart.FileHeader
+	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
+		if err := r.ParseMultipartForm(maxFormMemory); err != nil {
+			return nil, formReadError(err)
+		}
+		if fs := r.MultipartForm.File["profile_csv"]; len(fs) > 0 {
+			file = fs[0]
+		}
+	} else if err := r.ParseForm(); err != nil {
+		return nil, formReadError(err)
+	}
+	vals := r.PostForm
+	if vals == nil {
+		vals = url.Values{}
+	}
+	f := readForm(vals)
+	f.apply(vals.Get("action"), file)
+	return f, nil
+}
+
+func formReadError(err error) error {
+	var mbe *http.MaxBytesError
+	if errors.As(err, &mbe) {
+		return mbe
+	}
+	return &formError{err: err}
+}
+
+// getPage is GET /: the example design with its results, or with ?new an
+// empty form.
+func (s *Server) getPage(c echo.Context) error {
+	if c.QueryParams().Has("new") {
+		ev := &evaluation{form: blankForm(), pristine: true}
+		return s.render(c, http.StatusOK, components.Page(s.pageProps(ev)))
+	}
+	return s.render(c, http.StatusOK, components.Page(s.pageProps(evaluate(exampleForm()))))
+}
+
+// postPage is POST / without JavaScript: the whole page again, with the
+// results or with every problem beside its field (422).
+func (s *Server) postPage(c echo.Context) error {
+	f, err := readPosted(c)
+	if err != nil {
+		return err
+	}
+	ev := evaluate(f)
+	status := http.StatusOK
+	if len(ev.problems) > 0 {
+		status = http.StatusUnprocessableEntity
+	}
+	return s.render(c, status, components.Page(s.pageProps(ev)))
+}
+
+// postWorkspace is the htmx answer to an edit of the step list, a pulse
+// train or a profile upload: the form and the results together.
+func (s *Server) postWorkspace(c echo.Context) error {
+	f, err := readPosted(c)
+	if err != nil {
+		return err
+	}
+	return s.render(c, http.StatusOK, components.Workspace(s.pageProps(evaluate(f))))
+}
+
+// postResults is the htmx answer to typing: the results panel and every
+// field's message. With problems, only the status line changes, so the
+// last results stay in view, marked stale.
+func (s *Server) postResults(c echo.Context) error {
+	f, err := readPosted(c)
+	if err != nil {
+		return err
+	}
+	ev := evaluate(f)
+	p := s.pageProps(ev)
+	slots, units := formSlots(p.Form)
+	if len(ev.problems) > 0 && f.lastGood != "" {
+		h := c.Response().Header()
+		h.Set("HX-Retarget", "#results-status")
+		h.Set("HX-Reswap", "outerHTML")
+		return s.render(c, http.StatusOK, components.StaleUpdate(p.Results.Status, slots, units, p.Form.Problems))
+	}
+	return s.render(c, http.StatusOK, components.ResultsUpdate(p.Results, slots, units, p.Form.Problems))
+}
+
+// lastGoodJSON is the design file of a design that sized, for the form to
+// carry; "" when it is too large to carry.
+func lastGoodJSON(d *sizing.Design) string {
+	data, err := json.Marshal(d)
+	if err != nil || len(data) > maxLastGood {
+		return ""
+	}
+	return string(data)
+}
+
+// blankForm is a new design: one empty power step, nothing picked.
+func blankForm() *designForm {
+	return readForm(url.Values{"load.steps[0].kind": {"power"}})
+}
+
+// exampleForm is the design the page opens with: invented, and named so.
+func exampleForm() *designForm {
+	v := url.Values{
+		"name":            {"Example: 48 V controller hold-up (invented)"},
+		"window.max_v":    {"48"},
+		"window.min_v":    {"24"},
+		"cell_max_v":      {"2.5"},
+		"load.efficiency": {"92%"},
+		"ambient_c":       {"30"},
+		"cold_c":          {"-20"},
+		"life_years":      {"10"},
+		"cells.pick":      {"demo-2v7-650f", "demo-2v7-1200f", "demo-3v0-500f", "demo-hy-3v8-250f"},
+	}
+	steps := []stepRow{{"power", "350", "15"}, {"power", "1.5k", "2"}, {"power", "350", "10"}}
+	for i, s := range steps {
+		p := fmt.Sprintf("load.steps[%d].", i)
+		v.Set(p+"kind", s.Kind)
+		v.Set(p+"value", s.Value)
+		v.Set(p+"duration_s", s.Duration)
+	}
+	return readForm(v)
+}

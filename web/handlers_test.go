@@ -1,0 +1,547 @@
+package web
+
+import (
+	"encoding/json"
+	"net/http"
+	"os"
+	"reflect"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/components"
+	"capbank/sizing"
+	"capbank/web/democells"
+)
+
+func fp(v float64) *float64 { return &v }
+
+// wantDesign is designValues as the design file would give it.
+func wantDesign(t *testing.T) *sizing.Design {
+	t.Helper()
+	var cells []sizing.Cell
+	for _, id := range []string{"demo-2v7-650f", "demo-3v0-500f"} {
+		c, ok := democells.ByID(id)
+		if !ok {
+			t.Fatalf("no demo cell %s", id)
+		}
+		cells = append(cells, c)
+	}
+	return &sizing.Design{
+		Window: sizing.Window{MaxV: 48, MinV: 24},
+		Load:   sizing.Load{Steps: []sizing.Step{{PowerW: fp(1500), DurationS: 10}}},
+		Cells:  cells,
+	}
+}
+
+// wantBank is the headline the engine gives for wantDesign.
+func wantBank(t *testing.T) string {
+	t.Helper()
+	rep, err := sizing.Size(wantDesign(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Recommended == nil {
+		t.Fatal("the test design recommends nothing")
+	}
+	return components.BankText(rep.Candidates[0])
+}
+
+// The form decodes into exactly the design the command line would read:
+// SI prefixes applied, empty optional fields nil, nothing defaulted to 0.
+func TestFormDecodesToTheDesign(t *testing.T) {
+	t.Parallel()
+	dec := readForm(designValues()).decode()
+	if len(dec.problems) > 0 {
+		t.Fatalf("problems: %v", dec.problems)
+	}
+	got, _ := json.Marshal(dec.design)
+	want, _ := json.Marshal(wantDesign(t))
+	if string(got) != string(want) {
+		t.Fatalf("decoded design\n%s\nwant\n%s", got, want)
+	}
+	d := dec.design
+	if d.CellMaxV != nil || d.Load.Efficiency != nil || d.Load.Repeat != nil || d.EOL != nil || d.AmbientC != nil ||
+		d.ColdC != nil || d.LifeYears != nil || d.StandbyH != nil {
+		t.Errorf("an empty optional field decoded to a value: %+v", d)
+	}
+}
+
+func TestFormDecodesEveryField(t *testing.T) {
+	t.Parallel()
+	v := designValues()
+	for k, val := range map[string]string{
+		"cell_max_v": "2.5 V", "load.efficiency": "92 %", "load.repeat": "3", "eol.capacitance_factor": "0.7",
+		"eol.esr_factor": "250%", "ambient_c": "40 °C", "cold_c": "−30", "life_years": "8 years", "standby_h": "12h",
+		"rank_by": "mass", "load.steps[1].kind": "current", "load.steps[1].value": "-2 A", "load.steps[1].duration_s": "500m",
+		"load.steps[2].kind": "resistance", "load.steps[2].value": "2.2 Ω", "load.steps[2].duration_s": "1k",
+		"load.steps[3].kind": "rest", "load.steps[3].duration_s": "4",
+		"inline.id": "mine", "inline.rated_v": "2.7", "inline.capacitance_f": "100F", "inline.esr_ohm": "8 mΩ",
+		"inline.capacitance_tolerance_pct[0]": "-10", "inline.capacitance_tolerance_pct[1]": "20", "inline.mass_kg": "22 g",
+		"inline.electrolyte": "organic",
+	} {
+		v.Set(k, val)
+	}
+	dec := readForm(v).decode()
+	if len(dec.problems) > 0 {
+		t.Fatalf("problems: %v", dec.problems)
+	}
+	d := dec.design
+	// Each expected value is the typed text read by hand with its SI prefix.
+	checks := []struct {
+		name      string
+		got, want float64
+	}{
+		{"cell_max_v", *d.CellMaxV, 2.5},
+		{"load.efficiency", *d.Load.Efficiency, 0.92},
+		{"load.repeat", float64(*d.Load.Repeat), 3},
+		{"eol.capacitance_factor", *d.EOL.CapacitanceFactor, 0.7},
+		{"eol.esr_factor", *d.EOL.ESRFactor, 2.5},
+		{"ambient_c", *d.AmbientC, 40},
+		{"cold_c", *d.ColdC, -30},
+		{"life_years", *d.LifeYears, 8},
+		{"standby_h", *d.StandbyH, 12},
+		{"steps[1] current", *d.Load.Steps[1].CurrentA, -2},
+		{"steps[1] duration", d.Load.Steps[1].DurationS, 0.5},
+		{"steps[2] resistance", *d.Load.Steps[2].ResistanceOhm, 2.2},
+		{"steps[2] duration", d.Load.Steps[2].DurationS, 1000},
+		{"inline esr", d.Cells[2].ESROhm, 0.008},
+		{"inline mass", *d.Cells[2].MassKg, 0.022},
+		{"inline tolerance minus", d.Cells[2].CapacitanceTolerancePct[0], -10},
+	}
+	for _, c := range checks {
+		if diff := c.got - c.want; diff > 1e-12 || diff < -1e-12 {
+			t.Errorf("%s = %g, want %g", c.name, c.got, c.want)
+		}
+	}
+	if d.RankBy != "mass" || !d.Load.Steps[3].Rest || d.Cells[2].ID != "mine" || d.Cells[2].Electrolyte != "organic" {
+		t.Errorf("decoded %+v", d)
+	}
+}
+
+func TestGetPageShowsTheExample(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := get(t, s, "/")
+	wantStatus(t, rec, http.StatusOK)
+	if ct := rec.Header().Get("Content-Type"); !strings.HasPrefix(ct, "text/html") {
+		t.Errorf("Content-Type %q", ct)
+	}
+	doc := parse(t, rec)
+	if bank := text(doc, `[data-testid=bank]`); !strings.Contains(bank, " s × ") || !strings.Contains(bank, "cells") {
+		t.Errorf("headline %q, want a bank like 20 s × 1 p, 20 cells", bank)
+	}
+	if v, _ := doc.Find(`input[name="window.max_v"]`).Attr("value"); v != "48" {
+		t.Errorf("window.max_v shows %q", v)
+	}
+	if !strings.Contains(text(doc, "[data-testid=summary]"), "invented") {
+		t.Error("the example does not say it is invented")
+	}
+	if n := doc.Find(`script[src^="/static/htmx.min.js?v="]`).Length(); n != 1 {
+		t.Errorf("%d htmx scripts", n)
+	}
+	if n := doc.Find(`[data-testid=chart-voltage] svg text`).FilterFunction(func(_ int, s *goquery.Selection) bool {
+		return s.Text() == "Time (s)" || s.Text() == "Voltage (V)"
+	}).Length(); n != 2 {
+		t.Errorf("voltage chart has %d of its 2 axis labels", n)
+	}
+	// Every input has a label.
+	doc.Find("input[type=text], select, input[type=checkbox], input[type=file]").Each(func(_ int, in *goquery.Selection) {
+		id, _ := in.Attr("id")
+		if id == "" || doc.Find(`label[for="`+id+`"]`).Length() == 0 {
+			name, _ := in.Attr("name")
+			t.Errorf("input %q (id %q) has no label", name, id)
+		}
+	})
+}
+
+func TestGetNewPageIsEmpty(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := get(t, s, "/?new=1")
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if doc.Find("[data-testid=bank]").Length() != 0 {
+		t.Error("a new design shows a bank")
+	}
+	if !strings.Contains(text(doc, "[data-testid=results-empty]"), "appears here") {
+		t.Errorf("empty results say %q", text(doc, "[data-testid=results-empty]"))
+	}
+	if doc.Find("#problems li").Length() != 0 || strings.TrimSpace(doc.Find(".msg").Text()) != "" {
+		t.Error("a new design shows problems before anything is typed")
+	}
+	if n := doc.Find("[data-testid=step-row]").Length(); n != 1 {
+		t.Errorf("%d step rows, want 1", n)
+	}
+}
+
+// Without JavaScript the form posts to / and gets the whole page with the
+// results, showing what was typed as typed.
+func TestPostPageSizes(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := postForm(t, s, "/", designValues(), false)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if got, want := text(doc, "[data-testid=bank]"), wantBank(t); got != want {
+		t.Errorf("headline %q, want %q", got, want)
+	}
+	if v, _ := doc.Find(`input[name="load.steps[0].value"]`).Attr("value"); v != "1.5k" {
+		t.Errorf("step value shows %q, want 1.5k as typed", v)
+	}
+	if doc.Find("[data-testid=candidate]").Length() != 2 {
+		t.Error("want both candidates in the table")
+	}
+	if doc.Find("html").Length() != 1 || doc.Find("#design-form").Length() != 1 {
+		t.Error("POST / must return the whole page")
+	}
+}
+
+// Every bad field gets its own message beside it, not only the first, and
+// the status is 422.
+func TestPostPageShowsEveryProblem(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v.Set("window.min_v", "60")              // above the top: sizing.Validate's cross-field rule
+	v.Set("load.steps[0].duration_s", "ten") // not a number: decoding
+	v.Set("ambient_c", "2,5")                // decimal comma
+	v.Set("load.efficiency", "1.5")          // out of range: sizing.Validate
+	rec := postForm(t, s, "/", v, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc := parse(t, rec)
+	for id, want := range map[string]string{
+		"#msg-window-min_v":            "must be below window.max_v (60 V ≥ 48 V)",
+		"#msg-load-steps-0-duration_s": notANumber,
+		"#msg-ambient_c":               "comma",
+		"#msg-load-efficiency":         "must be at most 1",
+	} {
+		if got := text(doc, id); !strings.Contains(got, want) {
+			t.Errorf("%s says %q, want %q", id, got, want)
+		}
+	}
+	if n := doc.Find("#problems li").Length(); n != 4 {
+		t.Errorf("summary lists %d problems, want 4:\n%s", n, text(doc, "#problems"))
+	}
+	if href, _ := doc.Find("#problems a").First().Attr("href"); href == "" || doc.Find(href).Length() != 1 {
+		t.Errorf("summary link %q does not lead to a field", href)
+	}
+	if v, _ := doc.Find(`input[name="ambient_c"]`).Attr("value"); v != "2,5" {
+		t.Errorf("ambient_c shows %q, want what was typed", v)
+	}
+	if doc.Find("[data-testid=bank]").Length() != 0 {
+		t.Error("a design with problems and no earlier results shows a bank")
+	}
+}
+
+// The form carries the last design that sized; with problems, its results
+// come back marked stale.
+func TestPostPageKeepsStaleResults(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	good := parse(t, postForm(t, s, "/", designValues(), false))
+	last, ok := good.Find(`input[name=last_good]`).Attr("value")
+	if !ok || !strings.Contains(last, `"max_v":48`) {
+		t.Fatalf("last_good = %q", last)
+	}
+	v := designValues()
+	v.Set("window.max_v", "20")
+	v.Set("last_good", last)
+	rec := postForm(t, s, "/", v, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc := parse(t, rec)
+	if got, want := text(doc, "[data-testid=bank]"), wantBank(t); got != want {
+		t.Errorf("stale headline %q, want %q", got, want)
+	}
+	status := text(doc, "[data-testid=results-status]")
+	if !strings.Contains(status, "Out of date") || !strings.Contains(status, "last design that sized") {
+		t.Errorf("status %q does not mark the results stale", status)
+	}
+	if got := text(doc, "#msg-window-min_v"); !strings.Contains(got, "must be below window.max_v") {
+		t.Errorf("message %q", got)
+	}
+}
+
+// The htmx update returns the results panel and the field messages out of
+// band, not the page.
+func TestPostResultsFragment(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := postForm(t, s, "/results", designValues(), true)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if doc.Find("#design-form").Length() != 0 || strings.Contains(rec.Body.String(), "<html") {
+		t.Error("the fragment holds the form or a whole page")
+	}
+	if got, want := text(doc, "#results [data-testid=bank]"), wantBank(t); got != want {
+		t.Errorf("headline %q, want %q", got, want)
+	}
+	if n := doc.Find(`[hx-swap-oob=true]#msg-window-min_v`).Length(); n != 1 {
+		t.Errorf("%d out-of-band slots for window.min_v", n)
+	}
+	if rec.Header().Get("HX-Retarget") != "" {
+		t.Error("a valid design must not retarget")
+	}
+}
+
+func TestPostResultsWithProblemsMarksStale(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	good := parse(t, postForm(t, s, "/results", designValues(), true))
+	last, _ := good.Find(`input[name=last_good]`).Attr("value")
+	v := designValues()
+	v.Set("window.min_v", "50")
+	v.Set("last_good", last)
+	rec := postForm(t, s, "/results", v, true)
+	wantStatus(t, rec, http.StatusOK)
+	if got := rec.Header().Get("HX-Retarget"); got != "#results-status" {
+		t.Errorf("HX-Retarget %q, want #results-status", got)
+	}
+	doc := parse(t, rec)
+	if !strings.Contains(text(doc, "#results-status"), "Out of date") {
+		t.Errorf("status %q", text(doc, "#results-status"))
+	}
+	if got := text(doc, "#msg-window-min_v[hx-swap-oob]"); !strings.Contains(got, "must be below window.max_v (50 V ≥ 48 V)") {
+		t.Errorf("out-of-band message %q", got)
+	}
+	if doc.Find("#results").Length() != 0 {
+		t.Error("the stale answer replaced the results")
+	}
+}
+
+// stepValues returns the values shown in the step rows, in order.
+func stepValues(doc *goquery.Document) []string {
+	var out []string
+	doc.Find("[data-testid=step-row]").Each(func(_ int, row *goquery.Selection) {
+		kind, _ := row.Find("select option[selected]").Attr("value")
+		val, _ := row.Find(`input[name$=".value"]`).Attr("value")
+		dur, _ := row.Find(`input[name$=".duration_s"]`).Attr("value")
+		out = append(out, kind+" "+val+" "+dur)
+	})
+	return out
+}
+
+func TestStepEditing(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	base := designValues()
+	base.Set("load.steps[1].kind", "current")
+	base.Set("load.steps[1].value", "20")
+	base.Set("load.steps[1].duration_s", "3")
+	base.Set("load.steps[2].kind", "rest")
+	base.Set("load.steps[2].duration_s", "5")
+	cases := []struct {
+		action string
+		want   []string
+	}{
+		{"step-up:1", []string{"current 20 3", "power 1.5k 10", "rest  5"}},
+		{"step-down:0", []string{"current 20 3", "power 1.5k 10", "rest  5"}},
+		{"step-up:0", []string{"power 1.5k 10", "current 20 3", "rest  5"}}, // the first cannot go up
+		{"remove-step:1", []string{"power 1.5k 10", "rest  5"}},
+		{"add-step", []string{"power 1.5k 10", "current 20 3", "rest  5", "rest  "}},
+		{"remove-step:9", []string{"power 1.5k 10", "current 20 3", "rest  5"}}, // no such step
+	}
+	for _, c := range cases {
+		t.Run(c.action, func(t *testing.T) {
+			t.Parallel()
+			v := clone(base)
+			v.Set("action", c.action)
+			rec := postForm(t, s, "/workspace", v, true)
+			wantStatus(t, rec, http.StatusOK)
+			doc := parse(t, rec)
+			if got := stepValues(doc); !reflect.DeepEqual(got, c.want) {
+				t.Errorf("steps %q, want %q", got, c.want)
+			}
+			if doc.Find("#workspace #design-form").Length() != 1 || doc.Find("#workspace #results").Length() != 1 {
+				t.Error("the workspace answer needs the form and the results")
+			}
+		})
+	}
+}
+
+func TestPulseTrain(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	for k, val := range map[string]string{"pulse.kind": "current", "pulse.value": "60", "pulse.duration_s": "0.5",
+		"pulse.rest_s": "4.5", "pulse.count": "3", "action": "add-pulses"} {
+		v.Set(k, val)
+	}
+	rec := postForm(t, s, "/", v, false)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	want := []string{"power 1.5k 10", "current 60 0.5", "rest  4.5", "current 60 0.5", "rest  4.5", "current 60 0.5", "rest  4.5"}
+	if got := stepValues(doc); !reflect.DeepEqual(got, want) {
+		t.Errorf("steps %q, want %q", got, want)
+	}
+	if !strings.Contains(text(doc, "[data-testid=notice]"), "Added 3 pulses") {
+		t.Errorf("notice %q", text(doc, "[data-testid=notice]"))
+	}
+
+	bad := designValues()
+	for k, val := range map[string]string{"pulse.kind": "current", "pulse.value": "", "pulse.duration_s": "0.5",
+		"pulse.rest_s": "x", "pulse.count": "0", "action": "add-pulses"} {
+		bad.Set(k, val)
+	}
+	rec = postForm(t, s, "/", bad, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc = parse(t, rec)
+	for id, want := range map[string]string{"#msg-pulse-value": "is required", "#msg-pulse-rest_s": notANumber, "#msg-pulse-count": "from 1 to 200"} {
+		if got := text(doc, id); !strings.Contains(got, want) {
+			t.Errorf("%s says %q, want %q", id, got, want)
+		}
+	}
+	if got := stepValues(doc); len(got) != 1 {
+		t.Errorf("bad pulses changed the steps: %q", got)
+	}
+	if _, open := doc.Find("#pulse-train").Attr("open"); !open {
+		t.Error("the pulse train with problems is folded away")
+	}
+}
+
+func TestProfileCSVUpload(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	data, err := os.ReadFile("../testdata/profiles/pulse_current.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := sizing.ParseProfileCSV(strings.NewReader(string(data)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := designValues()
+	v.Set("action", "load-csv")
+	rec := postMultipart(t, s, "/", v, "profile_csv", "pulse_current.csv", string(data))
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if got := len(stepValues(doc)); got != len(p.Steps) {
+		t.Errorf("%d step rows, want the %d steps of the file", got, len(p.Steps))
+	}
+	wantNotice := "Loaded pulse_current.csv: " + strconv.Itoa(p.Rows) + " rows of current_a became " + strconv.Itoa(len(p.Steps)) + " steps"
+	if got := text(doc, "[data-testid=notice]"); !strings.Contains(got, wantNotice) {
+		t.Errorf("notice %q, want %q", got, wantNotice)
+	}
+	if doc.Find("[data-testid=bank]").Length() != 1 {
+		t.Error("no bank for the loaded profile")
+	}
+
+	bad := "time_s,power_w\n0,100\n1,abc\n"
+	rec = postMultipart(t, s, "/", v, "profile_csv", "bad.csv", bad)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc = parse(t, rec)
+	if got := text(doc, "#msg-profile_csv"); !strings.Contains(got, "bad.csv: line 3, power_w:") {
+		t.Errorf("CSV message %q, want the line and column", got)
+	}
+	if got := stepValues(doc); len(got) != 1 {
+		t.Errorf("a bad file changed the steps: %q", got)
+	}
+	if got, want := text(doc, "[data-testid=bank]"), wantBank(t); got != want {
+		t.Errorf("with a bad file the unchanged design shows %q, want %q", got, want)
+	}
+
+	rec = postMultipart(t, s, "/", v, "", "", "")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if got := text(parse(t, rec), "#msg-profile_csv"); !strings.Contains(got, "choose a CSV file first") {
+		t.Errorf("no file: message %q", got)
+	}
+}
+
+func TestCandidateOrder(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v["cells.pick"] = []string{"demo-2v7-350f", "demo-2v7-650f", "demo-2v7-1200f", "demo-3v0-1500f"}
+	order := func(sortBy string) []string {
+		vv := clone(v)
+		if sortBy != "" {
+			vv.Set("sort_by", sortBy)
+		}
+		rec := postForm(t, s, "/results", vv, true)
+		wantStatus(t, rec, http.StatusOK)
+		var ids []string
+		parse(t, rec).Find("[data-testid=candidate]").Each(func(_ int, r *goquery.Selection) {
+			id, _ := r.Attr("data-cell")
+			ids = append(ids, id)
+		})
+		return ids
+	}
+	rep, err := sizing.Size(readForm(v).decode().design)
+	if err != nil {
+		t.Fatal(err)
+	}
+	byID := map[string]sizing.Candidate{}
+	for _, c := range rep.Candidates {
+		byID[c.CellID] = c
+	}
+	ascending := func(name string, ids []string, key func(sizing.Candidate) float64) {
+		for i := 1; i < len(ids); i++ {
+			if key(byID[ids[i-1]]) > key(byID[ids[i]]) {
+				t.Errorf("by %s: %v is not in order", name, ids)
+			}
+		}
+	}
+	ascending("mass", order("mass"), func(c sizing.Candidate) float64 { return *c.MassKg })
+	ascending("price", order("price"), func(c sizing.Candidate) float64 { return *c.TotalPrice })
+	ascending("cells", order("cells"), func(c sizing.Candidate) float64 { return float64(c.Cells) })
+	ascending("runtime (longest first)", order("runtime"), func(c sizing.Candidate) float64 { return -*c.RuntimeS })
+	var rank []string
+	for _, c := range rep.Candidates {
+		rank = append(rank, c.CellID)
+	}
+	if got := order(""); !reflect.DeepEqual(got, rank) {
+		t.Errorf("default order %v, want the report's rank %v", got, rank)
+	}
+	if got := order("rank"); !reflect.DeepEqual(got, rank) {
+		t.Errorf("rank order %v, want %v", got, rank)
+	}
+}
+
+func TestHealthz(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := get(t, s, "/healthz")
+	wantStatus(t, rec, http.StatusOK)
+	if strings.TrimSpace(rec.Body.String()) != `{"status":"ok"}` {
+		t.Errorf("body %q", rec.Body.String())
+	}
+}
+
+func TestStaticFiles(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	for path, ctype := range map[string]string{"/static/capbank.css": "text/css", "/static/htmx.min.js": "text/javascript", "/static/htmx.LICENSE": "text/plain"} {
+		rec := get(t, s, path)
+		wantStatus(t, rec, http.StatusOK)
+		if !strings.HasPrefix(rec.Header().Get("Content-Type"), ctype) {
+			t.Errorf("%s: Content-Type %q", path, rec.Header().Get("Content-Type"))
+		}
+	}
+	wantStatus(t, get(t, s, "/static/nope.css"), http.StatusNotFound)
+	wantStatus(t, get(t, s, "/static/../web/api.go"), http.StatusNotFound)
+}
+
+// The page with its stylesheet and script stays light: measured as sent
+// (gzip, as browsers ask) and as unpacked.
+func TestFirstPageWeight(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	var sent, raw int
+	for _, path := range []string{"/", s.css, s.js} {
+		req, _ := http.NewRequest(http.MethodGet, path, nil)
+		req.Header.Set("Accept-Encoding", "gzip")
+		rec := serve(s, req)
+		wantStatus(t, rec, http.StatusOK)
+		sent += rec.Body.Len()
+		raw += get(t, s, path).Body.Len()
+	}
+	t.Logf("first page: %d bytes sent, %d bytes unpacked", sent, raw)
+	if sent > 75_000 {
+		t.Errorf("first page sends %d bytes, want well under 150 kB", sent)
+	}
+	if raw > 200_000 {
+		t.Errorf("first page unpacks to %d bytes", raw)
+	}
+}

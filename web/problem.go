@@ -1,0 +1,154 @@
+package web
+
+import (
+	"errors"
+	"fmt"
+	"net/http"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/components"
+	"capbank/sizing"
+)
+
+// problem is an RFC 9457 problem document.
+type problem struct {
+	Type   string `json:"type"`
+	Title  string `json:"title"`
+	Status int    `json:"status"`
+	Detail string `json:"detail,omitempty"`
+	// Errors lists every problem with a field, by its path in the design
+	// file.
+	Errors []sizing.FieldError `json:"errors,omitempty"`
+}
+
+// Problem types. The type URIs are relative references into this server;
+// the OpenAPI document describes each.
+const (
+	typeMalformed  = "/problems/malformed-design"
+	typeInvalid    = "/problems/invalid-design"
+	typeUnsizable  = "/problems/unsizable-design"
+	typeTooLarge   = "/problems/too-large"
+	typeMediaType  = "/problems/unsupported-media-type"
+	typeBadForm    = "/problems/unreadable-form"
+	typeHTTP       = "about:blank"
+	problemJSON    = "application/problem+json"
+	problemCharset = problemJSON + "; charset=utf-8"
+)
+
+// malformedError is a design file that could not be decoded: not JSON, a
+// key that is not a design key, a value of the wrong type.
+type malformedError struct{ errs sizing.ValidationError }
+
+func (e *malformedError) Error() string { return e.errs.Error() }
+
+// formError is a form body the server could not read.
+type formError struct{ err error }
+
+func (e *formError) Error() string { return "the form could not be read: " + e.err.Error() }
+func (e *formError) Unwrap() error { return e.err }
+
+// errPanic is what a recovered panic becomes.
+var errPanic = errors.New("panic in handler")
+
+// problemFor is the one place that maps an error to its HTTP status and
+// the problem document the client sees. Anything it does not know is a
+// 500 with no details: the log has them.
+func problemFor(err error) problem {
+	var (
+		mbe  *http.MaxBytesError
+		mal  *malformedError
+		ve   sizing.ValidationError
+		fe   *formError
+		he   *echo.HTTPError
+		mibs = fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
+	)
+	switch {
+	case errors.As(err, &mbe):
+		return problem{Type: typeTooLarge, Title: "Request too large", Status: http.StatusRequestEntityTooLarge,
+			Detail: "The request body is larger than " + mibs + ", the most capbank reads; send a smaller design or profile file."}
+	case errors.As(err, &mal):
+		return problem{Type: typeMalformed, Title: "The design file could not be read", Status: http.StatusBadRequest,
+			Detail: "The body is not a design file: fix the JSON named in errors.", Errors: mal.errs}
+	case errors.As(err, &ve):
+		return problem{Type: typeInvalid, Title: "The design is invalid", Status: http.StatusUnprocessableEntity,
+			Detail: fmt.Sprintf("%d %s to fix, each named by its field path.", len(ve), plural(len(ve), "problem", "problems")), Errors: ve}
+	case errors.Is(err, sizing.ErrNotFinite):
+		return problem{Type: typeUnsizable, Title: "The design could not be sized", Status: http.StatusUnprocessableEntity,
+			Detail: "The arithmetic for this design went beyond the range of numbers capbank computes with; check for extreme values. " + err.Error()}
+	case errors.As(err, &fe):
+		return problem{Type: typeBadForm, Title: "The form could not be read", Status: http.StatusBadRequest,
+			Detail: "The request body is not a readable form; reload the page and try again."}
+	case errors.As(err, &he) && he.Code < 500:
+		p := problem{Type: typeHTTP, Title: http.StatusText(he.Code), Status: he.Code}
+		switch he.Code {
+		case http.StatusNotFound:
+			p.Detail = "There is nothing at this address."
+		case http.StatusMethodNotAllowed:
+			p.Detail = "This address does not take that method."
+		case http.StatusUnsupportedMediaType:
+			p.Type = typeMediaType
+			p.Detail = "Send the design file as application/json."
+		case http.StatusRequestEntityTooLarge:
+			p.Type = typeTooLarge
+			p.Detail = "The request body is larger than " + mibs + "."
+		}
+		if p.Title == "" {
+			p.Title = "Request not accepted"
+		}
+		return p
+	}
+	return problem{Type: typeHTTP, Title: "Internal server error", Status: http.StatusInternalServerError,
+		Detail: "capbank met an error it did not expect. It has been logged; please report what you did."}
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
+// handleError is echo's error handler: it answers every failed request
+// from problemFor, as a problem document for the API and for clients that
+// do not ask for HTML, as an HTML page for a browser, and as the results
+// status line for an htmx request.
+func (s *Server) handleError(err error, c echo.Context) {
+	p := problemFor(err)
+	if p.Status >= 500 {
+		s.log.Error("request failed", "method", c.Request().Method, "path", c.Request().URL.Path, "error", err.Error())
+	}
+	if c.Response().Committed {
+		return
+	}
+	r := c.Request()
+	var werr error
+	switch {
+	case r.Method == http.MethodHead:
+		werr = c.NoContent(p.Status)
+	case r.Header.Get("HX-Request") == "true":
+		werr = s.render(c, p.Status, components.StatusLine(p.Title+": "+p.Detail, false, true))
+	case wantsHTML(r):
+		werr = s.render(c, p.Status, components.ErrorPage(s.css, p.Title, p.Detail, p.Status))
+	default:
+		werr = writeProblem(c, p)
+	}
+	if werr != nil {
+		s.log.Error("writing the error response", "error", werr.Error())
+	}
+}
+
+func writeProblem(c echo.Context, p problem) error {
+	c.Response().Header().Set(echo.HeaderContentType, problemCharset)
+	c.Response().WriteHeader(p.Status)
+	return jsonEncode(c.Response(), p)
+}
+
+// wantsHTML is true for a page request from a browser.
+func wantsHTML(r *http.Request) bool {
+	if strings.HasPrefix(r.URL.Path, "/api/") || r.URL.Path == "/healthz" {
+		return false
+	}
+	return strings.Contains(r.Header.Get("Accept"), "text/html")
+}

@@ -1,0 +1,166 @@
+package web
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"io/fs"
+	"log/slog"
+	"net/http"
+	"runtime/debug"
+	"strings"
+
+	"github.com/a-h/templ"
+	"github.com/labstack/echo/v4"
+	"github.com/labstack/echo/v4/middleware"
+
+	"capbank/static"
+)
+
+// MaxBodyBytes is the largest request body the server reads: a design
+// file, or the design form with a profile CSV.
+const MaxBodyBytes = 16 << 20
+
+// Config is what the server needs from its command line.
+type Config struct {
+	// DataDir is the data directory (the cell library will keep its store
+	// there); it must exist.
+	DataDir string
+	// Logger receives errors and panics; nil discards them.
+	Logger *slog.Logger
+}
+
+// Server is capbank's web server: the design page, its fragments for
+// htmx, the JSON API and the static files.
+type Server struct {
+	echo    *echo.Echo
+	log     *slog.Logger
+	dataDir string
+	css, js string // versioned URLs of the stylesheet and htmx
+}
+
+// New builds the server and its routes.
+func New(cfg Config) *Server {
+	log := cfg.Logger
+	if log == nil {
+		log = slog.New(slog.DiscardHandler)
+	}
+	e := echo.New()
+	e.HideBanner, e.HidePort = true, true
+	s := &Server{echo: e, log: log, dataDir: cfg.DataDir,
+		css: assetURL("capbank.css"), js: assetURL("htmx.min.js")}
+	e.HTTPErrorHandler = s.handleError
+	e.Use(s.recoverPanics, limitBody, securityHeaders)
+	e.Use(middleware.GzipWithConfig(middleware.GzipConfig{Level: 5, MinLength: 1024}))
+
+	e.GET("/", s.getPage)
+	e.POST("/", s.postPage)
+	e.POST("/workspace", s.postWorkspace)
+	e.POST("/results", s.postResults)
+	e.GET("/healthz", s.healthz)
+	e.POST("/api/v1/size", s.apiSize)
+	e.GET("/api/v1/openapi.json", s.openAPI)
+	e.GET("/static/*", s.staticFile)
+	return s
+}
+
+// ServeHTTP serves a request.
+func (s *Server) ServeHTTP(w http.ResponseWriter, r *http.Request) { s.echo.ServeHTTP(w, r) }
+
+// assetURL is a static file's URL with a hash of its content, so browsers
+// may keep it for long and still fetch a new version at once.
+func assetURL(name string) string {
+	data, err := fs.ReadFile(static.Files, name)
+	if err != nil {
+		panic("web: static file missing: " + name) // embedded at build time
+	}
+	sum := sha256.Sum256(data)
+	return "/static/" + name + "?v=" + hex.EncodeToString(sum[:6])
+}
+
+func (s *Server) staticFile(c echo.Context) error {
+	name := c.Param("*")
+	data, err := fs.ReadFile(static.Files, name)
+	if err != nil || strings.Contains(name, "..") {
+		return echo.ErrNotFound
+	}
+	h := c.Response().Header()
+	if c.QueryParam("v") != "" {
+		h.Set("Cache-Control", "public, max-age=31536000, immutable")
+	} else {
+		h.Set("Cache-Control", "public, max-age=300")
+	}
+	ctype := "application/octet-stream"
+	switch {
+	case strings.HasSuffix(name, ".css"):
+		ctype = "text/css; charset=utf-8"
+	case strings.HasSuffix(name, ".js"):
+		ctype = "text/javascript; charset=utf-8"
+	case strings.HasSuffix(name, ".svg"):
+		ctype = "image/svg+xml"
+	case strings.HasSuffix(name, "LICENSE"):
+		ctype = "text/plain; charset=utf-8"
+	}
+	return c.Blob(http.StatusOK, ctype, data)
+}
+
+func (s *Server) healthz(c echo.Context) error {
+	return c.JSON(http.StatusOK, map[string]string{"status": "ok"})
+}
+
+// render writes a component with the status, buffered so that a failure
+// while rendering still gets a proper error response.
+func (s *Server) render(c echo.Context, status int, comp templ.Component) error {
+	var buf bytes.Buffer
+	if err := comp.Render(c.Request().Context(), &buf); err != nil {
+		return fmt.Errorf("rendering: %w", err)
+	}
+	return c.HTMLBlob(status, buf.Bytes())
+}
+
+// recoverPanics turns a panic in a handler into an internal error: the
+// stack goes to the log, the client gets a 500 problem with no details.
+func (s *Server) recoverPanics(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) (err error) {
+		defer func() {
+			if r := recover(); r != nil {
+				if r == http.ErrAbortHandler {
+					panic(r)
+				}
+				s.log.Error("panic in handler", "method", c.Request().Method, "path", c.Request().URL.Path,
+					"panic", fmt.Sprint(r), "stack", string(debug.Stack()))
+				err = errPanic
+			}
+		}()
+		return next(c)
+	}
+}
+
+// limitBody caps every request body at MaxBodyBytes; reading past it fails
+// with *http.MaxBytesError, which the error table maps to 413.
+func limitBody(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		r := c.Request()
+		if r.ContentLength > MaxBodyBytes {
+			return &http.MaxBytesError{Limit: MaxBodyBytes}
+		}
+		r.Body = http.MaxBytesReader(c.Response(), r.Body, MaxBodyBytes)
+		return next(c)
+	}
+}
+
+// contentSecurity allows only the page's own scripts and styles: htmx is
+// configured without eval and without its inline indicator styles.
+const contentSecurity = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; " +
+	"form-action 'self'; frame-ancestors 'none'; base-uri 'none'; object-src 'none'"
+
+func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		h := c.Response().Header()
+		h.Set("Content-Security-Policy", contentSecurity)
+		h.Set("X-Content-Type-Options", "nosniff")
+		h.Set("Referrer-Policy", "same-origin")
+		return next(c)
+	}
+}

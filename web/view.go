@@ -1,0 +1,305 @@
+package web
+
+import (
+	"fmt"
+	"regexp"
+	"slices"
+	"sort"
+	"strconv"
+	"strings"
+
+	"capbank/components"
+	"capbank/sizing"
+	"capbank/web/democells"
+)
+
+// pageProps lays out an evaluation for the page.
+func (s *Server) pageProps(ev *evaluation) components.PageProps {
+	title := "capbank – supercapacitor bank sizing"
+	if n := strings.TrimSpace(ev.form.value("name")); n != "" {
+		title = n + " – capbank"
+	}
+	return components.PageProps{
+		Title: title, CSS: s.css, Script: s.js, APIHref: "/api/v1/openapi.json",
+		Form:    formProps(ev),
+		Results: resultsProps(ev),
+	}
+}
+
+// messages gathers the problems by form field; several on one field are
+// joined.
+func messages(problems sizing.ValidationError) map[string]string {
+	m := map[string]string{}
+	for _, p := range problems {
+		if prev, ok := m[p.Field]; ok {
+			m[p.Field] = prev + "; " + p.Message
+		} else {
+			m[p.Field] = p.Message
+		}
+	}
+	return m
+}
+
+func fieldProps(fl field, value, msg string) components.FieldProps {
+	id := domID(fl.Name)
+	fp := components.FieldProps{
+		Name: fl.Name, ID: "f-" + id, MessageID: "msg-" + id,
+		Label: fl.Label, Unit: fl.Units.Unit, Hint: fl.Hint, Value: value, Message: msg,
+		Required: fl.Required, Text: fl.Kind == kindText,
+	}
+	if fl.Kind == kindChoice {
+		fp.Select = true
+		for _, c := range fl.Choices {
+			fp.Choices = append(fp.Choices, components.Choice{Value: c.Value, Label: c.Label})
+		}
+	}
+	return fp
+}
+
+func formProps(ev *evaluation) components.FormProps {
+	f := ev.form
+	msg := messages(ev.problems)
+	group := func(fields []field) []components.FieldProps {
+		out := make([]components.FieldProps, len(fields))
+		for i, fl := range fields {
+			out[i] = fieldProps(fl, f.value(fl.Name), msg[fl.Name])
+		}
+		return out
+	}
+	p := components.FormProps{
+		Name:           fieldProps(nameField, f.value("name"), msg["name"]),
+		Window:         group(windowFields),
+		Load:           group(loadFields),
+		StepsMessageID: "msg-load-steps", StepsMessage: msg["load.steps"],
+		MaxSteps:     maxFormSteps,
+		Pulse:        group(pulseFields),
+		CSVMessageID: "msg-profile_csv", CSVMessage: msg["profile_csv"],
+		Notice:         f.notice,
+		Conditions:     group(conditionFields),
+		EOL:            group(eolFields),
+		CellsMessageID: "msg-cells-pick", CellsMessage: msg["cells.pick"],
+		Inline:            group(inlineFields),
+		InlineToleranceID: "msg-inline-capacitance_tolerance_pct", InlineToleranceMessage: msg["inline.capacitance_tolerance_pct"],
+		RankBy: fieldProps(rankField, f.value("rank_by"), msg["rank_by"]),
+	}
+	if p.Pulse[0].Value == "" {
+		p.Pulse[0].Value = "power"
+	}
+	for _, k := range stepKinds {
+		p.StepKinds = append(p.StepKinds, components.Choice{Value: k.Value, Label: k.Label})
+	}
+	for i, r := range f.steps {
+		base := fmt.Sprintf("load.steps[%d]", i)
+		id := domID(base)
+		kind := fieldProps(field{Name: base + ".kind", Label: "Kind", Kind: kindChoice}, r.Kind, msg[base+".kind"])
+		value := fieldProps(field{Name: base + ".value", Label: "Value", Units: stepValueUnit(r.Kind)}, r.Value, msg[base+".value"])
+		if r.Kind == "rest" {
+			value.Unit = "—"
+		}
+		dur := fieldProps(field{Name: base + ".duration_s", Label: "Duration", Units: unitSecond}, r.Duration, msg[base+".duration_s"])
+		p.Steps = append(p.Steps, components.StepProps{
+			Number: i + 1, Index: i, RowID: "row-" + id, RowMessageID: "msg-" + id, RowMessage: msg[base],
+			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value",
+			First: i == 0, Last: i == len(f.steps)-1,
+		})
+	}
+	for _, c := range democells.All() {
+		p.Cells = append(p.Cells, components.CellPickProps{
+			ID: c.ID, Name: c.Name, Picked: f.picked[c.ID], Electrolyte: c.Electrolyte,
+			RatedV:      components.Quantity(c.RatedV, "V", 3),
+			Capacitance: components.Quantity(c.CapacitanceF, "F", 4),
+			ESR:         components.Quantity(c.ESROhm, "Ω", 3),
+			Price:       components.Opt(c.UnitPrice, components.Money),
+		})
+	}
+	for _, fl := range inlineFields {
+		if strings.TrimSpace(f.value(fl.Name)) != "" || msg[fl.Name] != "" {
+			p.InlineOpen = true
+		}
+	}
+	p.InlineOpen = p.InlineOpen || msg["inline.capacitance_tolerance_pct"] != ""
+	for _, fl := range pulseFields {
+		p.PulseOpen = p.PulseOpen || msg[fl.Name] != ""
+	}
+	p.CSVOpen = msg["profile_csv"] != ""
+	for _, pr := range ev.problems {
+		p.Problems = append(p.Problems, components.ProblemProps{Label: problemLabel(pr.Field), Message: pr.Message, Href: problemHref(pr.Field)})
+	}
+	return p
+}
+
+var stepPart = regexp.MustCompile(`^load\.steps\[(\d+)\](?:\.(kind|value|duration_s))?$`)
+
+// problemLabel names a field for the problem summary.
+func problemLabel(name string) string {
+	if m := stepPart.FindStringSubmatch(name); m != nil {
+		i, _ := strconv.Atoi(m[1])
+		part := map[string]string{"kind": " kind", "value": " value", "duration_s": " duration", "": ""}[m[2]]
+		return fmt.Sprintf("Step %d%s", i+1, part)
+	}
+	if l, ok := fieldLabels[name]; ok {
+		if strings.HasPrefix(name, "inline.") {
+			return "Own cell, " + strings.ToLower(l[:1]) + l[1:]
+		}
+		return l
+	}
+	return name
+}
+
+// problemHref links a problem to its input, or to its group.
+func problemHref(name string) string {
+	switch {
+	case name == "cells.pick":
+		return "#cells"
+	case name == "load.steps":
+		return "#steps"
+	case name == "inline.capacitance_tolerance_pct":
+		return "#f-inline-capacitance_tolerance_pct-0"
+	case name == "profile_csv":
+		return "#f-profile_csv"
+	case name == "design":
+		return "#design-form"
+	}
+	if m := stepPart.FindStringSubmatch(name); m != nil && m[2] == "" {
+		return "#row-" + domID(name)
+	}
+	if _, ok := fieldLabels[name]; ok || stepPart.MatchString(name) {
+		return "#f-" + domID(name)
+	}
+	return "#design-form"
+}
+
+// formSlots lists every message slot and every step unit in the form, for
+// the out-of-band update of a live answer.
+func formSlots(p components.FormProps) (slots, units []components.Slot) {
+	add := func(id, text string) { slots = append(slots, components.Slot{ID: id, Text: text}) }
+	fields := func(fs []components.FieldProps) {
+		for _, f := range fs {
+			add(f.MessageID, f.Message)
+		}
+	}
+	fields([]components.FieldProps{p.Name, p.RankBy})
+	fields(p.Window)
+	fields(p.Load)
+	fields(p.Pulse)
+	fields(p.Conditions)
+	fields(p.EOL)
+	fields(p.Inline)
+	add(p.StepsMessageID, p.StepsMessage)
+	add(p.CSVMessageID, p.CSVMessage)
+	add(p.CellsMessageID, p.CellsMessage)
+	add(p.InlineToleranceID, p.InlineToleranceMessage)
+	for _, s := range p.Steps {
+		add(s.RowMessageID, s.RowMessage)
+		fields([]components.FieldProps{s.Kind, s.Value, s.Duration})
+		units = append(units, components.Slot{ID: s.UnitID, Text: s.Value.Unit})
+	}
+	return slots, units
+}
+
+func resultsProps(ev *evaluation) components.ResultsProps {
+	p := components.ResultsProps{Sort: ev.form.sort, LastGood: ev.form.lastGood}
+	n := len(ev.problems)
+	switch {
+	case ev.pristine:
+		p.Empty = "Give the window and the load, pick one or more cells, and the bank appears here."
+	case ev.report == nil:
+		p.Empty = "Fix the problems marked in the form to see the bank."
+		p.Status = fmt.Sprintf("The design has %d %s, marked beside %s.", n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))
+	}
+	if ev.report == nil {
+		return p
+	}
+	r := ev.report
+	if !ev.stale {
+		p.LastGood = lastGoodJSON(ev.sized)
+	} else {
+		p.Stale = true
+		p.Status = fmt.Sprintf("The design has %d %s, marked beside %s. These results are for the last design that sized.",
+			n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))
+	}
+	p.Report = r
+	if r.Recommended != nil {
+		for i := range r.Candidates {
+			if r.Candidates[i].CellID == *r.Recommended {
+				p.Recommended = &r.Candidates[i]
+			}
+		}
+	}
+	p.Candidates = sortCandidates(r.Candidates, ev.form.sort)
+	p.Summary = designSummary(r, len(ev.sized.Load.Steps))
+	return p
+}
+
+// designSummary describes the design as it was sized, in one line.
+func designSummary(r *sizing.Report, steps int) string {
+	parts := []string{}
+	if r.Design != "" {
+		parts = append(parts, r.Design)
+	}
+	parts = append(parts, "window "+components.Quantity(r.MaxV, "V", 4)+" → "+components.Quantity(r.MinV, "V", 4))
+	pass := fmt.Sprintf("%d %s, %s per pass", steps, plural(steps, "step", "steps"), components.Duration(r.ProfileDurationS))
+	if r.Repeat > 1 {
+		pass += fmt.Sprintf(", run %d times (%s)", r.Repeat, components.Duration(r.PassDurationS))
+	}
+	parts = append(parts, pass)
+	worst := "worst case: capacitance ×" + components.Number(r.EOLCapacitanceFactor, 3) + ", ESR ×" + components.Number(r.EOLESRFactor, 3)
+	if r.ColdC != nil {
+		worst += ", at " + components.Quantity(*r.ColdC, "°C", 3)
+	}
+	parts = append(parts, worst)
+	by := map[string]string{"price": "lowest price", "cells": "fewest cells", "mass": "least mass", "volume": "least volume"}[r.RankBy]
+	if by == "" {
+		by = r.RankBy
+	}
+	parts = append(parts, "recommended by "+by)
+	return strings.Join(parts, " · ")
+}
+
+// sortCandidates orders the candidates for the table: feasible ones first,
+// then by the chosen figure (runtime longest first, the others least
+// first), a missing figure last, ties in the report's rank order. "" keeps
+// the report's rank.
+func sortCandidates(cs []sizing.Candidate, by string) []sizing.Candidate {
+	out := slices.Clone(cs)
+	if by == "" {
+		return out
+	}
+	key := func(c *sizing.Candidate) (float64, bool) {
+		switch by {
+		case "price":
+			if c.TotalPrice != nil {
+				return *c.TotalPrice, true
+			}
+		case "cells":
+			return float64(c.Cells), true
+		case "mass":
+			if c.MassKg != nil {
+				return *c.MassKg, true
+			}
+		case "volume":
+			if c.VolumeL != nil {
+				return *c.VolumeL, true
+			}
+		case "runtime":
+			if c.RuntimeS == nil {
+				return -sizing.RuntimeLimitS * 10, true // beyond the limit: longest of all
+			}
+			return -*c.RuntimeS, true
+		}
+		return 0, false
+	}
+	sort.SliceStable(out, func(i, j int) bool {
+		a, b := &out[i], &out[j]
+		if a.Feasible != b.Feasible {
+			return a.Feasible
+		}
+		ka, oka := key(a)
+		kb, okb := key(b)
+		if oka != okb {
+			return oka
+		}
+		return ka < kb
+	})
+	return out
+}
