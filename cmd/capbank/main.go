@@ -39,6 +39,7 @@ type command struct {
 
 var commands = []command{
 	{"size", "size a bank from a design file and print the report", runSize},
+	{"serve", "start the web server (the default)", runServe},
 }
 
 // run is capbank without the process around it: it parses args (without the
@@ -53,8 +54,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 }
 
 func dispatch(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	if len(args) == 0 {
-		return runDefault(ctx, stdout, stderr)
+	if len(args) == 0 || isServeFlag(args[0]) {
+		return runDefault(ctx, args, stdout, stderr)
 	}
 	switch name := args[0]; name {
 	case "-h", "-help", "--help", "help":
@@ -73,10 +74,13 @@ func dispatch(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 }
 
-// runDefault is what capbank does with no subcommand. It will start the web
-// server (capbank serve); until serve exists it prints the usage.
-func runDefault(_ context.Context, _, stderr io.Writer) error {
-	return usageFailure(stderr, printUsage, "capbank: give a command; the web server (capbank serve, the default) is coming in a later version")
+// runDefault is what capbank does with no subcommand: capbank serve, with
+// the serve flags given (capbank --addr 127.0.0.1:8099).
+func runDefault(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	if len(args) == 0 {
+		args = defaultServeArgs
+	}
+	return runServe(ctx, args, stdout, stderr)
 }
 
 func printUsage(w io.Writer) {

@@ -218,7 +218,6 @@ func TestRunCommandLine(t *testing.T) {
 		status int
 		want   []string // lines stderr must contain
 	}{
-		{"no command", nil, 2, []string{"capbank serve", topUsageLine, "  size  "}},
 		{"unknown command", []string{"sise", design}, 2, []string{`capbank: unknown command "sise"`, topUsageLine}},
 		{"flag before the command", []string{"--format", "text", "size", design}, 2, []string{"flags follow the command", topUsageLine}},
 		{"help", []string{"-h"}, 0, []string{topUsageLine}},

@@ -1,0 +1,103 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"strings"
+	"time"
+
+	"capbank/web"
+)
+
+const serveUsage = `usage: capbank serve [--addr HOST:PORT] [--data DIR]
+
+Starts capbank's web server: the design page, where a bank is sized as
+you type, and the JSON API (POST /api/v1/size, described at
+/api/v1/openapi.json). It stops gracefully on an interrupt or SIGTERM.
+"capbank" with no command does the same.
+
+flags:
+`
+
+// defaultServeArgs are the serve flags of capbank with no command: none,
+// so the defaults apply. Tests point them at a free port.
+var defaultServeArgs []string
+
+// isServeFlag reports whether arg is one of serve's flags, so that
+// capbank --addr HOST:PORT serves without naming the command.
+func isServeFlag(arg string) bool {
+	name, _, _ := strings.Cut(strings.TrimLeft(arg, "-"), "=")
+	return strings.HasPrefix(arg, "-") && (name == "addr" || name == "data")
+}
+
+// shutdownGrace is how long requests in flight get to finish on shutdown.
+const shutdownGrace = 10 * time.Second
+
+func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	flags := flag.NewFlagSet("capbank serve", flag.ContinueOnError)
+	flags.SetOutput(stderr)
+	addr := flags.String("addr", "127.0.0.1:8080", "listen on `HOST:PORT` (port 0 picks a free one)")
+	data := flags.String("data", "capbank-data", "the data `DIR`ectory, created when missing")
+	usage := func(w io.Writer) {
+		fmt.Fprint(w, serveUsage)
+		flags.PrintDefaults()
+	}
+	flags.Usage = func() { usage(flags.Output()) }
+	if err := flags.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return err
+		}
+		return usageError{err.Error()} // the flag package has printed it and the usage
+	}
+	if flags.NArg() > 0 {
+		return usageFailure(stderr, usage, "capbank serve: takes no arguments (got %q)", flags.Arg(0))
+	}
+	return serve(ctx, *addr, *data, stderr)
+}
+
+// serve runs the web server on addr until ctx is done, then shuts it down,
+// giving requests in flight shutdownGrace to finish.
+func serve(ctx context.Context, addr, dataDir string, stderr io.Writer) error {
+	log := slog.New(slog.NewTextHandler(stderr, nil))
+	if err := os.MkdirAll(dataDir, 0o755); err != nil {
+		return fmt.Errorf("cannot create the data directory: %w", err)
+	}
+	ln, err := net.Listen("tcp", addr)
+	if err != nil {
+		return fmt.Errorf("cannot listen on %s: %w", addr, err)
+	}
+	srv := &http.Server{
+		Handler:           web.New(web.Config{DataDir: dataDir, Logger: log}),
+		ReadHeaderTimeout: 10 * time.Second,
+		ReadTimeout:       2 * time.Minute,
+		IdleTimeout:       2 * time.Minute,
+		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
+	}
+	done := make(chan error, 1)
+	go func() { done <- srv.Serve(ln) }()
+	log.Info("capbank is serving", "url", "http://"+ln.Addr().String()+"/", "data", dataDir)
+
+	select {
+	case err := <-done:
+		return fmt.Errorf("the server stopped: %w", err)
+	case <-ctx.Done():
+	}
+	log.Info("shutting down")
+	sctx, cancel := context.WithTimeout(context.Background(), shutdownGrace)
+	defer cancel()
+	if err := srv.Shutdown(sctx); err != nil {
+		return fmt.Errorf("shutting down: %w", err)
+	}
+	if err := <-done; !errors.Is(err, http.ErrServerClosed) {
+		return err
+	}
+	log.Info("stopped")
+	return nil
+}
