@@ -40,6 +40,7 @@ type command struct {
 var commands = []command{
 	{"size", "size a bank from a design file and print the report", runSize},
 	{"serve", "start the web server (the default)", runServe},
+	{"measure", "characterise a cell from test data (capacitance, ESR, leakage)", runMeasure},
 }
 
 // run is capbank without the process around it: it parses args (without the
@@ -88,7 +89,7 @@ func printUsage(w io.Writer) {
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "commands:")
 	for _, c := range commands {
-		fmt.Fprintf(w, "  %-6s  %s\n", c.name, c.summary)
+		fmt.Fprintf(w, "  %-8s  %s\n", c.name, c.summary)
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, `Run "capbank <command> -h" for a command's flags.`)

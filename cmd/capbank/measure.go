@@ -1,0 +1,433 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"slices"
+	"strconv"
+	"strings"
+
+	"capbank/sizing"
+)
+
+const measureUsage = `usage: capbank measure --method METHOD [flags] [LOG.csv]
+
+Works out a cell's figures from test data and prints them with their
+units, the warnings about the test and the notes on how the figures were
+found. LOG.csv is a log whose header names time_s and voltage_v, and
+current_a when the current is logged ("-" reads standard input).
+
+methods:
+  constant-current LOG.csv --rated-v V [--current-a A] [--start-s S]
+      capacitance and DC ESR by IEC 62391-1: C by a straight-line fit
+      between U1 = 0.8·UR and U2 = 0.4·UR, ESR from the drop at the
+      switch-on. --current-a is needed when the log has no current_a.
+  resistor LOG.csv --resistor-ohm R [--start-s S]
+      capacitance from a fit of ln V over a discharge into R; ESR from the
+      step at the switch-on when a sample before it is logged.
+  hold LOG.csv --capacitance-f C [--at S,S,...]
+      leakage current C·|dV/dt| and parallel resistance V/I from an
+      open-circuit hold after charging.
+  timed --v0 V --v1 V --seconds S --resistor-ohm R
+      capacitance from a timed discharge through R (no log): exact, and by
+      the quick bench estimate with its error.
+
+A flag that is wrong or missing, or a log that is malformed or does not
+suit the method, prints a message naming the flag or the log's line and
+exits with status 2.
+
+flags:
+`
+
+// measureMethodFlags are the flags each method takes, besides --method and
+// --format; the first ones listed are required, up to the count in
+// measureRequired.
+var measureMethodFlags = map[string][]string{
+	"constant-current": {"rated-v", "current-a", "start-s"},
+	"resistor":         {"resistor-ohm", "start-s"},
+	"hold":             {"capacitance-f", "at"},
+	"timed":            {"v0", "v1", "seconds", "resistor-ohm"},
+}
+
+var measureRequired = map[string]int{"constant-current": 1, "resistor": 1, "hold": 1, "timed": 4}
+
+// measureFlagFields maps the field names of sizing's measurement errors to
+// the flags that set them.
+var measureFlagFields = map[string]string{
+	"rated_v": "--rated-v", "current_a": "--current-a", "start_s": "--start-s",
+	"resistor_ohm": "--resistor-ohm", "capacitance_f": "--capacitance-f",
+	"v0_v": "--v0", "v1_v": "--v1", "duration_s": "--seconds", "inputs": "capbank measure",
+}
+
+// measureMessageNames rewrites the input names inside sizing's messages
+// ("0.8 × rated_v 2.7 V") as flags. current_a is left alone: in messages it
+// names the log's column.
+var measureMessageNames = strings.NewReplacer("rated_v", "--rated-v", "resistor_ohm", "--resistor-ohm",
+	"v0_v", "--v0", "v1_v", "--v1")
+
+func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	flags := flag.NewFlagSet("capbank measure", flag.ContinueOnError)
+	flags.SetOutput(stderr)
+	method := flags.String("method", "", "the test: constant-current, resistor, hold or timed")
+	format := flags.String("format", "text", "output format: text (a table for a terminal) or json (the full result)")
+	ratedV := flags.Float64("rated-v", 0, "rated cell voltage UR in `V` (constant-current)")
+	currentA := flags.Float64("current-a", 0, "discharge current in `A`, for a log without current_a (constant-current)")
+	startS := flags.Float64("start-s", 0, "discharge start (switch-on) time in `S` on the log's axis; default: found from the log")
+	resistorOhm := flags.Float64("resistor-ohm", 0, "discharge resistor in `OHM` (resistor, timed)")
+	capacitanceF := flags.Float64("capacitance-f", 0, "cell capacitance in `F` (hold)")
+	at := flags.String("at", "", "times in `S,S,...` on the log's axis to work out the leakage at (hold); default: 10 %, 50 % and 90 % of the hold")
+	v0 := flags.Float64("v0", 0, "start voltage in `V` (timed)")
+	v1 := flags.Float64("v1", 0, "end voltage in `V` (timed)")
+	seconds := flags.Float64("seconds", 0, "time from --v0 to --v1 in `S` (timed)")
+	usage := func(w io.Writer) {
+		fmt.Fprint(w, measureUsage)
+		flags.PrintDefaults()
+	}
+	flags.Usage = func() { usage(flags.Output()) }
+
+	pos, err := parseInterspersed(flags, args)
+	if errors.Is(err, flag.ErrHelp) {
+		return err
+	}
+	if err != nil {
+		return usageError{err.Error()} // the flag package has printed it and the usage
+	}
+	set := map[string]bool{}
+	flags.Visit(func(f *flag.Flag) { set[f.Name] = true })
+
+	own, known := measureMethodFlags[*method]
+	switch {
+	case *method == "":
+		return usageFailure(stderr, usage, "capbank measure: give --method: constant-current, resistor, hold or timed")
+	case !known:
+		return usageFailure(stderr, usage, "capbank measure: --method must be constant-current, resistor, hold or timed (got %q)", *method)
+	case *format != "text" && *format != "json":
+		return usageFailure(stderr, usage, "capbank measure: --format must be text or json (got %q)", *format)
+	}
+	var names []string
+	flags.Visit(func(f *flag.Flag) { names = append(names, f.Name) })
+	for _, name := range names {
+		if name != "method" && name != "format" && !slices.Contains(own, name) {
+			return usageFailure(stderr, usage, "capbank measure: --%s does not apply to --method %s (its flags: --%s)",
+				name, *method, strings.Join(own, ", --"))
+		}
+	}
+	for _, name := range own[:measureRequired[*method]] {
+		if !set[name] {
+			return usageFailure(stderr, usage, "capbank measure: --method %s needs --%s", *method, name)
+		}
+	}
+	var atS []float64
+	if set["at"] {
+		for i, item := range strings.Split(*at, ",") {
+			x, err := strconv.ParseFloat(strings.TrimSpace(item), 64)
+			if err != nil {
+				return usageFailure(stderr, usage, "capbank measure: --at: item %d (%q) is not a number of seconds; give times as S,S,...", i+1, strings.TrimSpace(item))
+			}
+			atS = append(atS, x)
+		}
+	}
+	var opts *sizing.DischargeOptions
+	if set["start-s"] {
+		opts = &sizing.DischargeOptions{StartS: startS}
+	}
+
+	// The log.
+	var log *sizing.MeasurementLog
+	logName := ""
+	if *method == "timed" {
+		if len(pos) > 0 {
+			return usageFailure(stderr, usage, "capbank measure: --method timed takes no log (got %q); give --v0, --v1, --seconds and --resistor-ohm", pos[0])
+		}
+	} else {
+		switch len(pos) {
+		case 0:
+			return usageFailure(stderr, usage, "capbank measure: give the log file (or - for standard input)")
+		case 1:
+		default:
+			return usageFailure(stderr, usage, "capbank measure: give one log file, not %d", len(pos))
+		}
+		logName = pos[0]
+		if logName == "-" {
+			logName = "standard input"
+		}
+		log, err = readMeasurementLog(ctx, pos[0])
+		if err != nil {
+			return measureProblem(err, logName)
+		}
+	}
+
+	// The method.
+	var result any
+	var text func(io.Writer)
+	switch *method {
+	case "constant-current":
+		var cur *float64
+		if set["current-a"] {
+			cur = currentA
+		}
+		r, err := sizing.ConstantCurrentDischarge(log, *ratedV, cur, opts)
+		if err != nil {
+			return measureProblem(err, logName)
+		}
+		result, text = r, func(w io.Writer) { writeConstantCurrentText(w, logName, r) }
+	case "resistor":
+		r, err := sizing.ResistorDischargeLog(log, *resistorOhm, opts)
+		if err != nil {
+			return measureProblem(err, logName)
+		}
+		result, text = r, func(w io.Writer) { writeResistorText(w, logName, r) }
+	case "hold":
+		r, err := sizing.HoldLog(log, *capacitanceF, atS)
+		if err != nil {
+			return measureProblem(err, logName)
+		}
+		result, text = r, func(w io.Writer) { writeHoldText(w, logName, r) }
+	case "timed":
+		r, err := sizing.TimedResistorDischarge(*v0, *v1, *seconds, *resistorOhm)
+		if err != nil {
+			return measureProblem(err, logName)
+		}
+		result, text = r, func(w io.Writer) { writeTimedText(w, r) }
+	}
+
+	var buf bytes.Buffer
+	if *format == "text" {
+		text(&buf)
+	} else {
+		enc := json.NewEncoder(&buf)
+		enc.SetIndent("", "  ")
+		enc.SetEscapeHTML(false)
+		if err := enc.Encode(result); err != nil {
+			return fmt.Errorf("cannot encode the result as JSON: %w", err)
+		}
+	}
+	_, err = stdout.Write(buf.Bytes())
+	return err
+}
+
+// readMeasurementLog reads and parses the named log ("-" for stdin). It
+// gives up when ctx is done, so an interrupt ends a command left waiting on
+// a terminal's standard input.
+func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLog, error) {
+	type outcome struct {
+		log *sizing.MeasurementLog
+		err error
+	}
+	done := make(chan outcome, 1)
+	in := stdin // read here: the goroutine may outlive this call
+	go func() {
+		r := in
+		if name != "-" {
+			f, err := os.Open(name)
+			if err != nil {
+				done <- outcome{nil, fmt.Errorf("cannot read the log %q: %w", name, pathReason(err))}
+				return
+			}
+			defer f.Close()
+			if st, err := f.Stat(); err == nil && st.IsDir() {
+				done <- outcome{nil, fmt.Errorf("cannot read the log %q: it is a directory", name)}
+				return
+			}
+			r = f
+		}
+		log, err := sizing.ParseMeasurementCSV(r)
+		done <- outcome{log, err}
+	}()
+	select {
+	case <-ctx.Done():
+		return nil, fmt.Errorf("interrupted before the log was read (%w)", context.Cause(ctx))
+	case o := <-done:
+		return o.log, o.err
+	}
+}
+
+// measureProblem turns sizing's errors into the command line's terms: a
+// ValidationError whose fields are the flags (--rated-v) or the log file,
+// so that main reports each on its own line and exits with status 2. Other
+// errors (a file that cannot be opened) pass through.
+func measureProblem(err error, logName string) error {
+	var ce *sizing.MeasurementCSVError
+	if errors.As(err, &ce) {
+		return sizing.ValidationError{{Field: logName, Rule: "csv", Message: ce.Error()}}
+	}
+	var ve sizing.ValidationError
+	if !errors.As(err, &ve) {
+		return err
+	}
+	out := make(sizing.ValidationError, len(ve))
+	for i, fe := range ve {
+		out[i] = fe
+		out[i].Message = measureMessageNames.Replace(fe.Message)
+		switch field := fe.Field; {
+		case measureFlagFields[field] != "":
+			out[i].Field = measureFlagFields[field]
+		case strings.HasPrefix(field, "at_s["):
+			n, _ := strconv.Atoi(strings.TrimSuffix(strings.TrimPrefix(field, "at_s["), "]"))
+			out[i].Field = fmt.Sprintf("--at (item %d)", n+1)
+		case field == "log":
+			out[i].Field = logName
+		case strings.HasPrefix(field, "log."):
+			out[i].Field = logName + ", " + strings.TrimPrefix(field, "log.")
+		}
+	}
+	return out
+}
+
+// measureRow is one figure of the text output: what it is, its number and
+// its unit.
+type measureRow struct{ label, value, unit string }
+
+// siRow shows x in unit with an SI prefix and sigFigs figures.
+func siRow(label string, x float64, unit string) measureRow {
+	scale, prefix := siPrefix(x, sigFigs)
+	return measureRow{label, formatSig(x/scale, sigFigs), prefix + unit}
+}
+
+// plainRow shows x with n significant figures and no prefix (times in s,
+// percentages, R²).
+func plainRow(label string, x float64, n int, unit string) measureRow {
+	return measureRow{label, formatSig(x, n), unit}
+}
+
+func siRowPtr(label string, x *float64, unit string) measureRow {
+	if x == nil {
+		return measureRow{label, none, ""}
+	}
+	return siRow(label, *x, unit)
+}
+
+// writeMeasureText writes a titled table of figures, then the warnings and
+// the notes.
+func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []sizing.MeasurementWarning, notes []string, after func(io.Writer)) {
+	fmt.Fprintln(w, title)
+	fmt.Fprintln(w)
+	t := table{right: []bool{false, true, false}}
+	for _, r := range rows {
+		t.rows = append(t.rows, []string{"  " + r.label, r.value, r.unit})
+	}
+	writeTable(w, t)
+	if after != nil {
+		fmt.Fprintln(w)
+		after(w)
+	}
+	fmt.Fprintln(w)
+	if len(warnings) == 0 {
+		fmt.Fprintln(w, "Warnings: none")
+	} else {
+		fmt.Fprintln(w, "Warnings:")
+		for _, x := range warnings {
+			fmt.Fprintf(w, "  %s: %s\n", x.Code, x.Message)
+		}
+	}
+	if len(notes) > 0 {
+		fmt.Fprintln(w, "Notes:")
+		for _, n := range notes {
+			fmt.Fprintf(w, "  - %s\n", n)
+		}
+	}
+}
+
+func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurrentResult) {
+	current := "discharge current I (given)"
+	if r.CurrentSource == "log" {
+		current = "discharge current I (logged mean, t1–t2)"
+	}
+	rows := []measureRow{
+		siRow("capacitance C = I/|slope| (fit t1–t2)", r.CapacitanceF, "F"),
+		siRow("capacitance, two-point I·(t2 − t1)/(U1 − U2)", r.TwoPointCapacitanceF, "F"),
+		siRowPtr("ESR = ΔU3/I", r.ESROhm, "Ω"),
+		siRowPtr("time constant ESR·C", r.TimeConstantS, "s"),
+		siRow(current, r.CurrentA, "A"),
+		siRow("U1 = 0.8·UR", r.U1V, "V"),
+		plainRow("t1", r.T1S, 6, "s"),
+		siRow("U2 = 0.4·UR", r.U2V, "V"),
+		plainRow("t2", r.T2S, 6, "s"),
+		plainRow("discharge start t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
+		siRow("voltage before t0", r.VoltageBeforeV, "V"),
+		siRow("fitted line at t0", r.LineAtStartV, "V"),
+		siRow("drop ΔU3", r.DropV, "V"),
+		plainRow("ΔU3 / UR", r.DropPct, 3, "%"),
+		plainRow("fit points", float64(r.FitPoints), 7, ""),
+		plainRow("R²", r.RSquared, 6, ""),
+		siRow("residual RMS", r.ResidualRMSV, "V"),
+	}
+	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+formatSI(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
+}
+
+func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeResult) {
+	rows := []measureRow{
+		siRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
+		siRowPtr("ESR from the step at switch-on", r.ESROhm, "Ω"),
+		siRow("time constant τ = −1/slope", r.TimeConstantS, "s"),
+		siRow("resistor R", r.ResistorOhm, "Ω"),
+		plainRow("switch-on t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
+		siRowPtr("voltage before t0", r.VoltageBeforeV, "V"),
+		siRow("fitted decay at t0", r.LineAtStartV, "V"),
+		siRow("fit floor", r.FloorV, "V"),
+		plainRow("fit from", r.FitFromS, 6, "s"),
+		plainRow("fit to", r.FitToS, 6, "s"),
+		plainRow("fit points", float64(r.FitPoints), 7, ""),
+		plainRow("R² (ln V)", r.RSquared, 6, ""),
+		plainRow("residual RMS (ln V)", 100*r.ResidualRMSLn, 3, "%"),
+	}
+	writeMeasureText(w, "Resistor discharge, "+logName, rows, r.Warnings, r.Notes, nil)
+}
+
+func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
+	rows := []measureRow{
+		siRow("leakage current (latest point)", r.LeakageA, "A"),
+		siRowPtr("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
+		siRow("capacitance used", r.CapacitanceF, "F"),
+		siRow("start voltage", r.StartV, "V"),
+		siRow("end voltage", r.EndV, "V"),
+		plainRow("hold", r.EndS-r.StartS, 6, "s"),
+		plainRow("total drop", r.DropPct, 3, "%"),
+		plainRow("fit window", r.WindowS, 6, "s"),
+	}
+	points := func(w io.Writer) {
+		leak := make([]float64, len(r.Points))
+		rp := make([]float64, len(r.Points))
+		for i, p := range r.Points {
+			leak[i] = p.LeakageA
+			if p.ParallelResistanceOhm != nil {
+				rp[i] = *p.ParallelResistanceOhm
+			}
+		}
+		lScale, lUnit := columnPrefix(leak, "A")
+		rScale, rUnit := columnPrefix(rp, "Ω")
+		t := table{right: []bool{true, true, true, true, true, true},
+			rows: [][]string{{"  at (s)", "voltage (V)", "dV/dt (V/s)", "leakage (" + lUnit + ")", "parallel R (" + rUnit + ")", "samples"}}}
+		for _, p := range r.Points {
+			par := none
+			if p.ParallelResistanceOhm != nil {
+				par = formatSig(*p.ParallelResistanceOhm/rScale, sigFigs)
+			}
+			t.rows = append(t.rows, []string{formatSig(p.AtS, 6), formatSig(p.VoltageV, 5),
+				strconv.FormatFloat(p.SlopeVPerS, 'e', 3, 64), formatSig(p.LeakageA/lScale, sigFigs), par, strconv.Itoa(p.Points)})
+		}
+		writeTable(w, t)
+	}
+	writeMeasureText(w, "Open-circuit hold, "+logName, rows, r.Warnings, r.Notes, points)
+}
+
+func writeTimedText(w io.Writer, r sizing.TimedDischarge) {
+	rows := []measureRow{
+		siRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
+		siRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),
+		plainRow("quick estimate's error", r.QuickErrorPct, 3, "%"),
+		siRow("mean current I = (V0 + V1)/(2R)", r.MeanCurrentA, "A"),
+		siRow("time constant R·C", r.TimeConstantS, "s"),
+		siRow("V0", r.V0V, "V"),
+		siRow("V1", r.V1V, "V"),
+		plainRow("time", r.DurationS, 6, "s"),
+		siRow("resistor R", r.ResistorOhm, "Ω"),
+	}
+	writeMeasureText(w, "Timed resistor discharge", rows, r.Warnings, r.Notes, nil)
+}
