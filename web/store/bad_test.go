@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"context"
 	"os"
 	"path/filepath"
@@ -40,4 +41,38 @@ func TestBadCellCSVCorpus(t *testing.T) {
 	if all, _ := s.ListCells(ctx, CellFilter{}); len(all) != 0 {
 		t.Errorf("%d cells imported from bad files", len(all))
 	}
+}
+
+// FuzzImportCellsCSV: any bytes as a cell CSV give a report (a file error,
+// or rows each accepted or rejected with a reason), never a panic; a bad
+// file imports nothing.
+func FuzzImportCellsCSV(f *testing.F) {
+	f.Add([]byte("id,rated_v,capacitance_f,esr_ohm\na,2.7,100,0.009\n"))
+	f.Add([]byte("\ufeffid,name,rated_v,capacitance_f,esr_ohm,capacitance_minus_pct,capacitance_plus_pct\r\na,\"x, y\",2.7,100,0.009,-10,20\r\n"))
+	f.Add([]byte("id,rated_v,capacitance_f,esr_ohm\na,2.7,1e400,9m\n"))
+	s, err := Open(context.Background(), filepath.Join(f.TempDir(), FileName))
+	if err != nil {
+		f.Fatal(err)
+	}
+	defer s.Close()
+	f.Fuzz(func(t *testing.T, data []byte) {
+		ctx := context.Background()
+		rep, err := s.ImportCellsCSV(ctx, bytes.NewReader(data))
+		if err != nil {
+			t.Fatalf("import error %v", err)
+		}
+		for _, r := range rep.Rows {
+			if !r.Accepted && r.Reason == "" {
+				t.Fatalf("row %d rejected without a reason", r.Line)
+			}
+		}
+		if rep.Imported {
+			// Keep the library empty for the next input.
+			for _, r := range rep.Rows {
+				if err := s.DeleteCell(ctx, r.ID); err != nil {
+					t.Fatalf("delete %q: %v", r.ID, err)
+				}
+			}
+		}
+	})
 }

@@ -207,14 +207,16 @@ func parseCellsCSV(r io.Reader) ([]parsedCell, string) {
 		if err == io.EOF {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
+			// FieldPos is only defined after a record was read.
+			line := 0
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
 				line = pe.Line
 			}
 			return nil, fmt.Sprintf("line %d: %s", line, csvMessage(err))
 		}
+		line, _ := cr.FieldPos(0)
 		if len(rows) >= MaxImportRows {
 			return nil, fmt.Sprintf("line %d: more than %d cells in one import", line, MaxImportRows)
 		}
