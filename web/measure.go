@@ -1,0 +1,348 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"mime/multipart"
+	"net/http"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/components"
+	"capbank/sizing"
+	"capbank/web/democells"
+)
+
+// The measurement page and API: a cell's capacitance, ESR and leakage from
+// bench data, by the methods of sizing/measure.go. Field names are the
+// flags of `capbank measure` with underscores: method, rated_v,
+// resistor_ohm, current_a, capacitance_f, start_s, at_s, v0_v, v1_v,
+// duration_s, compare_id, and the log file in log_csv.
+
+// measureMethods are the methods, in the order the page offers them.
+var measureMethods = []components.Option{
+	{Value: "constant-current", Label: "Constant-current discharge (IEC 62391-1 log)"},
+	{Value: "resistor", Label: "Discharge into a resistor (log)"},
+	{Value: "hold", Label: "Open-circuit hold (self-discharge log)"},
+	{Value: "timed", Label: "Timed resistor discharge (two readings)"},
+}
+
+// measureOutcome is what a measurement gives: the result struct of the
+// method, its figures, and the comparison with a datasheet cell if asked.
+type measureOutcome struct {
+	Method      string              `json:"method"`
+	Result      any                 `json:"result"`
+	Comparison  []sizing.Comparison `json:"comparison,omitempty"`
+	CompareWith string              `json:"compare_with,omitempty"`
+	Cell        *sizing.Cell        `json:"measured_cell,omitempty"`
+	figures     sizing.MeasuredFigures
+}
+
+// measureInput is the form (or API multipart body) of a measurement.
+type measureInput struct {
+	values map[string]string
+	log    []byte // the uploaded log, nil when none
+}
+
+func (in measureInput) get(k string) string { return strings.TrimSpace(in.values[k]) }
+
+// number reads field k with SI prefixes and the unit u (see parseSI);
+// empty gives nil.
+func (in measureInput) number(k string, u unitSpec, errs *sizing.ValidationError) *float64 {
+	v := in.get(k)
+	if v == "" {
+		return nil
+	}
+	x, err := parseSI(v, u)
+	if err != nil {
+		*errs = append(*errs, sizing.FieldError{Field: k, Rule: "number", Message: err.Error()})
+		return nil
+	}
+	return &x
+}
+
+func required(k string, p *float64, errs *sizing.ValidationError) float64 {
+	if p == nil {
+		*errs = append(*errs, sizing.FieldError{Field: k, Rule: "required", Message: "is required for this method"})
+		return 0
+	}
+	return *p
+}
+
+// measure runs the measurement the input asks for. Bad input comes back as
+// a sizing.ValidationError naming the field (or the log's line).
+func measure(in measureInput) (*measureOutcome, error) {
+	var errs sizing.ValidationError
+	method := in.get("method")
+	out := &measureOutcome{Method: method}
+	var log *sizing.MeasurementLog
+	needLog := method != "timed"
+	if needLog {
+		if len(in.log) == 0 {
+			errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "required",
+				Message: "is required: upload the logged test (CSV with time_s, voltage_v and, when logged, current_a)"})
+		} else {
+			l, err := sizing.ParseMeasurementCSV(bytes.NewReader(in.log))
+			if err != nil {
+				errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "csv", Message: err.Error()})
+			}
+			log = l
+		}
+	}
+	var opts *sizing.DischargeOptions
+	if s := in.number("start_s", unitSecond, &errs); s != nil {
+		opts = &sizing.DischargeOptions{StartS: s}
+	}
+	var res any
+	var err error
+	switch method {
+	case "constant-current":
+		rated := required("rated_v", in.number("rated_v", unitVolt, &errs), &errs)
+		cur := in.number("current_a", unitAmp, &errs)
+		if len(errs) == 0 {
+			var r sizing.ConstantCurrentResult
+			r, err = sizing.ConstantCurrentDischarge(log, rated, cur, opts)
+			res, out.figures = r, r.Figures()
+		}
+	case "resistor":
+		rl := required("resistor_ohm", in.number("resistor_ohm", unitOhm, &errs), &errs)
+		if len(errs) == 0 {
+			var r sizing.ResistorDischargeResult
+			r, err = sizing.ResistorDischargeLog(log, rl, opts)
+			res, out.figures = r, r.Figures()
+		}
+	case "hold":
+		c := required("capacitance_f", in.number("capacitance_f", unitFarad, &errs), &errs)
+		var at []float64
+		if v := in.get("at_s"); v != "" {
+			for i, part := range strings.Split(v, ",") {
+				x, perr := parseSI(strings.TrimSpace(part), unitSecond)
+				if perr != nil {
+					errs = append(errs, sizing.FieldError{Field: fmt.Sprintf("at_s[%d]", i), Rule: "number", Message: perr.Error()})
+					continue
+				}
+				at = append(at, x)
+			}
+		}
+		if len(errs) == 0 {
+			var r sizing.HoldResult
+			r, err = sizing.HoldLog(log, c, at)
+			res, out.figures = r, r.Figures()
+		}
+	case "timed":
+		v0 := required("v0_v", in.number("v0_v", unitVolt, &errs), &errs)
+		v1 := required("v1_v", in.number("v1_v", unitVolt, &errs), &errs)
+		t := required("duration_s", in.number("duration_s", unitSecond, &errs), &errs)
+		rl := required("resistor_ohm", in.number("resistor_ohm", unitOhm, &errs), &errs)
+		if len(errs) == 0 {
+			var r sizing.TimedDischarge
+			r, err = sizing.TimedResistorDischarge(v0, v1, t, rl)
+			res, out.figures = r, r.Figures()
+		}
+	default:
+		errs = append(errs, sizing.FieldError{Field: "method", Rule: "oneof",
+			Message: "must be one of: constant-current, resistor, hold, timed"})
+	}
+	if len(errs) > 0 {
+		return nil, errs
+	}
+	if err != nil {
+		return nil, err
+	}
+	out.Result = res
+	if id := in.get("compare_id"); id != "" {
+		c, ok := democells.ByID(id)
+		if !ok {
+			return nil, sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not a demo cell", id)}}
+		}
+		out.CompareWith = id
+		out.Comparison = sizing.CompareWithDatasheet(out.figures, c)
+		base := c
+		cell := sizing.MeasuredCell(&base, out.figures, summaryOf(res))
+		out.Cell = &cell
+	} else if out.figures.CapacitanceF != nil && out.figures.ESROhm != nil && out.figures.RatedV != nil {
+		cell := sizing.MeasuredCell(nil, out.figures, summaryOf(res))
+		out.Cell = &cell
+	}
+	return out, nil
+}
+
+func summaryOf(res any) string {
+	if s, ok := res.(interface{ Summary() string }); ok {
+		return s.Summary()
+	}
+	return ""
+}
+
+// readMeasureInput reads a multipart or url-encoded form.
+func readMeasureInput(c echo.Context) (measureInput, error) {
+	in := measureInput{values: map[string]string{}}
+	r := c.Request()
+	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
+		if err := r.ParseMultipartForm(MaxBodyBytes); err != nil {
+			var mbe *http.MaxBytesError
+			if errors.As(err, &mbe) {
+				return in, err
+			}
+			return in, &formError{err: err}
+		}
+		if f, _, err := r.FormFile("log_csv"); err == nil {
+			in.log, err = readAll(f)
+			if err != nil {
+				return in, err
+			}
+		}
+	} else if err := r.ParseForm(); err != nil {
+		return in, &formError{err: err}
+	}
+	for k, v := range r.Form {
+		if len(v) > 0 {
+			in.values[k] = v[0]
+		}
+	}
+	if len(in.log) == 0 && in.values["log_text"] != "" {
+		in.log = []byte(in.values["log_text"])
+	}
+	return in, nil
+}
+
+func readAll(f multipart.File) ([]byte, error) {
+	defer f.Close()
+	return io.ReadAll(f)
+}
+
+// apiMeasure is POST /api/v1/measure: the form fields as multipart (with
+// the log in log_csv) or url-encoded (with the log's text in log_text);
+// the answer is the measurement as JSON, or a problem document.
+func (s *Server) apiMeasure(c echo.Context) error {
+	in, err := readMeasureInput(c)
+	if err != nil {
+		return err
+	}
+	out, err := measure(in)
+	if err != nil {
+		return err
+	}
+	return c.JSONPretty(http.StatusOK, out, "  ")
+}
+
+// getMeasure and postMeasure are the measurement page.
+func (s *Server) getMeasure(c echo.Context) error {
+	return s.renderMeasure(c, http.StatusOK, measureInput{values: map[string]string{"method": "constant-current"}}, nil, nil)
+}
+
+func (s *Server) postMeasure(c echo.Context) error {
+	in, err := readMeasureInput(c)
+	if err != nil {
+		return err
+	}
+	out, err := measure(in)
+	var ve sizing.ValidationError
+	if errors.As(err, &ve) {
+		return s.renderMeasure(c, http.StatusUnprocessableEntity, in, nil, ve)
+	}
+	if err != nil {
+		return err
+	}
+	return s.renderMeasure(c, http.StatusOK, in, out, nil)
+}
+
+func (s *Server) renderMeasure(c echo.Context, status int, in measureInput, out *measureOutcome, errs sizing.ValidationError) error {
+	p := components.MeasureProps{CSS: s.css, Methods: measureMethods, Values: in.values, Messages: map[string]string{}}
+	for _, e := range errs {
+		p.Messages[e.Field] = e.Message
+		p.Problems = append(p.Problems, e.Error())
+	}
+	for _, cell := range democells.All() {
+		p.Cells = append(p.Cells, components.Option{Value: cell.ID, Label: cell.Name})
+	}
+	if out != nil {
+		p.Done = true
+		p.Rows = figureRows(out.Result)
+		if w, ok := warningsOf(out.Result); ok {
+			p.Warnings = w
+		}
+		for _, cmp := range out.Comparison {
+			p.Comparison = append(p.Comparison, components.CompareRow{
+				Quantity: cmp.Quantity, Unit: cmp.Unit, Measured: fmtPtr(&cmp.Measured), Stated: fmtPtr(&cmp.Stated),
+				Deviation: fmtPtr(cmp.DeviationPct), Within: cmp.Within, Note: cmp.Note})
+		}
+		if out.Cell != nil {
+			b, _ := json.MarshalIndent([]sizing.Cell{*out.Cell}, "", "  ")
+			p.CellJSON = string(b)
+		}
+	}
+	return s.render(c, status, components.MeasurePage(p))
+}
+
+func fmtPtr(p *float64) string {
+	if p == nil {
+		return "—"
+	}
+	return strconv.FormatFloat(*p, 'g', 5, 64)
+}
+
+// figureRows lists a result's numeric figures with the unit its JSON key
+// names (capacitance_f → F): the page shows every figure the API gives.
+func figureRows(res any) []components.MeasureRow {
+	b, _ := json.Marshal(res)
+	var m map[string]any
+	json.Unmarshal(b, &m)
+	var rows []components.MeasureRow
+	for k, v := range m {
+		x, ok := v.(float64)
+		if !ok {
+			continue
+		}
+		name, unit := keyUnit(k)
+		val := components.Quantity(x, unit, 4)
+		switch {
+		case k == "r_squared":
+			name, val = "R² of the fit", strconv.FormatFloat(x, 'f', 6, 64)
+		case unit == "%":
+			name += " (percent)"
+		}
+		rows = append(rows, components.MeasureRow{Name: name, Value: val, Key: k})
+	}
+	sort.Slice(rows, func(i, j int) bool { return rows[i].Key < rows[j].Key })
+	return rows
+}
+
+var unitSuffixes = []struct{ suffix, unit string }{
+	{"_f_per_cm2", "F/cm²"}, {"_f_per_g", "F/g"}, {"_v_per_s", "V/s"}, {"_per_s", "1/s"},
+	{"_ohm", "Ω"}, {"_pct", "%"}, {"_f", "F"}, {"_v", "V"}, {"_a", "A"}, {"_s", "s"},
+}
+
+func keyUnit(k string) (string, string) {
+	for _, u := range unitSuffixes {
+		if strings.HasSuffix(k, u.suffix) {
+			return strings.ReplaceAll(strings.TrimSuffix(k, u.suffix), "_", " "), u.unit
+		}
+	}
+	return strings.ReplaceAll(k, "_", " "), ""
+}
+
+func warningsOf(res any) ([]string, bool) {
+	b, _ := json.Marshal(res)
+	var m struct {
+		Warnings []struct{ Code, Message string } `json:"warnings"`
+		Notes    []string                         `json:"notes"`
+	}
+	if json.Unmarshal(b, &m) != nil {
+		return nil, false
+	}
+	var out []string
+	for _, w := range m.Warnings {
+		out = append(out, "Warning: "+w.Message)
+	}
+	for _, n := range m.Notes {
+		out = append(out, "Note: "+n)
+	}
+	return out, true
+}
