@@ -97,6 +97,42 @@ type FormProps struct {
 	InlineOpen                                bool
 	RankBy                                    FieldProps
 	Problems                                  []ProblemProps
+	// Balancing and Life are the balancing and life-model settings;
+	// MoreOpen unfolds them when one is set or has a problem.
+	Balancing, Life []FieldProps
+	MoreOpen        bool
+	// BOQ are the purchasing inputs of the bill of quantities, Extras the
+	// user's own lines (the last one blank, to type into); BOQOpen unfolds
+	// them when one is set.
+	BOQ                            []FieldProps
+	Extras                         []ExtraRowProps
+	ExtrasMessageID, ExtrasMessage string
+	BOQOpen                        bool
+	// Carried are cells of an opened design file kept as the file gave
+	// them, and CarriedJSON the cells themselves for the form to carry.
+	Carried     []CarriedCellProps
+	CarriedJSON string
+	// DesignFileMessageID and DesignFileMessage are the slot of the design
+	// file upload; DesignFileOpen unfolds it.
+	DesignFileMessageID, DesignFileMessage string
+	DesignFileOpen                         bool
+}
+
+// ExtraRowProps is one own line of the bill of quantities: item,
+// description, quantity, unit and unit price.
+type ExtraRowProps struct {
+	// Index is the line's index in the form names, Number the 1-based
+	// number shown.
+	Index, Number int
+	RowID         string
+	Fields        []FieldProps
+}
+
+// CarriedCellProps is a cell of an opened design file that is not a
+// library cell, kept as the file gave it while Keep is set.
+type CarriedCellProps struct {
+	ID, Name, Figures string
+	Keep              bool
 }
 
 // ResultsProps is the results panel.
@@ -122,4 +158,7 @@ type ResultsProps struct {
 	LastGood string
 	// Summary describes the design as sized, for print.
 	Summary string
+	// Token is the share token of the design these results are of, which
+	// the downloads post; TokenNote says why there is none.
+	Token, TokenNote string
 }

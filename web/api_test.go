@@ -222,7 +222,7 @@ func TestOpenAPIDocument(t *testing.T) {
 		}
 	}
 	// Every problem type the server sends is described.
-	for _, typ := range []string{typeMalformed, typeInvalid, typeUnsizable, typeTooLarge, typeMediaType, typeBadForm} {
+	for _, typ := range []string{typeMalformed, typeInvalid, typeUnsizable, typeTooLarge, typeMediaType, typeBadForm, typeNoExport, typeBadLink} {
 		if !strings.Contains(rec.Body.String(), typ) {
 			t.Errorf("problem type %s not described", typ)
 		}

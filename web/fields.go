@@ -61,6 +61,36 @@ var (
 			Hint: "× rated, e.g. 2; empty: 2"},
 	}
 
+	balancingFields = []field{
+		{Name: "balancing.kind", Label: "Balancing", Kind: kindChoice, Choices: []choice{
+			{"", "passive resistors (default)"}, {"passive", "passive resistors"}, {"active", "active circuits"}, {"none", "none"},
+		}},
+		{Name: "balancing.current_multiple", Label: "Resistor current", Units: unitFactor,
+			Hint: "× the leakage spread; empty: 10"},
+		{Name: "balancing.leakage_spread_a", Label: "Leakage spread", Units: unitAmp,
+			Hint: "worst difference between two cells; empty: the cell's leakage"},
+		{Name: "balancing.series", Label: "Resistor series", Kind: kindChoice, Choices: []choice{
+			{"", "E24 (default)"}, {"E12", "E12"}, {"E24", "E24"}, {"E96", "E96"},
+		}},
+		{Name: "balancing.quiescent_a", Label: "Active circuit draw", Units: unitAmp,
+			Hint: "per cell; needed for active balancing"},
+	}
+
+	lifeFields = []field{
+		{Name: "life.temp_step_k", Label: "Life halves every", Units: unitKelvin, Hint: "of cell temperature; empty: 10 K"},
+		{Name: "life.voltage_step_v", Label: "Life halves every", Units: unitVolt, Hint: "of cell voltage; empty: 0.2 V"},
+	}
+
+	boqFields = []field{
+		{Name: "boq.currency", Label: "Currency", Kind: kindText, Hint: "a label for every price, e.g. EUR; no conversion"},
+		{Name: "boq.link_unit_price", Label: "Interconnect link", Units: unitCurrencyEa, Hint: "price of one link"},
+		{Name: "boq.resistor_unit_price", Label: "Balancing resistor", Units: unitCurrencyEa},
+		{Name: "boq.balancer_unit_price", Label: "Active balancing circuit", Units: unitCurrencyEa},
+		{Name: "boq.bleeder_unit_price", Label: "Service bleeder resistor", Units: unitCurrencyEa},
+		{Name: "boq.bleeder_time_s", Label: "Bleeder discharge time", Units: unitSecond,
+			Hint: "to the service voltage; empty: 300 s"},
+	}
+
 	rankField = field{Name: "rank_by", Label: "Recommend the bank with", Kind: kindChoice, Choices: []choice{
 		{"", "lowest price (default)"}, {"cells", "fewest cells"}, {"mass", "least mass"}, {"volume", "least volume"},
 	}}
@@ -83,6 +113,7 @@ var (
 	inlineFields = []field{
 		{Name: "inline.id", Label: "Id", Kind: kindText, Hint: "short and unique, e.g. my-cell"},
 		{Name: "inline.name", Label: "Name", Kind: kindText},
+		{Name: "inline.source", Label: "Figures from", Kind: kindChoice, Choices: cellSources},
 		{Name: "inline.rated_v", Label: "Rated voltage", Units: unitVolt},
 		{Name: "inline.surge_v", Label: "Surge voltage", Units: unitVolt},
 		{Name: "inline.capacitance_f", Label: "Capacitance", Units: unitFarad},
@@ -106,6 +137,20 @@ var (
 		{Name: "inline.electrolyte", Label: "Electrolyte", Kind: kindChoice, Choices: []choice{
 			{"", "not given"}, {"organic", "organic"}, {"aqueous", "aqueous"}, {"ionic-liquid", "ionic liquid"}, {"hybrid", "hybrid"},
 		}},
+		{Name: "inline.notes", Label: "Notes", Kind: kindText, Hint: "free text, e.g. the datasheet's revision"},
+	}
+
+	// cellSources are where a cell's figures come from.
+	cellSources = []choice{{"", "not said"}, {"datasheet", "a datasheet"}, {"measured", "a measurement"}, {"demo", "demo (invented)"}}
+
+	// extraFields are the columns of a user's own line of the bill of
+	// quantities, named boq.extras[i].<key>.
+	extraFields = []field{
+		{Name: "item", Label: "Item", Kind: kindText},
+		{Name: "description", Label: "Description", Kind: kindText},
+		{Name: "quantity", Label: "Quantity", Units: unitNone},
+		{Name: "unit", Label: "Unit", Kind: kindText},
+		{Name: "unit_price", Label: "Unit price", Units: unitCurrencyEa},
 	}
 )
 
@@ -131,10 +176,20 @@ var fieldLabels = func() map[string]string {
 		"profile_csv":                      "Profile file",
 		"inline.capacitance_tolerance_pct": "Capacitance tolerance",
 		"design":                           "Design",
+		"design_file":                      "Design file",
+		"boq.extras":                       "Own lines",
+		"balancing.current_multiple":       "Balancing resistor current",
+		"balancing.leakage_spread_a":       "Balancing leakage spread",
+		"balancing.series":                 "Balancing resistor series",
+		"balancing.quiescent_a":            "Active balancing circuit draw",
+		"life.temp_step_k":                 "Life halves every (temperature)",
+		"life.voltage_step_v":              "Life halves every (voltage)",
 	}
-	for _, group := range [][]field{{nameField, rankField}, windowFields, loadFields, conditionFields, eolFields, pulseFields, inlineFields} {
+	for _, group := range [][]field{{nameField, rankField}, windowFields, loadFields, conditionFields, eolFields, pulseFields, inlineFields, balancingFields, lifeFields, boqFields} {
 		for _, f := range group {
-			m[f.Name] = f.Label
+			if _, ok := m[f.Name]; !ok {
+				m[f.Name] = f.Label
+			}
 		}
 	}
 	return m

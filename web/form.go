@@ -1,6 +1,7 @@
 package web
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"mime/multipart"
@@ -12,7 +13,6 @@ import (
 	"strings"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 )
 
 // maxFormSteps is the most step rows the form edits. A longer profile goes
@@ -22,15 +22,32 @@ const maxFormSteps = 500
 // maxPulses is the most pulses the pulse-train shortcut expands at once.
 const maxPulses = 200
 
+// maxFormExtras is the most own lines of the bill of quantities the form
+// edits, as many as a design may have.
+const maxFormExtras = 200
+
 // stepRow is one load step as typed.
 type stepRow struct{ Kind, Value, Duration string }
+
+// cellLookup finds a library cell by its id.
+type cellLookup func(id string) (sizing.Cell, bool)
 
 // designForm is the design form as submitted: every value as typed, so the
 // page can show it again.
 type designForm struct {
-	vals     url.Values
-	steps    []stepRow
-	picked   map[string]bool
+	vals  url.Values
+	steps []stepRow
+	// extras are the indices of the own BOQ lines the form holds, in
+	// order; a line keeps its index (its fields' names) for its life.
+	extras []int
+	// pickOrder lists the picked library cells in the order posted.
+	pickOrder []string
+	picked    map[string]bool
+	// carried are cells of an opened design that are neither library cells
+	// nor the typed cell, kept as the file gave them; keep marks those
+	// still in the design.
+	carried  []sizing.Cell
+	keep     map[string]bool
 	sort     string
 	lastGood string
 	notice   string
@@ -42,15 +59,30 @@ type designForm struct {
 	actionProblems sizing.ValidationError
 }
 
-var stepField = regexp.MustCompile(`^load\.steps\[(\d{1,9})\]\.(kind|value|duration_s)$`)
+var (
+	stepField  = regexp.MustCompile(`^load\.steps\[(\d{1,9})\]\.(kind|value|duration_s)$`)
+	extraField = regexp.MustCompile(`^boq\.extras\[(\d{1,9})\]\.(item|description|quantity|unit|unit_price)$`)
+)
 
 // readForm collects the submitted values. Step rows are ordered by their
 // index and renumbered from 0, so a row removed in the page leaves no gap.
 func readForm(vals url.Values) *designForm {
-	f := &designForm{vals: vals, picked: map[string]bool{}}
+	f := &designForm{vals: vals, picked: map[string]bool{}, keep: map[string]bool{}}
 	rows := map[int]*stepRow{}
-	overflow := false
+	extras := map[int]bool{}
+	overflow, extraOverflow := false, false
 	for key, vs := range vals {
+		if m := extraField.FindStringSubmatch(key); m != nil {
+			i, _ := strconv.Atoi(m[1])
+			if !extras[i] && strings.TrimSpace(vs[0]) != "" {
+				if len(extras) >= maxFormExtras {
+					extraOverflow = true
+					continue
+				}
+				extras[i] = true
+			}
+			continue
+		}
 		m := stepField.FindStringSubmatch(key)
 		if m == nil {
 			continue
@@ -86,8 +118,29 @@ func readForm(vals url.Values) *designForm {
 		f.problem("load.steps", "form_steps", fmt.Sprintf(
 			"holds more than %d steps, the most this form edits; send longer profiles to the JSON API or use capbank size", maxFormSteps))
 	}
+	for i := range extras {
+		f.extras = append(f.extras, i)
+	}
+	sort.Ints(f.extras)
+	if extraOverflow {
+		f.problem("boq.extras", "form_extras", fmt.Sprintf("holds more than %d own lines, the most a design may have", maxFormExtras))
+	}
 	for _, id := range vals["cells.pick"] {
-		f.picked[id] = true
+		if !f.picked[id] {
+			f.picked[id] = true
+			f.pickOrder = append(f.pickOrder, id)
+		}
+	}
+	if c := vals.Get("carried"); c != "" {
+		dec := json.NewDecoder(strings.NewReader(c))
+		dec.DisallowUnknownFields()
+		if err := dec.Decode(&f.carried); err != nil {
+			f.carried = nil
+			f.problem("cells.pick", "carried", "the cells kept from the opened design file could not be read back; open the file again")
+		}
+	}
+	for _, id := range vals["carried.keep"] {
+		f.keep[id] = true
 	}
 	f.sort = vals.Get("sort")
 	if vals.Has("sort_by") {
@@ -114,10 +167,58 @@ func (f *designForm) actionProblem(field, rule, msg string) {
 	f.actionProblems = append(f.actionProblems, sizing.FieldError{Field: field, Rule: rule, Message: msg})
 }
 
-// apply carries out a form action: editing the step list, expanding the
-// pulse train or loading a profile CSV. An unknown action does nothing.
-func (f *designForm) apply(action string, csv *multipart.FileHeader) {
+// uploads are the files a form post carries.
+type uploads struct{ profile, design *multipart.FileHeader }
+
+// apply carries out a form action: editing the step list or the own BOQ
+// lines, expanding the pulse train, loading a profile CSV or opening a
+// design file. An unknown action does nothing. It returns the form to
+// show, which is f except after a design file opened.
+func (f *designForm) apply(action string, files uploads, lib cellLookup) *designForm {
 	verb, arg, _ := strings.Cut(action, ":")
+	switch verb {
+	case "open-design":
+		return f.openDesign(files.design, lib)
+	case "add-extra":
+		if len(f.extras) >= maxFormExtras {
+			f.actionProblem("boq.extras", "form_extras", fmt.Sprintf("has %d own lines, the most a design may have", maxFormExtras))
+			return f
+		}
+		f.extras = append(f.extras, f.nextExtra())
+		return f
+	case "remove-extra":
+		if n, err := strconv.Atoi(arg); err == nil {
+			f.removeExtra(n)
+		}
+		return f
+	}
+	f.applyStep(verb, arg, files.profile)
+	return f
+}
+
+// nextExtra is the index of a new own line: one past the highest in use.
+func (f *designForm) nextExtra() int {
+	if n := len(f.extras); n > 0 {
+		return f.extras[n-1] + 1
+	}
+	return 0
+}
+
+// removeExtra drops own line i and its values.
+func (f *designForm) removeExtra(i int) {
+	k := slices.Index(f.extras, i)
+	if k < 0 {
+		return
+	}
+	f.extras = slices.Delete(f.extras, k, k+1)
+	for _, fl := range extraFields {
+		f.vals.Del(extraName(i, fl.Name))
+	}
+}
+
+func extraName(i int, key string) string { return fmt.Sprintf("boq.extras[%d].%s", i, key) }
+
+func (f *designForm) applyStep(verb, arg string, csv *multipart.FileHeader) {
 	i, err := strconv.Atoi(arg)
 	if err != nil || i < 0 || i >= len(f.steps) {
 		i = -1
@@ -260,8 +361,11 @@ func numberMessage(err error, u unitSpec) string {
 // decoded is the form turned into a design, with where each cell came from.
 type decoded struct {
 	design *sizing.Design
-	// sources[k] is the demo id of design.Cells[k], or "" for the inline cell.
+	// sources[k] is the library id of design.Cells[k] (or the id of a cell
+	// kept from an opened file), or "" for the typed cell.
 	sources []string
+	// extraIndex[k] is the form index of design.BOQ.Extras[k].
+	extraIndex []int
 	// problems are the fields that did not decode.
 	problems sizing.ValidationError
 }
@@ -271,7 +375,7 @@ type decoded struct {
 // optional field is nil (the default), never 0. A field that did not parse
 // holds NaN, so sizing.Validate's cross-field rules, which skip non-finite
 // values, do not report a second problem about it.
-func (f *designForm) decode() decoded {
+func (f *designForm) decode(lib cellLookup) decoded {
 	d := &sizing.Design{Name: strings.TrimSpace(f.value("name"))}
 	out := decoded{design: d, problems: slices.Clone(f.problems)}
 	bad := func(name, rule, msg string) {
@@ -358,24 +462,82 @@ func (f *designForm) decode() decoded {
 		bad("rank_by", "oneof", "must be one of: price, cells, mass, volume")
 	}
 
-	known := map[string]bool{}
-	for _, c := range democells.All() {
-		known[c.ID] = true
-		if f.picked[c.ID] {
-			d.Cells = append(d.Cells, c)
-			out.sources = append(out.sources, c.ID)
-		}
+	bal := sizing.Balancing{
+		Kind:            f.value("balancing.kind"),
+		CurrentMultiple: optional("balancing.current_multiple", unitFactor),
+		LeakageSpreadA:  optional("balancing.leakage_spread_a", unitAmp),
+		Series:          f.value("balancing.series"),
+		QuiescentA:      optional("balancing.quiescent_a", unitAmp),
 	}
-	for id := range f.picked {
-		if !known[id] {
-			bad("cells.pick", "unknown", fmt.Sprintf("has %q, which is not one of the demo cells", id))
+	if bal != (sizing.Balancing{}) {
+		d.Balancing = &bal
+	}
+	life := sizing.LifeModel{
+		TempStepK:    optional("life.temp_step_k", unitKelvin),
+		VoltageStepV: optional("life.voltage_step_v", unitVolt),
+	}
+	if life != (sizing.LifeModel{}) {
+		d.Life = &life
+	}
+	boq := sizing.BOQOptions{
+		Currency:          strings.TrimSpace(f.value("boq.currency")),
+		LinkUnitPrice:     optional("boq.link_unit_price", unitCurrencyEa),
+		ResistorUnitPrice: optional("boq.resistor_unit_price", unitCurrencyEa),
+		BalancerUnitPrice: optional("boq.balancer_unit_price", unitCurrencyEa),
+		BleederUnitPrice:  optional("boq.bleeder_unit_price", unitCurrencyEa),
+		BleederTimeS:      optional("boq.bleeder_time_s", unitSecond),
+	}
+	for _, i := range f.extras {
+		if f.extraEmpty(i) {
+			continue
 		}
+		boq.Extras = append(boq.Extras, sizing.BOQExtra{
+			Item:        strings.TrimSpace(f.value(extraName(i, "item"))),
+			Description: strings.TrimSpace(f.value(extraName(i, "description"))),
+			Quantity:    required(extraName(i, "quantity"), unitNone),
+			Unit:        strings.TrimSpace(f.value(extraName(i, "unit"))),
+			UnitPrice:   optional(extraName(i, "unit_price"), unitCurrencyEa),
+		})
+		out.extraIndex = append(out.extraIndex, i)
+	}
+	if boq.Currency != "" || boq.LinkUnitPrice != nil || boq.ResistorUnitPrice != nil || boq.BalancerUnitPrice != nil ||
+		boq.BleederUnitPrice != nil || boq.BleederTimeS != nil || len(boq.Extras) > 0 {
+		d.BOQ = &boq
+	}
+
+	for _, id := range f.pickOrder {
+		c, ok := sizing.Cell{}, false
+		if lib != nil {
+			c, ok = lib(id)
+		}
+		if !ok {
+			bad("cells.pick", "unknown", fmt.Sprintf("has %q, which is not in the cell library", id))
+			continue
+		}
+		d.Cells = append(d.Cells, c)
+		out.sources = append(out.sources, id)
 	}
 	if c, ok := f.inlineCell(required, optional); ok {
 		d.Cells = append(d.Cells, c)
 		out.sources = append(out.sources, "")
 	}
+	for _, c := range f.carried {
+		if f.keep[c.ID] {
+			d.Cells = append(d.Cells, c)
+			out.sources = append(out.sources, c.ID)
+		}
+	}
 	return out
+}
+
+// extraEmpty reports whether every field of own line i is empty.
+func (f *designForm) extraEmpty(i int) bool {
+	for _, fl := range extraFields {
+		if strings.TrimSpace(f.value(extraName(i, fl.Name))) != "" {
+			return false
+		}
+	}
+	return true
 }
 
 // inlineCell reads the cell typed into the form; ok is false when every
@@ -393,6 +555,8 @@ func (f *designForm) inlineCell(required func(string, unitSpec) float64, optiona
 	c := sizing.Cell{
 		ID:                     strings.TrimSpace(f.value("inline.id")),
 		Name:                   strings.TrimSpace(f.value("inline.name")),
+		Source:                 f.value("inline.source"),
+		Notes:                  strings.TrimSpace(f.value("inline.notes")),
 		RatedV:                 required("inline.rated_v", unitVolt),
 		SurgeV:                 optional("inline.surge_v", unitVolt),
 		CapacitanceF:           required("inline.capacitance_f", unitFarad),
@@ -436,6 +600,7 @@ func ruleOf(err error) string {
 var (
 	stepValuePath = regexp.MustCompile(`^load\.steps\[(\d+)\]\.(power_w|current_a|resistance_ohm|rest)$`)
 	cellPath      = regexp.MustCompile(`^cells\[(\d+)\](.*)$`)
+	extraPath     = regexp.MustCompile(`^boq\.extras\[(\d+)\](.*)$`)
 )
 
 // formProblems translates sizing's field paths into the form's inputs: a
@@ -450,7 +615,7 @@ func formProblems(dec decoded, validation sizing.ValidationError) sizing.Validat
 		seen[p.Field] = true
 	}
 	for _, e := range validation {
-		e.Field, e.Message = formPath(e.Field, e.Message, dec.sources)
+		e.Field, e.Message = formPath(e.Field, e.Message, dec.sources, dec.extraIndex)
 		if seen[e.Field] {
 			continue
 		}
@@ -459,9 +624,15 @@ func formProblems(dec decoded, validation sizing.ValidationError) sizing.Validat
 	return out
 }
 
-func formPath(path, msg string, sources []string) (string, string) {
+func formPath(path, msg string, sources []string, extraIndex []int) (string, string) {
 	if m := stepValuePath.FindStringSubmatch(path); m != nil {
 		return "load.steps[" + m[1] + "].value", msg
+	}
+	if m := extraPath.FindStringSubmatch(path); m != nil {
+		k, _ := strconv.Atoi(m[1])
+		if k < len(extraIndex) {
+			return fmt.Sprintf("boq.extras[%d]%s", extraIndex[k], m[2]), msg
+		}
 	}
 	if m := cellPath.FindStringSubmatch(path); m != nil {
 		k, _ := strconv.Atoi(m[1])
@@ -479,7 +650,7 @@ func formPath(path, msg string, sources []string) (string, string) {
 	}
 	switch {
 	case path == "cells" && strings.HasPrefix(msg, "must have at least"):
-		return "cells.pick", "pick at least one demo cell, or enter a cell of your own below"
+		return "cells.pick", "pick at least one cell, or enter a cell of your own below"
 	case path == "cells":
 		return "cells.pick", msg
 	case path == "load.steps" && strings.HasPrefix(msg, "must have at least"):

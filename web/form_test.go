@@ -3,6 +3,8 @@ package web
 import (
 	"strings"
 	"testing"
+
+	"capbank/web/democells"
 )
 
 // sizing's field paths land on the form's inputs.
@@ -20,14 +22,18 @@ func TestFormPath(t *testing.T) {
 		{"cells[1]", "inline.id", "m"},
 		{"cells[0].esr_ohm", "cells.pick", "demo-2v7-650f.esr_ohm: m"},
 		{"window.min_v", "window.min_v", "m"},
+		// the design's second own line is the form's line 5 (a line keeps its index)
+		{"boq.extras[1].quantity", "boq.extras[5].quantity", "m"},
+		{"boq.extras[0]", "boq.extras[2]", "m"},
 	}
+	extras := []int{2, 5}
 	for _, c := range cases {
-		field, msg := formPath(c.path, "m", sources)
+		field, msg := formPath(c.path, "m", sources, extras)
 		if field != c.wantField || msg != c.wantMsg {
 			t.Errorf("formPath(%q) = %q, %q; want %q, %q", c.path, field, msg, c.wantField, c.wantMsg)
 		}
 	}
-	if f, m := formPath("cells", "must have at least 1 item", nil); f != "cells.pick" || !strings.Contains(m, "pick at least one") {
+	if f, m := formPath("cells", "must have at least 1 item", nil, nil); f != "cells.pick" || !strings.Contains(m, "pick at least one") {
 		t.Errorf("no cells: %q %q", f, m)
 	}
 }
@@ -42,7 +48,7 @@ func TestInlineCellProblems(t *testing.T) {
 	v.Set("inline.capacitance_f", "100")
 	v.Set("inline.esr_ohm", "")
 	v.Set("inline.capacitance_tolerance_pct[1]", "20")
-	ev := evaluate(readForm(v))
+	ev := evaluate(readForm(v), democells.ByID)
 	got := map[string]string{}
 	for _, p := range ev.problems {
 		got[p.Field] = p.Message
@@ -68,12 +74,12 @@ func TestZeroIsNotEmpty(t *testing.T) {
 	t.Parallel()
 	v := designValues()
 	v.Set("load.efficiency", "0")
-	ev := evaluate(readForm(v))
+	ev := evaluate(readForm(v), democells.ByID)
 	if len(ev.problems) != 1 || ev.problems[0].Field != "load.efficiency" {
 		t.Fatalf("problems %v", ev.problems)
 	}
 	v.Set("load.efficiency", "  ")
-	if ev := evaluate(readForm(v)); len(ev.problems) != 0 || ev.sized.Load.Efficiency != nil {
+	if ev := evaluate(readForm(v), democells.ByID); len(ev.problems) != 0 || ev.sized.Load.Efficiency != nil {
 		t.Errorf("blank efficiency: problems %v", ev.problems)
 	}
 }

@@ -43,14 +43,14 @@ type evaluation struct {
 // sizing.Validate are reported together, each beside its field; when there
 // are any and the form carries the last design that sized, that design's
 // report comes back marked stale.
-func evaluate(f *designForm) *evaluation {
-	ev := evaluateDesign(f)
+func evaluate(f *designForm, lib cellLookup) *evaluation {
+	ev := evaluateDesign(f, lib)
 	ev.problems = append(slices.Clone(f.actionProblems), ev.problems...)
 	return ev
 }
 
-func evaluateDesign(f *designForm) *evaluation {
-	ev := &evaluation{form: f, dec: f.decode()}
+func evaluateDesign(f *designForm, lib cellLookup) *evaluation {
+	ev := &evaluation{form: f, dec: f.decode(lib)}
 	if len(ev.dec.problems) > 0 {
 		ev.problems = formProblems(ev.dec, validationErrors(sizing.Validate(ev.dec.design)))
 	} else {
@@ -83,16 +83,20 @@ func validationErrors(err error) sizing.ValidationError {
 }
 
 // readPosted reads the posted form and carries out its action.
-func readPosted(c echo.Context) (*designForm, error) {
+func (s *Server) readPosted(c echo.Context) (*designForm, error) {
 	r := c.Request()
-	var file *multipart.FileHeader
+	var files uploads
 	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
 		if err := r.ParseMultipartForm(maxFormMemory); err != nil {
 			return nil, formReadError(err)
 		}
-		if fs := r.MultipartForm.File["profile_csv"]; len(fs) > 0 {
-			file = fs[0]
+		first := func(name string) *multipart.FileHeader {
+			if fs := r.MultipartForm.File[name]; len(fs) > 0 {
+				return fs[0]
+			}
+			return nil
 		}
+		files = uploads{profile: first("profile_csv"), design: first("design_file")}
 	} else if err := r.ParseForm(); err != nil {
 		return nil, formReadError(err)
 	}
@@ -101,8 +105,7 @@ func readPosted(c echo.Context) (*designForm, error) {
 		vals = url.Values{}
 	}
 	f := readForm(vals)
-	f.apply(vals.Get("action"), file)
-	return f, nil
+	return f.apply(vals.Get("action"), files, s.lookup(c)), nil
 }
 
 func formReadError(err error) error {
@@ -118,46 +121,52 @@ func formReadError(err error) error {
 func (s *Server) getPage(c echo.Context) error {
 	if c.QueryParams().Has("new") {
 		ev := &evaluation{form: blankForm(), pristine: true}
-		return s.render(c, http.StatusOK, components.Page(s.pageProps(ev)))
+		return s.renderPage(c, http.StatusOK, ev)
 	}
-	return s.render(c, http.StatusOK, components.Page(s.pageProps(evaluate(exampleForm()))))
+	return s.renderPage(c, http.StatusOK, evaluate(exampleForm(), s.lookup(c)))
+}
+
+// renderPage writes the whole design page for an evaluation.
+func (s *Server) renderPage(c echo.Context, status int, ev *evaluation) error {
+	return s.render(c, status, components.Page(s.pageProps(ev, s.cellPicks(c, ev.form))))
 }
 
 // postPage is POST / without JavaScript: the whole page again, with the
 // results or with every problem beside its field (422).
 func (s *Server) postPage(c echo.Context) error {
-	f, err := readPosted(c)
+	f, err := s.readPosted(c)
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f)
+	ev := evaluate(f, s.lookup(c))
 	status := http.StatusOK
 	if len(ev.problems) > 0 {
 		status = http.StatusUnprocessableEntity
 	}
-	return s.render(c, status, components.Page(s.pageProps(ev)))
+	return s.renderPage(c, status, ev)
 }
 
 // postWorkspace is the htmx answer to an edit of the step list, a pulse
 // train or a profile upload: the form and the results together.
 func (s *Server) postWorkspace(c echo.Context) error {
-	f, err := readPosted(c)
+	f, err := s.readPosted(c)
 	if err != nil {
 		return err
 	}
-	return s.render(c, http.StatusOK, components.Workspace(s.pageProps(evaluate(f))))
+	ev := evaluate(f, s.lookup(c))
+	return s.render(c, http.StatusOK, components.Workspace(s.pageProps(ev, s.cellPicks(c, f))))
 }
 
 // postResults is the htmx answer to typing: the results panel and every
 // field's message. With problems, only the status line changes, so the
 // last results stay in view, marked stale.
 func (s *Server) postResults(c echo.Context) error {
-	f, err := readPosted(c)
+	f, err := s.readPosted(c)
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f)
-	p := s.pageProps(ev)
+	ev := evaluate(f, s.lookup(c))
+	p := s.pageProps(ev, nil)
 	slots, units := formSlots(p.Form)
 	if len(ev.problems) > 0 && f.lastGood != "" {
 		h := c.Response().Header()

@@ -53,7 +53,7 @@ func wantBank(t *testing.T) string {
 // SI prefixes applied, empty optional fields nil, nothing defaulted to 0.
 func TestFormDecodesToTheDesign(t *testing.T) {
 	t.Parallel()
-	dec := readForm(designValues()).decode()
+	dec := readForm(designValues()).decode(democells.ByID)
 	if len(dec.problems) > 0 {
 		t.Fatalf("problems: %v", dec.problems)
 	}
@@ -84,7 +84,7 @@ func TestFormDecodesEveryField(t *testing.T) {
 	} {
 		v.Set(k, val)
 	}
-	dec := readForm(v).decode()
+	dec := readForm(v).decode(democells.ByID)
 	if len(dec.problems) > 0 {
 		t.Fatalf("problems: %v", dec.problems)
 	}
@@ -468,7 +468,7 @@ func TestCandidateOrder(t *testing.T) {
 		})
 		return ids
 	}
-	rep, err := sizing.Size(readForm(v).decode().design)
+	rep, err := sizing.Size(readForm(v).decode(democells.ByID).design)
 	if err != nil {
 		t.Fatal(err)
 	}

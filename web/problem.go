@@ -32,6 +32,8 @@ const (
 	typeTooLarge   = "/problems/too-large"
 	typeMediaType  = "/problems/unsupported-media-type"
 	typeBadForm    = "/problems/unreadable-form"
+	typeNoExport   = "/problems/cannot-export"
+	typeBadLink    = "/problems/bad-share-link"
 	typeHTTP       = "about:blank"
 	problemJSON    = "application/problem+json"
 	problemCharset = problemJSON + "; charset=utf-8"
@@ -61,6 +63,8 @@ func problemFor(err error) problem {
 		mal  *malformedError
 		ve   sizing.ValidationError
 		fe   *formError
+		xe   *exportError
+		te   *tokenError
 		he   *echo.HTTPError
 		mibs = fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
 	)
@@ -77,6 +81,12 @@ func problemFor(err error) problem {
 	case errors.Is(err, sizing.ErrNotFinite):
 		return problem{Type: typeUnsizable, Title: "The design could not be sized", Status: http.StatusUnprocessableEntity,
 			Detail: "The arithmetic for this design went beyond the range of numbers capbank computes with; check for extreme values. " + err.Error()}
+	case errors.As(err, &xe):
+		return problem{Type: typeNoExport, Title: "This export cannot be made", Status: http.StatusUnprocessableEntity,
+			Detail: xe.Error(), Errors: []sizing.FieldError{{Field: xe.field, Rule: "export", Message: xe.msg}}}
+	case errors.As(err, &te):
+		return problem{Type: typeBadLink, Title: "The design link could not be read", Status: http.StatusBadRequest,
+			Detail: strings.TrimPrefix(te.Error(), "share link: ") + "."}
 	case errors.As(err, &fe):
 		return problem{Type: typeBadForm, Title: "The form could not be read", Status: http.StatusBadRequest,
 			Detail: "The request body is not a readable form; reload the page and try again."}

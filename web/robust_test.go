@@ -7,6 +7,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"capbank/web/democells"
 )
 
 // Nothing a user types gives a 500, a panic, NaN or Inf on the page: every
@@ -97,7 +99,7 @@ func FuzzForm(f *testing.F) {
 		v.Set("inline.id", "x")
 		v.Set("inline.rated_v", b)
 		v.Set("inline.capacitance_f", "10")
-		ev := evaluate(readForm(v))
+		ev := evaluate(readForm(v), democells.ByID)
 		if ev.report == nil && len(ev.problems) == 0 {
 			t.Fatal("neither a report nor a problem")
 		}

@@ -10,6 +10,7 @@ import (
 	"net/http"
 	"runtime/debug"
 	"strings"
+	"time"
 
 	"github.com/a-h/templ"
 	"github.com/labstack/echo/v4"
@@ -38,6 +39,8 @@ type Server struct {
 	log     *slog.Logger
 	dataDir string
 	css, js string // versioned URLs of the stylesheet and htmx
+	// now dates the PDF report; tests fix it.
+	now func() time.Time
 }
 
 // New builds the server and its routes.
@@ -49,7 +52,7 @@ func New(cfg Config) *Server {
 	e := echo.New()
 	e.HideBanner, e.HidePort = true, true
 	s := &Server{echo: e, log: log, dataDir: cfg.DataDir,
-		css: assetURL("capbank.css"), js: assetURL("htmx.min.js")}
+		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), now: time.Now}
 	e.HTTPErrorHandler = s.handleError
 	e.Use(s.recoverPanics, limitBody, securityHeaders)
 	e.Use(middleware.GzipWithConfig(middleware.GzipConfig{Level: 5, MinLength: 1024}))
@@ -58,6 +61,7 @@ func New(cfg Config) *Server {
 	e.POST("/", s.postPage)
 	e.POST("/workspace", s.postWorkspace)
 	e.POST("/results", s.postResults)
+	e.POST("/export/:format", s.postExport)
 	e.GET("/healthz", s.healthz)
 	e.GET("/measure", s.getMeasure)
 	e.POST("/measure", s.postMeasure)

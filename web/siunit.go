@@ -36,6 +36,7 @@ var (
 	unitHour       = unitSpec{Unit: "h", Symbols: []unitSymbol{{"h", 1}}}
 	unitYear       = unitSpec{Unit: "years", Symbols: []unitSymbol{{"years", 1}, {"year", 1}, {"yr", 1}, {"y", 1}}}
 	unitCelsius    = unitSpec{Unit: "°C", Symbols: []unitSymbol{{"°C", 1}, {"℃", 1}, {"C", 1}}}
+	unitKelvin     = unitSpec{Unit: "K", Symbols: []unitSymbol{{"K", 1}}}
 	unitKPerW      = unitSpec{Unit: "K/W", Symbols: []unitSymbol{{"K/W", 1}}}
 	unitKilogram   = unitSpec{Unit: "kg", Symbols: []unitSymbol{{"g", 1e-3}}}
 	unitLitre      = unitSpec{Unit: "L", Symbols: []unitSymbol{{"L", 1}, {"l", 1}}}
@@ -76,25 +77,42 @@ func parseSI(text string, u unitSpec) (float64, error) {
 	if strings.ContainsRune(s, ',') {
 		return 0, errors.New("has a comma; write the decimal point as a full stop (2.5, not 2,5) and no thousands separator")
 	}
-	scale := 1.0
+	// The prefix, unit and percent scales are powers of ten: they shift the
+	// decimal exponent, so "2.8m" reads as the decimal 0.0028 exactly, as
+	// strconv would read "0.0028", not as 2.8 × 0.001.
+	shift := 0
 	if u.Percent {
 		if rest, ok := strings.CutSuffix(s, "%"); ok {
-			s, scale = strings.TrimSpace(rest), 0.01
+			s, shift = strings.TrimSpace(rest), -2
 		}
 	}
 	for _, sym := range u.Symbols {
 		if rest, ok := strings.CutSuffix(s, sym.Text); ok && strings.TrimSpace(rest) != "" {
-			s, scale = strings.TrimSpace(rest), scale*sym.Scale
+			s, shift = strings.TrimSpace(rest), shift+decimalExponent(sym.Scale)
 			break
 		}
 	}
 	if n := len(s); n > 1 {
 		if p, ok := siPrefixes[s[n-1]]; ok {
-			s, scale = strings.TrimSpace(s[:n-1]), scale*p
+			s, shift = strings.TrimSpace(s[:n-1]), shift+decimalExponent(p)
 		}
 	}
 	if !plainDecimal(s) {
 		return 0, errors.New(notANumberFor(s, u))
+	}
+	if shift != 0 {
+		mant, exp := s, 0
+		if i := strings.IndexAny(s, "eE"); i >= 0 {
+			e, err := strconv.Atoi(s[i+1:])
+			if err != nil {
+				if errors.Is(err, strconv.ErrRange) {
+					return 0, errors.New("is too large a number (beyond ±1.8e308)")
+				}
+				return 0, errors.New(notANumberFor(s, u))
+			}
+			mant, exp = s[:i], e
+		}
+		s = mant + "e" + strconv.Itoa(exp+shift)
 	}
 	v, err := strconv.ParseFloat(s, 64)
 	if err != nil {
@@ -103,12 +121,15 @@ func parseSI(text string, u unitSpec) (float64, error) {
 		}
 		return 0, errors.New(notANumberFor(s, u))
 	}
-	v *= scale
 	if math.IsInf(v, 0) || math.IsNaN(v) {
 		return 0, errors.New("is too large a number (beyond ±1.8e308)")
 	}
 	return v, nil
 }
+
+// decimalExponent is n for a scale of exactly 10ⁿ (every prefix and unit
+// scale is one).
+func decimalExponent(scale float64) int { return int(math.Round(math.Log10(scale))) }
 
 // parseCount is parseSI for a whole number such as a repeat or a count.
 func parseCount(text string, u unitSpec) (int, error) {

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"encoding/json"
 	"fmt"
 	"regexp"
 	"slices"
@@ -8,21 +9,47 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/labstack/echo/v4"
+
 	"capbank/components"
 	"capbank/sizing"
 	"capbank/web/democells"
 )
 
-// pageProps lays out an evaluation for the page.
-func (s *Server) pageProps(ev *evaluation) components.PageProps {
+// pageProps lays out an evaluation for the page; picks are the library
+// cells the picker offers (nil for an answer without the form).
+func (s *Server) pageProps(ev *evaluation, picks []components.CellPickProps) components.PageProps {
 	title := "capbank – supercapacitor bank sizing"
 	if n := strings.TrimSpace(ev.form.value("name")); n != "" {
 		title = n + " – capbank"
 	}
 	return components.PageProps{
 		Title: title, CSS: s.css, Script: s.js, APIHref: "/api/v1/openapi.json",
-		Form:    formProps(ev),
+		Form:    formProps(ev, picks),
 		Results: resultsProps(ev),
+	}
+}
+
+// lookup finds the cells a design may pick by id.
+func (s *Server) lookup(c echo.Context) cellLookup { return democells.ByID }
+
+// cellPicks lists the cells the picker offers, each marked when the form
+// picked it.
+func (s *Server) cellPicks(c echo.Context, f *designForm) []components.CellPickProps {
+	var out []components.CellPickProps
+	for _, cell := range democells.All() {
+		out = append(out, cellPick(cell, f.picked[cell.ID]))
+	}
+	return out
+}
+
+func cellPick(c sizing.Cell, picked bool) components.CellPickProps {
+	return components.CellPickProps{
+		ID: c.ID, Name: c.Name, Picked: picked, Electrolyte: c.Electrolyte,
+		RatedV:      components.Quantity(c.RatedV, "V", 3),
+		Capacitance: components.Quantity(c.CapacitanceF, "F", 4),
+		ESR:         components.Quantity(c.ESROhm, "Ω", 3),
+		Price:       components.Opt(c.UnitPrice, components.Money),
 	}
 }
 
@@ -56,7 +83,7 @@ func fieldProps(fl field, value, msg string) components.FieldProps {
 	return fp
 }
 
-func formProps(ev *evaluation) components.FormProps {
+func formProps(ev *evaluation, picks []components.CellPickProps) components.FormProps {
 	f := ev.form
 	msg := messages(ev.problems)
 	group := func(fields []field) []components.FieldProps {
@@ -80,8 +107,45 @@ func formProps(ev *evaluation) components.FormProps {
 		CellsMessageID: "msg-cells-pick", CellsMessage: msg["cells.pick"],
 		Inline:            group(inlineFields),
 		InlineToleranceID: "msg-inline-capacitance_tolerance_pct", InlineToleranceMessage: msg["inline.capacitance_tolerance_pct"],
-		RankBy: fieldProps(rankField, f.value("rank_by"), msg["rank_by"]),
+		RankBy:          fieldProps(rankField, f.value("rank_by"), msg["rank_by"]),
+		Balancing:       group(balancingFields),
+		Life:            group(lifeFields),
+		BOQ:             group(boqFields),
+		ExtrasMessageID: "msg-boq-extras", ExtrasMessage: msg["boq.extras"],
+		DesignFileMessageID: "msg-design_file", DesignFileMessage: msg["design_file"],
+		Cells: picks,
 	}
+	rows := slices.Clone(f.extras)
+	if n := len(rows); n == 0 || !f.extraEmpty(rows[n-1]) {
+		rows = append(rows, f.nextExtra())
+	}
+	for _, i := range rows {
+		base := fmt.Sprintf("boq.extras[%d]", i)
+		row := components.ExtraRowProps{Index: i, RowID: "row-" + domID(base), Number: len(p.Extras) + 1}
+		for _, fl := range extraFields {
+			fl.Name = base + "." + fl.Name
+			row.Fields = append(row.Fields, fieldProps(fl, f.value(fl.Name), msg[fl.Name]))
+		}
+		p.Extras = append(p.Extras, row)
+	}
+	if len(f.carried) > 0 {
+		b, _ := json.Marshal(f.carried)
+		p.CarriedJSON = string(b)
+		for _, c := range f.carried {
+			p.Carried = append(p.Carried, components.CarriedCellProps{ID: c.ID, Name: c.Name, Keep: f.keep[c.ID],
+				Figures: components.Quantity(c.RatedV, "V", 3) + ", " + components.Quantity(c.CapacitanceF, "F", 4) + ", " + components.Quantity(c.ESROhm, "Ω", 3)})
+		}
+	}
+	for _, group := range [][]components.FieldProps{p.Balancing, p.Life} {
+		for _, fp := range group {
+			p.MoreOpen = p.MoreOpen || fp.Value != "" || fp.Message != ""
+		}
+	}
+	for _, fp := range p.BOQ {
+		p.BOQOpen = p.BOQOpen || fp.Value != "" || fp.Message != ""
+	}
+	p.BOQOpen = p.BOQOpen || len(f.extras) > 0 || p.ExtrasMessage != ""
+	p.DesignFileOpen = p.DesignFileMessage != ""
 	if p.Pulse[0].Value == "" {
 		p.Pulse[0].Value = "power"
 	}
@@ -103,15 +167,6 @@ func formProps(ev *evaluation) components.FormProps {
 			First: i == 0, Last: i == len(f.steps)-1,
 		})
 	}
-	for _, c := range democells.All() {
-		p.Cells = append(p.Cells, components.CellPickProps{
-			ID: c.ID, Name: c.Name, Picked: f.picked[c.ID], Electrolyte: c.Electrolyte,
-			RatedV:      components.Quantity(c.RatedV, "V", 3),
-			Capacitance: components.Quantity(c.CapacitanceF, "F", 4),
-			ESR:         components.Quantity(c.ESROhm, "Ω", 3),
-			Price:       components.Opt(c.UnitPrice, components.Money),
-		})
-	}
 	for _, fl := range inlineFields {
 		if strings.TrimSpace(f.value(fl.Name)) != "" || msg[fl.Name] != "" {
 			p.InlineOpen = true
@@ -128,7 +183,10 @@ func formProps(ev *evaluation) components.FormProps {
 	return p
 }
 
-var stepPart = regexp.MustCompile(`^load\.steps\[(\d+)\](?:\.(kind|value|duration_s))?$`)
+var (
+	stepPart  = regexp.MustCompile(`^load\.steps\[(\d+)\](?:\.(kind|value|duration_s))?$`)
+	extraPart = regexp.MustCompile(`^boq\.extras\[(\d+)\](?:\.(item|description|quantity|unit|unit_price))?$`)
+)
 
 // problemLabel names a field for the problem summary.
 func problemLabel(name string) string {
@@ -136,6 +194,10 @@ func problemLabel(name string) string {
 		i, _ := strconv.Atoi(m[1])
 		part := map[string]string{"kind": " kind", "value": " value", "duration_s": " duration", "": ""}[m[2]]
 		return fmt.Sprintf("Step %d%s", i+1, part)
+	}
+	if m := extraPart.FindStringSubmatch(name); m != nil {
+		part := map[string]string{"item": " item", "description": " description", "quantity": " quantity", "unit": " unit", "unit_price": " unit price", "": ""}[m[2]]
+		return "Own BOQ line" + part
 	}
 	if l, ok := fieldLabels[name]; ok {
 		if strings.HasPrefix(name, "inline.") {
@@ -159,6 +221,16 @@ func problemHref(name string) string {
 		return "#f-profile_csv"
 	case name == "design":
 		return "#design-form"
+	case name == "design_file":
+		return "#f-design_file"
+	case name == "boq.extras":
+		return "#boq"
+	}
+	if m := extraPart.FindStringSubmatch(name); m != nil {
+		if m[2] == "" {
+			return "#row-" + domID(name)
+		}
+		return "#f-" + domID(name)
 	}
 	if m := stepPart.FindStringSubmatch(name); m != nil && m[2] == "" {
 		return "#row-" + domID(name)
@@ -185,6 +257,14 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 	fields(p.Conditions)
 	fields(p.EOL)
 	fields(p.Inline)
+	fields(p.Balancing)
+	fields(p.Life)
+	fields(p.BOQ)
+	for _, r := range p.Extras {
+		fields(r.Fields)
+	}
+	add(p.ExtrasMessageID, p.ExtrasMessage)
+	add(p.DesignFileMessageID, p.DesignFileMessage)
 	add(p.StepsMessageID, p.StepsMessage)
 	add(p.CSVMessageID, p.CSVMessage)
 	add(p.CellsMessageID, p.CellsMessage)
@@ -213,7 +293,9 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 	r := ev.report
 	if !ev.stale {
 		p.LastGood = lastGoodJSON(ev.sized)
-	} else {
+	}
+	p.Token, p.TokenNote = designToken(ev.sized)
+	if ev.stale {
 		p.Stale = true
 		p.Status = fmt.Sprintf("The design has %d %s, marked beside %s. These results are for the last design that sized.",
 			n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))

@@ -1,0 +1,284 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"mime/multipart"
+	"net/url"
+	"slices"
+	"strconv"
+	"strings"
+
+	"capbank/sizing"
+)
+
+// maxDesignFile is the largest design file the page opens; larger designs
+// go through the JSON API or capbank size.
+const maxDesignFile = 4 << 20
+
+// openDesign reads an uploaded design file into a new form. A file that
+// cannot be read, or that the form cannot show without losing part of it,
+// leaves the form as it was with the reason beside the file input.
+func (f *designForm) openDesign(fh *multipart.FileHeader, lib cellLookup) *designForm {
+	if fh == nil || fh.Size == 0 {
+		f.actionProblem("design_file", "required", "choose a design file first (the JSON that capbank size reads)")
+		return f
+	}
+	if fh.Size > maxDesignFile {
+		f.actionProblem("design_file", "size", fmt.Sprintf("%s is %d bytes, more than the %d this page opens; size it with the JSON API or capbank size", fh.Filename, fh.Size, maxDesignFile))
+		return f
+	}
+	file, err := fh.Open()
+	if err != nil {
+		f.actionProblem("design_file", "read", "could not be read; try choosing the file again")
+		return f
+	}
+	defer file.Close()
+	d, err := sizing.DecodeDesign(file)
+	if err != nil {
+		f.actionProblem("design_file", "decode", fh.Filename+": "+oneLine(err))
+		return f
+	}
+	nf, err := formFromDesign(d, lib)
+	if err != nil {
+		f.actionProblem("design_file", "form", fh.Filename+": "+err.Error())
+		return f
+	}
+	nf.notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.Filename,
+		len(d.Load.Steps), plural(len(d.Load.Steps), "step", "steps"), len(d.Cells), plural(len(d.Cells), "cell", "cells"))
+	return nf
+}
+
+// oneLine joins a multi-line error (a sizing.ValidationError) with "; ".
+func oneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", "; ") }
+
+// formFromDesign is the form that decodes back into d: every key of the
+// design file has its field. A cell goes to the library picks when the
+// library holds the very same cell under its id, else into the typed-cell
+// fields (the first such cell) or is kept as the file gave it. Library
+// references the library does not know stay picked, and the form reports
+// them. A design the form cannot show in full is an error, never a guess:
+// a step that is not exactly one kind, a tolerance that is not a pair, more
+// steps or own lines than the form edits.
+func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
+	if n := len(d.Load.Steps); n > maxFormSteps {
+		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, maxFormSteps)
+	}
+	if d.BOQ != nil && len(d.BOQ.Extras) > maxFormExtras {
+		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), maxFormExtras)
+	}
+	v := url.Values{}
+	num := func(key string, x float64) { v.Set(key, fieldNumber(x)) }
+	opt := func(key string, x *float64) {
+		if x != nil {
+			num(key, *x)
+		}
+	}
+	text := func(key, s string) {
+		if s != "" {
+			v.Set(key, s)
+		}
+	}
+	text("name", d.Name)
+	num("window.max_v", d.Window.MaxV)
+	num("window.min_v", d.Window.MinV)
+	opt("cell_max_v", d.CellMaxV)
+	opt("load.efficiency", d.Load.Efficiency)
+	if d.Load.Repeat != nil {
+		v.Set("load.repeat", fmt.Sprint(*d.Load.Repeat))
+	}
+	for i, s := range d.Load.Steps {
+		p := fmt.Sprintf("load.steps[%d].", i)
+		kinds := 0
+		switch {
+		case s.PowerW != nil:
+			v.Set(p+"kind", "power")
+			num(p+"value", *s.PowerW)
+		case s.CurrentA != nil:
+			v.Set(p+"kind", "current")
+			num(p+"value", *s.CurrentA)
+		case s.ResistanceOhm != nil:
+			v.Set(p+"kind", "resistance")
+			num(p+"value", *s.ResistanceOhm)
+		case s.Rest:
+			v.Set(p+"kind", "rest")
+		}
+		for _, given := range []bool{s.PowerW != nil, s.CurrentA != nil, s.ResistanceOhm != nil, s.Rest} {
+			if given {
+				kinds++
+			}
+		}
+		if kinds != 1 {
+			return nil, fmt.Errorf("load.steps[%d] must give exactly one of power_w, current_a, resistance_ohm or rest (found %d); fix the file first", i, kinds)
+		}
+		num(p+"duration_s", s.DurationS)
+	}
+	if d.EOL != nil {
+		opt("eol.capacitance_factor", d.EOL.CapacitanceFactor)
+		opt("eol.esr_factor", d.EOL.ESRFactor)
+	}
+	opt("ambient_c", d.AmbientC)
+	opt("cold_c", d.ColdC)
+	opt("life_years", d.LifeYears)
+	opt("standby_h", d.StandbyH)
+	if d.RankBy != "price" { // price is the default, which the form shows as its first choice
+		text("rank_by", d.RankBy)
+	}
+	if b := d.Balancing; b != nil {
+		text("balancing.kind", b.Kind)
+		opt("balancing.current_multiple", b.CurrentMultiple)
+		opt("balancing.leakage_spread_a", b.LeakageSpreadA)
+		text("balancing.series", b.Series)
+		opt("balancing.quiescent_a", b.QuiescentA)
+	}
+	if l := d.Life; l != nil {
+		opt("life.temp_step_k", l.TempStepK)
+		opt("life.voltage_step_v", l.VoltageStepV)
+	}
+	if b := d.BOQ; b != nil {
+		text("boq.currency", b.Currency)
+		opt("boq.link_unit_price", b.LinkUnitPrice)
+		opt("boq.resistor_unit_price", b.ResistorUnitPrice)
+		opt("boq.balancer_unit_price", b.BalancerUnitPrice)
+		opt("boq.bleeder_unit_price", b.BleederUnitPrice)
+		opt("boq.bleeder_time_s", b.BleederTimeS)
+		for i, e := range b.Extras {
+			text(extraName(i, "item"), e.Item)
+			text(extraName(i, "description"), e.Description)
+			num(extraName(i, "quantity"), e.Quantity)
+			text(extraName(i, "unit"), e.Unit)
+			opt(extraName(i, "unit_price"), e.UnitPrice)
+		}
+	}
+	var carried []sizing.Cell
+	inline := false
+	for _, c := range d.Cells {
+		if c.IsReference() {
+			v.Add("cells.pick", c.ID)
+			continue
+		}
+		if lib != nil && !slices.Contains(v["cells.pick"], c.ID) {
+			if lc, ok := lib(c.ID); ok && sameCell(lc, c) {
+				v.Add("cells.pick", c.ID)
+				continue
+			}
+		}
+		if !inline {
+			if t := c.CapacitanceTolerancePct; len(t) != 0 && len(t) != 2 {
+				return nil, fmt.Errorf("cell %q: capacitance_tolerance_pct must be a pair [minus, plus] (found %d values); fix the file first", c.ID, len(t))
+			}
+			inline = true
+			inlineValues(v, c)
+			continue
+		}
+		carried = append(carried, c)
+		v.Add("carried.keep", c.ID)
+	}
+	if len(carried) > 0 {
+		b, err := json.Marshal(carried)
+		if err != nil {
+			return nil, err
+		}
+		v.Set("carried", string(b))
+	}
+	return readForm(v), nil
+}
+
+// inlineValues writes cell c into the typed-cell fields.
+func inlineValues(v url.Values, c sizing.Cell) {
+	set := func(key string, x *float64) {
+		if x != nil {
+			v.Set("inline."+key, fieldNumber(*x))
+		}
+	}
+	v.Set("inline.id", c.ID)
+	if c.Name != "" {
+		v.Set("inline.name", c.Name)
+	}
+	if c.Source != "" {
+		v.Set("inline.source", c.Source)
+	}
+	if c.Notes != "" {
+		v.Set("inline.notes", c.Notes)
+	}
+	if c.Electrolyte != "" {
+		v.Set("inline.electrolyte", c.Electrolyte)
+	}
+	v.Set("inline.rated_v", fieldNumber(c.RatedV))
+	v.Set("inline.capacitance_f", fieldNumber(c.CapacitanceF))
+	v.Set("inline.esr_ohm", fieldNumber(c.ESROhm))
+	if t := c.CapacitanceTolerancePct; len(t) == 2 {
+		v.Set("inline.capacitance_tolerance_pct[0]", fieldNumber(t[0]))
+		v.Set("inline.capacitance_tolerance_pct[1]", fieldNumber(t[1]))
+	}
+	set("surge_v", c.SurgeV)
+	set("cold_esr_factor", c.ColdESRFactor)
+	set("cold_esr_temp_c", c.ColdESRTempC)
+	set("leakage_a", c.LeakageA)
+	set("max_current_a", c.MaxCurrentA)
+	set("peak_current_a", c.PeakCurrentA)
+	set("thermal_resistance_k_per_w", c.ThermalResistanceKPerW)
+	set("min_temp_c", c.MinTempC)
+	set("max_temp_c", c.MaxTempC)
+	set("mass_kg", c.MassKg)
+	set("volume_l", c.VolumeL)
+	set("unit_price", c.UnitPrice)
+	set("rated_life_h", c.RatedLifeH)
+	set("rated_life_temp_c", c.RatedLifeTempC)
+	set("specific_heat_j_per_kg_k", c.SpecificHeatJPerKgK)
+}
+
+// fieldPrefixes are the SI prefixes fieldNumber writes, by their power of
+// ten.
+var fieldPrefixes = map[int]string{9: "G", 6: "M", 3: "k", -3: "m", -6: "µ", -9: "n", -12: "p"}
+
+// fieldNumber writes a design-file number as an engineer types it into a
+// field: plain between 0.001 and 9999, else with the SI prefix that keeps
+// the figure between 1 and 1000 (4µ, not 4e-06). The digits are those of
+// the shortest exact form with the decimal point moved, so the field reads
+// back as exactly the same number.
+func fieldNumber(x float64) string {
+	plain := formatFloat(x)
+	if a := math.Abs(x); x == 0 || (a >= 1e-3 && a < 1e4) || math.IsNaN(x) || math.IsInf(x, 0) {
+		return plain
+	}
+	sci := strconv.FormatFloat(x, 'e', -1, 64) // -d.ddde±XX
+	mant, e, _ := strings.Cut(sci, "e")
+	exp, err := strconv.Atoi(e)
+	if err != nil {
+		return plain
+	}
+	pe := int(math.Floor(float64(exp)/3)) * 3
+	sym, ok := fieldPrefixes[pe]
+	if !ok {
+		return plain
+	}
+	sign := ""
+	if strings.HasPrefix(mant, "-") {
+		sign, mant = "-", mant[1:]
+	}
+	digits := strings.Replace(mant, ".", "", 1)
+	point := 1 + exp - pe // digits before the decimal point: 1 to 3
+	for len(digits) < point {
+		digits += "0"
+	}
+	text := sign + digits[:point]
+	if rest := digits[point:]; rest != "" {
+		text += "." + rest
+	}
+	text += sym
+	if back, err := parseSI(text, unitNone); err != nil || back != x {
+		return plain
+	}
+	return text
+}
+
+// sameCell reports whether two cells are the same in every key of the
+// design file.
+func sameCell(a, b sizing.Cell) bool {
+	ja, err1 := json.Marshal(a)
+	jb, err2 := json.Marshal(b)
+	return err1 == nil && err2 == nil && bytes.Equal(ja, jb)
+}

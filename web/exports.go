@@ -1,0 +1,230 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"mime"
+	"net/http"
+	"slices"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/sizing"
+	"capbank/web/export"
+	"capbank/web/share"
+)
+
+// designFormat is the design file itself as a download, beside the export
+// formats of web/export.
+var designFormat = export.Format{Name: "design", ContentType: "application/json", Ext: ".json"}
+
+// designToken is the share token of a design that sized, which the page's
+// download, share and compare controls carry; "" and the reason when the
+// design is too large for one.
+func designToken(d *sizing.Design) (token, note string) {
+	if d == nil {
+		return "", ""
+	}
+	data, err := json.Marshal(d)
+	if err != nil {
+		return "", "This design could not be written as a design file."
+	}
+	tok, err := share.Encode(data)
+	if err != nil {
+		return "", "This design is too large to carry in a link or a download from this page; size and export it with capbank size."
+	}
+	return tok, ""
+}
+
+// exportError is a request for an export that cannot be made from its
+// design: a cell that is not a feasible candidate, a bad paper size, a
+// bill of quantities when no bank carries the load.
+type exportError struct{ field, msg string }
+
+func (e *exportError) Error() string { return e.field + ": " + e.msg }
+
+// tokenError is a share token that does not decode.
+type tokenError struct{ err error }
+
+func (e *tokenError) Error() string { return e.err.Error() }
+func (e *tokenError) Unwrap() error { return e.err }
+
+// readExportDesign reads the design of an export or share request: a
+// JSON body (the design file), or a form whose field d holds the share
+// token, as the page's download buttons post it.
+func (s *Server) readExportDesign(c echo.Context) (*sizing.Design, error) {
+	r := c.Request()
+	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
+	var data []byte
+	switch mt {
+	case "application/json", "text/json":
+		b, err := io.ReadAll(r.Body)
+		if err != nil {
+			var mbe *http.MaxBytesError
+			if errors.As(err, &mbe) {
+				return nil, err
+			}
+			return nil, &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole file"}}}
+		}
+		data = b
+	case "application/x-www-form-urlencoded", "multipart/form-data":
+		tok := c.FormValue("d")
+		if tok == "" {
+			if err := formParseError(r); err != nil {
+				return nil, err
+			}
+		}
+		b, err := share.Decode(tok)
+		if err != nil {
+			return nil, &tokenError{err}
+		}
+		data = b
+	default:
+		return nil, echo.NewHTTPError(http.StatusUnsupportedMediaType)
+	}
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		var ve sizing.ValidationError
+		if errors.As(err, &ve) {
+			return nil, &malformedError{errs: ve}
+		}
+		return nil, err
+	}
+	d.ResolveCells(s.lookup(c))
+	return d, nil
+}
+
+// formParseError is the error of reading the request's form, if any.
+func formParseError(r *http.Request) error {
+	var err error
+	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
+		err = r.ParseMultipartForm(maxFormMemory)
+	} else {
+		err = r.ParseForm()
+	}
+	if err != nil {
+		return formReadError(err)
+	}
+	return nil
+}
+
+// postExport is POST /export/{format}: the design (see readExportDesign)
+// sized and written as a download. format is boq-csv, boq-xlsx, boq-json,
+// pdf (with paper=a4 or letter) or design (the design file itself, its
+// library cells written out in full so capbank size reads it anywhere).
+// cell chooses a feasible candidate other than the recommended one.
+func (s *Server) postExport(c echo.Context) error {
+	name := c.Param("format")
+	f, ok := export.LookupFormat(name)
+	if name == designFormat.Name {
+		f, ok = designFormat, true
+	}
+	if !ok {
+		return echo.ErrNotFound
+	}
+	paper, err := export.ParsePaper(c.QueryParam("paper"))
+	if err != nil {
+		return &exportError{field: "paper", msg: "must be a4 or letter"}
+	}
+	d, err := s.readExportDesign(c)
+	if err != nil {
+		return err
+	}
+	rep, err := sizing.Size(d)
+	if err != nil {
+		return err
+	}
+	cellID := c.QueryParam("cell")
+	if cellID == "" {
+		cellID = c.FormValue("cell")
+	}
+	var buf bytes.Buffer
+	suffix := ""
+	if f.Name == designFormat.Name {
+		if err := jsonEncode(&buf, d); err != nil {
+			return err
+		}
+		suffix = "design"
+	} else {
+		boq, err := exportBOQ(d, rep, cellID, f)
+		if err != nil {
+			return err
+		}
+		suffix = "boq"
+		if f.Name == "pdf" {
+			suffix = "report-" + string(paper)
+		}
+		if cellID != "" && (rep.Recommended == nil || cellID != *rep.Recommended) {
+			suffix = fileWord(cellID) + "-" + suffix
+		}
+		if err := writeExport(&buf, f, d, rep, boq, export.PDFOptions{Paper: paper, Date: s.now()}); err != nil {
+			return err
+		}
+	}
+	h := c.Response().Header()
+	h.Set(echo.HeaderContentDisposition, fmt.Sprintf("attachment; filename=%q", export.FileName(d.Name, suffix, f)))
+	h.Set("Cache-Control", "no-store")
+	return c.Blob(http.StatusOK, f.ContentType, buf.Bytes())
+}
+
+// exportBOQ is the bill of quantities of the export: of cellID, or of the
+// recommended bank when cellID is empty. With nothing feasible the PDF is
+// still written (it says why) with no BOQ; the BOQ formats have nothing to
+// list.
+func exportBOQ(d *sizing.Design, r *sizing.Report, cellID string, f export.Format) (*sizing.BOQ, error) {
+	if cellID != "" {
+		i := slices.IndexFunc(r.Candidates, func(c sizing.Candidate) bool { return c.CellID == cellID })
+		if i < 0 {
+			return nil, &exportError{field: "cell", msg: fmt.Sprintf("%q is not a candidate cell of this design", cellID)}
+		}
+		if c := r.Candidates[i]; !c.Feasible {
+			return nil, &exportError{field: "cell", msg: fmt.Sprintf("%q cannot carry the load (%s), so it has no bank to export", cellID, c.Reason)}
+		}
+	} else if r.Recommended == nil {
+		if f.Name == "pdf" {
+			return nil, nil
+		}
+		return nil, &exportError{field: "cell", msg: "no candidate carries the load at worst case, so there is no bank to list; the PDF report says why"}
+	}
+	return sizing.BillOfQuantities(d, r, cellID)
+}
+
+// writeExport writes the export f of the design.
+func writeExport(w io.Writer, f export.Format, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, opt export.PDFOptions) error {
+	switch f.Name {
+	case "boq-csv":
+		return export.BOQCSV(w, b)
+	case "boq-xlsx":
+		return export.BOQXLSX(w, d, r, b)
+	case "boq-json":
+		return export.BOQJSON(w, b)
+	case "pdf":
+		return export.ReportPDF(w, d, r, b, opt)
+	}
+	return fmt.Errorf("no writer for the format %q", f.Name)
+}
+
+// fileWord reduces text to what a file name may hold: lower-case letters,
+// digits, '-' and '_', at most 40 characters.
+func fileWord(text string) string {
+	var b strings.Builder
+	for _, r := range strings.ToLower(text) {
+		if b.Len() >= 40 {
+			break
+		}
+		switch {
+		case r >= 'a' && r <= 'z', r >= '0' && r <= '9', r == '_', r == '-':
+			b.WriteRune(r)
+		default:
+			b.WriteByte('-')
+		}
+	}
+	if w := strings.Trim(b.String(), "-"); w != "" {
+		return w
+	}
+	return "cell"
+}
