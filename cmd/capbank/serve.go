@@ -10,10 +10,12 @@ import (
 	"net"
 	"net/http"
 	"os"
+	"path/filepath"
 	"strings"
 	"time"
 
 	"capbank/web"
+	"capbank/web/store"
 )
 
 const serveUsage = `usage: capbank serve [--addr HOST:PORT] [--data DIR]
@@ -69,12 +71,17 @@ func serve(ctx context.Context, addr, dataDir string, stderr io.Writer) error {
 	if err := os.MkdirAll(dataDir, 0o755); err != nil {
 		return fmt.Errorf("cannot create the data directory: %w", err)
 	}
+	st, err := web.OpenStore(ctx, dataDir)
+	if err != nil {
+		return fmt.Errorf("cannot open the database in %s: %w", dataDir, err)
+	}
+	defer st.Close()
 	ln, err := net.Listen("tcp", addr)
 	if err != nil {
 		return fmt.Errorf("cannot listen on %s: %w", addr, err)
 	}
 	srv := &http.Server{
-		Handler:           web.New(web.Config{DataDir: dataDir, Logger: log}),
+		Handler:           web.New(web.Config{DataDir: dataDir, Store: st, Logger: log}),
 		ReadHeaderTimeout: 10 * time.Second,
 		ReadTimeout:       2 * time.Minute,
 		IdleTimeout:       2 * time.Minute,
@@ -82,7 +89,7 @@ func serve(ctx context.Context, addr, dataDir string, stderr io.Writer) error {
 	}
 	done := make(chan error, 1)
 	go func() { done <- srv.Serve(ln) }()
-	log.Info("capbank is serving", "url", "http://"+ln.Addr().String()+"/", "data", dataDir)
+	log.Info("capbank is serving", "url", "http://"+ln.Addr().String()+"/", "data", dataDir, "database", filepath.Join(dataDir, store.FileName))
 
 	select {
 	case err := <-done:
