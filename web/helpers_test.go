@@ -1,8 +1,8 @@
 package web
 
 import (
-	"context"
 	"bytes"
+	"context"
 	"io"
 	"log/slog"
 	"mime/multipart"
