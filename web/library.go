@@ -388,7 +388,7 @@ func (s *Server) cellPageProps(rec *store.CellRecord, vals url.Values, problems 
 		p.Fields = append(p.Fields, fp)
 	}
 	for _, pr := range problems {
-		p.Problems = append(p.Problems, components.ProblemProps{Label: cellFieldLabel(pr.Field), Message: pr.Message, Href: "#" + domID(pr.Field)})
+		p.Problems = append(p.Problems, components.ProblemProps{Label: cellFieldLabel(pr.Field), Message: pr.Message, Href: "#f-" + domID(pr.Field)})
 	}
 	return p
 }
