@@ -2,6 +2,7 @@ package web
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
@@ -42,6 +43,7 @@ func (s *Server) libraryRoutes(e *echo.Echo) {
 	e.GET("/library", s.getLibrary)
 	e.POST("/library", s.postNewCell)
 	e.GET("/library/new", s.getNewCell)
+	e.POST("/library/new", s.postNewCellDraft)
 	e.GET("/library.csv", s.getLibraryExport)
 	e.GET("/library.json", s.getLibraryExport)
 	e.POST("/library/import", s.postLibraryImport)
@@ -437,6 +439,33 @@ func (s *Server) getNewCell(c echo.Context) error {
 		return errNoStore
 	}
 	return s.render(c, http.StatusOK, components.CellPage(s.cellPageProps(nil, url.Values{"source": {"datasheet"}}, nil, true)))
+}
+
+// postNewCellDraft is POST /library/new with cell_json, one cell's JSON
+// (as the measurement page posts its measured cell): the add form filled
+// with it, to check before adding. Nothing is stored yet.
+func (s *Server) postNewCellDraft(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	var cell sizing.Cell
+	dec := json.NewDecoder(strings.NewReader(c.FormValue("cell_json")))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&cell); err != nil {
+		return &cellJSONError{msg: "cell_json " + strings.TrimPrefix(err.Error(), "json: ")}
+	}
+	vals := url.Values{}
+	cellValues(vals, "", cell)
+	var problems sizing.ValidationError
+	if err := sizing.ValidateCell(&cell); err != nil {
+		problems = validationErrors(err)
+	}
+	if _, err := s.store.GetCell(c.Request().Context(), cell.ID); err == nil {
+		problems = append(problems, sizing.FieldError{Field: "id", Rule: "unique", Message: fmt.Sprintf("%q is already in the library; give this cell another id", cell.ID)})
+	}
+	p := s.cellPageProps(nil, vals, problems, true)
+	p.Notice = "From your measurement: check the id, the name and the figures, then add the cell to the library."
+	return s.render(c, http.StatusOK, components.CellPage(p))
 }
 
 // postNewCell is POST /library: add the posted cell, then show it; with
