@@ -1427,7 +1427,7 @@ func StepRow(s StepProps, kinds []Choice) templ.Component {
 	})
 }
 
-// CellsSection offers the demo cells and one cell typed in.
+// CellsSection offers the library's cells and one cell typed in.
 func CellsSection(p FormProps) templ.Component {
 	return templruntime.GeneratedTemplate(func(templ_7745c5c3_Input templruntime.GeneratedComponentInput) (templ_7745c5c3_Err error) {
 		templ_7745c5c3_W, ctx := templ_7745c5c3_Input.Writer, templ_7745c5c3_Input.Context
@@ -1458,7 +1458,7 @@ func CellsSection(p FormProps) templ.Component {
 		if templ_7745c5c3_Err != nil {
 			return templ_7745c5c3_Err
 		}
-		templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 137, "\"><legend>Candidate cells</legend><p class=\"hint\">Invented demo cells. Pick any number: each is sized on its own and the best is recommended.</p><div class=\"cell-list\" data-testid=\"cell-list\"><table class=\"picks\"><thead><tr><th scope=\"col\"><span class=\"sr-only\">Pick</span></th><th scope=\"col\">Cell</th><th scope=\"col\" class=\"num\">Rated</th><th scope=\"col\" class=\"num\">C</th><th scope=\"col\" class=\"num\">ESR</th><th scope=\"col\" class=\"num\">Price</th></tr></thead> <tbody>")
+		templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 137, "\"><legend>Candidate cells</legend><p class=\"hint\">The cells of the <a href=\"/library\">cell library</a> (the demo cells are invented; add your own there). Pick any number: each is sized on its own and the best is recommended.</p><div class=\"cell-list\" data-testid=\"cell-list\"><table class=\"picks\"><thead><tr><th scope=\"col\"><span class=\"sr-only\">Pick</span></th><th scope=\"col\">Cell</th><th scope=\"col\" class=\"num\">Rated</th><th scope=\"col\" class=\"num\">C</th><th scope=\"col\" class=\"num\">ESR</th><th scope=\"col\" class=\"num\">Price</th></tr></thead> <tbody>")
 		if templ_7745c5c3_Err != nil {
 			return templ_7745c5c3_Err
 		}
