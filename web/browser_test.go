@@ -2,6 +2,7 @@ package web
 
 import (
 	"context"
+	"errors"
 	"net/http/httptest"
 	"os"
 	"path/filepath"
@@ -125,7 +126,19 @@ func typeInto(id, text string) chromedp.Action[chromedp.Void] {
 func waitText(t *testing.T, ctx context.Context, css, want, doing string) string {
 	t.Helper()
 	js := `(() => { const e = document.querySelector(` + jsString(css) + `); return e && e.textContent.includes(` + jsString(want) + `) ? e.textContent : false })()`
-	got, err := chromedp.Run(ctx, chromedp.Poll[string](js, chromedp.WithPollingTimeout(10*time.Second)))
+	// A poll that started on the page before a navigation ends with the
+	// navigation (its execution context is gone); poll again on the new
+	// page until the deadline.
+	deadline := time.Now().Add(10 * time.Second)
+	var got string
+	var err error
+	for {
+		got, err = chromedp.Run(ctx, chromedp.Poll[string](js, chromedp.WithPollingTimeout(time.Until(deadline))))
+		if err == nil || errors.Is(err, chromedp.ErrPollingTimeout) || ctx.Err() != nil || time.Now().After(deadline) {
+			break
+		}
+		time.Sleep(50 * time.Millisecond)
+	}
 	if err != nil {
 		now, _ := chromedp.Run(ctx, chromedp.Evaluate[string](`(document.querySelector(`+jsString(css)+`) || {textContent: "(missing)"}).textContent`))
 		t.Fatalf("%s: %s never showed %q (it shows %q): %v", doing, css, want, strings.Join(strings.Fields(now), " "), err)
