@@ -539,3 +539,27 @@ func TestFigureRowMarksTheBest(t *testing.T) {
 		}
 	}
 }
+
+// An id with a slash, a space, a percent sign or markup has its page and
+// API address, and its name is shown as text, never as markup.
+func TestCellIDsNeedingEscapes(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	for _, id := range []string{"lab cell/2", "50%-cell", "a?b#c", `<b>x</b>`} {
+		body := fmt.Sprintf(`{"id":%q,"name":"<script>alert(1)</script>","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.03}`, id)
+		rec := do(t, s, http.MethodPost, "/api/v1/cells", "application/json", body)
+		wantStatus(t, rec, http.StatusCreated)
+		loc := rec.Header().Get("Location")
+		wantStatus(t, do(t, s, http.MethodGet, loc, "", ""), http.StatusOK)
+		page := get(t, s, libraryPath(id))
+		wantStatus(t, page, http.StatusOK)
+		if strings.Contains(page.Body.String(), "<script>alert(1)</script>") {
+			t.Errorf("%s: the name is written as markup", id)
+		}
+		if v, _ := parse(t, page).Find("#f-id").Attr("value"); v != id {
+			t.Errorf("the page of %q shows the id %q", id, v)
+		}
+		wantStatus(t, postForm(t, s, libraryPath(id)+"/duplicate", nil, false), http.StatusSeeOther)
+		wantStatus(t, do(t, s, http.MethodDelete, loc, "", ""), http.StatusNoContent)
+	}
+}
