@@ -563,3 +563,44 @@ func TestCellIDsNeedingEscapes(t *testing.T) {
 		wantStatus(t, do(t, s, http.MethodDelete, loc, "", ""), http.StatusNoContent)
 	}
 }
+
+// The library page imports a cell file and shows the report row by row; a
+// file with a bad row leaves the library as it was.
+func TestLibraryPageImport(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	good := "id,rated_v,capacitance_f,esr_ohm\nlab-a,2.7,10,0.03\nlab-b,2.7,25,0.02\n"
+	rec := postMultipart(t, s, "/library/import", nil, "cells_file", "cells.csv", good+"lab-c,2.7,,0.02\n")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc := parse(t, rec)
+	if rows := doc.Find("[data-testid=import-row]").Length(); rows != 3 {
+		t.Errorf("the report has %d rows, want 3", rows)
+	}
+	if got := text(doc, "[data-testid=import-report]"); !strings.Contains(got, "Nothing was imported") || !strings.Contains(got, "capacitance_f") {
+		t.Errorf("report %q", got)
+	}
+	if doc.Find(`[data-testid=library-row][data-id=lab-a]`).Length() != 0 {
+		t.Error("a rejected import added a cell")
+	}
+	rec = postMultipart(t, s, "/library/import", nil, "cells_file", "cells.csv", good)
+	wantStatus(t, rec, http.StatusOK)
+	doc = parse(t, rec)
+	if got := text(doc, "[data-testid=import-report]"); !strings.Contains(got, "Imported 2 cells") {
+		t.Errorf("report %q", got)
+	}
+	if doc.Find(`[data-testid=library-row][data-id=lab-b]`).Length() != 1 {
+		t.Error("the imported cell is not listed")
+	}
+	// The export gives the same cells back, with units in the column names.
+	rec = get(t, s, "/library.csv?q=lab-")
+	wantStatus(t, rec, http.StatusOK)
+	lines := strings.Split(strings.TrimSpace(rec.Body.String()), "\n")
+	if len(lines) != 3 || !strings.Contains(lines[0], "capacitance_f") || !strings.HasPrefix(lines[1], "lab-a,") {
+		t.Errorf("export:\n%s", rec.Body)
+	}
+	rec = postMultipart(t, s, "/library/import", nil, "cells_file", "", "")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if got := text(parse(t, rec), "[data-testid=import-report]"); !strings.Contains(got, "no file was chosen") {
+		t.Errorf("no file: %q", got)
+	}
+}
