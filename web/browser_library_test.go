@@ -55,6 +55,7 @@ func TestBrowserLibraryCompareSave(t *testing.T) {
 
 	// Size the example design with the new cell and save it.
 	must(t, chromedp.Do(ctx, chromedp.Navigate(url+"/"), chromedp.WaitVisible(chromedp.ID("pick-bench-2v7-80f"))), "opening the design page")
+	htmxReady(t, ctx)
 	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.ID("pick-bench-2v7-80f"))), "picking the new cell")
 	waitText(t, ctx, "#results", "bench-2v7-80f", "sizing with the new cell")
 	must(t, chromedp.Do(ctx, typeInto("save-name", "Bench cell hold-up"),
