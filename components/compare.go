@@ -2,6 +2,7 @@ package components
 
 import (
 	"math"
+	"sort"
 	"strconv"
 )
 
@@ -76,6 +77,9 @@ type ScatterChart struct {
 type PlacedPoint struct {
 	Label string
 	X, Y  float64
+	// LabelY is where its label's baseline goes, moved clear of the
+	// others' labels.
+	LabelY float64
 	// Value is the point's figures, for its tooltip.
 	Value string
 }
@@ -107,10 +111,34 @@ func LogLogChart(id, title, desc, xLabel, yLabel string, pts []ScatterPoint, xUn
 		c.YTicks = append(c.YTicks, Tick{Pos: sy(v), Label: Quantity(v, yUnit, 3)})
 	}
 	for _, p := range pts {
-		c.Points = append(c.Points, PlacedPoint{Label: p.Label, X: sx(p.X), Y: sy(p.Y),
+		x, y := sx(p.X), sy(p.Y)
+		c.Points = append(c.Points, PlacedPoint{Label: p.Label, X: x, Y: y, LabelY: y - 6,
 			Value: p.Label + ": " + Quantity(p.X, xUnit, 3) + ", " + Quantity(p.Y, yUnit, 3)})
 	}
+	spreadLabels(c.Points)
 	return c
+}
+
+// labelGap is the least vertical distance between two labels that could
+// overlap side by side, in SVG units (an 11 px font).
+const labelGap = 13
+
+// spreadLabels moves labels down, top to bottom, until no two whose text
+// could overlap (starting within 120 units of each other across) are
+// closer than labelGap.
+func spreadLabels(pts []PlacedPoint) {
+	order := make([]int, len(pts))
+	for i := range order {
+		order[i] = i
+	}
+	sort.Slice(order, func(a, b int) bool { return pts[order[a]].LabelY < pts[order[b]].LabelY })
+	for k, i := range order {
+		for _, j := range order[:k] {
+			if math.Abs(pts[i].X-pts[j].X) < 120 && pts[i].LabelY-pts[j].LabelY < labelGap {
+				pts[i].LabelY = pts[j].LabelY + labelGap
+			}
+		}
+	}
 }
 
 func ftoa(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
