@@ -255,10 +255,24 @@ func growth(sizes []float64, times []time.Duration) float64 {
 	return e
 }
 
+// libraryOf is n cells: the 10 invented cells of cellFamily(10) over and
+// over, each copy with its own id, so that every library has the same mix
+// and a cell costs the same on average whatever n is.
+func libraryOf(n int) []Cell {
+	base := cellFamily(10)
+	cells := make([]Cell, n)
+	for i := range cells {
+		cells[i] = base[i%len(base)]
+		cells[i].ID = base[i%len(base)].ID + "-" + strconv.Itoa(i/len(base))
+	}
+	return cells
+}
+
 // BenchmarkGrowth measures how the sizing time grows: 10 invented cells
 // against the invented day logged at 10^3 … 10^6 samples, and 10, 100 and
-// 1000 cells against the 86 400-step day. It reports each time (ms) and
-// the fitted exponent of each series (1 is linear).
+// 1000 cells (the same 10 repeated, libraryOf) against the 86 400-step
+// day. It reports each time (ms) and the fitted exponent of each series
+// (1 is linear).
 func BenchmarkGrowth(b *testing.B) {
 	b.Run("steps", func(b *testing.B) {
 		sizes := []float64{1e3, 1e4, 1e5, 1e6}
@@ -280,7 +294,9 @@ func BenchmarkGrowth(b *testing.B) {
 		times := make([]time.Duration, len(sizes))
 		for b.Loop() {
 			for i, n := range sizes {
-				times[i] = sizeTime(b, dayDesign(int(n)))
+				d := dayDesign(10)
+				d.Cells = libraryOf(int(n))
+				times[i] = sizeTime(b, d)
 			}
 		}
 		for i, n := range sizes {
@@ -341,19 +357,23 @@ func peakMemory() (stop func() (goBytes, rssBytes float64)) {
 // BenchmarkProfileCSV1e6Sized parses an invented 10^6-row logged profile
 // (0.01 s rows, every row a new step: the most memory) from the bytes of
 // an upload and sizes 10 invented cells against it, as capbank does with
-// a long log. It reports the peak memory the Go runtime held and, on
-// Linux, the process's peak resident set during the run (both in MB,
-// 10^6 bytes), the upload's 12 MB included.
+// a long log. It reports the time to parse and to size (Size, with its
+// validation, timed again apart), the peak memory the Go runtime held
+// and, on Linux, the process's peak resident set during the run (both in
+// MB, 10^6 bytes), the upload's 12 MB included.
 func BenchmarkProfileCSV1e6Sized(b *testing.B) {
 	data := profileCSVLog(ProfileCSVMaxRows, true)
 	var peakGo, peakRSS float64
+	var parse, sized, validate time.Duration
 	for b.Loop() {
 		runtime.GC()
 		stop := peakMemory()
+		t0 := time.Now()
 		p, err := ParseProfileCSV(bytes.NewReader(data))
 		if err != nil {
 			b.Fatal(err)
 		}
+		t1 := time.Now()
 		d := &Design{Name: "bench: a 10^6-row log", Window: Window{MaxV: 48, MinV: 24},
 			Load: Load{Efficiency: fp(0.92), Steps: p.Steps}, Cells: cellFamily(10)}
 		r, err := Size(d)
@@ -363,9 +383,22 @@ func BenchmarkProfileCSV1e6Sized(b *testing.B) {
 		if r.Recommended == nil {
 			b.Fatal("no cell carries the bench log")
 		}
+		parse, sized = parse+t1.Sub(t0), sized+time.Since(t1)
 		g, rss := stop()
 		peakGo, peakRSS = max(peakGo, g), max(peakRSS, rss)
+		// Outside the timed run: how much of Size is the validation.
+		b.StopTimer()
+		t0 = time.Now()
+		if err := Validate(d); err != nil {
+			b.Fatal(err)
+		}
+		validate += time.Since(t0)
+		b.StartTimer()
 	}
+	n := float64(b.N)
+	b.ReportMetric(parse.Seconds()*1e3/n, "parse_ms")
+	b.ReportMetric(sized.Seconds()*1e3/n, "size_ms")
+	b.ReportMetric(validate.Seconds()*1e3/n, "of_which_validate_ms")
 	b.ReportMetric(peakGo/1e6, "peak_go_MB")
 	if peakRSS > 0 {
 		b.ReportMetric(peakRSS/1e6, "peak_rss_MB")
