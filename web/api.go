@@ -45,7 +45,7 @@ func (s *Server) apiSize(c echo.Context) error {
 		return err
 	}
 	d.ResolveCells(democells.ByID) // a design may name a built-in demo cell by its id
-	rep, err := sizing.Size(d)
+	rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(d) })
 	if err != nil {
 		return err
 	}

@@ -138,7 +138,10 @@ func (s *Server) postPage(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	status := http.StatusOK
 	if len(ev.problems) > 0 {
 		status = http.StatusUnprocessableEntity
@@ -153,7 +156,10 @@ func (s *Server) postWorkspace(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	return s.render(c, http.StatusOK, components.Workspace(s.pageProps(ev, s.cellPicks(c, f))))
 }
 
@@ -165,7 +171,10 @@ func (s *Server) postResults(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	p := s.pageProps(ev, nil)
 	slots, units := formSlots(p.Form)
 	if len(ev.problems) > 0 && f.lastGood != "" {
