@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"io"
 	"log/slog"
 	"net"
@@ -11,6 +12,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"capbank/sizing"
 )
 
 // Every timeout of the HTTP server is set, and the write timeout, which
@@ -110,17 +113,37 @@ func TestServeWithoutToken(t *testing.T) {
 	}
 }
 
-// --compute-timeout reaches the server: with 1 µs every sizing is 503.
+// --compute-timeout reaches the server: with 1 ms, a design whose sizing
+// takes tens of milliseconds is answered 503.
 func TestServeComputeTimeout(t *testing.T) {
 	t.Parallel()
-	design, err := os.ReadFile("../../testdata/ups-ride-through.json")
+	data, err := os.ReadFile("../../testdata/ups-ride-through.json")
 	if err != nil {
 		t.Fatal(err)
 	}
-	url, stop, _ := startServe(t, "serve", "--addr", "127.0.0.1:0", "--data", t.TempDir(), "--compute-timeout", "1us")
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 20 000 one-second steps alternating between drawing and charging
+	// (values invented): every candidate simulates every step.
+	vals := make([]float64, 20000)
+	d.Load.Steps, d.Load.Repeat = make([]sizing.Step, len(vals)), nil
+	for i := range vals {
+		vals[i] = 300 + float64(i%7)*10
+		if i%2 == 1 {
+			vals[i] = -200 - float64(i%5)*10
+		}
+		d.Load.Steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 1}
+	}
+	heavy, err := json.Marshal(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	url, stop, _ := startServe(t, "serve", "--addr", "127.0.0.1:0", "--data", t.TempDir(), "--compute-timeout", "1ms")
 	defer stop()
-	status, _, body := post(t, http.MethodPost, url+"api/v1/size", "application/json", string(design), nil)
-	if status != http.StatusServiceUnavailable || !strings.Contains(body, "took longer than 0.001 ms") {
+	status, _, body := post(t, http.MethodPost, url+"api/v1/size", "application/json", string(heavy), nil)
+	if status != http.StatusServiceUnavailable || !strings.Contains(body, "took longer than 1 ms") {
 		t.Errorf("status %d, body %s", status, body)
 	}
 }
