@@ -25,6 +25,10 @@ type MeasureProps struct {
 	Warnings   []string
 	Comparison []CompareRow
 	CellJSON   string // the measured cell as a library JSON import
+	// SaveJSON is the measured cell as one cell's JSON, which "save to the
+	// library" posts; CanSave is false when this capbank has no database.
+	SaveJSON string
+	CanSave  bool
 }
 
 func (p MeasureProps) value(k string) string { return p.Values[k] }

@@ -69,10 +69,13 @@ type Slot struct{ ID, Text string }
 
 // FormProps is the design form.
 type FormProps struct {
-	Name   FieldProps
-	Window []FieldProps
-	Load   []FieldProps
-	Steps  []StepProps
+	// SavedID and SavedName are the saved design the form holds, carried
+	// so that its results offer to save over it.
+	SavedID, SavedName string
+	Name               FieldProps
+	Window             []FieldProps
+	Load               []FieldProps
+	Steps              []StepProps
 	// StepsID and StepsMessage are the slot for a problem with the list of
 	// steps as a whole; MaxSteps is how many rows the form edits.
 	StepsMessageID, StepsMessage string
@@ -161,4 +164,10 @@ type ResultsProps struct {
 	// Token is the share token of the design these results are of, which
 	// the downloads post; TokenNote says why there is none.
 	Token, TokenNote string
+	// DesignName is the design's name, the saved name it is offered under.
+	DesignName string
+	// SavedID and SavedName are the saved design open in the form ("" for
+	// none); CanSave is false when this capbank keeps no designs.
+	SavedID, SavedName string
+	CanSave            bool
 }

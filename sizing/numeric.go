@@ -21,11 +21,8 @@ func log1p(x float64) float64 {
 	switch {
 	case ax < 1e-8:
 		return x - 0.5*x*x
-	case ax < 2e-5:
-		// ln(1+x) = x − x²/2 + x³/3 − x⁴/4 + x⁵/5 − … (Abramowitz & Stegun 4.1.24)
-		return x * (1 + x*(-1.0/2+x*(1.0/3+x*(-1.0/4+x*(1.0/5)))))
 	case ax < log1pSmallLimit:
-		return x * (1 + x*(-1.0/2+x*(1.0/3+x*(-1.0/4+x*(1.0/5+x*(-1.0/6+x*(1.0/7)))))))
+		return x * log1pSeries(x, ax)
 	}
 	return math.Log1p(x)
 }
@@ -36,12 +33,27 @@ func log1pOverX(x float64) float64 {
 	switch {
 	case ax < 1e-8:
 		return 1 - 0.5*x
-	case ax < 2e-5:
-		return 1 + x*(-1.0/2+x*(1.0/3+x*(-1.0/4+x*(1.0/5))))
 	case ax < log1pSmallLimit:
-		return 1 + x*(-1.0/2+x*(1.0/3+x*(-1.0/4+x*(1.0/5+x*(-1.0/6+x*(1.0/7))))))
+		return log1pSeries(x, ax)
 	}
 	return math.Log1p(x) / x
+}
+
+// log1pSeries returns ln(1 + x)/x for 1e-8 ≤ |x| = ax < log1pSmallLimit:
+//
+//	ln(1+x)/x = 1 − x/2 + x²/3 − x³/4 + x⁴/5 − … (Abramowitz & Stegun 4.1.24)
+//
+// to x⁴ below 2e-5, else to x⁶ (see log1pSmallLimit for what is left
+// out). The terms are summed in pairs (Estrin's scheme) rather than by
+// Horner's rule: the same polynomial, but half as many operations that
+// wait on each other, which is what a step's cost is made of.
+func log1pSeries(x, ax float64) float64 {
+	x2 := x * x
+	lo := (1 - 0.5*x) + x2*(1.0/3-0.25*x)
+	if ax < 2e-5 {
+		return lo + x2*x2*(1.0/5)
+	}
+	return lo + x2*x2*((1.0/5-(1.0/6)*x)+x2*(1.0/7))
 }
 
 // expm1 returns e^x − 1, exact to double precision.

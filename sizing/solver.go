@@ -30,6 +30,7 @@ type plan struct {
 	rankBy   string
 	ambientC float64
 	work     atomic.Int64 // steps solved, for the benchmarks
+	bound    boundSums    // the cell-independent parts of stringBound
 }
 
 func newPlan(d *Design) *plan {
@@ -58,6 +59,7 @@ func newPlan(d *Design) *plan {
 	for _, s := range p.steps {
 		p.period += s.dur
 	}
+	p.gatherBound()
 	return p
 }
 
@@ -353,44 +355,19 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 // answer.
 func (p *plan) stringBound(l *cellLimits) (int, string, int) {
 	rString := l.rw * float64(l.s) // one string: the largest R of any count
-	deficit, need := 0.0, 0.0
-	peak, i2dt := 0.0, 0.0
-	vMid := (p.maxV + p.minV) / 2
-	i2est := 0.0 // ∫i²dt with the current at mid-window, for the ESR loss
-	for range p.repeat {
-		for _, st := range p.steps {
-			e, i := 0.0, 0.0
-			switch st.kind {
-			case kindCurrent:
-				i = abs(st.x)
-				if st.x > 0 {
-					e = st.x * p.minV * st.dur
-				} else {
-					e = st.x * (p.maxV - st.x*rString) * st.dur
-				}
-			case kindPower:
-				e = st.x * st.dur
-				if st.x > 0 {
-					i = st.x / p.maxV
-				}
-			case kindResistance:
-				e = p.minV * p.minV / st.x * st.dur
-				i = p.minV / (st.x + rString)
-			}
-			deficit = max(0, deficit+e)
-			need = max(need, deficit)
-			peak = max(peak, i)
-			i2dt += i * i * st.dur
-			ie := i
-			switch st.kind {
-			case kindPower:
-				ie = abs(st.x) / vMid
-			case kindResistance:
-				ie = vMid / st.x
-			}
-			i2est += ie * ie * st.dur
-		}
+	b := &p.bound
+	need := b.need
+	if b.chargeCurrent {
+		need = p.deficit(rString, 0)
 	}
+	peak, i2dt := b.peak, b.i2dt
+	for _, st := range b.resistors {
+		i := p.minV / (st.x + rString)
+		peak = max(peak, i)
+		i2dt += i * i * st.dur * float64(p.repeat)
+	}
+	vMid := (p.maxV + p.minV) / 2
+	i2est := b.i2est // ∫i²dt with the current at mid-window, for the ESR loss
 	perString := 0.5 * l.cw / float64(l.s) * (p.maxV - p.minV) * (p.maxV + p.minV)
 	bound, why := need/perString, "voltage"
 	if l.peakA > 0 && peak/l.peakA > bound {
@@ -409,6 +386,25 @@ func (p *plan) stringBound(l *cellLimits) (int, string, int) {
 	// L = R_string·∫i²dt, so p = (D + √(D² + 4·A·L))/(2A).
 	ld := rString * i2est
 	est := math.Ceil((need + math.Sqrt(need*need+4*perString*ld)) / (2 * perString))
+	// The drain (leakage and balancing) grows with the string count like
+	// the capacity does: each string loses (g_cell/s)·v² (W), taken at
+	// mid-window, so p strings need D(p), the largest running deficit of
+	// the draws plus p times that. A few rounds of
+	// p = (D(p) + √(D(p)² + 4·A·L))/(2A) settle it; it is only where the
+	// search starts, so it need not be exact.
+	if drainW := l.gCell / float64(l.s) * vMid * vMid; drainW > 0 {
+		for range 4 {
+			if !(est < MaxParallel) {
+				break
+			}
+			d := p.deficit(rString, est*drainW)
+			next := math.Ceil((d + math.Sqrt(d*d+4*perString*ld)) / (2 * perString))
+			if next == est {
+				break
+			}
+			est = next
+		}
+	}
 	guess := n
 	if est > n && est < MaxParallel {
 		guess = est

@@ -260,11 +260,14 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 		return
 	}
 	u0 := (v0 + math.Sqrt(disc)) / 2
-	o.uStart, o.iStart = u0, p/u0
+	iu0 := 1 / u0
+	o.uStart, o.iStart = u0, p*iu0
 	// A = −PR/a and B = 1 + PR·g/a do not depend on P: with a = P·(1 + R·g),
 	// A = −R/(1 + R·g) and B = 1 + R·g/(1 + R·g); they are the bank's.
 	a := p * (1 + r*g)
-	cp := cpSolution{c: c, pr: pr, g: g, u0: u0, a: a, A: m.cpA, B: m.cpB, invA: invP * m.inv1RG}
+	iden0 := 1 / (a + g*u0*u0)
+	cp := cpSolution{c: c, invC: m.invC, pr: pr, g: g, u0: u0, iu0: iu0, iden0: iden0, gIden0: g * iden0,
+		a: a, A: m.cpA, B: m.cpB, invA: invP * m.inv1RG}
 
 	if p > 0 {
 		uStop, why := minV, stopVoltage
@@ -279,8 +282,11 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 		// The step cannot reach uStop if even the largest current it could
 		// draw (p/uStop) and the starting leakage would not bring v down to
 		// the stop in dur; otherwise look at the exact time of the stop.
-		vStop := uStop + pr/uStop
-		if v0-(p/uStop+g*v0)*dur/c <= vStop {
+		// The test multiplies by reciprocals; its 1e-9 margins, far above
+		// their rounding, keep it on the side of looking.
+		iStop := 1 / uStop
+		vStop := uStop + pr*iStop
+		if drop := (p*iStop + g*v0) * dur * m.invC; v0-drop*(1+1e-9) <= vStop*(1+1e-9) {
 			if ts := cp.time(uStop); ts <= dur {
 				cp.finish(o, p, uStop, ts)
 				o.stop = why
@@ -314,7 +320,9 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 		return
 	}
 	uTop := (maxV + math.Sqrt(maxV*maxV-4*pr)) / 2
-	reach := v0-p/u0*dur/c >= maxV // an upper bound on the rise reaches the top
+	// An upper bound on the rise reaches the top (the 1e-9 margin, far above
+	// the rounding of the reciprocals, keeps it an upper bound).
+	reach := v0-p*iu0*dur*m.invC*(1+1e-9) >= maxV
 	if reach && a+g*uTop*uTop < 0 {
 		if ts := cp.time(uTop); ts < dur {
 			cp.finish(o, p, uTop, ts)
@@ -331,6 +339,9 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 	cp.finish(o, p, cp.solve(dur, uFar), dur)
 }
 
+// clamp returns x limited to [lo, hi].
+func clamp(x, lo, hi float64) float64 { return min(max(x, lo), hi) }
+
 func abs(x float64) float64 {
 	if x < 0 {
 		return -x
@@ -344,6 +355,10 @@ type cpSolution struct {
 	c, pr, g, u0 float64
 	a, A, B      float64
 	invA         float64 // 1/a
+	invC         float64 // 1/c
+	iu0          float64 // 1/u0
+	iden0        float64 // 1/(a + g·u0²)
+	gIden0       float64 // g/(a + g·u0²)
 	lastU        float64 // u of the last time evaluation
 	lnRatio      float64 // ln(u0/lastU)
 	yLy          float64 // ln((a + g·u0²)/(a + g·lastU²))
@@ -351,26 +366,36 @@ type cpSolution struct {
 
 // time returns t(u) for the step and keeps the two logarithms it used.
 func (cp *cpSolution) time(u float64) float64 {
-	du := cp.u0 - u
 	cp.lastU = u
-	cp.lnRatio = log1p(du / u)
+	lnRatio, yLy, yLyOverG := cp.logs(u)
+	cp.lnRatio, cp.yLy = lnRatio, yLy
+	return cp.c * (cp.A*lnRatio + cp.B*0.5*yLyOverG)
+}
+
+// logs returns ln(u0/u), ln((a + g·u0²)/(a + g·u²)) and that second
+// logarithm divided by g (for g = 0, its limit), by way of ratios to the
+// step's start, which need no division:
+//
+//	ln(u0/u) = −ln(1 − (u0 − u)/u0)
+//	ln((a + g·u0²)/(a + g·u²)) = −ln(1 − y) = y·L(−y),  y = g·(u0² − u²)/(a + g·u0²)
+//
+// with L(x) = ln(1 + x)/x, so that B/(2g)·ln(…) = B·(u0² − u²)/(2·(a + g·u0²))·L(−y).
+func (cp *cpSolution) logs(u float64) (lnRatio, yLy, yLyOverG float64) {
+	du := cp.u0 - u
+	lnRatio = -log1p(-du * cp.iu0)
 	dw := du * (cp.u0 + u) // u0² − u², without cancellation
-	den := cp.a + cp.g*u*u
-	y := cp.g * dw / den
-	ly := log1pOverX(y)
-	cp.yLy = y * ly
-	// B/(2g)·ln(1 + y) = B·dw/(2·den)·L(y)
-	return cp.c * (cp.A*cp.lnRatio + cp.B*dw/(2*den)*ly)
+	ly := log1pOverX(-dw * cp.gIden0)
+	return lnRatio, dw * cp.gIden0 * ly, dw * cp.iden0 * ly
 }
 
 // rate returns du/dt = −u·(a + g·u²)/(C·(u² − PR)) and its derivative in u,
 // (a·w + a·PR − g·w² + 3·g·PR·w)/(C·(w − PR)²) with w = u².
 func (cp *cpSolution) rate(u float64) (f, df float64) {
 	w := u * u
-	q := w - cp.pr
-	cq := 1 / (cp.c * q)
+	iq := 1 / (w - cp.pr)
+	cq := cp.invC * iq
 	f = -u * (cp.a + cp.g*w) * cq
-	df = (cp.a*w + cp.a*cp.pr - cp.g*w*w + 3*cp.g*cp.pr*w) * cq / q
+	df = (cp.a*w + cp.a*cp.pr - cp.g*w*w + 3*cp.g*cp.pr*w) * cq * iq
 	return f, df
 }
 
@@ -379,6 +404,10 @@ func (cp *cpSolution) rate(u float64) (f, df float64) {
 // second-order Taylor step u0 + f·t + ½·f·f′·t² and refines by Newton's
 // method on t(u) = dur, falling back to bisection of the bracket if an
 // iterate leaves it.
+//
+// For the small steps of a logged profile the Taylor start's error is of
+// third order in the step, so the first correction is at rounding level
+// and the step costs one evaluation of t(u).
 func (cp *cpSolution) solve(dur, uFar float64) float64 {
 	u0 := cp.u0
 	lo, hi := uFar, u0
@@ -394,27 +423,38 @@ func (cp *cpSolution) solve(dur, uFar float64) float64 {
 			u = lo + (hi-lo)/2
 		}
 	}
-	for i := 0; i < 100; i++ {
-		t := cp.time(u)
-		f, df := cp.rate(u)
-		next := u + (dur-t)*f // Newton: u − (t(u) − dur)/t′(u), t′ = 1/f
+	t := cp.time(u)
+	for i := 0; ; i++ {
 		// Keep the bracket: t grows from 0 at u0 towards uFar.
 		if (t < dur) == falling {
 			hi = u
 		} else {
 			lo = u
 		}
-		if !(next > lo && next < hi) {
-			next = lo + (hi-lo)/2
-		}
+		f, df := cp.rate(u)
+		next := u + (dur-t)*f // Newton: u − (t(u) − dur)/t′(u), t′ = 1/f
 		d := abs(next - u)
-		u = next
-		// Stop at rounding level, or when quadratic convergence puts the
-		// next correction below it: the error after a Newton step is about
-		// k·d², k = |t″/(2t′)| = |f′/(2f)|.
-		if d <= 2*eps*u || abs(df/(2*f))*d*d <= 0.5*eps*u || hi-lo <= 2*eps*hi {
+		// At rounding level already: done (a correction of a few ulp may
+		// point just past u, the bracket's own end, and must not send the
+		// iterate off to bisect).
+		if d <= 2*eps*u {
+			u = clamp(next, lo, hi)
 			break
 		}
+		newton := next > lo && next < hi
+		if !newton {
+			next = lo + (hi-lo)/2
+		}
+		u = next
+		// Stop when quadratic convergence puts the next correction below
+		// rounding: the error after a Newton step is about k·d²,
+		// k = |t″/(2t′)| = |f′/(2f)|. That says nothing of a bisection's
+		// midpoint, whose error may be as large as its step: it is
+		// evaluated again.
+		if (newton && abs(df)*d*d <= eps*u*abs(f)) || hi-lo <= 2*eps*hi || i >= 99 {
+			break
+		}
+		t = cp.time(u)
 	}
 	return u
 }
@@ -422,13 +462,14 @@ func (cp *cpSolution) solve(dur, uFar float64) float64 {
 // finish fills the outcome of a constant-power step that ran t seconds and
 // ended at terminal voltage u1.
 func (cp *cpSolution) finish(o *stepOutcome, p, u1, t float64) {
+	iu1 := 1 / u1
 	o.t = t
 	o.uEnd = u1
-	o.v1 = u1 + cp.pr/u1
-	o.iEnd = p / u1
+	o.v1 = u1 + cp.pr*iu1
+	o.iEnd = p * iu1
 	o.iPeak = max(abs(o.iStart), abs(o.iEnd))
 	o.eLoad = p * t
-	o.i2dt = cp.integralI2(p, u1)
+	o.i2dt = cp.integralI2(p, u1, iu1)
 }
 
 // integralI2 returns ∫ i² dt from u0 to u1, i = P/u:
@@ -437,26 +478,30 @@ func (cp *cpSolution) finish(o *stepOutcome, p, u1, t float64) {
 //
 // with w = u², β = −PR/a and α = B/a (partial fractions of
 // (w − PR)/(w²·(a + g·w)); capbank's own derivation, checked against
-// numerical quadrature in the tests). The logarithms come from the last
-// t(u) evaluated, moved to u1 by ln(u/u1) = log1p((u − u1)/u1): after
-// Newton's method has converged that argument is at rounding level and the
-// series costs a few multiplications.
-func (cp *cpSolution) integralI2(p, u1 float64) float64 {
+// numerical quadrature in the tests). The logarithms are those of the last
+// t(u) evaluated, moved to u1 when it is that close (the last correction
+// of Newton's method), else taken at u1 (see logs). iu1 is 1/u1.
+func (cp *cpSolution) integralI2(p, u1, iu1 float64) float64 {
 	lnRatio, yLy := cp.lnRatio, cp.yLy
-	if u1 != cp.lastU {
-		if cp.lastU == 0 || abs(cp.lastU-u1) > 1e-6*u1 {
-			cp.time(u1)
-			lnRatio, yLy = cp.lnRatio, cp.yLy
+	if u := cp.lastU; u1 != u {
+		if abs(u-u1) > 1e-6*abs(cp.u0-u1) {
+			lnRatio, yLy, _ = cp.logs(u1)
 		} else {
-			w, wl := u1*u1, cp.lastU*cp.lastU
-			lnRatio += log1p((cp.lastU - u1) / u1)
-			// ln((a+g·wl)/(a+g·w)) moves ln((a+g·w0)/(a+g·wl)) to w.
-			yLy += log1p(cp.g * (wl - w) / (cp.a + cp.g*w))
+			// Move both logarithms from u to u1, a correction at most 1e-6
+			// of the step: ln(u/u1) = x − x²/2, x = (u − u1)/u1, and
+			// ln((a + g·u²)/(a + g·u1²)) = z + z²/2, z = g·(u² − u1²)/(a + g·u²).
+			// The logarithms are at least 10⁶ times x and z (|x| < 10⁻⁶), so
+			// the terms left out, x³/3 and z³/3, are below x²/(3·10⁶) < 4e-19
+			// of them.
+			x := (u - u1) * iu1
+			lnRatio += x - 0.5*x*x
+			z := cp.g * (u - u1) * (u + u1) / (cp.a + cp.g*u*u)
+			yLy += z + 0.5*z*z
 		}
 	}
-	w0, w1 := cp.u0*cp.u0, u1*u1
 	dw := (cp.u0 - u1) * (cp.u0 + u1)
 	alpha := cp.B * cp.invA
-	beta := cp.A // −PR/a
-	return cp.c * p * p / 2 * (alpha*(2*lnRatio-yLy) + beta*dw/(w0*w1))
+	beta := cp.A       // −PR/a
+	iw := cp.iu0 * iu1 // 1/(u0·u1)
+	return cp.c * p * p / 2 * (alpha*(2*lnRatio-yLy) + beta*dw*iw*iw)
 }

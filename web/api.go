@@ -12,7 +12,6 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 )
 
 //go:embed openapi.json
@@ -44,7 +43,7 @@ func (s *Server) apiSize(c echo.Context) error {
 		}
 		return err
 	}
-	d.ResolveCells(democells.ByID) // a design may name a built-in demo cell by its id
+	d.ResolveCells(s.lookup(c)) // a design may name a library cell by its id
 	rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(d) })
 	if err != nil {
 		return err

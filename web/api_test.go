@@ -197,6 +197,16 @@ func TestOpenAPIDocument(t *testing.T) {
 	if _, ok := doc.Paths["/healthz"]["get"]; !ok {
 		t.Error("no GET /healthz")
 	}
+	// Every API route the server answers is described, with its method.
+	for _, r := range s.echo.Routes() {
+		if !strings.HasPrefix(r.Path, "/api/") {
+			continue
+		}
+		path := regexpParam.ReplaceAllString(r.Path, "{$1}")
+		if _, ok := doc.Paths[path][strings.ToLower(r.Method)]; !ok {
+			t.Errorf("%s %s is not in the OpenAPI document", r.Method, path)
+		}
+	}
 	for _, name := range []string{"Design", "Report", "Problem", "FieldError"} {
 		if doc.Comps.Schemas[name] == nil {
 			t.Errorf("no schema %s", name)
@@ -222,12 +232,15 @@ func TestOpenAPIDocument(t *testing.T) {
 		}
 	}
 	// Every problem type the server sends is described.
-	for _, typ := range []string{typeMalformed, typeInvalid, typeUnsizable, typeTooLarge, typeMediaType, typeBadForm, typeNoExport, typeBadLink} {
+	for _, typ := range []string{typeMalformed, typeInvalid, typeUnsizable, typeTooLarge, typeMediaType, typeBadForm, typeNoExport, typeBadLink,
+		typeNotFound, typeConflict, typeBadCell, typeBadQuery, typeNoStore} {
 		if !strings.Contains(rec.Body.String(), typ) {
 			t.Errorf("problem type %s not described", typ)
 		}
 	}
 }
+
+var regexpParam = regexp.MustCompile(`:([a-z_]+)`)
 
 var regexpRefs = regexp.MustCompile(`"\$ref": "#/components/schemas/([A-Za-z]+)"`)
 

@@ -19,12 +19,18 @@ import (
 	"capbank/sizing"
 )
 
-// newServerWith is a test server built from cfg, its data directory and
-// logger filled in.
+// newServerWith is a test server built from cfg, with a fresh data
+// directory and database, as newTestServer, and its logger filled in.
 func newServerWith(t testing.TB, cfg Config) (*Server, *syncBuffer) {
 	t.Helper()
 	var logs syncBuffer
 	cfg.DataDir = t.TempDir()
+	st, err := OpenStore(context.Background(), cfg.DataDir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { st.Close() })
+	cfg.Store = st
 	cfg.Logger = slog.New(slog.NewTextHandler(&logs, nil))
 	return New(cfg), &logs
 }

@@ -187,31 +187,35 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 }
 
 // inlineValues writes cell c into the typed-cell fields.
-func inlineValues(v url.Values, c sizing.Cell) {
+func inlineValues(v url.Values, c sizing.Cell) { cellValues(v, "inline.", c) }
+
+// cellValues writes cell c into the inputs named prefix + its keys (see
+// cellFields), each number as typed so that it reads back exactly.
+func cellValues(v url.Values, prefix string, c sizing.Cell) {
 	set := func(key string, x *float64) {
 		if x != nil {
-			v.Set("inline."+key, fieldNumber(*x))
+			v.Set(prefix+key, fieldNumber(*x))
 		}
 	}
-	v.Set("inline.id", c.ID)
+	v.Set(prefix+"id", c.ID)
 	if c.Name != "" {
-		v.Set("inline.name", c.Name)
+		v.Set(prefix+"name", c.Name)
 	}
 	if c.Source != "" {
-		v.Set("inline.source", c.Source)
+		v.Set(prefix+"source", c.Source)
 	}
 	if c.Notes != "" {
-		v.Set("inline.notes", c.Notes)
+		v.Set(prefix+"notes", c.Notes)
 	}
 	if c.Electrolyte != "" {
-		v.Set("inline.electrolyte", c.Electrolyte)
+		v.Set(prefix+"electrolyte", c.Electrolyte)
 	}
-	v.Set("inline.rated_v", fieldNumber(c.RatedV))
-	v.Set("inline.capacitance_f", fieldNumber(c.CapacitanceF))
-	v.Set("inline.esr_ohm", fieldNumber(c.ESROhm))
+	v.Set(prefix+"rated_v", fieldNumber(c.RatedV))
+	v.Set(prefix+"capacitance_f", fieldNumber(c.CapacitanceF))
+	v.Set(prefix+"esr_ohm", fieldNumber(c.ESROhm))
 	if t := c.CapacitanceTolerancePct; len(t) == 2 {
-		v.Set("inline.capacitance_tolerance_pct[0]", fieldNumber(t[0]))
-		v.Set("inline.capacitance_tolerance_pct[1]", fieldNumber(t[1]))
+		v.Set(prefix+"capacitance_tolerance_pct[0]", fieldNumber(t[0]))
+		v.Set(prefix+"capacitance_tolerance_pct[1]", fieldNumber(t[1]))
 	}
 	set("surge_v", c.SurgeV)
 	set("cold_esr_factor", c.ColdESRFactor)

@@ -108,37 +108,9 @@ var (
 		{Name: "pulse.count", Label: "Number of pulses", Kind: kindCount, Units: unitCount},
 	}
 
-	// inlineFields are the keys of one cell typed into the form, named
-	// inline.<cell key>.
-	inlineFields = []field{
-		{Name: "inline.id", Label: "Id", Kind: kindText, Hint: "short and unique, e.g. my-cell"},
-		{Name: "inline.name", Label: "Name", Kind: kindText},
-		{Name: "inline.source", Label: "Figures from", Kind: kindChoice, Choices: cellSources},
-		{Name: "inline.rated_v", Label: "Rated voltage", Units: unitVolt},
-		{Name: "inline.surge_v", Label: "Surge voltage", Units: unitVolt},
-		{Name: "inline.capacitance_f", Label: "Capacitance", Units: unitFarad},
-		{Name: "inline.capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: unitPercent, Hint: "e.g. -10"},
-		{Name: "inline.capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: unitPercent, Hint: "e.g. 20"},
-		{Name: "inline.esr_ohm", Label: "ESR (DC)", Units: unitOhm},
-		{Name: "inline.cold_esr_factor", Label: "Cold ESR factor", Units: unitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
-		{Name: "inline.cold_esr_temp_c", Label: "Cold ESR measured at", Units: unitCelsius},
-		{Name: "inline.leakage_a", Label: "Leakage current", Units: unitAmp},
-		{Name: "inline.max_current_a", Label: "Continuous current", Units: unitAmp},
-		{Name: "inline.peak_current_a", Label: "Peak current", Units: unitAmp},
-		{Name: "inline.thermal_resistance_k_per_w", Label: "Thermal resistance", Units: unitKPerW},
-		{Name: "inline.min_temp_c", Label: "Lowest operating temperature", Units: unitCelsius},
-		{Name: "inline.max_temp_c", Label: "Highest operating temperature", Units: unitCelsius},
-		{Name: "inline.mass_kg", Label: "Mass", Units: unitKilogram},
-		{Name: "inline.volume_l", Label: "Volume", Units: unitLitre},
-		{Name: "inline.unit_price", Label: "Unit price", Units: unitCurrencyEa, Hint: "in your currency"},
-		{Name: "inline.rated_life_h", Label: "Rated life", Units: unitHour},
-		{Name: "inline.rated_life_temp_c", Label: "Rated life at", Units: unitCelsius},
-		{Name: "inline.specific_heat_j_per_kg_k", Label: "Specific heat", Units: unitJPerKgK, Hint: "empty: 1000"},
-		{Name: "inline.electrolyte", Label: "Electrolyte", Kind: kindChoice, Choices: []choice{
-			{"", "not given"}, {"organic", "organic"}, {"aqueous", "aqueous"}, {"ionic-liquid", "ionic liquid"}, {"hybrid", "hybrid"},
-		}},
-		{Name: "inline.notes", Label: "Notes", Kind: kindText, Hint: "free text, e.g. the datasheet's revision"},
-	}
+	// inlineFields are the keys of one cell typed into the design form,
+	// named inline.<cell key>.
+	inlineFields = cellFields("inline.")
 
 	// cellSources are where a cell's figures come from.
 	cellSources = []choice{{"", "not said"}, {"datasheet", "a datasheet"}, {"measured", "a measurement"}, {"demo", "demo (invented)"}}
@@ -153,6 +125,41 @@ var (
 		{Name: "unit_price", Label: "Unit price", Units: unitCurrencyEa},
 	}
 )
+
+// cellFields are the inputs of one cell, named prefix + its design-file key
+// (the design form types one cell under "inline."; the library's cell form
+// uses the bare keys).
+func cellFields(prefix string) []field {
+	return []field{
+		{Name: prefix + "id", Label: "Id", Kind: kindText, Hint: "short and unique, e.g. my-cell"},
+		{Name: prefix + "name", Label: "Name", Kind: kindText},
+		{Name: prefix + "source", Label: "Figures from", Kind: kindChoice, Choices: cellSources},
+		{Name: prefix + "rated_v", Label: "Rated voltage", Units: unitVolt},
+		{Name: prefix + "surge_v", Label: "Surge voltage", Units: unitVolt},
+		{Name: prefix + "capacitance_f", Label: "Capacitance", Units: unitFarad},
+		{Name: prefix + "capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: unitPercent, Hint: "e.g. -10"},
+		{Name: prefix + "capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: unitPercent, Hint: "e.g. 20"},
+		{Name: prefix + "esr_ohm", Label: "ESR (DC)", Units: unitOhm},
+		{Name: prefix + "cold_esr_factor", Label: "Cold ESR factor", Units: unitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
+		{Name: prefix + "cold_esr_temp_c", Label: "Cold ESR measured at", Units: unitCelsius},
+		{Name: prefix + "leakage_a", Label: "Leakage current", Units: unitAmp},
+		{Name: prefix + "max_current_a", Label: "Continuous current", Units: unitAmp},
+		{Name: prefix + "peak_current_a", Label: "Peak current", Units: unitAmp},
+		{Name: prefix + "thermal_resistance_k_per_w", Label: "Thermal resistance", Units: unitKPerW},
+		{Name: prefix + "min_temp_c", Label: "Lowest operating temperature", Units: unitCelsius},
+		{Name: prefix + "max_temp_c", Label: "Highest operating temperature", Units: unitCelsius},
+		{Name: prefix + "mass_kg", Label: "Mass", Units: unitKilogram},
+		{Name: prefix + "volume_l", Label: "Volume", Units: unitLitre},
+		{Name: prefix + "unit_price", Label: "Unit price", Units: unitCurrencyEa, Hint: "in your currency"},
+		{Name: prefix + "rated_life_h", Label: "Rated life", Units: unitHour},
+		{Name: prefix + "rated_life_temp_c", Label: "Rated life at", Units: unitCelsius},
+		{Name: prefix + "specific_heat_j_per_kg_k", Label: "Specific heat", Units: unitJPerKgK, Hint: "empty: 1000"},
+		{Name: prefix + "electrolyte", Label: "Electrolyte", Kind: kindChoice, Choices: []choice{
+			{"", "not given"}, {"organic", "organic"}, {"aqueous", "aqueous"}, {"ionic-liquid", "ionic liquid"}, {"hybrid", "hybrid"},
+		}},
+		{Name: prefix + "notes", Label: "Notes", Kind: kindText, Hint: "free text, e.g. the datasheet's revision"},
+	}
+}
 
 // stepValueUnit is the unit of a step's value by its kind.
 func stepValueUnit(kind string) unitSpec {

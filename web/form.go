@@ -159,6 +159,16 @@ var sortOrders = []string{"", "price", "cells", "mass", "volume", "runtime"}
 
 func (f *designForm) value(name string) string { return f.vals.Get(name) }
 
+// savedID is the id of the saved design the form holds, "" for none (or a
+// value that is no id, which the form then drops).
+func (f *designForm) savedID() string {
+	id := f.value("saved_id")
+	if n, err := strconv.ParseInt(id, 10, 64); err != nil || n <= 0 {
+		return ""
+	}
+	return id
+}
+
 func (f *designForm) problem(field, rule, msg string) {
 	f.problems = append(f.problems, sizing.FieldError{Field: field, Rule: rule, Message: msg})
 }
@@ -543,42 +553,50 @@ func (f *designForm) extraEmpty(i int) bool {
 // inlineCell reads the cell typed into the form; ok is false when every
 // one of its fields is empty.
 func (f *designForm) inlineCell(required func(string, unitSpec) float64, optional func(string, unitSpec) *float64) (sizing.Cell, bool) {
+	return typedCell(f.value, "inline.", required, optional)
+}
+
+// typedCell reads a cell from the inputs named prefix + its keys (see
+// cellFields); ok is false when every one of them is empty. required and
+// optional parse a number by its input name, noting any problem.
+func typedCell(value func(string) string, prefix string, required func(string, unitSpec) float64, optional func(string, unitSpec) *float64) (sizing.Cell, bool) {
 	any := false
-	for _, fl := range inlineFields {
-		if strings.TrimSpace(f.value(fl.Name)) != "" {
+	for _, fl := range cellFields(prefix) {
+		if strings.TrimSpace(value(fl.Name)) != "" {
 			any = true
 		}
 	}
 	if !any {
 		return sizing.Cell{}, false
 	}
+	k := func(key string) string { return prefix + key }
 	c := sizing.Cell{
-		ID:                     strings.TrimSpace(f.value("inline.id")),
-		Name:                   strings.TrimSpace(f.value("inline.name")),
-		Source:                 f.value("inline.source"),
-		Notes:                  strings.TrimSpace(f.value("inline.notes")),
-		RatedV:                 required("inline.rated_v", unitVolt),
-		SurgeV:                 optional("inline.surge_v", unitVolt),
-		CapacitanceF:           required("inline.capacitance_f", unitFarad),
-		ESROhm:                 required("inline.esr_ohm", unitOhm),
-		ColdESRFactor:          optional("inline.cold_esr_factor", unitFactor),
-		ColdESRTempC:           optional("inline.cold_esr_temp_c", unitCelsius),
-		LeakageA:               optional("inline.leakage_a", unitAmp),
-		MaxCurrentA:            optional("inline.max_current_a", unitAmp),
-		PeakCurrentA:           optional("inline.peak_current_a", unitAmp),
-		ThermalResistanceKPerW: optional("inline.thermal_resistance_k_per_w", unitKPerW),
-		MinTempC:               optional("inline.min_temp_c", unitCelsius),
-		MaxTempC:               optional("inline.max_temp_c", unitCelsius),
-		MassKg:                 optional("inline.mass_kg", unitKilogram),
-		VolumeL:                optional("inline.volume_l", unitLitre),
-		UnitPrice:              optional("inline.unit_price", unitCurrencyEa),
-		RatedLifeH:             optional("inline.rated_life_h", unitHour),
-		RatedLifeTempC:         optional("inline.rated_life_temp_c", unitCelsius),
-		SpecificHeatJPerKgK:    optional("inline.specific_heat_j_per_kg_k", unitJPerKgK),
-		Electrolyte:            f.value("inline.electrolyte"),
+		ID:                     strings.TrimSpace(value(k("id"))),
+		Name:                   strings.TrimSpace(value(k("name"))),
+		Source:                 value(k("source")),
+		Notes:                  strings.TrimSpace(value(k("notes"))),
+		RatedV:                 required(k("rated_v"), unitVolt),
+		SurgeV:                 optional(k("surge_v"), unitVolt),
+		CapacitanceF:           required(k("capacitance_f"), unitFarad),
+		ESROhm:                 required(k("esr_ohm"), unitOhm),
+		ColdESRFactor:          optional(k("cold_esr_factor"), unitFactor),
+		ColdESRTempC:           optional(k("cold_esr_temp_c"), unitCelsius),
+		LeakageA:               optional(k("leakage_a"), unitAmp),
+		MaxCurrentA:            optional(k("max_current_a"), unitAmp),
+		PeakCurrentA:           optional(k("peak_current_a"), unitAmp),
+		ThermalResistanceKPerW: optional(k("thermal_resistance_k_per_w"), unitKPerW),
+		MinTempC:               optional(k("min_temp_c"), unitCelsius),
+		MaxTempC:               optional(k("max_temp_c"), unitCelsius),
+		MassKg:                 optional(k("mass_kg"), unitKilogram),
+		VolumeL:                optional(k("volume_l"), unitLitre),
+		UnitPrice:              optional(k("unit_price"), unitCurrencyEa),
+		RatedLifeH:             optional(k("rated_life_h"), unitHour),
+		RatedLifeTempC:         optional(k("rated_life_temp_c"), unitCelsius),
+		SpecificHeatJPerKgK:    optional(k("specific_heat_j_per_kg_k"), unitJPerKgK),
+		Electrolyte:            value(k("electrolyte")),
 	}
-	minus := optional("inline.capacitance_tolerance_pct[0]", unitPercent)
-	plus := optional("inline.capacitance_tolerance_pct[1]", unitPercent)
+	minus := optional(k("capacitance_tolerance_pct[0]"), unitPercent)
+	plus := optional(k("capacitance_tolerance_pct[1]"), unitPercent)
 	switch {
 	case minus != nil && plus != nil:
 		c.CapacitanceTolerancePct = []float64{*minus, *plus}

@@ -91,6 +91,9 @@ func (s *Server) refuseCrossOrigin(next echo.HandlerFunc) echo.HandlerFunc {
 var computeOnly = map[string]bool{
 	"/": true, "/results": true, "/workspace": true, "/export/:format": true, "/measure": true,
 	"/api/v1/size": true, "/api/v1/measure": true, "/unlock": true,
+	// The add-cell form filled from a measured cell's JSON; the add itself
+	// is POST /library.
+	"/library/new": true,
 }
 
 // isWrite reports whether the request needs the access token: deny by
@@ -207,6 +210,13 @@ func localPath(p string) string {
 	return p
 }
 
+// canWrite reports whether the request may write: the server has no
+// token, or the request carries it. Pages use it to offer the unlock page
+// before a change rather than after.
+func (s *Server) canWrite(c echo.Context) bool {
+	return s.guard.tokenSum == nil || s.guard.check(c.Request()) == tokenGood
+}
+
 // getUnlock is GET /unlock: the token form, or what this browser holds.
 func (s *Server) getUnlock(c echo.Context) error {
 	next := localPath(c.QueryParam("next"))
@@ -215,7 +225,7 @@ func (s *Server) getUnlock(c echo.Context) error {
 	}
 	g := s.guard
 	p := components.UnlockProps{CSS: s.css, Next: next, Required: g.tokenSum != nil}
-	p.Unlocked = p.Required && g.check(c.Request()) == tokenGood
+	p.Unlocked = p.Required && s.canWrite(c)
 	c.Response().Header().Set("Cache-Control", "no-store")
 	return s.render(c, http.StatusOK, components.UnlockPage(p))
 }

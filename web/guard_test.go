@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"encoding/json"
 	"io"
 	"net/http"
@@ -391,4 +392,48 @@ func TestEveryCookieIsHttpOnlySameSite(t *testing.T) {
 	if seen < 2 {
 		t.Errorf("only %d cookies seen; the unlock and lock answers set one each", seen)
 	}
+}
+
+// The library's and the saved designs' own routes are guarded: without
+// the token nothing is stored or deleted, with it the write goes through.
+func TestTokenGuardsTheLibraryAndDesigns(t *testing.T) {
+	t.Parallel()
+	s, _ := newServerWith(t, Config{Token: testToken})
+	ctx := context.Background()
+	cell := `{"id":"guard-test-cell","name":"Invented test cell","rated_v":2.7,"capacitance_f":100,"esr_ohm":0.009}`
+	design, err := os.ReadFile("../testdata/ups-ride-through.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	saved := `{"name":"guarded","design":` + string(design) + `}`
+	bearer := map[string]string{"Authorization": "Bearer " + testToken}
+
+	rec := serve(s, request("POST", "/api/v1/cells", cell, "application/json", nil))
+	wantStatus(t, rec, http.StatusUnauthorized)
+	if _, err := s.store.GetCell(ctx, "guard-test-cell"); err == nil {
+		t.Fatal("a cell was stored without the token")
+	}
+	rec = serve(s, request("POST", "/api/v1/designs", saved, "application/json", nil))
+	wantStatus(t, rec, http.StatusUnauthorized)
+	if list, err := s.store.ListDesigns(ctx); err != nil || len(list) != 0 {
+		t.Fatalf("designs stored without the token: %d, %v", len(list), err)
+	}
+
+	rec = serve(s, request("POST", "/api/v1/cells", cell, "application/json", bearer))
+	wantStatus(t, rec, http.StatusCreated)
+	rec = serve(s, request("POST", "/api/v1/designs", saved, "application/json", bearer))
+	wantStatus(t, rec, http.StatusCreated)
+
+	// The browser's delete button without the cookie: the unlock page, and
+	// the cell stays.
+	rec = serve(s, request("POST", "/library/guard-test-cell/delete", "", "", map[string]string{"Accept": "text/html"}))
+	wantStatus(t, rec, http.StatusUnauthorized)
+	if parse(t, rec).Find("[data-testid=unlock]").Length() != 1 {
+		t.Errorf("no unlock page:\n%s", rec.Body)
+	}
+	if _, err := s.store.GetCell(ctx, "guard-test-cell"); err != nil {
+		t.Fatalf("the cell went without the token: %v", err)
+	}
+	rec = serve(s, request("DELETE", "/api/v1/cells/guard-test-cell", "", "", bearer))
+	wantStatus(t, rec, http.StatusNoContent)
 }

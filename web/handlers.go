@@ -116,12 +116,22 @@ func formReadError(err error) error {
 	return &formError{err: err}
 }
 
-// getPage is GET /: the example design with its results, or with ?new an
-// empty form.
+// getPage is GET /: the example design with its results; with ?new an
+// empty form; with ?d=TOKEN the design a share link carries; with
+// ?cell=ID (repeatable) the example sized with those library cells.
 func (s *Server) getPage(c echo.Context) error {
-	if c.QueryParams().Has("new") {
+	q := c.QueryParams()
+	switch {
+	case q.Has("d"):
+		return s.openSharedDesign(c, q.Get("d"))
+	case q.Has("new"):
 		ev := &evaluation{form: blankForm(), pristine: true}
 		return s.renderPage(c, http.StatusOK, ev)
+	case q.Has("cell"):
+		v := exampleValues()
+		v["cells.pick"] = q["cell"]
+		v.Set("name", "Example with "+strings.Join(q["cell"], ", ")+" (invented load)")
+		return s.renderPage(c, http.StatusOK, evaluate(readForm(v), s.lookup(c)))
 	}
 	return s.renderPage(c, http.StatusOK, evaluate(exampleForm(), s.lookup(c)))
 }
@@ -202,7 +212,10 @@ func blankForm() *designForm {
 }
 
 // exampleForm is the design the page opens with: invented, and named so.
-func exampleForm() *designForm {
+func exampleForm() *designForm { return readForm(exampleValues()) }
+
+// exampleValues are the example design's form values.
+func exampleValues() url.Values {
 	v := url.Values{
 		"name":            {"Example: 48 V controller hold-up (invented)"},
 		"window.max_v":    {"48"},
@@ -221,5 +234,5 @@ func exampleForm() *designForm {
 		v.Set(p+"value", s.Value)
 		v.Set(p+"duration_s", s.Duration)
 	}
-	return readForm(v)
+	return v
 }

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"io"
 	"log/slog"
 	"mime/multipart"
@@ -15,11 +16,19 @@ import (
 	"github.com/PuerkitoBio/goquery"
 )
 
-// newTestServer is a server with its log kept for the test to read.
+// newTestServer is a server on a fresh database in a temporary data
+// directory, as capbank serve starts on first run, with its log kept for
+// the test to read.
 func newTestServer(t testing.TB) (*Server, *syncBuffer) {
 	t.Helper()
 	var logs syncBuffer
-	return New(Config{DataDir: t.TempDir(), Logger: slog.New(slog.NewTextHandler(&logs, nil))}), &logs
+	dir := t.TempDir()
+	st, err := OpenStore(context.Background(), dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { st.Close() })
+	return New(Config{DataDir: dir, Store: st, Logger: slog.New(slog.NewTextHandler(&logs, nil))}), &logs
 }
 
 // syncBuffer is a bytes.Buffer safe for the server's goroutines.

@@ -16,7 +16,7 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
-	"capbank/web/democells"
+	"capbank/web/store"
 )
 
 // The measurement page and API: a cell's capacitance, ESR and leakage from
@@ -77,7 +77,9 @@ func required(k string, p *float64, errs *sizing.ValidationError) float64 {
 
 // measure runs the measurement the input asks for. Bad input comes back as
 // a sizing.ValidationError naming the field (or the log's line).
-func measure(in measureInput) (*measureOutcome, error) {
+// measure works out the figures of a test; lookup finds the library cell
+// a comparison names.
+func measure(in measureInput, lookup cellLookup) (*measureOutcome, error) {
 	var errs sizing.ValidationError
 	method := in.get("method")
 	out := &measureOutcome{Method: method}
@@ -157,9 +159,9 @@ func measure(in measureInput) (*measureOutcome, error) {
 	}
 	out.Result = res
 	if id := in.get("compare_id"); id != "" {
-		c, ok := democells.ByID(id)
+		c, ok := lookup(id)
 		if !ok {
-			return nil, sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not a demo cell", id)}}
+			return nil, sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not in the cell library", id)}}
 		}
 		out.CompareWith = id
 		out.Comparison = sizing.CompareWithDatasheet(out.figures, c)
@@ -225,7 +227,7 @@ func (s *Server) apiMeasure(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	out, err := measure(in)
+	out, err := measure(in, s.lookup(c))
 	if err != nil {
 		return err
 	}
@@ -242,7 +244,7 @@ func (s *Server) postMeasure(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	out, err := measure(in)
+	out, err := measure(in, s.lookup(c))
 	var ve sizing.ValidationError
 	if errors.As(err, &ve) {
 		return s.renderMeasure(c, http.StatusUnprocessableEntity, in, nil, ve)
@@ -259,9 +261,14 @@ func (s *Server) renderMeasure(c echo.Context, status int, in measureInput, out 
 		p.Messages[e.Field] = e.Message
 		p.Problems = append(p.Problems, e.Error())
 	}
-	for _, cell := range democells.All() {
-		p.Cells = append(p.Cells, components.Option{Value: cell.ID, Label: cell.Name})
+	recs, err := s.libraryCells(c.Request().Context(), store.CellFilter{})
+	if err != nil {
+		return err
 	}
+	for _, r := range recs {
+		p.Cells = append(p.Cells, components.Option{Value: r.Cell.ID, Label: r.Cell.Name})
+	}
+	p.CanSave = s.store != nil
 	if out != nil {
 		p.Done = true
 		p.Rows = figureRows(out.Result)
@@ -276,6 +283,8 @@ func (s *Server) renderMeasure(c echo.Context, status int, in measureInput, out 
 		if out.Cell != nil {
 			b, _ := json.MarshalIndent([]sizing.Cell{*out.Cell}, "", "  ")
 			p.CellJSON = string(b)
+			one, _ := json.Marshal(out.Cell)
+			p.SaveJSON = string(one)
 		}
 	}
 	return s.render(c, status, components.MeasurePage(p))

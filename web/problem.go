@@ -10,6 +10,7 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
+	"capbank/web/store"
 )
 
 // problem is an RFC 9457 problem document.
@@ -35,6 +36,11 @@ const (
 	typeNoExport   = "/problems/cannot-export"
 	typeBadLink    = "/problems/bad-share-link"
 	typeDeadline   = "/problems/compute-deadline"
+	typeNotFound   = "/problems/not-found"
+	typeConflict   = "/problems/conflict"
+	typeBadCell    = "/problems/invalid-cell"
+	typeBadQuery   = "/problems/invalid-parameter"
+	typeNoStore    = "/problems/no-store"
 	typeHTTP       = "about:blank"
 	problemJSON    = "application/problem+json"
 	problemCharset = problemJSON + "; charset=utf-8"
@@ -71,7 +77,40 @@ func problemFor(err error) problem {
 		coe  *crossOriginError
 		mibs = fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
 	)
+	var (
+		cje *cellJSONError
+		qe  *queryError
+		mte *mediaTypeError
+	)
 	switch {
+	case errors.Is(err, store.ErrNotFound):
+		return problem{Type: typeNotFound, Title: "Not found", Status: http.StatusNotFound,
+			Detail: "There is no " + strings.TrimSuffix(err.Error(), ": "+store.ErrNotFound.Error()) + " here; the list pages show what there is."}
+	case errors.Is(err, store.ErrExists):
+		return problem{Type: typeConflict, Title: "Already exists", Status: http.StatusConflict,
+			Detail: strings.TrimSuffix(err.Error(), ": "+store.ErrExists.Error()) + " is already in the library: choose another id, or edit the one there."}
+	case errors.Is(err, store.ErrReadOnly):
+		return problem{Type: typeConflict, Title: "Read-only", Status: http.StatusConflict,
+			Detail: strings.TrimSuffix(err.Error(), ": "+store.ErrReadOnly.Error()) + "."}
+	case errors.Is(err, store.ErrInvalid) && errors.As(err, &ve):
+		return problem{Type: typeBadCell, Title: "The cell is invalid", Status: http.StatusUnprocessableEntity,
+			Detail: fmt.Sprintf("%d %s to fix, each named by its field.", len(ve), plural(len(ve), "problem", "problems")), Errors: ve}
+	case errors.Is(err, store.ErrInvalid):
+		return problem{Type: typeBadQuery, Title: "Not accepted", Status: http.StatusUnprocessableEntity,
+			Detail: strings.TrimPrefix(err.Error(), store.ErrInvalid.Error()+": ") + "."}
+	case errors.Is(err, errNoStore):
+		return problem{Type: typeNoStore, Title: "No database", Status: http.StatusServiceUnavailable,
+			Detail: errNoStore.Error() + "; run it with a data directory (capbank serve --data DIR)."}
+	case errors.As(err, &cje):
+		return problem{Type: typeMalformed, Title: "The cell could not be read", Status: http.StatusBadRequest,
+			Detail: "The body is not one cell's JSON: fix what errors names.",
+			Errors: []sizing.FieldError{{Field: "cell", Rule: "decode", Message: cje.msg}}}
+	case errors.As(err, &qe):
+		return problem{Type: typeBadQuery, Title: "A parameter is invalid", Status: http.StatusUnprocessableEntity,
+			Detail: fmt.Sprintf("%d %s to fix, each named in errors.", len(qe.errs), plural(len(qe.errs), "problem", "problems")), Errors: qe.errs}
+	case errors.As(err, &mte):
+		return problem{Type: typeMediaType, Title: "Unsupported Media Type", Status: http.StatusUnsupportedMediaType,
+			Detail: "Send the body as " + mte.want + "."}
 	case errors.As(err, &mbe):
 		return problem{Type: typeTooLarge, Title: "Request too large", Status: http.StatusRequestEntityTooLarge,
 			Detail: "The request body is larger than " + mibs + ", the most capbank reads; send a smaller design or profile file."}

@@ -17,6 +17,7 @@ import (
 	"github.com/labstack/echo/v4/middleware"
 
 	"capbank/static"
+	"capbank/web/store"
 )
 
 // MaxBodyBytes is the largest request body the server reads: a design
@@ -25,9 +26,12 @@ const MaxBodyBytes = 16 << 20
 
 // Config is what the server needs from its command line.
 type Config struct {
-	// DataDir is the data directory (the cell library will keep its store
-	// there); it must exist.
+	// DataDir is the data directory; it must exist.
 	DataDir string
+	// Store is the cell library and the saved designs, opened by the caller
+	// (OpenStore). Nil: the library is the built-in demo cells, read-only,
+	// and saving answers 503.
+	Store *store.Store
 	// Logger receives errors and panics; nil discards them.
 	Logger *slog.Logger
 	// ComputeTimeout is the most one request may spend sizing or writing
@@ -44,6 +48,7 @@ type Server struct {
 	echo    *echo.Echo
 	log     *slog.Logger
 	dataDir string
+	store   *store.Store
 	css, js string // versioned URLs of the stylesheet and htmx
 	// now dates the PDF report; tests fix it.
 	now func() time.Time
@@ -61,7 +66,7 @@ func New(cfg Config) *Server {
 	}
 	e := echo.New()
 	e.HideBanner, e.HidePort = true, true
-	s := &Server{echo: e, log: log, dataDir: cfg.DataDir,
+	s := &Server{echo: e, log: log, dataDir: cfg.DataDir, store: cfg.Store,
 		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), now: time.Now}
 	s.computeTimeout = computeTimeoutOrDefault(cfg)
 	e.HTTPErrorHandler = s.handleError
@@ -81,6 +86,7 @@ func New(cfg Config) *Server {
 	e.POST("/api/v1/size", s.apiSize)
 	e.GET("/api/v1/openapi.json", s.openAPI)
 	e.GET("/static/*", s.staticFile)
+	s.libraryRoutes(e)
 	return s
 }
 

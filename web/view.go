@@ -14,6 +14,7 @@ import (
 	"capbank/components"
 	"capbank/sizing"
 	"capbank/web/democells"
+	"capbank/web/store"
 )
 
 // pageProps lays out an evaluation for the page; picks are the library
@@ -23,22 +24,37 @@ func (s *Server) pageProps(ev *evaluation, picks []components.CellPickProps) com
 	if n := strings.TrimSpace(ev.form.value("name")); n != "" {
 		title = n + " – capbank"
 	}
+	results := resultsProps(ev)
+	results.CanSave = s.store != nil
 	return components.PageProps{
 		Title: title, CSS: s.css, Script: s.js, APIHref: "/api/v1/openapi.json",
 		Form:    formProps(ev, picks),
-		Results: resultsProps(ev),
+		Results: results,
 	}
 }
 
-// lookup finds the cells a design may pick by id.
-func (s *Server) lookup(c echo.Context) cellLookup { return democells.ByID }
+// lookup finds the cells a design may pick by id: the library's.
+func (s *Server) lookup(c echo.Context) cellLookup {
+	if s.store != nil {
+		return s.store.Lookup(c.Request().Context())
+	}
+	return democells.ByID
+}
 
-// cellPicks lists the cells the picker offers, each marked when the form
-// picked it.
+// cellPicks lists the library's cells for the picker, each marked when
+// the form picked it.
 func (s *Server) cellPicks(c echo.Context, f *designForm) []components.CellPickProps {
-	var out []components.CellPickProps
-	for _, cell := range democells.All() {
-		out = append(out, cellPick(cell, f.picked[cell.ID]))
+	recs, err := s.libraryCells(c.Request().Context(), store.CellFilter{})
+	if err != nil {
+		s.log.Error("listing the library for the picker", "error", err.Error())
+		recs = nil
+		for _, cell := range democells.All() {
+			recs = append(recs, store.CellRecord{Cell: cell, ReadOnly: true})
+		}
+	}
+	out := make([]components.CellPickProps, 0, len(recs))
+	for _, r := range recs {
+		out = append(out, cellPick(r.Cell, f.picked[r.Cell.ID]))
 	}
 	return out
 }
@@ -94,6 +110,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		return out
 	}
 	p := components.FormProps{
+		SavedID: f.savedID(), SavedName: f.value("saved_name"),
 		Name:           fieldProps(nameField, f.value("name"), msg["name"]),
 		Window:         group(windowFields),
 		Load:           group(loadFields),
@@ -278,7 +295,8 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 }
 
 func resultsProps(ev *evaluation) components.ResultsProps {
-	p := components.ResultsProps{Sort: ev.form.sort, LastGood: ev.form.lastGood}
+	p := components.ResultsProps{Sort: ev.form.sort, LastGood: ev.form.lastGood,
+		SavedID: ev.form.savedID(), SavedName: ev.form.value("saved_name"), DesignName: strings.TrimSpace(ev.form.value("name"))}
 	n := len(ev.problems)
 	switch {
 	case ev.pristine:

@@ -10,11 +10,13 @@ import (
 	"net"
 	"net/http"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"time"
 
 	"capbank/web"
+	"capbank/web/store"
 )
 
 const serveUsage = `usage: capbank serve [--addr HOST:PORT] [--data DIR] [--token TOKEN] [--compute-timeout DURATION]
@@ -79,16 +81,21 @@ func serve(ctx context.Context, addr, dataDir string, opts guardOptions, stderr 
 	if err := os.MkdirAll(dataDir, 0o755); err != nil {
 		return fmt.Errorf("cannot create the data directory: %w", err)
 	}
+	st, err := web.OpenStore(ctx, dataDir)
+	if err != nil {
+		return fmt.Errorf("cannot open the database in %s: %w", dataDir, err)
+	}
+	defer st.Close()
 	ln, err := net.Listen("tcp", addr)
 	if err != nil {
 		return fmt.Errorf("cannot listen on %s: %w", addr, err)
 	}
-	cfg := web.Config{DataDir: dataDir, Logger: log}
+	cfg := web.Config{DataDir: dataDir, Store: st, Logger: log}
 	opts.apply(&cfg)
 	srv := newHTTPServer(web.New(cfg), log, opts.computeTimeout)
 	done := make(chan error, 1)
 	go func() { done <- srv.Serve(ln) }()
-	log.Info("capbank is serving", "url", "http://"+ln.Addr().String()+"/", "data", dataDir)
+	log.Info("capbank is serving", "url", "http://"+ln.Addr().String()+"/", "data", dataDir, "database", filepath.Join(dataDir, store.FileName))
 	opts.logAccess(log, ln.Addr())
 
 	select {

@@ -10,17 +10,20 @@ import (
 	"io"
 	"io/fs"
 	"os"
+	"path/filepath"
 	"runtime/debug"
 
 	"capbank/sizing"
+	"capbank/web/democells"
 	"capbank/web/export"
+	"capbank/web/store"
 )
 
 // stdin is where the design comes from when the design file is "-"; tests
 // replace it.
 var stdin io.Reader = os.Stdin
 
-const sizeUsage = `usage: capbank size [--format json|text] [-o FILE] DESIGN.json
+const sizeUsage = `usage: capbank size [--format json|text] [--data DIR] [-o FILE] DESIGN.json
        capbank size --format boq-csv|boq-json [--cell ID] [-o FILE] DESIGN.json
        capbank size --format boq-xlsx|pdf [--cell ID] [--paper a4|letter] -o FILE DESIGN.json
 
@@ -33,6 +36,11 @@ the feasible cell --cell names. boq-xlsx and pdf are binary and need -o
 one line per problem on stderr, each naming its field, and exits with
 status 2.
 
+A cell may be given in full or named by its library id ("cells":
+["demo-2v7-650f", "my-cell"]): ids resolve in the cell library of the
+data directory (--data, as capbank serve keeps it), or, where there is no
+database yet, in the built-in demo cells.
+
 flags:
 `
 
@@ -43,6 +51,7 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	out := flags.String("o", "", "write to `FILE` instead of standard output (required for boq-xlsx and pdf)")
 	cellID := flags.String("cell", "", "export the bank of cell `ID` instead of the recommended one (boq-* and pdf)")
 	paper := flags.String("paper", "a4", "`SIZE` of the pdf's pages: a4 or letter")
+	data := flags.String("data", "capbank-data", "the data `DIR`ectory whose cell library resolves cells named by id; without a database there, the built-in demo cells")
 	usage := func(w io.Writer) {
 		fmt.Fprint(w, sizeUsage)
 		flags.PrintDefaults()
@@ -86,7 +95,12 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		return usageFailure(stderr, usage, "capbank size: give one design file, not %d", len(pos))
 	}
 
-	d, rep, err := sizeFile(ctx, pos[0])
+	lookup, closeLib, err := openLibrary(ctx, *data, set["data"])
+	if err != nil {
+		return err
+	}
+	defer closeLib()
+	d, rep, err := sizeFile(ctx, pos[0], lookup)
 	if err != nil {
 		return err
 	}
@@ -142,7 +156,7 @@ func parseInterspersed(flags *flag.FlagSet, args []string) ([]string, error) {
 // sizeFile reads, decodes and sizes the design in the named file ("-" for
 // stdin). It gives up when ctx is done, so an interrupt ends a command left
 // waiting on a terminal's standard input or on a long sizing.
-func sizeFile(ctx context.Context, name string) (*sizing.Design, *sizing.Report, error) {
+func sizeFile(ctx context.Context, name string, lookup func(string) (sizing.Cell, bool)) (*sizing.Design, *sizing.Report, error) {
 	type outcome struct {
 		d   *sizing.Design
 		rep *sizing.Report
@@ -151,7 +165,7 @@ func sizeFile(ctx context.Context, name string) (*sizing.Design, *sizing.Report,
 	done := make(chan outcome, 1)
 	in := stdin // read here: the goroutine may outlive this call
 	go func() {
-		d, rep, err := readAndSize(name, in)
+		d, rep, err := readAndSize(name, in, lookup)
 		done <- outcome{d, rep, err}
 	}()
 	select {
@@ -163,8 +177,8 @@ func sizeFile(ctx context.Context, name string) (*sizing.Design, *sizing.Report,
 }
 
 // readAndSize reads and sizes the design in the named file, or in stdin
-// for "-".
-func readAndSize(name string, stdin io.Reader) (d *sizing.Design, rep *sizing.Report, err error) {
+// for "-"; lookup resolves the cells the design names by id.
+func readAndSize(name string, stdin io.Reader, lookup func(string) (sizing.Cell, bool)) (d *sizing.Design, rep *sizing.Report, err error) {
 	r := stdin
 	if name != "-" {
 		f, err := os.Open(name)
@@ -186,8 +200,28 @@ func readAndSize(name string, stdin io.Reader) (d *sizing.Design, rep *sizing.Re
 			d, rep, err = nil, nil, &internalError{value: p, stack: debug.Stack()}
 		}
 	}()
+	d.ResolveCells(lookup)
 	rep, err = sizing.Size(d)
 	return d, rep, err
+}
+
+// openLibrary is the cell library a design file's cell ids resolve in:
+// the database in dataDir when there is one, else the built-in demo cells.
+// explicit is true when the user named the directory: then a missing
+// database is an error rather than a quiet fall-back.
+func openLibrary(ctx context.Context, dataDir string, explicit bool) (func(string) (sizing.Cell, bool), func(), error) {
+	path := filepath.Join(dataDir, store.FileName)
+	if _, err := os.Stat(path); err != nil {
+		if explicit {
+			return nil, nil, fmt.Errorf("--data %s: there is no capbank database (%s) there; start capbank serve --data %s once to create it, or leave --data out to use the demo cells", dataDir, store.FileName, dataDir)
+		}
+		return democells.ByID, func() {}, nil
+	}
+	st, err := store.Open(ctx, path)
+	if err != nil {
+		return nil, nil, fmt.Errorf("--data %s: %w", dataDir, err)
+	}
+	return st.Lookup(ctx), func() { st.Close() }, nil
 }
 
 // pathReason drops the operation and path from a *fs.PathError, which the

@@ -56,6 +56,19 @@ func (s *Store) UpdateDesign(ctx context.Context, id int64, designJSON []byte) e
 	return s.exec1(ctx, id, `UPDATE designs SET design_json = ?, updated_at = ? WHERE id = ?`, string(designJSON), now(), id)
 }
 
+// ReplaceDesign gives saved design id a new JSON and, when name is not
+// empty, a new name, in one transaction.
+func (s *Store) ReplaceDesign(ctx context.Context, id int64, name string, designJSON []byte) error {
+	if strings.TrimSpace(name) == "" {
+		return s.UpdateDesign(ctx, id, designJSON)
+	}
+	name, err := designName(name)
+	if err != nil {
+		return err
+	}
+	return s.exec1(ctx, id, `UPDATE designs SET name = ?, design_json = ?, updated_at = ? WHERE id = ?`, name, string(designJSON), now(), id)
+}
+
 // RenameDesign renames saved design id.
 func (s *Store) RenameDesign(ctx context.Context, id int64, name string) error {
 	name, err := designName(name)

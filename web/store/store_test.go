@@ -361,3 +361,32 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 		t.Errorf("JSON import with an unknown key: %+v", rep)
 	}
 }
+
+func TestReplaceDesign(t *testing.T) {
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	id, err := s.SaveDesign(ctx, "first", []byte(`{"a":1}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := s.ReplaceDesign(ctx, id, "second", []byte(`{"a": 2}`)); err != nil {
+		t.Fatal(err)
+	}
+	got, err := s.GetDesign(ctx, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Name != "second" || string(got.JSON) != `{"a": 2}` {
+		t.Errorf("after replace: %q %s, want second {\"a\": 2}", got.Name, got.JSON)
+	}
+	// A bad name changes nothing: the JSON stays as it was.
+	if err := s.ReplaceDesign(ctx, id, strings.Repeat("x", 201), []byte(`{"a":3}`)); !errors.Is(err, ErrInvalid) {
+		t.Fatalf("a 201-character name: %v, want ErrInvalid", err)
+	}
+	if got, _ := s.GetDesign(ctx, id); string(got.JSON) != `{"a": 2}` {
+		t.Errorf("a refused replace changed the JSON to %s", got.JSON)
+	}
+	if err := s.ReplaceDesign(ctx, id+100, "", []byte(`{}`)); !errors.Is(err, ErrNotFound) {
+		t.Errorf("replacing a missing design: %v, want ErrNotFound", err)
+	}
+}

@@ -1,0 +1,197 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"mime"
+	"net/http"
+	"net/url"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/sizing"
+	"capbank/web/store"
+)
+
+// cellList is the answer of GET /api/v1/cells.
+type cellList struct {
+	Count int                `json:"count"`
+	Cells []store.CellRecord `json:"cells"`
+}
+
+// apiListCells is GET /api/v1/cells: the library, filtered by q (in the
+// id and name), min_v, max_v (rated voltage, V), min_f, max_f
+// (capacitance, F). A bad filter value is a 422 naming the parameter.
+func (s *Server) apiListCells(c echo.Context) error {
+	filter, msgs := readFilter(c.QueryParams())
+	if len(msgs) > 0 {
+		var ve sizing.ValidationError
+		for _, fl := range filterFields {
+			if m, ok := msgs[fl.Name]; ok {
+				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: "number", Message: m})
+			}
+		}
+		return &queryError{errs: ve}
+	}
+	recs, err := s.libraryCells(c.Request().Context(), filter)
+	if err != nil {
+		return err
+	}
+	if recs == nil {
+		recs = []store.CellRecord{}
+	}
+	return c.JSON(http.StatusOK, cellList{Count: len(recs), Cells: recs})
+}
+
+// apiGetCell is GET /api/v1/cells/{id}.
+func (s *Server) apiGetCell(c echo.Context) error {
+	rec, err := s.libraryCell(c.Request().Context(), c.Param("id"))
+	if err != nil {
+		return err
+	}
+	return c.JSON(http.StatusOK, rec)
+}
+
+// readCellJSON reads one design-file cell from a JSON body, strictly: an
+// unknown key or a value of the wrong type is a 400 naming it.
+func readCellJSON(c echo.Context) (sizing.Cell, error) {
+	var cell sizing.Cell
+	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
+		return cell, echo.NewHTTPError(http.StatusUnsupportedMediaType)
+	}
+	data, err := io.ReadAll(c.Request().Body)
+	if err != nil {
+		var mbe *http.MaxBytesError
+		if errors.As(err, &mbe) {
+			return cell, err
+		}
+		return cell, &cellJSONError{msg: "could not be read; send the whole body"}
+	}
+	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&cell); err != nil {
+		return cell, &cellJSONError{msg: strings.TrimPrefix(err.Error(), "json: ")}
+	}
+	if dec.More() {
+		return cell, &cellJSONError{msg: "holds more than one JSON value; send one cell"}
+	}
+	return cell, nil
+}
+
+// cellJSONError is a cell body that is not one cell's JSON.
+type cellJSONError struct{ msg string }
+
+func (e *cellJSONError) Error() string { return "the cell could not be read: " + e.msg }
+
+// queryError is a query parameter that is not valid.
+type queryError struct{ errs sizing.ValidationError }
+
+func (e *queryError) Error() string { return e.errs.Error() }
+
+// apiCreateCell is POST /api/v1/cells: add a user cell (201, with its
+// address in Location); 409 when the id is taken, 422 when invalid.
+func (s *Server) apiCreateCell(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	cell, err := readCellJSON(c)
+	if err != nil {
+		return err
+	}
+	if err := s.store.CreateCell(c.Request().Context(), cell); err != nil {
+		return err
+	}
+	rec, err := s.store.GetCell(c.Request().Context(), cell.ID)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set(echo.HeaderLocation, "/api/v1/cells/"+url.PathEscape(cell.ID))
+	return c.JSON(http.StatusCreated, rec)
+}
+
+// apiUpdateCell is PUT /api/v1/cells/{id}: replace a user cell. The body's
+// id must be the address's; demo cells are read-only (409).
+func (s *Server) apiUpdateCell(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	cell, err := readCellJSON(c)
+	if err != nil {
+		return err
+	}
+	id := c.Param("id")
+	if cell.ID == "" {
+		cell.ID = id
+	}
+	if cell.ID != id {
+		return &queryError{errs: sizing.ValidationError{{Field: "id", Rule: "fixed",
+			Message: fmt.Sprintf("is %q but the address names %q; to rename a cell, create it under the new id and delete the old one", cell.ID, id)}}}
+	}
+	if err := s.store.UpdateCell(c.Request().Context(), cell); err != nil {
+		return err
+	}
+	rec, err := s.store.GetCell(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	return c.JSON(http.StatusOK, rec)
+}
+
+// apiDeleteCell is DELETE /api/v1/cells/{id}: 204; saved designs keep
+// their own copy of the cell.
+func (s *Server) apiDeleteCell(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	if err := s.store.DeleteCell(c.Request().Context(), c.Param("id")); err != nil {
+		return err
+	}
+	return c.NoContent(http.StatusNoContent)
+}
+
+// apiImportCells is POST /api/v1/cells/import: a CSV (text/csv) or JSON
+// (application/json) body of cells, imported all or nothing. The answer is
+// the row-by-row report: 200 when imported, 422 when any row (or the file)
+// was rejected and nothing changed.
+func (s *Server) apiImportCells(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	r := c.Request()
+	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
+	var (
+		rep store.ImportReport
+		err error
+	)
+	switch mt {
+	case "text/csv", "application/csv":
+		rep, err = s.store.ImportCellsCSV(r.Context(), r.Body)
+	case "application/json":
+		rep, err = s.store.ImportCellsJSON(r.Context(), r.Body)
+	default:
+		return &mediaTypeError{want: "text/csv or application/json"}
+	}
+	if err != nil {
+		return err
+	}
+	if strings.Contains(rep.Error, "request body too large") {
+		return &http.MaxBytesError{Limit: MaxBodyBytes}
+	}
+	status := http.StatusOK
+	if !rep.Imported {
+		status = http.StatusUnprocessableEntity
+	}
+	if rep.Rows == nil {
+		rep.Rows = []store.ImportRow{}
+	}
+	return c.JSON(status, rep)
+}
+
+// mediaTypeError is a body of a type the endpoint does not take.
+type mediaTypeError struct{ want string }
+
+func (e *mediaTypeError) Error() string { return "send the body as " + e.want }

@@ -1,0 +1,308 @@
+package web
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"net/http"
+	"net/url"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/components"
+	"capbank/sizing"
+	"capbank/web/share"
+	"capbank/web/store"
+)
+
+// Compare limits: fewer than two is no comparison, more than eight no
+// longer fits a page side by side.
+const (
+	minCompare = 2
+	maxCompare = 8
+)
+
+// getCompare is GET /compare: the cells (cell=ID, 2 to 8) side by side for
+// the design a share token d carries (the example design without one);
+// without cell parameters, the design's own cells.
+func (s *Server) getCompare(c echo.Context) error {
+	q := c.QueryParams()
+	ctx := c.Request().Context()
+	var d *sizing.Design
+	token := q.Get("d")
+	if token != "" {
+		data, err := share.Decode(token)
+		if err != nil {
+			return &tokenError{err}
+		}
+		d, err = sizing.DecodeDesign(bytes.NewReader(data))
+		if err != nil {
+			return &tokenError{fmt.Errorf("the link's design does not read: %s", oneLine(err))}
+		}
+		d.ResolveCells(s.lookup(c))
+	} else {
+		d = exampleForm().decode(s.lookup(c)).design
+	}
+
+	p := components.CompareProps{
+		Shell:  s.shell("Compare cells", "Candidate cells side by side for one design", "compare"),
+		Design: d.Name, Token: token, MessageID: "msg-cell",
+		DesignHref: "/",
+	}
+	if p.Design == "" {
+		p.Design = "the unnamed design"
+	}
+	if token != "" {
+		p.DesignHref = "/?d=" + url.QueryEscape(token)
+	}
+	status := http.StatusOK
+	var cells []sizing.Cell
+	ids := q["cell"]
+	if len(ids) == 0 {
+		for _, cell := range d.Cells {
+			if !cell.IsReference() {
+				cells = append(cells, cell)
+			}
+		}
+		if len(cells) > maxCompare {
+			cells = cells[:maxCompare]
+			p.Message = fmt.Sprintf("The design has %d cells; the first %d are compared. Pick the ones you want below.", len(d.Cells), maxCompare)
+		}
+	} else {
+		seen := map[string]bool{}
+		var unknown []string
+		for _, id := range ids {
+			if seen[id] {
+				continue
+			}
+			seen[id] = true
+			rec, err := s.libraryCell(ctx, id)
+			if err != nil {
+				unknown = append(unknown, id)
+				continue
+			}
+			cells = append(cells, rec.Cell)
+		}
+		if len(unknown) > 0 {
+			p.Message = fmt.Sprintf("Not in the library: %s.", strings.Join(unknown, ", "))
+			status = http.StatusUnprocessableEntity
+			cells = nil
+		}
+	}
+	switch {
+	case p.Message != "" && cells == nil:
+	case len(cells) < minCompare:
+		p.Message = fmt.Sprintf("Pick at least %d cells to compare (%d picked).", minCompare, len(cells))
+		if len(ids) > 0 {
+			status = http.StatusUnprocessableEntity
+		}
+		cells = nil
+	case len(cells) > maxCompare:
+		p.Message = fmt.Sprintf("Pick at most %d cells to compare (%d picked): more do not fit side by side.", maxCompare, len(cells))
+		status = http.StatusUnprocessableEntity
+		cells = nil
+	}
+
+	picked := map[string]bool{}
+	for _, cell := range cells {
+		picked[cell.ID] = true
+	}
+	recs, err := s.libraryCells(ctx, store.CellFilter{})
+	if err != nil {
+		return err
+	}
+	for _, r := range recs {
+		p.Picks = append(p.Picks, cellPick(r.Cell, picked[r.Cell.ID]))
+	}
+
+	if cells != nil {
+		dd := *d
+		dd.Cells = cells
+		rep, err := sizing.Size(&dd)
+		if err != nil {
+			p.Message = "The design could not be sized with these cells: " + oneLine(err)
+			status = http.StatusUnprocessableEntity
+		} else {
+			p.Summary = designSummary(rep, len(dd.Load.Steps))
+			fillCompare(&p, &dd, rep)
+		}
+	}
+	return s.render(c, status, components.ComparePage(p))
+}
+
+// fillCompare lays out the report's candidates side by side.
+func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report) {
+	byID := map[string]*sizing.Candidate{}
+	for i := range r.Candidates {
+		byID[r.Candidates[i].CellID] = &r.Candidates[i]
+	}
+	cands := make([]*sizing.Candidate, len(d.Cells))
+	for i, cell := range d.Cells {
+		cands[i] = byID[cell.ID]
+		col := components.CompareColumn{ID: cell.ID, Name: cell.Name, Href: libraryPath(cell.ID)}
+		if cands[i] != nil {
+			col.Feasible, col.Reason = cands[i].Feasible, cands[i].Reason
+		}
+		p.Columns = append(p.Columns, col)
+	}
+	feasible := func(i int) bool { return cands[i] != nil && cands[i].Feasible }
+
+	// bankRow is a figure of the feasible banks; an infeasible one reads
+	// "not feasible" in the first bank row and "—" in the others.
+	bankRow := func(label, better string, val func(*sizing.Candidate) (float64, bool), text func(float64) string) components.CompareFigureRow {
+		vals := make([]*float64, len(cands))
+		texts := make([]string, len(cands))
+		for i, cd := range cands {
+			texts[i] = "—"
+			if !feasible(i) {
+				continue
+			}
+			if v, ok := val(cd); ok {
+				vals[i] = &v
+				texts[i] = text(v)
+			}
+		}
+		return figureRow(label, better, vals, texts)
+	}
+	cellRow := func(label, better string, val func(sizing.Cell) *float64, text func(float64) string, none string) components.CompareFigureRow {
+		vals := make([]*float64, len(d.Cells))
+		texts := make([]string, len(d.Cells))
+		for i, cell := range d.Cells {
+			texts[i] = none
+			if v := val(cell); v != nil {
+				vals[i] = v
+				texts[i] = text(*v)
+			}
+		}
+		return figureRow(label, better, vals, texts)
+	}
+	ptr := func(v *float64) (float64, bool) {
+		if v == nil {
+			return 0, false
+		}
+		return *v, true
+	}
+	q := func(unit string, sig int) func(float64) string {
+		return func(v float64) string { return components.Quantity(v, unit, sig) }
+	}
+	num := func(unit string) func(float64) string {
+		return func(v float64) string { return components.Number(v, 3) + "\u00a0" + unit }
+	}
+
+	bankRows := []components.CompareFigureRow{
+		func() components.CompareFigureRow {
+			row := components.CompareFigureRow{Label: "Bank (series × strings)"}
+			for i, cd := range cands {
+				t := "not feasible"
+				if feasible(i) {
+					t = components.BankText(*cd)
+				} else if cd != nil && cd.Reason != "" {
+					t = "not feasible: " + cd.Reason
+				}
+				row.Cells = append(row.Cells, components.CompareFigure{Text: t})
+			}
+			return row
+		}(),
+		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, func(v float64) string { return components.Number(v, 6) }),
+		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, massText),
+		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
+		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, components.Money),
+		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, components.Duration),
+		bankRow("Usable energy at end of life", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
+		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, components.Money),
+		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
+		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
+			if c.Thermal == nil {
+				return 0, false
+			}
+			return c.Thermal.PeakRiseK, true
+		}, components.Kelvin),
+		bankRow("Lowest terminal voltage", "higher", func(c *sizing.Candidate) (float64, bool) { return c.MinTerminalV, true }, q("V", 4)),
+		bankRow("Expected life", "longer", func(c *sizing.Candidate) (float64, bool) {
+			if c.Life == nil {
+				return 0, false
+			}
+			return c.Life.ExpectedYears, true
+		}, func(v float64) string { return components.Number(v, 3) + "\u00a0years" }),
+	}
+	flags := components.CompareFigureRow{Label: "Findings"}
+	for _, cd := range cands {
+		t := "—"
+		if cd != nil {
+			t = components.FlagCounts(cd.Flags)
+		}
+		flags.Cells = append(flags.Cells, components.CompareFigure{Text: t})
+	}
+	bankRows = append(bankRows, flags)
+
+	merits := make(map[string]sizing.CellMerit, len(d.Cells))
+	for _, cell := range d.Cells {
+		merits[cell.ID] = sizing.Merit(cell)
+	}
+	m := func(f func(sizing.CellMerit) *float64) func(sizing.Cell) *float64 {
+		return func(c sizing.Cell) *float64 { return f(merits[c.ID]) }
+	}
+	val := func(v float64) *float64 { return &v }
+	cellRows := []components.CompareFigureRow{
+		cellRow("Rated voltage", "", func(c sizing.Cell) *float64 { return val(c.RatedV) }, q("V", 3), "—"),
+		cellRow("Capacitance", "", func(c sizing.Cell) *float64 { return val(c.CapacitanceF) }, q("F", 4), "—"),
+		cellRow("ESR (DC)", "lower", func(c sizing.Cell) *float64 { return val(c.ESROhm) }, q("Ω", 3), "—"),
+		cellRow("Energy per mass", "higher", m(func(x sizing.CellMerit) *float64 { return x.EnergyWhPerKg }), num("Wh/kg"), "no mass given"),
+		cellRow("Energy per volume", "higher", m(func(x sizing.CellMerit) *float64 { return x.EnergyWhPerL }), num("Wh/L"), "no volume given"),
+		cellRow("Matched-load power per mass V²/(4·ESR·m)", "higher", m(func(x sizing.CellMerit) *float64 { return x.MatchedPowerWPerKg }), num("W/kg"), "no mass given"),
+		cellRow("Time constant ESR·C", "", m(func(x sizing.CellMerit) *float64 { return val(x.TimeConstantS) }), q("s", 3), "—"),
+		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), components.Money, "no price given"),
+	}
+	p.Groups = []components.CompareGroup{
+		{Title: "The bank for this design", Rows: bankRows},
+		{Title: "The cell on its own (rated figures)", Rows: cellRows},
+	}
+
+	var pts []components.ScatterPoint
+	for i, cd := range cands {
+		if !feasible(i) {
+			continue
+		}
+		x := sizing.BankMatchedPowerW(cd, d.Window.MaxV)
+		y := cd.UsableEnergyJ / 3600
+		if x > 0 && y > 0 && !math.IsInf(x, 0) {
+			pts = append(pts, components.ScatterPoint{Label: cd.CellID, X: x, Y: y})
+		}
+	}
+	p.Chart = components.LogLogChart("energy-power", "Usable energy against power capability, each feasible bank",
+		"Log-log chart: usable energy at end of life (Wh) against the bank's matched-load power at the window top, max_v²/(4·ESR) at worst-case ESR (W).",
+		"Matched-load power of the bank (log scale)", "Usable energy (log scale)", pts, "W", "Wh")
+}
+
+// figureRow builds a row and marks its best value: the lowest or the
+// highest of those given, by better ("lower", "fewer", "higher",
+// "longer"; "" marks none). Ties are all marked; a row with one value
+// marks none, since there is nothing to beat.
+func figureRow(label, better string, vals []*float64, texts []string) components.CompareFigureRow {
+	row := components.CompareFigureRow{Label: label, Better: better}
+	best := math.NaN()
+	n := 0
+	for _, v := range vals {
+		if v == nil {
+			continue
+		}
+		n++
+		switch {
+		case math.IsNaN(best):
+			best = *v
+		case (better == "lower" || better == "fewer") && *v < best:
+			best = *v
+		case (better == "higher" || better == "longer") && *v > best:
+			best = *v
+		}
+	}
+	for i, t := range texts {
+		cell := components.CompareFigure{Text: t}
+		if better != "" && n > 1 && vals[i] != nil && *vals[i] == best {
+			cell.Best = true
+		}
+		row.Cells = append(row.Cells, cell)
+	}
+	return row
+}

@@ -1,0 +1,504 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"mime"
+	"net/http"
+	"net/url"
+	"strconv"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"capbank/components"
+	"capbank/sizing"
+	"capbank/web/share"
+	"capbank/web/store"
+)
+
+// openSharedDesign is GET /?d=TOKEN: the design a share link carries,
+// opened in the form and sized, with no database row behind it.
+func (s *Server) openSharedDesign(c echo.Context, token string) error {
+	data, err := share.Decode(token)
+	if err != nil {
+		return &tokenError{err}
+	}
+	f, err := s.formFromJSON(c, data)
+	if err != nil {
+		return err
+	}
+	f.notice = "Opened from a share link: the link carries the whole design. Save it to keep it here."
+	return s.renderPage(c, http.StatusOK, evaluate(f, s.lookup(c)))
+}
+
+// formFromJSON decodes a design file into the form that shows it.
+func (s *Server) formFromJSON(c echo.Context, data []byte) (*designForm, error) {
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		var ve sizing.ValidationError
+		if errors.As(err, &ve) {
+			return nil, &malformedError{errs: ve}
+		}
+		return nil, err
+	}
+	f, err := formFromDesign(d, s.lookup(c))
+	if err != nil {
+		return nil, &formShowError{msg: err.Error()}
+	}
+	return f, nil
+}
+
+// formShowError is a design the form cannot show without losing part of
+// it; the design file itself is fine for capbank size and the API.
+type formShowError struct{ msg string }
+
+func (e *formShowError) Error() string { return e.msg }
+
+// savedID reads a saved design's id from the address.
+func savedID(c echo.Context) (int64, error) {
+	id, err := strconv.ParseInt(c.Param("id"), 10, 64)
+	if err != nil || id <= 0 {
+		return 0, fmt.Errorf("saved design %q: %w", c.Param("id"), store.ErrNotFound)
+	}
+	return id, nil
+}
+
+// designsPath is a saved design's address.
+func designsPath(id int64) string { return "/designs/" + strconv.FormatInt(id, 10) }
+
+// getDesigns is GET /designs: the saved designs, newest change first.
+func (s *Server) getDesigns(c echo.Context) error {
+	return s.renderDesigns(c, http.StatusOK, designsNotice(c.QueryParam("done"), c.QueryParam("name")), "", "")
+}
+
+func designsNotice(done, name string) string {
+	switch done {
+	case "renamed":
+		return fmt.Sprintf("Renamed to “%s”.", name)
+	case "duplicated":
+		return fmt.Sprintf("Duplicated as “%s”.", name)
+	case "deleted":
+		return fmt.Sprintf("Deleted “%s”.", name)
+	}
+	return ""
+}
+
+// renderDesigns writes the saved designs page; problemID and problem put
+// a message beside one design's rename field.
+func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, problem string) error {
+	p := components.DesignsProps{
+		Shell:  s.shell("Saved designs", "Designs kept in this capbank's database", "designs"),
+		Notice: notice, Writable: s.store != nil,
+	}
+	if s.store != nil {
+		recs, err := s.store.ListDesigns(c.Request().Context())
+		if err != nil {
+			return err
+		}
+		for _, r := range recs {
+			path := designsPath(r.ID)
+			row := components.SavedDesignProps{
+				ID: strconv.FormatInt(r.ID, 10), Name: r.Name, Href: path,
+				Updated: r.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"), Created: r.CreatedAt.UTC().Format("2006-01-02 15:04 UTC"),
+				RenameAction: path + "/rename", DuplicateAction: path + "/duplicate", DeleteAction: path + "/delete",
+				FileHref: "/api/v1/designs/" + strconv.FormatInt(r.ID, 10) + "/file",
+			}
+			if row.ID == problemID {
+				row.RenameMessage = problem
+			}
+			p.Designs = append(p.Designs, row)
+		}
+	}
+	return s.render(c, status, components.DesignsPage(p))
+}
+
+// postSaveDesign is POST /designs: save the design the page's results are
+// of (share token d) under name, as a new saved design; "save as new"
+// never overwrites.
+func (s *Server) postSaveDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	data, d, err := s.postedDesign(c)
+	if err != nil {
+		return err
+	}
+	name := strings.TrimSpace(c.FormValue("name"))
+	if name == "" {
+		name = d.Name
+	}
+	if name == "" {
+		name = "Untitled design"
+	}
+	id, err := s.store.SaveDesign(c.Request().Context(), name, data)
+	if err != nil {
+		return err
+	}
+	return c.Redirect(http.StatusSeeOther, designsPath(id)+"?done=saved")
+}
+
+// postedDesign reads the design file a form carries in its share token d.
+func (s *Server) postedDesign(c echo.Context) ([]byte, *sizing.Design, error) {
+	tok := c.FormValue("d")
+	if tok == "" {
+		if err := formParseError(c.Request()); err != nil {
+			return nil, nil, err
+		}
+	}
+	data, err := share.Decode(tok)
+	if err != nil {
+		return nil, nil, &tokenError{err}
+	}
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		var ve sizing.ValidationError
+		if errors.As(err, &ve) {
+			return nil, nil, &malformedError{errs: ve}
+		}
+		return nil, nil, err
+	}
+	return data, d, nil
+}
+
+// getSavedDesign is GET /designs/{id}: the saved design opened in the
+// design page, which then offers to save over it.
+func (s *Server) getSavedDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	f, err := s.formFromJSON(c, rec.JSON)
+	if err != nil {
+		var fse *formShowError
+		if errors.As(err, &fse) {
+			return s.render(c, http.StatusUnprocessableEntity, components.ErrorPage(s.css, "This design does not fit the form",
+				fmt.Sprintf("“%s” is kept, but the page cannot show it without losing part of it: %s. Download its file from %s and size it with capbank size.",
+					rec.Name, fse.msg, "/api/v1/designs/"+strconv.FormatInt(id, 10)+"/file"), http.StatusUnprocessableEntity))
+		}
+		return err
+	}
+	f.vals.Set("saved_id", strconv.FormatInt(id, 10))
+	f.vals.Set("saved_name", rec.Name)
+	switch c.QueryParam("done") {
+	case "saved":
+		f.notice = fmt.Sprintf("Saved as “%s”.", rec.Name)
+	case "replaced":
+		f.notice = fmt.Sprintf("Saved over “%s”.", rec.Name)
+	default:
+		f.notice = fmt.Sprintf("Opened “%s”, last saved %s.", rec.Name, rec.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"))
+	}
+	return s.renderPage(c, http.StatusOK, evaluate(f, s.lookup(c)))
+}
+
+// postReplaceDesign is POST /designs/{id}: save the page's design over
+// saved design id (the page's "Save" when a saved design is open).
+func (s *Server) postReplaceDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	data, _, err := s.postedDesign(c)
+	if err != nil {
+		return err
+	}
+	if err := s.store.UpdateDesign(c.Request().Context(), id, data); err != nil {
+		return err
+	}
+	return c.Redirect(http.StatusSeeOther, designsPath(id)+"?done=replaced")
+}
+
+// postRenameDesign is POST /designs/{id}/rename.
+func (s *Server) postRenameDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	name := strings.TrimSpace(c.FormValue("name"))
+	if err := s.store.RenameDesign(c.Request().Context(), id, name); err != nil {
+		if errors.Is(err, store.ErrInvalid) {
+			return s.renderDesigns(c, http.StatusUnprocessableEntity, "", strconv.FormatInt(id, 10),
+				strings.TrimPrefix(err.Error(), store.ErrInvalid.Error()+": "))
+		}
+		return err
+	}
+	return c.Redirect(http.StatusSeeOther, "/designs?done=renamed&name="+url.QueryEscape(name))
+}
+
+// postDuplicateDesign is POST /designs/{id}/duplicate: a copy named
+// "… (copy)".
+func (s *Server) postDuplicateDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	name := copyName(rec.Name)
+	if _, err := s.store.DuplicateDesign(c.Request().Context(), id, name); err != nil {
+		return err
+	}
+	return c.Redirect(http.StatusSeeOther, "/designs?done=duplicated&name="+url.QueryEscape(name))
+}
+
+// copyName is a duplicate's name, within the 200 characters a name has.
+func copyName(name string) string {
+	const suffix = " (copy)"
+	if r := []rune(name); len(r)+len(suffix) > 200 {
+		name = string(r[:200-len(suffix)])
+	}
+	return name + suffix
+}
+
+// postDeleteDesign is POST /designs/{id}/delete.
+func (s *Server) postDeleteDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+		return err
+	}
+	return c.Redirect(http.StatusSeeOther, "/designs?done=deleted&name="+url.QueryEscape(rec.Name))
+}
+
+// savedDesign is a saved design as the API gives it: its bookkeeping and,
+// for one design, the design file.
+type savedDesign struct {
+	store.DesignRecord
+	Design json.RawMessage `json:"design,omitempty"`
+}
+
+// designList is the answer of GET /api/v1/designs.
+type designList struct {
+	Count   int                  `json:"count"`
+	Designs []store.DesignRecord `json:"designs"`
+}
+
+func (s *Server) apiListDesigns(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	recs, err := s.store.ListDesigns(c.Request().Context())
+	if err != nil {
+		return err
+	}
+	if recs == nil {
+		recs = []store.DesignRecord{}
+	}
+	return c.JSON(http.StatusOK, designList{Count: len(recs), Designs: recs})
+}
+
+// designBody is the body of POST and PUT /api/v1/designs.
+type designBody struct {
+	Name   string          `json:"name"`
+	Design json.RawMessage `json:"design"`
+}
+
+// readDesignBody reads {"name": …, "design": {…}}. The design must decode
+// and validate; library references ("cells": ["id"]) are written out in
+// full, so that the saved design does not change when the library does.
+// A design without references is kept byte for byte as sent.
+func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, error) {
+	var b designBody
+	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
+		return b, &mediaTypeError{want: "application/json"}
+	}
+	data, err := io.ReadAll(c.Request().Body)
+	if err != nil {
+		var mbe *http.MaxBytesError
+		if errors.As(err, &mbe) {
+			return b, err
+		}
+		return b, &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole body"}}}
+	}
+	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&b); err != nil {
+		return b, &malformedError{errs: sizing.ValidationError{{Field: "body", Rule: "decode",
+			Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…", "design": {…the design file…}}`}}}
+	}
+	if needName && strings.TrimSpace(b.Name) == "" {
+		return b, &queryError{errs: sizing.ValidationError{{Field: "name", Rule: "required", Message: "is needed: a saved design has a name"}}}
+	}
+	if len(b.Design) == 0 {
+		return b, &queryError{errs: sizing.ValidationError{{Field: "design", Rule: "required", Message: "is needed: the design file, as capbank size reads it"}}}
+	}
+	d, err := sizing.DecodeDesign(bytes.NewReader(b.Design))
+	if err != nil {
+		var ve sizing.ValidationError
+		if errors.As(err, &ve) {
+			return b, &malformedError{errs: prefixed("design.", ve)}
+		}
+		return b, err
+	}
+	refs := false
+	for i := range d.Cells {
+		refs = refs || d.Cells[i].IsReference()
+	}
+	if refs {
+		d.ResolveCells(s.lookup(c))
+	}
+	if err := sizing.Validate(d); err != nil {
+		return b, prefixed("design.", validationErrors(err))
+	}
+	if refs {
+		if b.Design, err = json.Marshal(d); err != nil {
+			return b, err
+		}
+	}
+	return b, nil
+}
+
+func prefixed(p string, ve sizing.ValidationError) sizing.ValidationError {
+	out := make(sizing.ValidationError, len(ve))
+	for i, e := range ve {
+		e.Field = p + e.Field
+		out[i] = e
+	}
+	return out
+}
+
+// apiSaveDesign is POST /api/v1/designs: 201 with the new id.
+func (s *Server) apiSaveDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	b, err := s.readDesignBody(c, true)
+	if err != nil {
+		return err
+	}
+	id, err := s.store.SaveDesign(c.Request().Context(), b.Name, b.Design)
+	if err != nil {
+		return err
+	}
+	return s.answerDesign(c, http.StatusCreated, id)
+}
+
+func (s *Server) answerDesign(c echo.Context, status int, id int64) error {
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set(echo.HeaderLocation, "/api/v1/designs/"+strconv.FormatInt(id, 10))
+	return c.JSON(status, savedDesign{DesignRecord: rec, Design: rec.JSON})
+}
+
+// apiGetDesign is GET /api/v1/designs/{id}: the record with its design.
+// GET /api/v1/designs/{id}/file gives the design file itself, byte for
+// byte as saved.
+func (s *Server) apiGetDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	return s.answerDesign(c, http.StatusOK, id)
+}
+
+func (s *Server) apiDesignFile(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set(echo.HeaderContentDisposition, `attachment; filename="`+fileWord(rec.Name)+`.json"`)
+	return c.Blob(http.StatusOK, echo.MIMEApplicationJSON, rec.JSON)
+}
+
+// apiReplaceDesign is PUT /api/v1/designs/{id}: a new design file (and,
+// if given, a new name) for a saved design.
+func (s *Server) apiReplaceDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	b, err := s.readDesignBody(c, false)
+	if err != nil {
+		return err
+	}
+	if err := s.store.ReplaceDesign(c.Request().Context(), id, b.Name, b.Design); err != nil {
+		return err
+	}
+	return s.answerDesign(c, http.StatusOK, id)
+}
+
+// apiRenameDesign is PATCH /api/v1/designs/{id} with {"name": …}.
+func (s *Server) apiRenameDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	var b struct {
+		Name string `json:"name"`
+	}
+	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
+		return &mediaTypeError{want: "application/json"}
+	}
+	dec := json.NewDecoder(c.Request().Body)
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&b); err != nil {
+		return &malformedError{errs: sizing.ValidationError{{Field: "body", Rule: "decode", Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…"}`}}}
+	}
+	if err := s.store.RenameDesign(c.Request().Context(), id, b.Name); err != nil {
+		return err
+	}
+	return s.answerDesign(c, http.StatusOK, id)
+}
+
+// apiDeleteDesign is DELETE /api/v1/designs/{id}: 204.
+func (s *Server) apiDeleteDesign(c echo.Context) error {
+	if s.store == nil {
+		return errNoStore
+	}
+	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+		return err
+	}
+	return c.NoContent(http.StatusNoContent)
+}

@@ -1,0 +1,541 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/http"
+	"net/http/httptest"
+	"net/url"
+	"strings"
+	"testing"
+
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/sizing"
+	"capbank/web/democells"
+	"capbank/web/share"
+	"capbank/web/store"
+)
+
+// do sends a request with an optional body of the given type.
+func do(t testing.TB, s http.Handler, method, target, ctype, body string) *httptest.ResponseRecorder {
+	t.Helper()
+	req := httptest.NewRequest(method, target, strings.NewReader(body))
+	if ctype != "" {
+		req.Header.Set("Content-Type", ctype)
+	}
+	return serve(s, req)
+}
+
+func decodeJSON(t testing.TB, rec *httptest.ResponseRecorder, v any) {
+	t.Helper()
+	if err := json.Unmarshal(rec.Body.Bytes(), v); err != nil {
+		t.Fatalf("not JSON (%v): %s", err, rec.Body)
+	}
+}
+
+// userCellJSON is an invented cell (demo data for the test, no product).
+const userCellJSON = `{"id":"bench-2v7-80f","name":"Bench sample 80 F (invented)","source":"measured","rated_v":2.7,"capacitance_f":80,"esr_ohm":0.011,"leakage_a":0.0002,"mass_kg":0.018,"volume_l":0.014,"unit_price":2.2}`
+
+func TestCellsAPILifecycle(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+
+	var list cellList
+	rec := do(t, s, http.MethodGet, "/api/v1/cells", "", "")
+	wantStatus(t, rec, http.StatusOK)
+	decodeJSON(t, rec, &list)
+	if list.Count != len(democells.All()) || len(list.Cells) != list.Count {
+		t.Fatalf("a fresh library lists %d cells, want the %d demo cells", list.Count, len(democells.All()))
+	}
+	for _, c := range list.Cells {
+		if !c.ReadOnly || c.Cell.Source != "demo" {
+			t.Errorf("demo cell %s: read_only %v, source %q", c.Cell.ID, c.ReadOnly, c.Cell.Source)
+		}
+	}
+
+	rec = do(t, s, http.MethodPost, "/api/v1/cells", "application/json", userCellJSON)
+	wantStatus(t, rec, http.StatusCreated)
+	if loc := rec.Header().Get("Location"); loc != "/api/v1/cells/bench-2v7-80f" {
+		t.Errorf("Location %q", loc)
+	}
+	var got store.CellRecord
+	decodeJSON(t, rec, &got)
+	if got.ReadOnly || got.Cell.CapacitanceF != 80 || got.Cell.ESROhm != 0.011 {
+		t.Errorf("created %+v", got)
+	}
+
+	// The same id again is a conflict; a demo cell cannot be changed.
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", userCellJSON), http.StatusConflict, "")
+	demo := strings.Replace(userCellJSON, "bench-2v7-80f", "demo-2v7-650f", 1)
+	wantProblem(t, do(t, s, http.MethodPut, "/api/v1/cells/demo-2v7-650f", "application/json", demo), http.StatusConflict, "")
+	wantProblem(t, do(t, s, http.MethodDelete, "/api/v1/cells/demo-2v7-650f", "", ""), http.StatusConflict, "")
+
+	// An invalid cell names its field; a key that is no cell key is a 400;
+	// another body type is a 415; an id that differs from the address, 422.
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", strings.Replace(userCellJSON, `"esr_ohm":0.011`, `"esr_ohm":-1`, 1)), http.StatusUnprocessableEntity, "esr_ohm")
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", strings.Replace(userCellJSON, `"esr_ohm"`, `"esr"`, 1)), http.StatusBadRequest, "cell")
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "text/plain", userCellJSON), http.StatusUnsupportedMediaType, "")
+	wantProblem(t, do(t, s, http.MethodPut, "/api/v1/cells/other", "application/json", userCellJSON), http.StatusUnprocessableEntity, "id")
+
+	rec = do(t, s, http.MethodPut, "/api/v1/cells/bench-2v7-80f", "application/json", strings.Replace(userCellJSON, `"capacitance_f":80`, `"capacitance_f":76.5`, 1))
+	wantStatus(t, rec, http.StatusOK)
+	rec = do(t, s, http.MethodGet, "/api/v1/cells/bench-2v7-80f", "", "")
+	wantStatus(t, rec, http.StatusOK)
+	decodeJSON(t, rec, &got)
+	if got.Cell.CapacitanceF != 76.5 {
+		t.Errorf("after PUT the capacitance is %g F, want 76.5", got.Cell.CapacitanceF)
+	}
+
+	// Filters: rated voltage from 2.9 V keeps the 3.0 V and 3.8 V demo cells.
+	rec = do(t, s, http.MethodGet, "/api/v1/cells?min_v=2.9", "", "")
+	wantStatus(t, rec, http.StatusOK)
+	decodeJSON(t, rec, &list)
+	want := 0
+	for _, c := range democells.All() {
+		if c.RatedV >= 2.9 {
+			want++
+		}
+	}
+	if list.Count != want || want == 0 {
+		t.Errorf("min_v=2.9 lists %d cells, want %d", list.Count, want)
+	}
+	rec = do(t, s, http.MethodGet, "/api/v1/cells?min_f=50&max_f=100&q=bench", "", "")
+	decodeJSON(t, rec, &list)
+	if list.Count != 1 || list.Cells[0].Cell.ID != "bench-2v7-80f" {
+		t.Errorf("min_f=50&max_f=100&q=bench lists %+v", list.Cells)
+	}
+	wantProblem(t, do(t, s, http.MethodGet, "/api/v1/cells?min_v=abc", "", ""), http.StatusUnprocessableEntity, "min_v")
+
+	rec = do(t, s, http.MethodDelete, "/api/v1/cells/bench-2v7-80f", "", "")
+	wantStatus(t, rec, http.StatusNoContent)
+	wantProblem(t, do(t, s, http.MethodGet, "/api/v1/cells/bench-2v7-80f", "", ""), http.StatusNotFound, "")
+}
+
+// wantProblem checks a problem document's status and, when field is not
+// "", that one of its errors names the field.
+func wantProblem(t testing.TB, rec *httptest.ResponseRecorder, status int, field string) problem {
+	t.Helper()
+	wantStatus(t, rec, status)
+	p := readProblem(t, rec)
+	if p.Status != status || p.Title == "" || p.Detail == "" {
+		t.Errorf("problem %+v", p)
+	}
+	if field != "" {
+		found := false
+		for _, e := range p.Errors {
+			found = found || e.Field == field
+		}
+		if !found {
+			t.Errorf("problem names %+v, want the field %q", p.Errors, field)
+		}
+	}
+	return p
+}
+
+func TestCellsImportAPI(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	count := func() int {
+		var l cellList
+		decodeJSON(t, do(t, s, http.MethodGet, "/api/v1/cells", "", ""), &l)
+		return l.Count
+	}
+	before := count()
+	good := "id,rated_v,capacitance_f,esr_ohm,mass_kg\r\nlab-a,2.7,10,0.03,0.006\r\n\"lab-b\",2.7,\"25\",0.02,0.01\r\n"
+	bad := good + "lab-c,2.7,abc,0.02,0.01\r\n"
+
+	var rep store.ImportReport
+	rec := do(t, s, http.MethodPost, "/api/v1/cells/import", "text/csv", bad)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	decodeJSON(t, rec, &rep)
+	if rep.Imported || rep.Accepted != 2 || rep.Rejected != 1 || rep.Rows[2].Line != 4 || !strings.Contains(rep.Rows[2].Reason, "capacitance_f") {
+		t.Errorf("report of a file with a bad row: %+v", rep)
+	}
+	if n := count(); n != before {
+		t.Fatalf("a rejected import changed the library: %d cells, was %d", n, before)
+	}
+
+	rec = do(t, s, http.MethodPost, "/api/v1/cells/import", "text/csv; charset=utf-8", "\ufeff"+good)
+	wantStatus(t, rec, http.StatusOK)
+	decodeJSON(t, rec, &rep)
+	if !rep.Imported || rep.Accepted != 2 {
+		t.Errorf("report %+v", rep)
+	}
+	if n := count(); n != before+2 {
+		t.Errorf("after importing 2 cells the library holds %d, want %d", n, before+2)
+	}
+
+	rec = do(t, s, http.MethodPost, "/api/v1/cells/import", "application/json", `[`+strings.Replace(userCellJSON, "bench-2v7-80f", "lab-j", 1)+`]`)
+	wantStatus(t, rec, http.StatusOK)
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells/import", "application/xml", "<cells/>"), http.StatusUnsupportedMediaType, "")
+}
+
+// The library pages add, show, duplicate, edit and delete a cell without
+// JavaScript, each problem beside its field.
+func TestLibraryPages(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	rec := get(t, s, "/library")
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if n := doc.Find(`[data-testid=library-row]`).Length(); n != len(democells.All()) {
+		t.Errorf("library lists %d rows, want %d", n, len(democells.All()))
+	}
+
+	form := url.Values{"id": {"my-cell"}, "name": {"My cell"}, "rated_v": {"2.7"}, "capacitance_f": {"100"}, "esr_ohm": {"12m"}, "mass_kg": {"21m"}}
+	bad := url.Values{}
+	for k, v := range form {
+		bad[k] = v
+	}
+	bad.Set("esr_ohm", "twelve")
+	rec = postForm(t, s, "/library", bad, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if msg := text(parse(t, rec), "#msg-esr_ohm"); msg == "" {
+		t.Errorf("no message beside the ESR field: %s", rec.Body)
+	}
+
+	rec = postForm(t, s, "/library", form, false)
+	wantStatus(t, rec, http.StatusSeeOther)
+	if loc := rec.Header().Get("Location"); loc != "/library/my-cell?done=created" {
+		t.Fatalf("Location %q", loc)
+	}
+	doc = parse(t, get(t, s, "/library/my-cell"))
+	if v, _ := doc.Find(`#f-esr_ohm`).Attr("value"); v != "12m" && v != "0.012" {
+		t.Errorf("the ESR field reads %q, want 12 mΩ", v)
+	}
+	// The figures of merit: 2.7 V, 100 F, 21 g gives ½·100·2.7²/3600/0.021
+	// = 4.821 Wh/kg (E = ½CV², from memory, any physics text).
+	if merit := text(doc, "[data-testid=cell-merit]"); !strings.Contains(merit, "4.821 Wh/kg") {
+		t.Errorf("figures of merit %q lack 4.821 Wh/kg", merit)
+	}
+
+	rec = postForm(t, s, "/library", form, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if msg := text(parse(t, rec), "#msg-id"); !strings.Contains(msg, "already in the library") {
+		t.Errorf("a taken id says %q", msg)
+	}
+
+	edit := url.Values{}
+	for k, v := range form {
+		edit[k] = v
+	}
+	edit.Set("capacitance_f", "110")
+	wantStatus(t, postForm(t, s, "/library/my-cell", edit, false), http.StatusSeeOther)
+	if v, _ := parse(t, get(t, s, "/library/my-cell")).Find(`#f-capacitance_f`).Attr("value"); v != "110" {
+		t.Errorf("after the edit the capacitance reads %q, want 110", v)
+	}
+
+	rec = postForm(t, s, "/library/demo-2v7-650f/duplicate", nil, false)
+	wantStatus(t, rec, http.StatusSeeOther)
+	if loc := rec.Header().Get("Location"); loc != "/library/demo-2v7-650f-copy?done=duplicated" {
+		t.Errorf("duplicate goes to %q", loc)
+	}
+	wantStatus(t, postForm(t, s, "/library/demo-2v7-650f", edit, false), http.StatusConflict)
+	wantStatus(t, postForm(t, s, "/library/demo-2v7-650f/delete", nil, false), http.StatusConflict)
+
+	wantStatus(t, postForm(t, s, "/library/my-cell/delete", nil, false), http.StatusSeeOther)
+	wantStatus(t, get(t, s, "/library/my-cell"), http.StatusNotFound)
+
+	// A bad filter names its field and still lists the library.
+	rec = get(t, s, "/library?min_f=lots")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if msg := text(parse(t, rec), "#msg-min_f"); msg == "" {
+		t.Error("no message beside the capacitance filter")
+	}
+	rec = get(t, s, "/library?min_f=1k")
+	doc = parse(t, rec)
+	doc.Find(`[data-testid=library-row]`).Each(func(_ int, r *goquery.Selection) {
+		id, _ := r.Attr("data-id")
+		if c, ok := democells.ByID(strings.TrimSuffix(id, "-copy")); !ok || c.CapacitanceF < 1000 {
+			t.Errorf("min_f=1k lists %s", id)
+		}
+	})
+}
+
+// A cell the user added is offered by the design page and sizes there.
+func TestUserCellSizesOnTheDesignPage(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	wantStatus(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", userCellJSON), http.StatusCreated)
+	if parse(t, get(t, s, "/")).Find(`#pick-bench-2v7-80f`).Length() != 1 {
+		t.Error("the design page does not offer the user's cell")
+	}
+	v := designValues()
+	v["cells.pick"] = []string{"bench-2v7-80f"}
+	rec := postForm(t, s, "/results", v, true)
+	wantStatus(t, rec, http.StatusOK)
+	if !strings.Contains(rec.Body.String(), "bench-2v7-80f") {
+		t.Error("the results do not size the user's cell")
+	}
+	// And the JSON API sizes a design naming it by id.
+	body := `{"window":{"max_v":48,"min_v":24},"load":{"steps":[{"power_w":1500,"duration_s":10}]},"cells":["bench-2v7-80f"]}`
+	rec = do(t, s, http.MethodPost, "/api/v1/size", "application/json", body)
+	wantStatus(t, rec, http.StatusOK)
+	var rep sizing.Report
+	decodeJSON(t, rec, &rep)
+	if len(rep.Candidates) != 1 || rep.Candidates[0].CellID != "bench-2v7-80f" {
+		t.Errorf("candidates %+v", rep.Candidates)
+	}
+}
+
+// The page saves the design it shows, lists it, opens it, saves over it,
+// renames, duplicates and deletes it.
+func TestSavedDesignPages(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	page := get(t, s, "/")
+	token := pageToken(t, page)
+	if parse(t, page).Find(`[data-testid=save-form]`).Length() != 1 {
+		t.Fatal("the results offer no save form")
+	}
+	rec := postForm(t, s, "/designs", url.Values{"d": {token}, "name": {"Cabinet hold-up"}}, false)
+	wantStatus(t, rec, http.StatusSeeOther)
+	loc := rec.Header().Get("Location")
+	if !strings.HasPrefix(loc, "/designs/") {
+		t.Fatalf("Location %q", loc)
+	}
+	// Save as new never overwrites: the same again is a second design.
+	wantStatus(t, postForm(t, s, "/designs", url.Values{"d": {token}, "name": {"Cabinet hold-up"}}, false), http.StatusSeeOther)
+	doc := parse(t, get(t, s, "/designs"))
+	if n := doc.Find(`[data-testid=saved-design]`).Length(); n != 2 {
+		t.Fatalf("%d saved designs listed, want 2", n)
+	}
+
+	opened := get(t, s, loc)
+	wantStatus(t, opened, http.StatusOK)
+	doc = parse(t, opened)
+	id := strings.TrimSuffix(strings.TrimPrefix(loc, "/designs/"), "?done=saved")
+	if v, _ := doc.Find(`input[name=saved_id]`).Attr("value"); v != id {
+		t.Errorf("the opened design carries saved_id %q, want %q", v, id)
+	}
+	if !strings.Contains(text(doc, "[data-testid=notice]"), "Cabinet hold-up") {
+		t.Errorf("notice %q", text(doc, "[data-testid=notice]"))
+	}
+	if doc.Find(`[data-testid=save-over]`).Length() != 1 {
+		t.Error("an opened design offers no save over it")
+	}
+	// It is the same design: the same share token comes back.
+	if got := pageToken(t, opened); got != token {
+		t.Error("the opened design's token differs from the saved one")
+	}
+
+	// Save over it with a changed design; the list still holds two.
+	v := designValues()
+	changed := postForm(t, s, "/", v, false)
+	wantStatus(t, postForm(t, s, "/designs/"+id, url.Values{"d": {pageToken(t, changed)}}, false), http.StatusSeeOther)
+	if v, _ := parse(t, get(t, s, "/designs/"+id)).Find(`[name="load.steps[0].value"]`).Attr("value"); v != "1500" {
+		t.Errorf("after saving over, step 1 reads %q, want 1500", v)
+	}
+
+	wantStatus(t, postForm(t, s, "/designs/"+id+"/rename", url.Values{"name": {"Renamed"}}, false), http.StatusSeeOther)
+	rec = postForm(t, s, "/designs/"+id+"/rename", url.Values{"name": {"  "}}, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if msg := text(parse(t, rec), "#rename-msg-"+id); !strings.Contains(msg, "name") {
+		t.Errorf("an empty name says %q", msg)
+	}
+	wantStatus(t, postForm(t, s, "/designs/"+id+"/duplicate", nil, false), http.StatusSeeOther)
+	doc = parse(t, get(t, s, "/designs"))
+	names := doc.Find(`[data-testid=saved-design] th a`).Map(func(_ int, s *goquery.Selection) string { return s.Text() })
+	if len(names) != 3 || !strings.Contains(strings.Join(names, "|"), "Renamed (copy)") {
+		t.Errorf("designs %q", names)
+	}
+	wantStatus(t, postForm(t, s, "/designs/"+id+"/delete", nil, false), http.StatusSeeOther)
+	wantStatus(t, get(t, s, "/designs/"+id), http.StatusNotFound)
+	wantStatus(t, get(t, s, "/designs/nope"), http.StatusNotFound)
+}
+
+// A share link opens the same design, sized the same, with no database row.
+func TestShareLinkRoundTrip(t *testing.T) {
+	t.Parallel()
+	a, _ := newTestServer(t)
+	b, _ := newTestServer(t) // "another capbank"
+	v := designValues()
+	v.Set("name", "Shared <b>design</b>")
+	page := postForm(t, a, "/", v, false)
+	wantStatus(t, page, http.StatusOK)
+	href, ok := parse(t, page).Find(`[data-testid=share-link]`).Attr("href")
+	if !ok || !strings.HasPrefix(href, "/?d=") {
+		t.Fatalf("share link %q", href)
+	}
+	opened := get(t, b, href)
+	wantStatus(t, opened, http.StatusOK)
+	doc := parse(t, opened)
+	for name, want := range map[string]string{"name": "Shared <b>design</b>", "window.max_v": "48", "window.min_v": "24", "load.steps[0].value": "1500"} {
+		if got, _ := doc.Find(`[name="` + name + `"]`).Attr("value"); got != want {
+			t.Errorf("%s reads %q, want %q", name, got, want)
+		}
+	}
+	if here, there := text(parse(t, page), "[data-testid=headline]"), text(doc, "[data-testid=headline]"); here == "" || here != there {
+		t.Errorf("headline %q, on the other capbank %q", here, there)
+	}
+	// The token decodes to the design file itself.
+	tok, _ := url.QueryUnescape(strings.TrimPrefix(href, "/?d="))
+	data, err := share.Decode(tok)
+	if err != nil || !bytes.Contains(data, []byte(`"max_v":48`)) {
+		t.Errorf("token decodes to %s (%v)", data, err)
+	}
+	rec := get(t, b, "/?d=not-a-design")
+	wantStatus(t, rec, http.StatusBadRequest)
+}
+
+func TestDesignsAPI(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	// A design with no library references is kept byte for byte.
+	design := `{"name": "API design",  "window": {"max_v": 48, "min_v": 24}, "load": {"steps": [{"power_w": 1500, "duration_s": 10}]}, "cells": [` + userCellJSON + `]}`
+	rec := do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"From the API","design":`+design+`}`)
+	wantStatus(t, rec, http.StatusCreated)
+	var sd struct {
+		ID     int64           `json:"id"`
+		Name   string          `json:"name"`
+		Design json.RawMessage `json:"design"`
+	}
+	decodeJSON(t, rec, &sd)
+	if sd.ID <= 0 || sd.Name != "From the API" {
+		t.Fatalf("saved %+v", sd)
+	}
+	rec = do(t, s, http.MethodGet, fmt.Sprintf("/api/v1/designs/%d/file", sd.ID), "", "")
+	wantStatus(t, rec, http.StatusOK)
+	if rec.Body.String() != design {
+		t.Errorf("design file\n%s\nwant byte for byte\n%s", rec.Body, design)
+	}
+
+	// Library references are written out in full.
+	refs := `{"window":{"max_v":48,"min_v":24},"load":{"steps":[{"power_w":1500,"duration_s":10}]},"cells":["demo-2v7-650f"]}`
+	rec = do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"Refs","design":`+refs+`}`)
+	wantStatus(t, rec, http.StatusCreated)
+	decodeJSON(t, rec, &sd)
+	d, err := sizing.DecodeDesign(bytes.NewReader(sd.Design))
+	if err != nil || len(d.Cells) != 1 || d.Cells[0].IsReference() || d.Cells[0].CapacitanceF != 650 {
+		t.Errorf("saved design %s (%v)", sd.Design, err)
+	}
+
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"design":`+refs+`}`), http.StatusUnprocessableEntity, "name")
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"x","design":`+strings.Replace(refs, `"min_v":24`, `"min_v":60`, 1)+`}`), http.StatusUnprocessableEntity, "design.window.min_v")
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"x","plan":{}}`), http.StatusBadRequest, "body")
+
+	rec = do(t, s, http.MethodPatch, fmt.Sprintf("/api/v1/designs/%d", sd.ID), "application/json", `{"name":"Renamed"}`)
+	wantStatus(t, rec, http.StatusOK)
+	var list designList
+	decodeJSON(t, do(t, s, http.MethodGet, "/api/v1/designs", "", ""), &list)
+	if list.Count != 2 || list.Designs[0].Name != "Renamed" {
+		t.Errorf("list %+v", list)
+	}
+	wantStatus(t, do(t, s, http.MethodDelete, fmt.Sprintf("/api/v1/designs/%d", sd.ID), "", ""), http.StatusNoContent)
+	wantProblem(t, do(t, s, http.MethodGet, fmt.Sprintf("/api/v1/designs/%d", sd.ID), "", ""), http.StatusNotFound, "")
+}
+
+// The comparison sizes each cell for the design and marks the best of
+// each row; its figures are those of the sizing engine and of
+// sizing.Merit, never its own.
+func TestCompare(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	ids := []string{"demo-2v7-650f", "demo-3v0-500f", "demo-2v7-3000f"}
+	rec := get(t, s, "/compare?cell="+strings.Join(ids, "&cell="))
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	cols := doc.Find(`[data-testid=compare-table] thead th a`).Map(func(_ int, s *goquery.Selection) string { return s.Text() })
+	if strings.Join(cols, ",") != strings.Join(ids, ",") {
+		t.Fatalf("columns %q, want %q", cols, ids)
+	}
+
+	// The same design sized directly: the example design with these cells.
+	d := exampleForm().decode(democells.ByID).design
+	d.Cells = nil
+	for _, id := range ids {
+		c, _ := democells.ByID(id)
+		d.Cells = append(d.Cells, c)
+	}
+	rep, err := sizing.Size(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fewest, fewestCol := math.MaxInt, -1
+	for i, id := range ids {
+		for _, c := range rep.Candidates {
+			if c.CellID == id && c.Feasible && c.Cells < fewest {
+				fewest, fewestCol = c.Cells, i
+			}
+		}
+	}
+	row := rowNamed(doc, "Cells")
+	if row == nil {
+		t.Fatal("no Cells row")
+	}
+	best := row.Find("td").Eq(fewestCol)
+	if _, ok := best.Attr("data-best"); !ok || !strings.Contains(best.Text(), fmt.Sprint(fewest)) {
+		t.Errorf("Cells row: column %d (%d cells) not marked best: %s", fewestCol, fewest, row.Text())
+	}
+	// Energy per mass of demo-3v0-500f from sizing.Merit.
+	c, _ := democells.ByID("demo-3v0-500f")
+	want := fmt.Sprintf("%.3g", *sizing.Merit(c).EnergyWhPerKg)
+	if got := rowNamed(doc, "Energy per mass").Find("td").Eq(1).Text(); !strings.Contains(got, want) {
+		t.Errorf("energy per mass of demo-3v0-500f reads %q, want %s Wh/kg", got, want)
+	}
+	feasible := 0
+	for _, c := range rep.Candidates {
+		if c.Feasible {
+			feasible++
+		}
+	}
+	if n := doc.Find(`[data-testid=chart-energy-power] [data-testid=chart-point]`).Length(); n != feasible {
+		t.Errorf("the energy–power chart has %d points, want one per feasible bank (%d)", n, feasible)
+	}
+
+	for target, msg := range map[string]string{
+		"/compare?cell=demo-2v7-650f":                           "at least 2",
+		"/compare?cell=demo-2v7-650f&cell=no-such":              "Not in the library: no-such",
+		"/compare?cell=" + strings.Join(allDemoIDs(), "&cell="): "at most 8",
+	} {
+		rec := get(t, s, target)
+		wantStatus(t, rec, http.StatusUnprocessableEntity)
+		if got := text(parse(t, rec), "#msg-cell"); !strings.Contains(got, msg) {
+			t.Errorf("%s says %q, want %q", target, got, msg)
+		}
+	}
+}
+
+func rowNamed(doc *goquery.Document, label string) *goquery.Selection {
+	var found *goquery.Selection
+	doc.Find(`[data-testid=compare-row]`).Each(func(_ int, r *goquery.Selection) {
+		th := strings.TrimSpace(r.Find("th").Contents().First().Text())
+		if found == nil && th == label {
+			found = r
+		}
+	})
+	return found
+}
+
+func allDemoIDs() []string {
+	var ids []string
+	for _, c := range democells.All() {
+		ids = append(ids, c.ID)
+	}
+	return ids
+}
+
+func TestFigureRowMarksTheBest(t *testing.T) {
+	v := func(x float64) *float64 { return &x }
+	cases := []struct {
+		better string
+		vals   []*float64
+		best   []bool
+	}{
+		{"lower", []*float64{v(3), v(1), v(2)}, []bool{false, true, false}},
+		{"higher", []*float64{v(3), nil, v(3)}, []bool{true, false, true}}, // ties all marked
+		{"lower", []*float64{v(3), nil, nil}, []bool{false, false, false}}, // one value: nothing to beat
+		{"", []*float64{v(1), v(2)}, []bool{false, false}},
+	}
+	for _, tc := range cases {
+		row := figureRow("x", tc.better, tc.vals, make([]string, len(tc.vals)))
+		for i, c := range row.Cells {
+			if c.Best != tc.best[i] {
+				t.Errorf("%s %v: cell %d best %v, want %v", tc.better, tc.vals, i, c.Best, tc.best[i])
+			}
+		}
+	}
+}
