@@ -36,6 +36,7 @@ const (
 	typeNoExport   = "/problems/cannot-export"
 	typeBadLink    = "/problems/bad-share-link"
 	typeDeadline   = "/problems/compute-deadline"
+	typeStorage    = "/problems/storage"
 	typeNotFound   = "/problems/not-found"
 	typeConflict   = "/problems/conflict"
 	typeBadCell    = "/problems/invalid-cell"
@@ -83,6 +84,10 @@ func problemFor(err error) problem {
 		mte *mediaTypeError
 	)
 	switch {
+	case store.StorageFault(err) != "":
+		return problem{Type: typeStorage, Title: "Nothing was saved", Status: http.StatusServiceUnavailable,
+			Detail: "The database could not be written: " + store.StorageFault(err) + ". Nothing of this change was kept, " +
+				"and what was saved before is intact. Free space on the disk or fix the data directory's permissions, then try again."}
 	case errors.Is(err, store.ErrNotFound):
 		return problem{Type: typeNotFound, Title: "Not found", Status: http.StatusNotFound,
 			Detail: "There is no " + strings.TrimSuffix(err.Error(), ": "+store.ErrNotFound.Error()) + " here; the list pages show what there is."}

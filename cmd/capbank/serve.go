@@ -81,9 +81,12 @@ func serve(ctx context.Context, addr, dataDir string, opts guardOptions, stderr 
 	if err := os.MkdirAll(dataDir, 0o755); err != nil {
 		return fmt.Errorf("cannot create the data directory: %w", err)
 	}
+	if err := checkDataDir(dataDir); err != nil {
+		return err
+	}
 	st, err := web.OpenStore(ctx, dataDir)
 	if err != nil {
-		return fmt.Errorf("cannot open the database in %s: %w", dataDir, err)
+		return openError(dataDir, err)
 	}
 	defer st.Close()
 	ln, err := net.Listen("tcp", addr)
