@@ -17,6 +17,7 @@ import (
 	"time"
 
 	"capbank/sizing"
+	"capbank/web/share"
 )
 
 // newServerWith is a test server built from cfg, with a fresh data
@@ -36,11 +37,12 @@ func newServerWith(t testing.TB, cfg Config) (*Server, *syncBuffer) {
 }
 
 // heavyDesign is the invented demo design of testdata/ups-ride-through.json
-// with its load replaced by a logged profile of 20 000 one-second steps
-// that alternate between drawing and charging (values invented), so that
-// every candidate's sizing simulates every step: tens of milliseconds of
-// solver work, far beyond a 1 ms deadline.
-func heavyDesign(t testing.TB) []byte {
+// with its load replaced by n one-second steps alternating between drawing
+// and charging (values invented), repeated repeat times, so that every
+// candidate's sizing simulates every step: with 20 000 steps, or 500
+// repeated 40 times, tens of milliseconds of solver work, far beyond a
+// 1 ms deadline.
+func heavyDesign(t testing.TB, n, repeat int) []byte {
 	t.Helper()
 	data, err := os.ReadFile("../testdata/ups-ride-through.json")
 	if err != nil {
@@ -50,7 +52,7 @@ func heavyDesign(t testing.TB) []byte {
 	if err != nil {
 		t.Fatal(err)
 	}
-	steps := make([]sizing.Step, 20000)
+	steps := make([]sizing.Step, n)
 	vals := make([]float64, len(steps))
 	for i := range steps {
 		vals[i] = 300 + float64(i%7)*10
@@ -59,7 +61,7 @@ func heavyDesign(t testing.TB) []byte {
 		}
 		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 1}
 	}
-	d.Load.Steps, d.Load.Repeat = steps, nil
+	d.Load.Steps, d.Load.Repeat = steps, &repeat
 	out, err := json.Marshal(d)
 	if err != nil {
 		t.Fatal(err)
@@ -84,7 +86,7 @@ func wantDeadlineMessage(t *testing.T, text, limit string) {
 // every request below would answer 200 after the full computation.
 func TestComputeDeadlineAPI(t *testing.T) {
 	t.Parallel()
-	heavy := heavyDesign(t)
+	heavy := heavyDesign(t, 20000, 1)
 	s, logs := newServerWith(t, Config{ComputeTimeout: time.Millisecond})
 	for _, path := range []string{"/api/v1/size", "/export/boq-json", "/export/pdf", "/export/design"} {
 		t.Run(path, func(t *testing.T) {
@@ -211,5 +213,30 @@ func TestClosableLookup(t *testing.T) {
 	l.close()
 	if _, ok := l.find("a"); ok {
 		t.Error("closed lookup still finds cells")
+	}
+}
+
+// The pages that size a design they are sent to by address answer 503 as
+// well: a share link, a saved design, a comparison from a share link.
+func TestComputeDeadlineLinks(t *testing.T) {
+	t.Parallel()
+	s, _ := newServerWith(t, Config{ComputeTimeout: time.Millisecond})
+	heavy := heavyDesign(t, maxFormSteps, 40)
+	tok, err := share.Encode(heavy)
+	if err != nil {
+		t.Fatal(err)
+	}
+	id, err := s.store.SaveDesign(context.Background(), "heavy (invented)", heavy)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, target := range []string{
+		"/?d=" + tok,
+		"/designs/" + strconv.FormatInt(id, 10),
+		"/compare?d=" + tok,
+	} {
+		rec := get(t, s, target)
+		wantStatus(t, rec, http.StatusServiceUnavailable)
+		wantDeadlineMessage(t, text(parse(t, rec), "[data-testid=error-page]"), "1 ms")
 	}
 }

@@ -131,7 +131,11 @@ func (s *Server) getPage(c echo.Context) error {
 		v := exampleValues()
 		v["cells.pick"] = q["cell"]
 		v.Set("name", "Example with "+strings.Join(q["cell"], ", ")+" (invented load)")
-		return s.renderPage(c, http.StatusOK, evaluate(readForm(v), s.lookup(c)))
+		ev, err := s.evaluateWithin(c, readForm(v))
+		if err != nil {
+			return err
+		}
+		return s.renderPage(c, http.StatusOK, ev)
 	}
 	return s.renderPage(c, http.StatusOK, evaluate(exampleForm(), s.lookup(c)))
 }

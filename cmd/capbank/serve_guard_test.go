@@ -196,3 +196,16 @@ func TestLogAccess(t *testing.T) {
 		}
 	}
 }
+
+// capbank with serve's new flags and no command serves, as with --addr.
+func TestGuardFlagsAreServeFlags(t *testing.T) {
+	t.Parallel()
+	for arg, want := range map[string]bool{
+		"--token": true, "--token=abc": true, "-compute-timeout": true, "--compute-timeout=5s": true,
+		"--addr": true, "--tokens": false, "token": false, "--format": false,
+	} {
+		if got := isServeFlag(arg); got != want {
+			t.Errorf("isServeFlag(%q) = %v, want %v", arg, got, want)
+		}
+	}
+}
