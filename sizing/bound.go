@@ -23,6 +23,13 @@ type boundSums struct {
 	resistors  []compiledStep
 	// i2est is ∫i²dt over the pass with the current at mid-window (A²·s).
 	i2est float64
+	// charges is whether any step charges the bank (a negative current or
+	// power).
+	charges bool
+	// drawJ is the energy the pass delivers to the load (J), the current
+	// and resistor steps taken at mid-window: for the search's estimates,
+	// when no step charges.
+	drawJ float64
 }
 
 // boundRun is a run of steps: the energy they draw (J) with the string
@@ -61,6 +68,17 @@ func (p *plan) gatherBound() {
 			ie = vMid / st.x
 			b.resistors = append(b.resistors, st)
 		}
+		if st.x < 0 && st.kind != kindResistance {
+			b.charges = true
+		}
+		switch st.kind {
+		case kindPower:
+			b.drawJ += st.x * st.dur
+		case kindCurrent:
+			b.drawJ += st.x * vMid * st.dur
+		case kindResistance:
+			b.drawJ += vMid * vMid / st.x * st.dur
+		}
 		b.peak = max(b.peak, i)
 		i2dt += i * i * st.dur
 		i2est += ie * ie * st.dur
@@ -71,7 +89,7 @@ func (p *plan) gatherBound() {
 			b.runs = append(b.runs, boundRun{e: e, eR: eR, dur: st.dur})
 		}
 	}
-	b.i2dt, b.i2est = i2dt*reps, i2est*reps
+	b.i2dt, b.i2est, b.drawJ = i2dt*reps, i2est*reps, b.drawJ*reps
 	if !b.chargeCurrent {
 		b.need = p.deficit(0, 0)
 	}

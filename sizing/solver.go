@@ -94,7 +94,10 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 // terminal voltage never below the window bottom, never past the
 // maximum-power point, and each cell within its peak and RMS current
 // ratings. Runtime and the lowest terminal voltage only improve with more
-// strings, so the count is found by doubling, then bisection.
+// strings, so the count is found by a bracketing search: by doubling, then
+// bisection, or, for a pass that never charges the bank, by trials that
+// each trial's energy balance places (see searchByEstimate). Where the
+// search starts and steps changes only how many trials it takes.
 //
 // Candidates are sized in parallel (up to GOMAXPROCS); the report does not
 // depend on the order they finish in. A design that fails Validate returns
@@ -106,12 +109,20 @@ func Size(d *Design) (*Report, error) {
 
 // size is Size, also returning the number of steps it solved.
 func size(d *Design) (*Report, int64, error) {
+	return sizeWith(d, runtime.GOMAXPROCS(0))
+}
+
+// sizeWith is size with the candidates shared among workers goroutines
+// (at least one; never more than there are cells). Each candidate is
+// sized on its own and written to its own slot, so the report is the
+// same for any number of workers.
+func sizeWith(d *Design, workers int) (*Report, int64, error) {
 	if err := Validate(d); err != nil {
 		return nil, 0, err
 	}
 	p := newPlan(d)
 	cands := make([]Candidate, len(d.Cells))
-	workers := min(runtime.GOMAXPROCS(0), len(d.Cells))
+	workers = max(1, min(workers, len(d.Cells)))
 	var wg sync.WaitGroup
 	next := make(chan int)
 	for range workers {
@@ -288,18 +299,38 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 		p.fillFigures(&cand, c, &l, p.try(&l, MaxParallel))
 		return cand
 	}
-	// Every count below the bound p0 fails. Start at the estimate, step
-	// outwards (1, 2, 4, … strings) until the answer is bracketed, then
-	// bisect: lo always fails, hi always carries the load.
-	p0, why, guess := p.stringBound(&l)
-	var lo, hi trial
+	lo, hi, ok := p.search(&l)
+	if !ok {
+		cand.Reason = p.infeasibleReason(&l, lo)
+		p.fillFigures(&cand, c, &l, lo)
+		return cand
+	}
+	cand.Feasible = true
+	cand.Limit = lo.limit
+	p.fillFigures(&cand, c, &l, hi)
+	return cand
+}
+
+// search finds the fewest strings that carry the pass. It returns the
+// trial at that count (hi) and the one at a string fewer (lo, taken from
+// the bound when that is below it), or ok false with lo the failing trial
+// at MaxParallel. Every count below the bound p0 fails; lo always fails
+// and hi always carries the load, and the search ends when they are one
+// string apart, so the answer does not depend on where it starts.
+func (p *plan) search(l *cellLimits) (lo, hi trial, ok bool) {
+	p0, why, guess := p.stringBound(l)
 	if p0 > 1 {
 		lo = trial{par: p0 - 1, limit: why}
 	}
-	if t := p.try(&l, guess); t.ok {
+	if !p.bound.charges {
+		return p.searchByEstimate(l, lo, guess)
+	}
+	// A pass that charges the bank: start at the estimate, step outwards
+	// (1, 2, 4, … strings) until the answer is bracketed, then bisect.
+	if t := p.try(l, guess); t.ok {
 		hi = t
 		for step := 1; hi.par-lo.par > 1; step *= 2 {
-			t := p.try(&l, max(lo.par+1, hi.par-step))
+			t := p.try(l, max(lo.par+1, hi.par-step))
 			if !t.ok {
 				lo = t
 				break
@@ -310,11 +341,9 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 		lo = t
 		for step := 1; ; step *= 2 {
 			if lo.par >= MaxParallel {
-				cand.Reason = p.infeasibleReason(&l, lo)
-				p.fillFigures(&cand, c, &l, lo)
-				return cand
+				return lo, hi, false
 			}
-			t := p.try(&l, min(MaxParallel, lo.par+step))
+			t := p.try(l, min(MaxParallel, lo.par+step))
 			if t.ok {
 				hi = t
 				break
@@ -323,17 +352,147 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 		}
 	}
 	for hi.par-lo.par > 1 {
-		mid := p.try(&l, lo.par+(hi.par-lo.par)/2)
+		mid := p.try(l, lo.par+(hi.par-lo.par)/2)
 		if mid.ok {
 			hi = mid
 		} else {
 			lo = mid
 		}
 	}
-	cand.Feasible = true
-	cand.Limit = lo.limit
-	p.fillFigures(&cand, c, &l, hi)
-	return cand
+	return lo, hi, true
+}
+
+// searchByEstimate is search for a pass that never charges the bank,
+// where each trial says roughly how many strings would just carry it
+// (parEstimate). The trials look for the root of φ(p) = estimate(p) − p,
+// positive below the answer and negative above it, by the secant through
+// the last two trials (the first estimate alone at the start), rounded up
+// and kept inside the bracket; where three trials in a row have not
+// halved the bracket, a bisection step is taken instead, and until a trial
+// carries the load the count grows by at least 1, 2, 4, … strings a step.
+// So the search ends within a few times log₂(MaxParallel) trials whatever
+// the estimates say, and in two or three when they are good. It starts at
+// guess with lo from the bound.
+func (p *plan) searchByEstimate(l *cellLimits, lo trial, guess int) (trial, trial, bool) {
+	var hi trial
+	carried := false
+	probe, grow, slow := guess, 1, 0
+	var prevPar, prevPhi float64 // the trial before the last, par 0: none
+	for {
+		before := hi.par - lo.par
+		t := p.try(l, probe)
+		if t.ok {
+			hi, carried = t, true
+		} else {
+			lo = t
+		}
+		if !carried && lo.par >= MaxParallel {
+			return lo, hi, false
+		}
+		if carried && hi.par-lo.par <= 1 {
+			return lo, hi, true
+		}
+		// Where the estimates put the root of φ.
+		par := float64(t.par)
+		phi := p.parEstimate(l, t) - par
+		root := par + phi
+		if prevPar != 0 && prevPhi != phi && !math.IsNaN(prevPhi) {
+			root = par - phi*(par-prevPar)/(phi-prevPhi)
+		}
+		prevPar, prevPhi = par, phi
+		if !carried {
+			next := lo.par + grow
+			grow *= 2
+			if r := math.Ceil(root); r > float64(next) {
+				next = int(min(r, MaxParallel))
+			}
+			probe = min(next, MaxParallel)
+			continue
+		}
+		w := hi.par - lo.par
+		if before > 0 && 2*w > before+1 {
+			slow++ // this trial did not halve the bracket
+		} else {
+			slow = 0
+		}
+		switch r := math.Ceil(root); {
+		case slow >= 3 || math.IsNaN(r):
+			probe = lo.par + w/2
+		case r <= float64(lo.par):
+			probe = lo.par + 1
+		case r >= float64(hi.par):
+			probe = hi.par - 1 // the estimate says hi: check the count below it
+		default:
+			probe = int(r)
+		}
+	}
+}
+
+// parEstimate is the number of strings (not rounded) that trial t says
+// would just carry a pass that never charges the bank; NaN when it says
+// nothing. By the trial's energy balance (REFERENCES.md 3.11 with the
+// drain), its capacitor gave D = ½·C·(max_v² − v²) = E_load + E_ESR +
+// E_drain, v its end voltage. A string holds c = ½·(C/p)·(max_v² − v_cut²)
+// above the capacitor voltage v_cut where the terminal reaches min_v, and
+// drains d = E_drain/p; the ESR loss falls as 1/p for the same current.
+// Over the whole pass, p strings then need
+//
+//	p·(c − d) = E_load + E_ESR·par/p,
+//	p = (E_load + √(E_load² + 4·(c − d)·E_ESR·par))/(2·(c − d))
+//
+// with E_load and the drain scaled up to the whole pass for a trial that
+// stopped early (E_load = E_pass, boundSums.drawJ; its v is v_cut), and for
+// one that carried it v_cut = v − m, m the lowest terminal voltage's height
+// above min_v (taken to fall near the end, where v is lowest). A current
+// limit needs the strings that bring the cell's peak or RMS current to its
+// rating. These only place the next trial (see searchByEstimate): where
+// the lowest voltage falls and how the drain spreads over the pass make
+// them approximate.
+func (p *plan) parEstimate(l *cellLimits, t trial) float64 {
+	s := &t.stats
+	par := float64(t.par)
+	rms := math.Sqrt(s.i2dt / l.passTime)
+	if !t.ok && t.limit == "peak_current" {
+		return s.peakI / l.peakA
+	}
+	if !t.ok && t.limit == "rms_current" {
+		return rms / l.contA
+	}
+	if !t.ok && t.limit != "voltage" || !(s.t > 0) {
+		return math.NaN()
+	}
+	m := l.bank(t.par)
+	top2 := p.maxV * p.maxV
+	esr := m.r * s.i2dt
+	drain := max(0, 0.5*m.c*(top2-s.v*s.v)-s.eLoad-esr)
+	load, cut, scale := s.eLoad, s.v, l.passTime/s.t
+	if t.ok {
+		cut = s.v - (s.minU - p.minV)
+	} else {
+		load = p.bound.drawJ
+	}
+	c := 0.5 * m.c / par * (top2 - cut*cut)
+	a := c - drain*scale/par
+	esr *= scale
+	est := math.NaN()
+	if a > 0 && cut > 0 && load > 0 {
+		est = (load + math.Sqrt(load*load+4*a*esr*par)) / (2 * a)
+	}
+	if t.ok && l.peakA > 0 {
+		est = max(nanTo0(est), s.peakI/l.peakA)
+	}
+	if t.ok && l.contA > 0 {
+		est = max(nanTo0(est), rms/l.contA)
+	}
+	return est
+}
+
+// nanTo0 returns x, or 0 for NaN (max and min pass NaN on).
+func nanTo0(x float64) float64 {
+	if math.IsNaN(x) {
+		return 0
+	}
+	return x
 }
 
 // stringBound returns the fewest strings that can possibly carry the pass,

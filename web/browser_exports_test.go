@@ -77,6 +77,7 @@ func TestBrowserDownloads(t *testing.T) {
 			return err
 		}),
 	), "opening the page")
+	htmxReady(t, ctx)
 	run(t, ctx, chromedp.Evaluate[int](`window.capbankMarker = 9`), "marking the window")
 
 	rec := run(t, ctx, chromedp.Evaluate[string](`document.querySelector("[data-testid=downloads] [data-testid=download-bar]").dataset.cell`), "reading the recommended cell")

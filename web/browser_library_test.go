@@ -39,8 +39,9 @@ func TestBrowserLibraryCompareSave(t *testing.T) {
 	if n := run(t, ctx, chromedp.Evaluate[int](pick), "picking three cells"); n != 3 {
 		t.Fatalf("%d cells picked, want 3", n)
 	}
-	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`[data-testid=compare-picker] button[type=submit]`)),
-		chromedp.WaitVisible(chromedp.CSS("[data-testid=compare-table]"))), "comparing")
+	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`[data-testid=compare-picker] button[type=submit]`))), "comparing")
+	// The page before shows the example's cells; wait for the new one.
+	waitText(t, ctx, "[data-testid=compare-table] thead", "bench-2v7-80f", "comparing the picked cells")
 	cols := run(t, ctx, chromedp.Evaluate[string](`[...document.querySelectorAll("[data-testid=compare-table] thead th a")].map(a => a.textContent).join(",")`), "reading the columns")
 	for _, id := range []string{"bench-2v7-80f", "demo-2v7-650f", "demo-3v0-500f"} {
 		if !strings.Contains(cols, id) {
@@ -54,6 +55,7 @@ func TestBrowserLibraryCompareSave(t *testing.T) {
 
 	// Size the example design with the new cell and save it.
 	must(t, chromedp.Do(ctx, chromedp.Navigate(url+"/"), chromedp.WaitVisible(chromedp.ID("pick-bench-2v7-80f"))), "opening the design page")
+	htmxReady(t, ctx)
 	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.ID("pick-bench-2v7-80f"))), "picking the new cell")
 	waitText(t, ctx, "#results", "bench-2v7-80f", "sizing with the new cell")
 	must(t, chromedp.Do(ctx, typeInto("save-name", "Bench cell hold-up"),

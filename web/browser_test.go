@@ -2,6 +2,7 @@ package web
 
 import (
 	"context"
+	"errors"
 	"net/http/httptest"
 	"os"
 	"path/filepath"
@@ -125,12 +126,33 @@ func typeInto(id, text string) chromedp.Action[chromedp.Void] {
 func waitText(t *testing.T, ctx context.Context, css, want, doing string) string {
 	t.Helper()
 	js := `(() => { const e = document.querySelector(` + jsString(css) + `); return e && e.textContent.includes(` + jsString(want) + `) ? e.textContent : false })()`
-	got, err := chromedp.Run(ctx, chromedp.Poll[string](js, chromedp.WithPollingTimeout(10*time.Second)))
+	// A poll that started on the page before a navigation ends with the
+	// navigation (its execution context is gone); poll again on the new
+	// page until the deadline.
+	deadline := time.Now().Add(10 * time.Second)
+	var got string
+	var err error
+	for {
+		got, err = chromedp.Run(ctx, chromedp.Poll[string](js, chromedp.WithPollingTimeout(time.Until(deadline))))
+		if err == nil || errors.Is(err, chromedp.ErrPollingTimeout) || ctx.Err() != nil || time.Now().After(deadline) {
+			break
+		}
+		time.Sleep(50 * time.Millisecond)
+	}
 	if err != nil {
 		now, _ := chromedp.Run(ctx, chromedp.Evaluate[string](`(document.querySelector(`+jsString(css)+`) || {textContent: "(missing)"}).textContent`))
 		t.Fatalf("%s: %s never showed %q (it shows %q): %v", doing, css, want, strings.Join(strings.Fields(now), " "), err)
 	}
 	return strings.Join(strings.Fields(got), " ")
+}
+
+// htmxReady waits until the page has loaded and htmx has set itself up, so
+// that a click right after a navigation is htmx's, not a plain form post
+// (the script is deferred, and a busy machine runs it late).
+func htmxReady(t *testing.T, ctx context.Context) {
+	t.Helper()
+	_, err := chromedp.Run(ctx, chromedp.Poll[bool](`document.readyState === "complete" && !!window.htmx`, chromedp.WithPollingTimeout(10*time.Second)))
+	must(t, err, "waiting for htmx")
 }
 
 func jsString(s string) string {
@@ -173,6 +195,7 @@ func bankFor(t *testing.T, w float64) string {
 func TestBrowserSizesABankAsYouType(t *testing.T) {
 	ctx, url, logs := browser(t, 1280, 900)
 	must(t, chromedp.Do(ctx, chromedp.Navigate(url+"/?new=1"), chromedp.WaitVisible(chromedp.ID("f-window-max_v"))), "opening the page")
+	htmxReady(t, ctx)
 	run(t, ctx, chromedp.Evaluate[int](`window.capbankMarker = 42`), "marking the window")
 
 	must(t, chromedp.Do(ctx,
@@ -253,6 +276,7 @@ func TestBrowserSizesABankAsYouType(t *testing.T) {
 func TestBrowserEditsStepsAndSorts(t *testing.T) {
 	ctx, url, logs := browser(t, 1280, 900)
 	must(t, chromedp.Do(ctx, chromedp.Navigate(url+"/"), chromedp.WaitVisible(chromedp.CSS("[data-testid=bank]"))), "opening the example")
+	htmxReady(t, ctx)
 	run(t, ctx, chromedp.Evaluate[int](`window.capbankMarker = 7`), "marking the window")
 	rows := func() int {
 		return run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=step-row]").length`), "counting steps")
@@ -297,6 +321,7 @@ func TestBrowserEditsStepsAndSorts(t *testing.T) {
 func TestBrowserPhoneWidth(t *testing.T) {
 	ctx, url, _ := browser(t, 390, 844)
 	must(t, chromedp.Do(ctx, chromedp.EmulateViewport(390, 844), chromedp.Navigate(url+"/"), chromedp.WaitVisible(chromedp.CSS("[data-testid=bank]"))), "opening the page")
+	htmxReady(t, ctx)
 	width := run(t, ctx, chromedp.Evaluate[int](`document.documentElement.scrollWidth`), "measuring")
 	if width > 390 {
 		wide := run(t, ctx, chromedp.Evaluate[[]string](`[...document.querySelectorAll("body *")].filter(e => e.getBoundingClientRect().right > 391 && !e.closest(".table-scroll, .chart-scroll, .cell-list")).slice(0, 8).map(e => e.tagName + "." + e.className + "#" + e.id)`), "finding wide elements")

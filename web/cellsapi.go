@@ -49,7 +49,7 @@ func (s *Server) apiListCells(c echo.Context) error {
 
 // apiGetCell is GET /api/v1/cells/{id}.
 func (s *Server) apiGetCell(c echo.Context) error {
-	rec, err := s.libraryCell(c.Request().Context(), c.Param("id"))
+	rec, err := s.libraryCell(c.Request().Context(), cellIDParam(c))
 	if err != nil {
 		return err
 	}
@@ -123,7 +123,7 @@ func (s *Server) apiUpdateCell(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	id := c.Param("id")
+	id := cellIDParam(c)
 	if cell.ID == "" {
 		cell.ID = id
 	}
@@ -147,7 +147,7 @@ func (s *Server) apiDeleteCell(c echo.Context) error {
 	if s.store == nil {
 		return errNoStore
 	}
-	if err := s.store.DeleteCell(c.Request().Context(), c.Param("id")); err != nil {
+	if err := s.store.DeleteCell(c.Request().Context(), cellIDParam(c)); err != nil {
 		return err
 	}
 	return c.NoContent(http.StatusNoContent)

@@ -495,7 +495,7 @@ func (s *Server) postNewCell(c echo.Context) error {
 
 // getCellPage is GET /library/{id}: the cell's figures and form.
 func (s *Server) getCellPage(c echo.Context) error {
-	rec, err := s.libraryCell(c.Request().Context(), c.Param("id"))
+	rec, err := s.libraryCell(c.Request().Context(), cellIDParam(c))
 	if err != nil {
 		return err
 	}
@@ -521,7 +521,7 @@ func (s *Server) postCellPage(c echo.Context) error {
 		return errNoStore
 	}
 	ctx := c.Request().Context()
-	id := c.Param("id")
+	id := cellIDParam(c)
 	rec, err := s.store.GetCell(ctx, id)
 	if err != nil {
 		return err
@@ -551,7 +551,7 @@ func (s *Server) postDuplicateCell(c echo.Context) error {
 	if s.store == nil {
 		return errNoStore
 	}
-	rec, err := s.store.DuplicateCell(c.Request().Context(), c.Param("id"), "")
+	rec, err := s.store.DuplicateCell(c.Request().Context(), cellIDParam(c), "")
 	if err != nil {
 		return err
 	}
@@ -563,7 +563,7 @@ func (s *Server) postDeleteCell(c echo.Context) error {
 	if s.store == nil {
 		return errNoStore
 	}
-	id := c.Param("id")
+	id := cellIDParam(c)
 	if err := s.store.DeleteCell(c.Request().Context(), id); err != nil {
 		return err
 	}
@@ -576,4 +576,18 @@ func massText(kg float64) string {
 		return components.Number(kg*1000, 3) + "\u00a0g"
 	}
 	return components.Number(kg, 3) + "\u00a0kg"
+}
+
+// cellIDParam is the cell id in the address. echo routes on the escaped
+// path when it has one (an id with "/" or "?" in it), so the parameter is
+// then still escaped; otherwise it is the id as it is.
+func cellIDParam(c echo.Context) string {
+	id := c.Param("id")
+	if c.Request().URL.RawPath == "" {
+		return id
+	}
+	if u, err := url.PathUnescape(id); err == nil {
+		return u
+	}
+	return id
 }

@@ -539,3 +539,68 @@ func TestFigureRowMarksTheBest(t *testing.T) {
 		}
 	}
 }
+
+// An id with a slash, a space, a percent sign or markup has its page and
+// API address, and its name is shown as text, never as markup.
+func TestCellIDsNeedingEscapes(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	for _, id := range []string{"lab cell/2", "50%-cell", "a?b#c", `<b>x</b>`} {
+		body := fmt.Sprintf(`{"id":%q,"name":"<script>alert(1)</script>","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.03}`, id)
+		rec := do(t, s, http.MethodPost, "/api/v1/cells", "application/json", body)
+		wantStatus(t, rec, http.StatusCreated)
+		loc := rec.Header().Get("Location")
+		wantStatus(t, do(t, s, http.MethodGet, loc, "", ""), http.StatusOK)
+		page := get(t, s, libraryPath(id))
+		wantStatus(t, page, http.StatusOK)
+		if strings.Contains(page.Body.String(), "<script>alert(1)</script>") {
+			t.Errorf("%s: the name is written as markup", id)
+		}
+		if v, _ := parse(t, page).Find("#f-id").Attr("value"); v != id {
+			t.Errorf("the page of %q shows the id %q", id, v)
+		}
+		wantStatus(t, postForm(t, s, libraryPath(id)+"/duplicate", nil, false), http.StatusSeeOther)
+		wantStatus(t, do(t, s, http.MethodDelete, loc, "", ""), http.StatusNoContent)
+	}
+}
+
+// The library page imports a cell file and shows the report row by row; a
+// file with a bad row leaves the library as it was.
+func TestLibraryPageImport(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	good := "id,rated_v,capacitance_f,esr_ohm\nlab-a,2.7,10,0.03\nlab-b,2.7,25,0.02\n"
+	rec := postMultipart(t, s, "/library/import", nil, "cells_file", "cells.csv", good+"lab-c,2.7,,0.02\n")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc := parse(t, rec)
+	if rows := doc.Find("[data-testid=import-row]").Length(); rows != 3 {
+		t.Errorf("the report has %d rows, want 3", rows)
+	}
+	if got := text(doc, "[data-testid=import-report]"); !strings.Contains(got, "Nothing was imported") || !strings.Contains(got, "capacitance_f") {
+		t.Errorf("report %q", got)
+	}
+	if doc.Find(`[data-testid=library-row][data-id=lab-a]`).Length() != 0 {
+		t.Error("a rejected import added a cell")
+	}
+	rec = postMultipart(t, s, "/library/import", nil, "cells_file", "cells.csv", good)
+	wantStatus(t, rec, http.StatusOK)
+	doc = parse(t, rec)
+	if got := text(doc, "[data-testid=import-report]"); !strings.Contains(got, "Imported 2 cells") {
+		t.Errorf("report %q", got)
+	}
+	if doc.Find(`[data-testid=library-row][data-id=lab-b]`).Length() != 1 {
+		t.Error("the imported cell is not listed")
+	}
+	// The export gives the same cells back, with units in the column names.
+	rec = get(t, s, "/library.csv?q=lab-")
+	wantStatus(t, rec, http.StatusOK)
+	lines := strings.Split(strings.TrimSpace(rec.Body.String()), "\n")
+	if len(lines) != 3 || !strings.Contains(lines[0], "capacitance_f") || !strings.HasPrefix(lines[1], "lab-a,") {
+		t.Errorf("export:\n%s", rec.Body)
+	}
+	rec = postMultipart(t, s, "/library/import", nil, "cells_file", "", "")
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	if got := text(parse(t, rec), "[data-testid=import-report]"); !strings.Contains(got, "no file was chosen") {
+		t.Errorf("no file: %q", got)
+	}
+}

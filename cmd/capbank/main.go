@@ -41,6 +41,7 @@ var commands = []command{
 	{"size", "size a bank from a design file and print the report", runSize},
 	{"serve", "start the web server (the default)", runServe},
 	{"measure", "characterise a cell from test data (capacitance, ESR, leakage)", runMeasure},
+	{"loadtest", "drive a running server and print its throughput and latency", runLoadtest},
 }
 
 // run is capbank without the process around it: it parses args (without the
