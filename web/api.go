@@ -44,7 +44,7 @@ func (s *Server) apiSize(c echo.Context) error {
 		return err
 	}
 	d.ResolveCells(s.lookup(c)) // a design may name a library cell by its id
-	rep, err := sizing.Size(d)
+	rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(d) })
 	if err != nil {
 		return err
 	}

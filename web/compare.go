@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"math"
 	"net/http"
@@ -119,7 +120,11 @@ func (s *Server) getCompare(c echo.Context) error {
 	if cells != nil {
 		dd := *d
 		dd.Cells = cells
-		rep, err := sizing.Size(&dd)
+		rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(&dd) })
+		var de *deadlineError
+		if errors.As(err, &de) || errors.Is(err, errClientGone) {
+			return err
+		}
 		if err != nil {
 			p.Message = "The design could not be sized with these cells: " + oneLine(err)
 			status = http.StatusUnprocessableEntity

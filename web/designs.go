@@ -32,7 +32,11 @@ func (s *Server) openSharedDesign(c echo.Context, token string) error {
 		return err
 	}
 	f.notice = "Opened from a share link: the link carries the whole design. Save it to keep it here."
-	return s.renderPage(c, http.StatusOK, evaluate(f, s.lookup(c)))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	return s.renderPage(c, http.StatusOK, ev)
 }
 
 // formFromJSON decodes a design file into the form that shows it.
@@ -198,7 +202,11 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 	default:
 		f.notice = fmt.Sprintf("Opened “%s”, last saved %s.", rec.Name, rec.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"))
 	}
-	return s.renderPage(c, http.StatusOK, evaluate(f, s.lookup(c)))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	return s.renderPage(c, http.StatusOK, ev)
 }
 
 // postReplaceDesign is POST /designs/{id}: save the page's design over

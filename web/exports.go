@@ -134,41 +134,56 @@ func (s *Server) postExport(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	rep, err := sizing.Size(d)
-	if err != nil {
-		return err
-	}
 	cellID := c.QueryParam("cell")
 	if cellID == "" {
 		cellID = c.FormValue("cell")
 	}
-	var buf bytes.Buffer
-	suffix := ""
-	if f.Name == designFormat.Name {
-		if err := jsonEncode(&buf, d); err != nil {
-			return err
-		}
-		suffix = "design"
-	} else {
-		boq, err := exportBOQ(d, rep, cellID, f)
-		if err != nil {
-			return err
-		}
-		suffix = "boq"
-		if f.Name == "pdf" {
-			suffix = "report-" + string(paper)
-		}
-		if cellID != "" && (rep.Recommended == nil || cellID != *rep.Recommended) {
-			suffix = fileWord(cellID) + "-" + suffix
-		}
-		if err := writeExport(&buf, f, d, rep, boq, export.PDFOptions{Paper: paper, Date: s.now()}); err != nil {
-			return err
-		}
+	opt := export.PDFOptions{Paper: paper, Date: s.now()}
+	out, err := compute(s, c, func() (exported, error) { return makeExport(d, f, cellID, opt) })
+	if err != nil {
+		return err
 	}
 	h := c.Response().Header()
-	h.Set(echo.HeaderContentDisposition, fmt.Sprintf("attachment; filename=%q", export.FileName(d.Name, suffix, f)))
+	h.Set(echo.HeaderContentDisposition, fmt.Sprintf("attachment; filename=%q", export.FileName(d.Name, out.suffix, f)))
 	h.Set("Cache-Control", "no-store")
-	return c.Blob(http.StatusOK, f.ContentType, buf.Bytes())
+	return c.Blob(http.StatusOK, f.ContentType, out.data)
+}
+
+// exported is an export written: its bytes and the file-name suffix.
+type exported struct {
+	data   []byte
+	suffix string
+}
+
+// makeExport sizes d and writes its export f (of cellID, or of the
+// recommended cell when cellID is empty).
+func makeExport(d *sizing.Design, f export.Format, cellID string, opt export.PDFOptions) (exported, error) {
+	rep, err := sizing.Size(d)
+	if err != nil {
+		return exported{}, err
+	}
+	var buf bytes.Buffer
+	if f.Name == designFormat.Name {
+		if err := jsonEncode(&buf, d); err != nil {
+			return exported{}, err
+		}
+		return exported{buf.Bytes(), "design"}, nil
+	}
+	boq, err := exportBOQ(d, rep, cellID, f)
+	if err != nil {
+		return exported{}, err
+	}
+	suffix := "boq"
+	if f.Name == "pdf" {
+		suffix = "report-" + string(opt.Paper)
+	}
+	if cellID != "" && (rep.Recommended == nil || cellID != *rep.Recommended) {
+		suffix = fileWord(cellID) + "-" + suffix
+	}
+	if err := writeExport(&buf, f, d, rep, boq, opt); err != nil {
+		return exported{}, err
+	}
+	return exported{buf.Bytes(), suffix}, nil
 }
 
 // exportBOQ is the bill of quantities of the export: of cellID, or of the

@@ -131,7 +131,11 @@ func (s *Server) getPage(c echo.Context) error {
 		v := exampleValues()
 		v["cells.pick"] = q["cell"]
 		v.Set("name", "Example with "+strings.Join(q["cell"], ", ")+" (invented load)")
-		return s.renderPage(c, http.StatusOK, evaluate(readForm(v), s.lookup(c)))
+		ev, err := s.evaluateWithin(c, readForm(v))
+		if err != nil {
+			return err
+		}
+		return s.renderPage(c, http.StatusOK, ev)
 	}
 	return s.renderPage(c, http.StatusOK, evaluate(exampleForm(), s.lookup(c)))
 }
@@ -148,7 +152,10 @@ func (s *Server) postPage(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	status := http.StatusOK
 	if len(ev.problems) > 0 {
 		status = http.StatusUnprocessableEntity
@@ -163,7 +170,10 @@ func (s *Server) postWorkspace(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	return s.render(c, http.StatusOK, components.Workspace(s.pageProps(ev, s.cellPicks(c, f))))
 }
 
@@ -175,7 +185,10 @@ func (s *Server) postResults(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	ev := evaluate(f, s.lookup(c))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
 	p := s.pageProps(ev, nil)
 	slots, units := formSlots(p.Form)
 	if len(ev.problems) > 0 && f.lastGood != "" {

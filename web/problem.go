@@ -35,6 +35,8 @@ const (
 	typeBadForm    = "/problems/unreadable-form"
 	typeNoExport   = "/problems/cannot-export"
 	typeBadLink    = "/problems/bad-share-link"
+	typeDeadline   = "/problems/compute-deadline"
+	typeStorage    = "/problems/storage"
 	typeNotFound   = "/problems/not-found"
 	typeConflict   = "/problems/conflict"
 	typeBadCell    = "/problems/invalid-cell"
@@ -72,6 +74,8 @@ func problemFor(err error) problem {
 		xe   *exportError
 		te   *tokenError
 		he   *echo.HTTPError
+		de   *deadlineError
+		coe  *crossOriginError
 		mibs = fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
 	)
 	var (
@@ -80,6 +84,10 @@ func problemFor(err error) problem {
 		mte *mediaTypeError
 	)
 	switch {
+	case store.StorageFault(err) != "":
+		return problem{Type: typeStorage, Title: "Nothing was saved", Status: http.StatusServiceUnavailable,
+			Detail: "The database could not be written: " + store.StorageFault(err) + ". Nothing of this change was kept, " +
+				"and what was saved before is intact. Free space on the disk or fix the data directory's permissions, then try again."}
 	case errors.Is(err, store.ErrNotFound):
 		return problem{Type: typeNotFound, Title: "Not found", Status: http.StatusNotFound,
 			Detail: "There is no " + strings.TrimSuffix(err.Error(), ": "+store.ErrNotFound.Error()) + " here; the list pages show what there is."}
@@ -126,6 +134,15 @@ func problemFor(err error) problem {
 	case errors.As(err, &te):
 		return problem{Type: typeBadLink, Title: "The design link could not be read", Status: http.StatusBadRequest,
 			Detail: strings.TrimPrefix(te.Error(), "share link: ") + "."}
+	case errors.As(err, &coe):
+		return problem{Type: typeCrossOrigin, Title: "Cross-site request refused", Status: http.StatusForbidden,
+			Detail: "This request came from a page on another site, and capbank takes no changes from other sites' pages. " +
+				"Use the form on capbank's own page; scripts and command-line clients that send no Origin header are not affected."}
+	case errors.As(err, &de):
+		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable,
+			Detail: "Sizing this design took longer than " + seconds(de.limit) + ", the most this server spends on one request. " +
+				"Make it smaller: a shorter load profile (fewer steps or a smaller repeat) or fewer candidate cells; " +
+				"or size it on the command line with capbank size, which sets no deadline."}
 	case errors.As(err, &fe):
 		return problem{Type: typeBadForm, Title: "The form could not be read", Status: http.StatusBadRequest,
 			Detail: "The request body is not a readable form; reload the page and try again."}
@@ -164,6 +181,9 @@ func plural(n int, one, many string) string {
 // do not ask for HTML, as an HTML page for a browser, and as the results
 // status line for an htmx request.
 func (s *Server) handleError(err error, c echo.Context) {
+	if errors.Is(err, errClientGone) {
+		return // nobody to answer
+	}
 	p := problemFor(err)
 	if p.Status >= 500 {
 		s.log.Error("request failed", "method", c.Request().Method, "path", c.Request().URL.Path, "error", err.Error())

@@ -34,6 +34,12 @@ type Config struct {
 	Store *store.Store
 	// Logger receives errors and panics; nil discards them.
 	Logger *slog.Logger
+	// ComputeTimeout is the most one request may spend sizing or writing
+	// an export before it is answered 503; zero is DefaultComputeTimeout.
+	ComputeTimeout time.Duration
+	// Token, when not empty, is the access token every write needs
+	// (guard.go); empty leaves writes open to anyone who reaches the server.
+	Token string
 }
 
 // Server is capbank's web server: the design page, its fragments for
@@ -46,6 +52,10 @@ type Server struct {
 	css, js string // versioned URLs of the stylesheet and htmx
 	// now dates the PDF report; tests fix it.
 	now func() time.Time
+	// computeTimeout is the compute deadline of one request (deadline.go).
+	computeTimeout time.Duration
+	// guard refuses cross-site writes and, with a token, writes without it.
+	guard *guard
 }
 
 // New builds the server and its routes.
@@ -58,9 +68,11 @@ func New(cfg Config) *Server {
 	e.HideBanner, e.HidePort = true, true
 	s := &Server{echo: e, log: log, dataDir: cfg.DataDir, store: cfg.Store,
 		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), now: time.Now}
+	s.computeTimeout = computeTimeoutOrDefault(cfg)
 	e.HTTPErrorHandler = s.handleError
 	e.Use(s.recoverPanics, limitBody, securityHeaders)
 	e.Use(middleware.GzipWithConfig(middleware.GzipConfig{Level: 5, MinLength: 1024}))
+	s.useGuards(e, cfg)
 
 	e.GET("/", s.getPage)
 	e.POST("/", s.postPage)

@@ -54,7 +54,11 @@ func Open(ctx context.Context, path string) (*Store, error) {
 // latest); tests use it to build older versions.
 func openTo(ctx context.Context, dbPath string, upTo int) (*Store, error) {
 	// _pragma parameters apply to every connection the pool opens.
-	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=busy_timeout(5000)&_pragma=synchronous(NORMAL)"
+	// synchronous(FULL): in WAL mode NORMAL syncs the log only at a
+	// checkpoint, so a commit already answered could roll back after a
+	// power loss; FULL syncs it at every commit (SQLite, PRAGMA
+	// synchronous). Writes here are a person saving a cell or a design.
+	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=busy_timeout(5000)&_pragma=synchronous(FULL)"
 	db, err := sql.Open("sqlite", dsn)
 	if err != nil {
 		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
