@@ -1,10 +1,8 @@
 package web
 
 import (
-	"bytes"
 	_ "embed"
 	"encoding/json"
-	"errors"
 	"io"
 	"mime"
 	"net/http"
@@ -27,20 +25,12 @@ func (s *Server) apiSize(c echo.Context) error {
 			return echo.NewHTTPError(http.StatusUnsupportedMediaType)
 		}
 	}
-	data, err := io.ReadAll(r.Body)
+	data, err := readBody(r, "design", "file")
 	if err != nil {
-		var mbe *http.MaxBytesError
-		if errors.As(err, &mbe) {
-			return err
-		}
-		return &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole file"}}}
+		return err
 	}
-	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	d, err := decodeDesignFile(data)
 	if err != nil {
-		var ve sizing.ValidationError
-		if errors.As(err, &ve) {
-			return &malformedError{errs: ve}
-		}
 		return err
 	}
 	d.ResolveCells(s.lookup(c)) // a design may name a library cell by its id

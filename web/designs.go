@@ -5,7 +5,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"mime"
 	"net/http"
 	"net/url"
@@ -41,12 +40,8 @@ func (s *Server) openSharedDesign(c echo.Context, token string) error {
 
 // formFromJSON decodes a design file into the form that shows it.
 func (s *Server) formFromJSON(c echo.Context, data []byte) (*designForm, error) {
-	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	d, err := decodeDesignFile(data)
 	if err != nil {
-		var ve sizing.ValidationError
-		if errors.As(err, &ve) {
-			return nil, &malformedError{errs: ve}
-		}
 		return nil, err
 	}
 	f, err := formFromDesign(d, s.lookup(c))
@@ -147,22 +142,12 @@ func (s *Server) postSaveDesign(c echo.Context) error {
 
 // postedDesign reads the design file a form carries in its share token d.
 func (s *Server) postedDesign(c echo.Context) ([]byte, *sizing.Design, error) {
-	tok := c.FormValue("d")
-	if tok == "" {
-		if err := formParseError(c.Request()); err != nil {
-			return nil, nil, err
-		}
-	}
-	data, err := share.Decode(tok)
+	data, err := postedToken(c)
 	if err != nil {
-		return nil, nil, &tokenError{err}
+		return nil, nil, err
 	}
-	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	d, err := decodeDesignFile(data)
 	if err != nil {
-		var ve sizing.ValidationError
-		if errors.As(err, &ve) {
-			return nil, nil, &malformedError{errs: ve}
-		}
 		return nil, nil, err
 	}
 	return data, d, nil
@@ -340,13 +325,9 @@ func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, erro
 	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
 		return b, &mediaTypeError{want: "application/json"}
 	}
-	data, err := io.ReadAll(c.Request().Body)
+	data, err := readBody(c.Request(), "design", "body")
 	if err != nil {
-		var mbe *http.MaxBytesError
-		if errors.As(err, &mbe) {
-			return b, err
-		}
-		return b, &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole body"}}}
+		return b, err
 	}
 	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
 	dec.DisallowUnknownFields()

@@ -3,7 +3,6 @@ package web
 import (
 	"bytes"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"mime"
@@ -60,38 +59,20 @@ func (s *Server) readExportDesign(c echo.Context) (*sizing.Design, error) {
 	r := c.Request()
 	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
 	var data []byte
+	var err error
 	switch mt {
 	case "application/json", "text/json":
-		b, err := io.ReadAll(r.Body)
-		if err != nil {
-			var mbe *http.MaxBytesError
-			if errors.As(err, &mbe) {
-				return nil, err
-			}
-			return nil, &malformedError{errs: sizing.ValidationError{{Field: "design", Rule: "read", Message: "could not be read; send the whole file"}}}
-		}
-		data = b
+		data, err = readBody(r, "design", "file")
 	case "application/x-www-form-urlencoded", "multipart/form-data":
-		tok := c.FormValue("d")
-		if tok == "" {
-			if err := formParseError(r); err != nil {
-				return nil, err
-			}
-		}
-		b, err := share.Decode(tok)
-		if err != nil {
-			return nil, &tokenError{err}
-		}
-		data = b
+		data, err = postedToken(c)
 	default:
 		return nil, echo.NewHTTPError(http.StatusUnsupportedMediaType)
 	}
-	d, err := sizing.DecodeDesign(bytes.NewReader(data))
 	if err != nil {
-		var ve sizing.ValidationError
-		if errors.As(err, &ve) {
-			return nil, &malformedError{errs: ve}
-		}
+		return nil, err
+	}
+	d, err := decodeDesignFile(data)
+	if err != nil {
 		return nil, err
 	}
 	d.ResolveCells(s.lookup(c))
