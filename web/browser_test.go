@@ -290,6 +290,12 @@ func TestBrowserEditsStepsAndSorts(t *testing.T) {
 	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`button[value="remove-step:`+itoa(before)+`"]`))), "removing it")
 	must(t, chromedp.Do(ctx, chromedp.WaitNotPresent(chromedp.ID("f-load-steps-"+itoa(before)+"-value"))), "waiting for the row to go")
 
+	// htmx sets up the swapped-in buttons when the swap settles; a key
+	// pressed before then is a plain form post.
+	_, err := chromedp.Run(ctx, chromedp.Poll[bool](`!document.querySelector(".htmx-request, .htmx-swapping, .htmx-settling, .htmx-added")`, chromedp.WithPollingTimeout(10*time.Second)))
+	must(t, err, "waiting for the swap to settle")
+	time.Sleep(100 * time.Millisecond)
+
 	// Sort by mass with the keyboard: focus the button, press Enter.
 	must(t, chromedp.Do(ctx, chromedp.Focus(chromedp.CSS(`button[name=sort_by][value=mass]`)), chromedp.KeyEvent("\r")), "sorting by mass")
 	waitText(t, ctx, "button[name=sort_by][aria-pressed=true]", "Mass", "pressing the sort button")
