@@ -20,7 +20,12 @@ const DefaultComputeTimeout = 10 * time.Second
 
 // deadlineError is a request whose computation ran past the server's
 // compute deadline; it is answered 503 with what to make smaller.
-type deadlineError struct{ limit time.Duration }
+type deadlineError struct {
+	limit time.Duration
+	// measurement is set for the analysis of a measurement log, whose
+	// message asks for a shorter log rather than a smaller design.
+	measurement bool
+}
 
 func (e *deadlineError) Error() string {
 	return "the computation took longer than " + seconds(e.limit)
@@ -97,6 +102,22 @@ func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, err
 		lib.close()
 	}
 	return ev, err
+}
+
+// measureWithin is measure under the compute deadline: a measurement log
+// may hold up to sizing.MeasurementCSVMaxRows rows, which takes seconds to
+// read and fit. As in evaluateWithin, the cell lookup is closed when the
+// request is over, so a fit left running in the background never reaches
+// the request's context.
+func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
+	lib := &closableLookup{lookup: s.lookup(c)}
+	defer lib.close()
+	out, err := compute(s, c, func() (*measureOutcome, error) { return measure(in, lib.find) })
+	var de *deadlineError
+	if errors.As(err, &de) {
+		de.measurement = true
+	}
+	return out, err
 }
 
 // closableLookup is a cell lookup that finds nothing once closed; close

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"log/slog"
+	"math"
 	"net/http"
 	"net/http/httptest"
 	"net/url"
@@ -238,5 +239,66 @@ func TestComputeDeadlineLinks(t *testing.T) {
 		rec := get(t, s, target)
 		wantStatus(t, rec, http.StatusServiceUnavailable)
 		wantDeadlineMessage(t, text(parse(t, rec), "[data-testid=error-page]"), "1 ms")
+	}
+}
+
+// heavyLog is a constant-current discharge log of an ideal 100 F, 25 mΩ
+// cell at 1 A from 2.7 V (invented values, as testdata/measure/
+// cc-discharge.csv), logged every millisecond for 200 s: 200 001 rows,
+// some 4 MB, tens of milliseconds to read and fit.
+func heavyLog() string {
+	var b strings.Builder
+	b.WriteString("# capbank test log: invented data.\ntime_s,voltage_v,current_a\n-1,2.7,0\n")
+	for i := range 200_000 {
+		t := float64(i) * 1e-3
+		fmt.Fprintf(&b, "%.3f,%.5f,1\n", t, 2.7-1*0.025-t/100)
+	}
+	return b.String()
+}
+
+// The analysis of a measurement log is held to the compute deadline too:
+// the API answers a 503 problem document, the page an error page, each
+// asking for a shorter log. Without the deadline both would answer 200
+// after the full fit, as they do with the default deadline.
+func TestComputeDeadlineMeasure(t *testing.T) {
+	t.Parallel()
+	log := heavyLog()
+	vals := url.Values{"method": {"constant-current"}, "rated_v": {"2.7"}}
+	s, logs := newServerWith(t, Config{ComputeTimeout: time.Millisecond})
+	for _, path := range []string{"/api/v1/measure", "/measure"} {
+		t.Run(path, func(t *testing.T) {
+			rec := postMultipart(t, s, path, vals, "log_csv", "long.csv", log)
+			wantStatus(t, rec, http.StatusServiceUnavailable)
+			body := rec.Body.String()
+			if path == "/measure" {
+				body = text(parse(t, rec), "[data-testid=error-page]")
+			}
+			for _, want := range []string{"Analysing this measurement log took longer than 1 ms", "trim it to the test", "capbank measure"} {
+				if !strings.Contains(body, want) {
+					t.Errorf("answer lacks %q:\n%.2000s", want, body)
+				}
+			}
+		})
+	}
+	if !strings.Contains(logs.String(), `method=POST path=/api/v1/measure limit=1ms`) {
+		t.Errorf("no log line for the deadline:\n%s", logs)
+	}
+
+	// The default deadline (10 s) leaves the same log time to be fitted:
+	// C = I·Δt/ΔV = 100 F by the log's model (IEC 62391-1 constant-current
+	// method), to 1 %.
+	def, _ := newTestServer(t)
+	rec := postMultipart(t, def, "/api/v1/measure", vals, "log_csv", "long.csv", log)
+	wantStatus(t, rec, http.StatusOK)
+	var out struct {
+		Result struct {
+			CapacitanceF float64 `json:"capacitance_f"`
+		} `json:"result"`
+	}
+	if err := json.Unmarshal(rec.Body.Bytes(), &out); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(out.Result.CapacitanceF-100) > 1 {
+		t.Errorf("C = %v F, want 100 F ± 1 %%", out.Result.CapacitanceF)
 	}
 }

@@ -227,7 +227,7 @@ func (s *Server) apiMeasure(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	out, err := measure(in, s.lookup(c))
+	out, err := s.measureWithin(c, in)
 	if err != nil {
 		return err
 	}
@@ -244,7 +244,7 @@ func (s *Server) postMeasure(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	out, err := measure(in, s.lookup(c))
+	out, err := s.measureWithin(c, in)
 	var ve sizing.ValidationError
 	if errors.As(err, &ve) {
 		return s.renderMeasure(c, http.StatusUnprocessableEntity, in, nil, ve)
