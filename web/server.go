@@ -70,7 +70,9 @@ func New(cfg Config) *Server {
 		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), now: time.Now}
 	s.computeTimeout = computeTimeoutOrDefault(cfg)
 	e.HTTPErrorHandler = s.handleError
-	e.Use(s.recoverPanics, limitBody, securityHeaders)
+	// The security headers first, so that every answer carries them: a
+	// refused body (413) and a recovered panic (500) too.
+	e.Use(securityHeaders, s.recoverPanics, limitBody)
 	e.Use(middleware.GzipWithConfig(middleware.GzipConfig{Level: 5, MinLength: 1024}))
 	s.useGuards(e, cfg)
 
