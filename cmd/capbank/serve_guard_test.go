@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"io"
 	"log/slog"
 	"net"
@@ -31,6 +32,34 @@ func TestHTTPServerTimeouts(t *testing.T) {
 		if srv.WriteTimeout <= srv.ReadTimeout+compute {
 			t.Errorf("compute %s: write timeout %s is not beyond read %s + compute", compute, srv.WriteTimeout, srv.ReadTimeout)
 		}
+	}
+}
+
+// A client that opens a connection and never finishes its headers (a
+// slow-headers attack) is dropped by the server after readHeaderTimeout,
+// rather than holding the connection for ever.
+func TestSlowHeadersAreDropped(t *testing.T) {
+	t.Parallel()
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	srv := newHTTPServer(http.NotFoundHandler(), slog.New(slog.DiscardHandler), time.Second)
+	go srv.Serve(ln)
+	defer srv.Close()
+	conn, err := net.Dial("tcp", ln.Addr().String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	if _, err := io.WriteString(conn, "GET / HTTP/1.1\r\nHost: 127.0.0.1\r\nX-Never-Ending: "); err != nil {
+		t.Fatal(err)
+	}
+	conn.SetReadDeadline(time.Now().Add(readHeaderTimeout + 20*time.Second))
+	_, err = io.ReadAll(conn) // returns when the server closes the connection
+	var ne net.Error
+	if errors.As(err, &ne) && ne.Timeout() {
+		t.Fatalf("the server still held the connection %v after the headers began; want it closed after %v", readHeaderTimeout+20*time.Second, readHeaderTimeout)
 	}
 }
 
