@@ -1,8 +1,13 @@
 package web
 
 import (
+	"bytes"
+	"compress/gzip"
 	"encoding/json"
+	"io"
+	"io/fs"
 	"net/http"
+	"net/http/httptest"
 	"os"
 	"reflect"
 	"strconv"
@@ -12,6 +17,7 @@ import (
 	"github.com/PuerkitoBio/goquery"
 
 	"capbank/components"
+	"capbank/static"
 	"capbank/sizing"
 	"capbank/web/democells"
 )
@@ -521,6 +527,62 @@ func TestStaticFiles(t *testing.T) {
 	}
 	wantStatus(t, get(t, s, "/static/nope.css"), http.StatusNotFound)
 	wantStatus(t, get(t, s, "/static/../web/api.go"), http.StatusNotFound)
+}
+
+// A static file is sent compressed to a client that accepts gzip (the
+// stored best-level form, which unpacks to the file byte for byte) and as
+// it is to one that does not or refuses gzip with q=0 (RFC 9110, 12.5.3);
+// either way with Vary: Accept-Encoding so that a cache keeps them apart.
+func TestStaticFilesCompressed(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	want, err := fs.ReadFile(static.Files, "htmx.min.js")
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		accept string
+		gzip   bool
+	}{
+		{"", false},
+		{"gzip", true},
+		{"br, gzip, deflate", true},
+		{"gzip;q=0.5, identity", true},
+		{"gzip;q=0", false},
+		{"GZIP ; q=0.000", false},
+		{"deflate", false},
+	}
+	for _, c := range cases {
+		req := httptest.NewRequest(http.MethodGet, s.js, nil)
+		if c.accept != "" {
+			req.Header.Set("Accept-Encoding", c.accept)
+		}
+		rec := serve(s, req)
+		wantStatus(t, rec, http.StatusOK)
+		body := rec.Body.Bytes()
+		if enc := rec.Header().Get("Content-Encoding"); (enc == "gzip") != c.gzip {
+			t.Errorf("Accept-Encoding %q: Content-Encoding %q, want gzip %v", c.accept, enc, c.gzip)
+			continue
+		}
+		if c.gzip {
+			zr, err := gzip.NewReader(bytes.NewReader(body))
+			if err != nil {
+				t.Fatalf("Accept-Encoding %q: not gzip: %v", c.accept, err)
+			}
+			if body, err = io.ReadAll(zr); err != nil {
+				t.Fatal(err)
+			}
+			if n := rec.Body.Len(); n > len(want)/2 {
+				t.Errorf("compressed to %d of %d bytes, want less than half", n, len(want))
+			}
+		}
+		if !bytes.Equal(body, want) {
+			t.Errorf("Accept-Encoding %q: %d bytes unpacked, not the file's %d", c.accept, len(body), len(want))
+		}
+		if v := rec.Header().Get("Vary"); !strings.Contains(v, "Accept-Encoding") {
+			t.Errorf("Accept-Encoding %q: Vary %q", c.accept, v)
+		}
+	}
 }
 
 // The page with its stylesheet and script stays light: measured as sent
