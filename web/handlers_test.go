@@ -17,8 +17,8 @@ import (
 	"github.com/PuerkitoBio/goquery"
 
 	"capbank/components"
-	"capbank/static"
 	"capbank/sizing"
+	"capbank/static"
 	"capbank/web/democells"
 )
 
