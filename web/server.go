@@ -203,15 +203,16 @@ func (s *Server) staticFile(c echo.Context) error {
 	} else {
 		h.Set("Cache-Control", "public, max-age=300")
 	}
-	if a.gz == nil {
-		return c.Blob(http.StatusOK, a.ctype, a.data)
+	body := a.data
+	if a.gz != nil {
+		h.Add(echo.HeaderVary, echo.HeaderAcceptEncoding)
+		if c.Request().Method != http.MethodHead && acceptsGzip(c.Request()) {
+			h.Set(echo.HeaderContentEncoding, "gzip")
+			body = a.gz
+		}
 	}
-	h.Add(echo.HeaderVary, echo.HeaderAcceptEncoding)
-	if c.Request().Method != http.MethodHead && acceptsGzip(c.Request()) {
-		h.Set(echo.HeaderContentEncoding, "gzip")
-		return c.Blob(http.StatusOK, a.ctype, a.gz)
-	}
-	return c.Blob(http.StatusOK, a.ctype, a.data)
+	h.Set(echo.HeaderContentLength, strconv.Itoa(len(body)))
+	return c.Blob(http.StatusOK, a.ctype, body)
 }
 
 func (s *Server) healthz(c echo.Context) error {
