@@ -12,6 +12,7 @@ import (
 	"runtime/debug"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/a-h/templ"
@@ -29,10 +30,10 @@ const MaxBodyBytes = 16 << 20
 // serverGzipLevel is the gzip level of the answers the server writes
 // afresh. The fastest level: on a 17 kB sizing report level 5 took about
 // half of the answer's server time, and level 1 raised the sizing rate of
-// capbank loadtest at concurrency 64 from 1151 to 1627 answers a second
-// on a 2-core machine, for 18 % more bytes on the first page (README,
-// Performance). Static files are compressed once, at the best level
-// (staticAssets).
+// capbank loadtest at concurrency 64 from 1151–1219 to 1419–1627 answers
+// a second on a 2-core machine, for 7 % more bytes on the first page
+// (README, Performance). Static files are compressed once, at the best
+// level (staticAssets).
 const serverGzipLevel = gzip.BestSpeed
 
 // gzipMinBytes is the smallest answer worth compressing: below about a
@@ -85,7 +86,7 @@ func New(cfg Config) *Server {
 	e := echo.New()
 	e.HideBanner, e.HidePort = true, true
 	s := &Server{echo: e, log: log, dataDir: cfg.DataDir, store: cfg.Store,
-		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), assets: staticAssets(), now: time.Now}
+		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), assets: compressedAssets(), now: time.Now}
 	s.computeTimeout = computeTimeoutOrDefault(cfg)
 	e.HTTPErrorHandler = s.handleError
 	// The security headers first, so that every answer carries them: a
@@ -172,6 +173,10 @@ func staticAssets() map[string]staticAsset {
 	}
 	return assets
 }
+
+// compressedAssets is staticAssets, worked out once for every server the
+// process builds.
+var compressedAssets = sync.OnceValue(staticAssets)
 
 // acceptsGzip is true when the request's Accept-Encoding lists gzip
 // without refusing it by q=0 (RFC 9110, 12.5.3).
