@@ -92,27 +92,27 @@ func compute[T any](s *Server, c echo.Context, fn func() (T, error)) (T, error) 
 	}
 }
 
-// evaluateWithin is evaluate under the compute deadline. The cell lookup
-// is closed once the deadline passes, so a computation left running in
-// the background never reaches the request's context (see compute).
-func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, error) {
+// computeWithLookup is compute for a computation that looks cells up in
+// the library: fn gets a lookup that is closed once the request is over,
+// so a computation left running in the background past the deadline never
+// reaches the request's context (see compute).
+func computeWithLookup[T any](s *Server, c echo.Context, fn func(find cellLookup) (T, error)) (T, error) {
 	lib := &closableLookup{lookup: s.lookup(c)}
-	ev, err := compute(s, c, func() (*evaluation, error) { return evaluate(f, lib.find), nil })
-	if err != nil {
-		lib.close()
-	}
-	return ev, err
+	defer lib.close()
+	return compute(s, c, func() (T, error) { return fn(lib.find) })
+}
+
+// evaluateWithin is evaluate under the compute deadline.
+func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, error) {
+	return computeWithLookup(s, c, func(find cellLookup) (*evaluation, error) { return evaluate(f, find), nil })
 }
 
 // measureWithin is measure under the compute deadline: a measurement log
 // may hold up to sizing.MeasurementCSVMaxRows rows, which takes seconds to
-// read and fit. As in evaluateWithin, the cell lookup is closed when the
-// request is over, so a fit left running in the background never reaches
-// the request's context.
+// read and fit. A deadline error is marked as a measurement's, whose
+// message asks for a shorter log.
 func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
-	lib := &closableLookup{lookup: s.lookup(c)}
-	defer lib.close()
-	out, err := compute(s, c, func() (*measureOutcome, error) { return measure(in, lib.find) })
+	out, err := computeWithLookup(s, c, func(find cellLookup) (*measureOutcome, error) { return measure(in, find) })
 	var de *deadlineError
 	if errors.As(err, &de) {
 		de.measurement = true

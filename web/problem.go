@@ -138,16 +138,16 @@ func problemFor(err error) problem {
 		return problem{Type: typeCrossOrigin, Title: "Cross-site request refused", Status: http.StatusForbidden,
 			Detail: "This request came from a page on another site, and capbank takes no changes from other sites' pages. " +
 				"Use the form on capbank's own page; scripts and command-line clients that send no Origin header are not affected."}
-	case errors.As(err, &de) && de.measurement:
-		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable,
-			Detail: "Analysing this measurement log took longer than " + seconds(de.limit) + ", the most this server spends on one request. " +
-				"Make the log shorter: trim it to the test itself or resample it to fewer rows; " +
-				"or analyse it on the command line with capbank measure, which sets no deadline."}
 	case errors.As(err, &de):
-		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable,
-			Detail: "Sizing this design took longer than " + seconds(de.limit) + ", the most this server spends on one request. " +
-				"Make it smaller: a shorter load profile (fewer steps or a smaller repeat) or fewer candidate cells; " +
-				"or size it on the command line with capbank size, which sets no deadline."}
+		detail := "Sizing this design took longer than " + seconds(de.limit) + ", the most this server spends on one request. " +
+			"Make it smaller: a shorter load profile (fewer steps or a smaller repeat) or fewer candidate cells; " +
+			"or size it on the command line with capbank size, which sets no deadline."
+		if de.measurement {
+			detail = "Analysing this measurement log took longer than " + seconds(de.limit) + ", the most this server spends on one request. " +
+				"Make the log shorter: trim it to the test itself or resample it to fewer rows; " +
+				"or analyse it on the command line with capbank measure, which sets no deadline."
+		}
+		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable, Detail: detail}
 	case errors.As(err, &fe):
 		return problem{Type: typeBadForm, Title: "The form could not be read", Status: http.StatusBadRequest,
 			Detail: "The request body is not a readable form; reload the page and try again."}

@@ -118,11 +118,11 @@ func (s *Server) ServeHTTP(w http.ResponseWriter, r *http.Request) { s.echo.Serv
 // assetURL is a static file's URL with a hash of its content, so browsers
 // may keep it for long and still fetch a new version at once.
 func assetURL(name string) string {
-	data, err := fs.ReadFile(static.Files, name)
-	if err != nil {
+	a, ok := compressedAssets()[name]
+	if !ok {
 		panic("web: static file missing: " + name) // embedded at build time
 	}
-	sum := sha256.Sum256(data)
+	sum := sha256.Sum256(a.data)
 	return "/static/" + name + "?v=" + hex.EncodeToString(sum[:6])
 }
 
