@@ -1,6 +1,9 @@
 package sizing
 
-import "math"
+import (
+	"math"
+	"sync/atomic"
+)
 
 // SeriesCount returns the fewest cells in series that keep each cell at or
 // below ceilingV (V) when the string sits at maxV (V):
@@ -95,6 +98,9 @@ type bankModel struct {
 	cpA, cpB, inv1RG float64
 	invC             float64 // 1/c, so that steps multiply instead of divide
 	work             int     // steps solved by runtime, for the benchmarks
+	// halt, when set, stops every step at once (see solveStep); nil for
+	// a model that cannot be cancelled.
+	halt *atomic.Bool
 }
 
 // newBankModel returns the bank model of capacitance c (F), series

@@ -104,6 +104,9 @@ func (p *plan) gatherBound() {
 func (p *plan) deficit(rString, drainW float64) float64 {
 	deficit, need := 0.0, 0.0
 	for range p.repeat {
+		if p.halt.Load() { // cancelled: the sizing is thrown away
+			return need
+		}
 		for _, r := range p.bound.runs {
 			deficit = max(0, deficit+r.e+r.eR*rString+drainW*r.dur)
 			need = max(need, deficit)

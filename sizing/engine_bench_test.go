@@ -2,6 +2,7 @@ package sizing
 
 import (
 	"bytes"
+	"context"
 	"math"
 	"os"
 	"runtime"
@@ -45,7 +46,7 @@ func BenchmarkLibrary200Day(b *testing.B) {
 			var before, after runtime.MemStats
 			runtime.ReadMemStats(&before)
 			for b.Loop() {
-				_, n, err := sizeWith(d, w.workers)
+				_, n, err := sizeWith(context.Background(), d, w.workers)
 				if err != nil {
 					b.Fatal(err)
 				}

@@ -1,6 +1,7 @@
 package sizing
 
 import (
+	"context"
 	"fmt"
 	"reflect"
 	"testing"
@@ -101,7 +102,7 @@ func TestParallelSizingMatchesSerial(t *testing.T) {
 		c := &d.Cells[i]
 		c.LeakageA = fp(c.CapacitanceF * c.RatedV / 500) // g = C/(500 s)
 	}
-	serial, nSerial, err := sizeWith(d, 1)
+	serial, nSerial, err := sizeWith(context.Background(), d, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -115,7 +116,7 @@ func TestParallelSizingMatchesSerial(t *testing.T) {
 		t.Fatalf("%d of %d candidates feasible; the case must have both kinds", feasible, len(serial.Candidates))
 	}
 	for _, workers := range []int{2, 3, 7} {
-		par, nPar, err := sizeWith(d, workers)
+		par, nPar, err := sizeWith(context.Background(), d, workers)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,6 +1,7 @@
 package sizing
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -31,6 +32,7 @@ type plan struct {
 	ambientC float64
 	work     atomic.Int64 // steps solved, for the benchmarks
 	bound    boundSums    // the cell-independent parts of stringBound
+	halt     atomic.Bool  // set when the sizing is cancelled (SizeContext)
 }
 
 func newPlan(d *Design) *plan {
@@ -103,24 +105,39 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 // depend on the order they finish in. A design that fails Validate returns
 // its ValidationError and no report.
 func Size(d *Design) (*Report, error) {
-	r, _, err := size(d)
+	return SizeContext(context.Background(), d)
+}
+
+// SizeContext is Size that stops when ctx is done: every loop of the
+// solver checks a flag at each step it solves (one atomic load, a few
+// nanoseconds beside the logarithms of a step), so the workers return
+// within a step or so of the cancellation. A cancelled sizing returns
+// ctx's error, wrapped, and no report.
+func SizeContext(ctx context.Context, d *Design) (*Report, error) {
+	r, _, err := sizeWith(ctx, d, runtime.GOMAXPROCS(0))
 	return r, err
 }
 
 // size is Size, also returning the number of steps it solved.
 func size(d *Design) (*Report, int64, error) {
-	return sizeWith(d, runtime.GOMAXPROCS(0))
+	return sizeWith(context.Background(), d, runtime.GOMAXPROCS(0))
 }
 
-// sizeWith is size with the candidates shared among workers goroutines
-// (at least one; never more than there are cells). Each candidate is
-// sized on its own and written to its own slot, so the report is the
-// same for any number of workers.
-func sizeWith(d *Design, workers int) (*Report, int64, error) {
+// sizeWith is SizeContext with the candidates shared among workers
+// goroutines (at least one; never more than there are cells), also
+// returning the number of steps solved. Each candidate is sized on its
+// own and written to its own slot, so the report is the same for any
+// number of workers.
+func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, error) {
 	if err := Validate(d); err != nil {
 		return nil, 0, err
 	}
+	if err := ctx.Err(); err != nil {
+		return nil, 0, fmt.Errorf("sizing: %w", err)
+	}
 	p := newPlan(d)
+	stop := context.AfterFunc(ctx, func() { p.halt.Store(true) })
+	defer stop()
 	cands := make([]Candidate, len(d.Cells))
 	workers = max(1, min(workers, len(d.Cells)))
 	var wg sync.WaitGroup
@@ -133,10 +150,16 @@ func sizeWith(d *Design, workers int) (*Report, int64, error) {
 		})
 	}
 	for i := range d.Cells {
+		if p.halt.Load() {
+			break
+		}
 		next <- i
 	}
 	close(next)
 	wg.Wait()
+	if p.halt.Load() {
+		return nil, 0, fmt.Errorf("sizing: %w", context.Cause(ctx))
+	}
 
 	rank(cands, p.rankBy)
 	r := &Report{
@@ -200,10 +223,11 @@ type cellLimits struct {
 	passTime float64
 	gLeak    float64 // leakage conductance of one cell alone, S
 	bal      balancingPlan
+	halt     *atomic.Bool // the plan's cancel flag, passed to every bank model
 }
 
 func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
-	l := cellLimits{ceiling: c.RatedV, coldK: 1, passTime: p.period * float64(p.repeat)}
+	l := cellLimits{ceiling: c.RatedV, coldK: 1, passTime: p.period * float64(p.repeat), halt: &p.halt}
 	if p.d.CellMaxV != nil {
 		if *p.d.CellMaxV <= c.RatedV {
 			l.ceiling = *p.d.CellMaxV
@@ -258,7 +282,9 @@ func (p *plan) worstBank(c *Cell, s, par int) bankModel {
 }
 
 func (l *cellLimits) bank(par int) bankModel {
-	return newBankModel(BankCapacitance(l.cw, l.s, par), BankESR(l.rw, l.s, par), l.gCell*float64(par)/float64(l.s))
+	m := newBankModel(BankCapacitance(l.cw, l.s, par), BankESR(l.rw, l.s, par), l.gCell*float64(par)/float64(l.s))
+	m.halt = l.halt
+	return m
 }
 
 // trial is one string count tried.

@@ -59,10 +59,11 @@ const (
 	stopNone    stopReason = iota
 	stopVoltage            // terminal voltage reached min_v
 	stopPower              // maximum-power point of a constant-power load
+	stopHalted             // the sizing was cancelled (SizeContext); nothing was solved
 )
 
 func (s stopReason) String() string {
-	return [...]string{"", "voltage", "power"}[s]
+	return [...]string{"", "voltage", "power", "halted"}[s]
 }
 
 // stepOutcome is what a step did to the bank.
@@ -85,7 +86,15 @@ type stepOutcome struct {
 // terminal voltage minV and holding charging steps at capacitor voltage
 // maxV, and writes what happened to o. It never produces NaN or Inf for
 // finite, physical inputs, and allocates nothing.
+//
+// Once the model's halt flag is set (a cancelled SizeContext) every step
+// stops at once, unsolved, so each loop over the steps ends at its next
+// step; the report of a halted sizing is thrown away.
 func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64, o *stepOutcome) {
+	if m.halt != nil && m.halt.Load() {
+		*o = stepOutcome{v1: v0, uStart: v0, uEnd: v0, tTop: -1, stop: stopHalted}
+		return
+	}
 	*o = stepOutcome{t: st.dur, tTop: -1}
 	switch st.kind {
 	case kindCurrent:

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	_ "embed"
 	"encoding/json"
 	"io"
@@ -34,7 +35,7 @@ func (s *Server) apiSize(c echo.Context) error {
 		return err
 	}
 	d.ResolveCells(s.lookup(c)) // a design may name a library cell by its id
-	rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(d) })
+	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, d) })
 	if err != nil {
 		return err
 	}

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -120,7 +121,7 @@ func (s *Server) getCompare(c echo.Context) error {
 	if cells != nil {
 		dd := *d
 		dd.Cells = cells
-		rep, err := compute(s, c, func() (*sizing.Report, error) { return sizing.Size(&dd) })
+		rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, &dd) })
 		var de *deadlineError
 		if errors.As(err, &de) || errors.Is(err, errClientGone) {
 			return err

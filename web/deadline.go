@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"runtime"
 	"runtime/debug"
 	"strconv"
 	"sync"
@@ -45,19 +46,38 @@ func seconds(d time.Duration) string {
 // nothing is logged.
 var errClientGone = errors.New("the client closed the request")
 
-// compute runs fn under the server's compute deadline, counted from the
-// call, and returns its result; a *deadlineError when the deadline passes
-// first; errClientGone when the client leaves first.
+// compute runs fn under the server's compute deadline and returns its
+// result; a *deadlineError when the deadline passes first; a *busyError
+// when every compute slot stays taken for the whole queue wait;
+// errClientGone when the client leaves first.
 //
-// sizing.Size takes no context and cannot be stopped part way, so fn runs
-// in a goroutine of its own and compute selects on its result and the
-// deadline. A computation that misses the deadline runs on to its end in
-// the background and its result is dropped; the solver's own bounds
-// (sizing.MaxPassSteps, sizing.MaxParallel, the limits on steps and cells
-// per design) bound how long that is. fn must therefore not touch the
-// echo.Context, which echo reuses for the next request once the handler
-// returns: read everything it needs from the request first.
-func compute[T any](s *Server, c echo.Context, fn func() (T, error)) (T, error) {
+// At most Config.ComputeSlots computations run at once (one per core by
+// default); a request that finds them all taken waits for one up to
+// queueWait, then is answered 503 with Retry-After, so a few heavy
+// anonymous requests can hold the cores but never the server.
+//
+// The deadline is counted from when the computation gets its slot. fn
+// gets a context that is cancelled at the deadline or when the client
+// leaves; sizing.SizeContext checks it at every step it solves, so a
+// computation that misses the deadline stops within a step of it and its
+// goroutine returns. compute waits for it to return before giving the
+// slot back, so a slot is only ever free when nothing runs in it. fn must
+// not touch the echo.Context, which echo reuses for the next request
+// once the handler returns: read everything it needs from the request
+// first.
+func compute[T any](s *Server, c echo.Context, fn func(ctx context.Context) (T, error)) (T, error) {
+	var zero T
+	method, path := c.Request().Method, c.Request().URL.Path
+	if c.Request().Context().Err() != nil {
+		return zero, errClientGone
+	}
+	if err := s.slots.acquire(c.Request().Context()); err != nil {
+		if errors.Is(err, errBusy) {
+			s.log.Warn("compute slots busy", "method", method, "path", path, "slots", cap(s.slots.c))
+			return zero, &busyError{retryAfter: s.slots.wait}
+		}
+		return zero, errClientGone
+	}
 	ctx, cancel := context.WithTimeout(c.Request().Context(), s.computeTimeout)
 	defer cancel()
 	type result struct {
@@ -65,8 +85,8 @@ func compute[T any](s *Server, c echo.Context, fn func() (T, error)) (T, error) 
 		err error
 	}
 	done := make(chan result, 1) // buffered: a late result is dropped, not blocked on
-	method, path := c.Request().Method, c.Request().URL.Path
 	go func() {
+		defer s.slots.release()
 		defer func() {
 			// A panic here is outside echo's handler and its recover
 			// middleware: without this it would end the process.
@@ -76,35 +96,97 @@ func compute[T any](s *Server, c echo.Context, fn func() (T, error)) (T, error) 
 				done <- result{err: errPanic}
 			}
 		}()
-		v, err := fn()
+		v, err := fn(ctx)
+		if dl, _ := ctx.Deadline(); ctx.Err() != nil {
+			s.log.Info("computation stopped", "method", method, "path", path, "after_deadline", time.Since(dl).String())
+		}
 		done <- result{v, err}
 	}()
 	select {
 	case r := <-done:
-		return r.v, r.err
-	case <-ctx.Done():
-		var zero T
-		if errors.Is(ctx.Err(), context.DeadlineExceeded) {
-			s.log.Warn("compute deadline passed", "method", method, "path", path, "limit", s.computeTimeout.String())
-			return zero, &deadlineError{limit: s.computeTimeout}
+		if ctx.Err() == nil || r.err == nil {
+			return r.v, r.err
 		}
-		return zero, errClientGone
+	case <-ctx.Done():
+	}
+	if errors.Is(ctx.Err(), context.DeadlineExceeded) {
+		s.log.Warn("compute deadline passed", "method", method, "path", path, "limit", s.computeTimeout.String())
+		return zero, &deadlineError{limit: s.computeTimeout}
+	}
+	return zero, errClientGone
+}
+
+// errBusy is every compute slot staying taken for the whole queue wait.
+var errBusy = errors.New("every compute slot is taken")
+
+// busyError is a computation refused because the server was already
+// computing as much as it allows at once; it is answered 503 with
+// Retry-After.
+type busyError struct{ retryAfter time.Duration }
+
+func (e *busyError) Error() string {
+	return "the server is computing as many designs as it allows at once"
+}
+
+// computeSlots bounds the computations running at once: a buffered
+// channel used as a counting semaphore.
+type computeSlots struct {
+	c    chan struct{}
+	wait time.Duration // how long a request waits for a slot
+}
+
+// DefaultQueueWait is how long a computation waits for a free compute
+// slot before it is answered 503.
+const DefaultQueueWait = 2 * time.Second
+
+func newComputeSlots(n int, wait time.Duration) *computeSlots {
+	if n <= 0 {
+		n = runtime.GOMAXPROCS(0)
+	}
+	if wait <= 0 {
+		wait = DefaultQueueWait
+	}
+	return &computeSlots{c: make(chan struct{}, n), wait: wait}
+}
+
+// acquire takes a slot, waiting up to the queue wait; errBusy when none
+// came free, ctx's error when the client left first.
+func (q *computeSlots) acquire(ctx context.Context) error {
+	select {
+	case q.c <- struct{}{}:
+		return nil
+	default:
+	}
+	t := time.NewTimer(q.wait)
+	defer t.Stop()
+	select {
+	case q.c <- struct{}{}:
+		return nil
+	case <-t.C:
+		return errBusy
+	case <-ctx.Done():
+		return ctx.Err()
 	}
 }
+
+func (q *computeSlots) release() { <-q.c }
 
 // computeWithLookup is compute for a computation that looks cells up in
 // the library: fn gets a lookup that is closed once the request is over,
 // so a computation left running in the background past the deadline never
 // reaches the request's context (see compute).
-func computeWithLookup[T any](s *Server, c echo.Context, fn func(find cellLookup) (T, error)) (T, error) {
+func computeWithLookup[T any](s *Server, c echo.Context, fn func(ctx context.Context, find cellLookup) (T, error)) (T, error) {
 	lib := &closableLookup{lookup: s.lookup(c)}
 	defer lib.close()
-	return compute(s, c, func() (T, error) { return fn(lib.find) })
+	return compute(s, c, func(ctx context.Context) (T, error) { return fn(ctx, lib.find) })
 }
 
 // evaluateWithin is evaluate under the compute deadline.
 func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, error) {
-	return computeWithLookup(s, c, func(find cellLookup) (*evaluation, error) { return evaluate(f, find), nil })
+	return computeWithLookup(s, c, func(ctx context.Context, find cellLookup) (*evaluation, error) {
+		ev := evaluate(ctx, f, find)
+		return ev, ctx.Err()
+	})
 }
 
 // measureWithin is measure under the compute deadline: a measurement log
@@ -112,7 +194,7 @@ func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, err
 // read and fit. A deadline error is marked as a measurement's, whose
 // message asks for a shorter log.
 func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
-	out, err := computeWithLookup(s, c, func(find cellLookup) (*measureOutcome, error) { return measure(in, find) })
+	out, err := computeWithLookup(s, c, func(_ context.Context, find cellLookup) (*measureOutcome, error) { return measure(in, find) })
 	var de *deadlineError
 	if errors.As(err, &de) {
 		de.measurement = true

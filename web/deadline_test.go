@@ -70,6 +70,39 @@ func heavyDesign(t testing.TB, n, repeat int) []byte {
 	return out
 }
 
+// feasibleHeavyDesign is the invented demo design with its load replaced
+// by 20 000 one-millisecond steps alternating between drawing and
+// charging 100 W (values invented), repeated 500 times: 10^7 steps a
+// trial that every candidate carries, so each is sized in full — about
+// 12 s of solver work on this machine's cores.
+func feasibleHeavyDesign(t testing.TB) []byte {
+	t.Helper()
+	data, err := os.ReadFile("../testdata/ups-ride-through.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := sizing.DecodeDesign(bytes.NewReader(data))
+	if err != nil {
+		t.Fatal(err)
+	}
+	steps := make([]sizing.Step, 20000)
+	vals := make([]float64, len(steps))
+	for i := range steps {
+		vals[i] = 100
+		if i%2 == 1 {
+			vals[i] = -100
+		}
+		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 0.001}
+	}
+	repeat := 500
+	d.Load.Steps, d.Load.Repeat = steps, &repeat
+	out, err := json.Marshal(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return out
+}
+
 // wantDeadlineMessage checks that text tells the user the limit and what
 // to make smaller.
 func wantDeadlineMessage(t *testing.T, text, limit string) {
@@ -172,7 +205,7 @@ func TestComputePanicIsRecovered(t *testing.T) {
 	t.Parallel()
 	s, logs := newTestServer(t)
 	c := s.echo.NewContext(httptest.NewRequest(http.MethodPost, "/api/v1/size", nil), httptest.NewRecorder())
-	_, err := compute(s, c, func() (int, error) { panic("solver bug") })
+	_, err := compute(s, c, func(context.Context) (int, error) { panic("solver bug") })
 	if !errors.Is(err, errPanic) {
 		t.Fatalf("error %v, want errPanic", err)
 	}
@@ -194,7 +227,7 @@ func TestComputeClientGone(t *testing.T) {
 	release := make(chan struct{})
 	defer close(release)
 	cancel()
-	_, err := compute(s, c, func() (int, error) { <-release; return 1, nil })
+	_, err := compute(s, c, func(context.Context) (int, error) { <-release; return 1, nil })
 	if !errors.Is(err, errClientGone) {
 		t.Fatalf("error %v, want errClientGone", err)
 	}
@@ -300,5 +333,63 @@ func TestComputeDeadlineMeasure(t *testing.T) {
 	}
 	if math.Abs(out.Result.CapacitanceF-100) > 1 {
 		t.Errorf("C = %v F, want 100 F ± 1 %%", out.Result.CapacitanceF)
+	}
+}
+
+// At most ComputeSlots computations run at once. With the one slot held by
+// a computation that does not finish, a sizing waits QueueWait and is
+// answered 503 /problems/busy with Retry-After; once the slot is free the
+// same request sizes. Without the slots every request computes at once.
+func TestComputeSlotsBound(t *testing.T) {
+	t.Parallel()
+	s, logs := newServerWith(t, Config{ComputeSlots: 1, QueueWait: 20 * time.Millisecond})
+	hold := make(chan struct{})
+	started := make(chan struct{})
+	held := make(chan error, 1)
+	go func() {
+		c := s.echo.NewContext(httptest.NewRequest(http.MethodPost, "/api/v1/size", nil), httptest.NewRecorder())
+		_, err := compute(s, c, func(context.Context) (int, error) { close(started); <-hold; return 1, nil })
+		held <- err
+	}()
+	<-started
+	body, err := os.ReadFile("../testdata/ups-ride-through.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := postJSON(t, s, body, "application/json")
+	wantStatus(t, rec, http.StatusServiceUnavailable)
+	if ra := rec.Header().Get("Retry-After"); ra != "1" {
+		t.Errorf("Retry-After %q, want \"1\" (the 20 ms wait rounded up to whole seconds)", ra)
+	}
+	p := decodeProblem(t, rec)
+	if p.Type != typeBusy || !strings.Contains(p.Detail, "send it again") {
+		t.Errorf("problem %+v, want %s saying to send it again", p, typeBusy)
+	}
+	if !strings.Contains(logs.String(), "compute slots busy") {
+		t.Errorf("no log line for the refusal:\n%s", logs)
+	}
+	close(hold)
+	if err := <-held; err != nil {
+		t.Fatal(err)
+	}
+	wantStatus(t, postJSON(t, s, body, "application/json"), http.StatusOK)
+}
+
+// A computation stopped by the deadline gives its slot back only when its
+// goroutine has returned, and SizeContext returns within a step of the
+// deadline: with one slot, a 200 ms deadline and a design of about 12 s of
+// work, a second request finds the slot free within its 2 s queue wait.
+// Without the cancellation the first computation would hold the slot for
+// those 12 s and the second would be refused as busy.
+func TestComputeDeadlineFreesItsSlot(t *testing.T) {
+	t.Parallel()
+	heavy := feasibleHeavyDesign(t)
+	s, _ := newServerWith(t, Config{ComputeSlots: 1, QueueWait: 2 * time.Second, ComputeTimeout: 200 * time.Millisecond})
+	for range 2 {
+		rec := postJSON(t, s, heavy, "application/json")
+		wantStatus(t, rec, http.StatusServiceUnavailable)
+		if p := decodeProblem(t, rec); p.Type != typeDeadline {
+			t.Fatalf("problem %+v, want %s", p, typeDeadline)
+		}
 	}
 }

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -120,7 +121,7 @@ func (s *Server) postExport(c echo.Context) error {
 		cellID = c.FormValue("cell")
 	}
 	opt := export.PDFOptions{Paper: paper, Date: s.now()}
-	out, err := compute(s, c, func() (exported, error) { return makeExport(d, f, cellID, opt) })
+	out, err := compute(s, c, func(ctx context.Context) (exported, error) { return makeExport(ctx, d, f, cellID, opt) })
 	if err != nil {
 		return err
 	}
@@ -138,8 +139,8 @@ type exported struct {
 
 // makeExport sizes d and writes its export f (of cellID, or of the
 // recommended cell when cellID is empty).
-func makeExport(d *sizing.Design, f export.Format, cellID string, opt export.PDFOptions) (exported, error) {
-	rep, err := sizing.Size(d)
+func makeExport(ctx context.Context, d *sizing.Design, f export.Format, cellID string, opt export.PDFOptions) (exported, error) {
+	rep, err := sizing.SizeContext(ctx, d)
 	if err != nil {
 		return exported{}, err
 	}

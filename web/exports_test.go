@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"encoding/csv"
 	"encoding/json"
 	"mime"
@@ -47,7 +48,7 @@ func postExport(t testing.TB, s http.Handler, target, token, cell string) *httpt
 // exampleReport is the example design as the engine sizes it.
 func exampleReport(t testing.TB) (*sizing.Design, *sizing.Report) {
 	t.Helper()
-	ev := evaluate(exampleForm(), democells.ByID)
+	ev := evaluate(context.Background(), exampleForm(), democells.ByID)
 	if ev.report == nil || ev.report.Recommended == nil {
 		t.Fatalf("the example does not size: %v", ev.problems)
 	}

@@ -261,9 +261,10 @@ func (s *Server) postUnlock(c echo.Context) error {
 
 // accessCookie is the access cookie: HttpOnly (page scripts cannot read
 // it), SameSite=Strict (no other site's page sends it), for every path,
-// Secure when the request came over TLS. maxAge < 0 deletes it.
+// Secure when the request came over TLS (or, with Config.TrustProxy, the
+// proxy in front says it did). maxAge < 0 deletes it.
 func (s *Server) accessCookie(c echo.Context, value string, maxAge int) *http.Cookie {
 	return &http.Cookie{Name: AccessCookie, Value: value, Path: "/", MaxAge: maxAge,
 		HttpOnly: true, SameSite: http.SameSiteStrictMode,
-		Secure: c.Request().TLS != nil || c.Scheme() == "https"}
+		Secure: c.Request().TLS != nil || (s.trustProxy && c.Scheme() == "https")}
 }

@@ -3,6 +3,7 @@ package web
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"io"
 	"net/http"
 	"net/http/httptest"
@@ -436,4 +437,38 @@ func TestTokenGuardsTheLibraryAndDesigns(t *testing.T) {
 	}
 	rec = serve(s, request("DELETE", "/api/v1/cells/guard-test-cell", "", "", bearer))
 	wantStatus(t, rec, http.StatusNoContent)
+}
+
+// Forwarding headers are believed only with Config.TrustProxy: without it
+// a client's X-Forwarded-Proto cannot make the cookie Secure (a cookie the
+// browser then never sends over the plain HTTP it really uses) and its
+// X-Forwarded-For cannot put another address in the log; behind a trusted
+// proxy both are taken (from a proxy on a private address, echo's
+// default trust ranges).
+func TestForwardingHeadersNeedTrustProxy(t *testing.T) {
+	t.Parallel()
+	fwd := map[string]string{"X-Forwarded-Proto": "https", "X-Forwarded-For": "203.0.113.7"}
+	for _, trust := range []bool{false, true} {
+		t.Run(fmt.Sprint("trust=", trust), func(t *testing.T) {
+			t.Parallel()
+			s, logs := newServerWith(t, Config{Token: testToken, TrustProxy: trust})
+			req := request("POST", "/unlock", url.Values{"token": {testToken}}.Encode(), "", fwd)
+			req.RemoteAddr = "10.0.0.2:40000"
+			rec := serve(s, req)
+			wantStatus(t, rec, http.StatusSeeOther)
+			if c := rec.Result().Cookies(); len(c) != 1 || c[0].Secure != trust {
+				t.Errorf("cookies %+v, want one cookie with Secure %v", c, trust)
+			}
+			req = request("POST", "/unlock", url.Values{"token": {"wrong-token-guess"}}.Encode(), "", fwd)
+			req.RemoteAddr = "10.0.0.2:40000"
+			wantStatus(t, serve(s, req), http.StatusUnauthorized)
+			want, not := "remote=10.0.0.2", "remote=203.0.113.7"
+			if trust {
+				want, not = not, want
+			}
+			if !strings.Contains(logs.String(), want) || strings.Contains(logs.String(), not) {
+				t.Errorf("log names the wrong client (want %s):\n%s", want, logs)
+			}
+		})
+	}
 }

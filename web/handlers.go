@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -43,18 +44,18 @@ type evaluation struct {
 // sizing.Validate are reported together, each beside its field; when there
 // are any and the form carries the last design that sized, that design's
 // report comes back marked stale.
-func evaluate(f *designForm, lib cellLookup) *evaluation {
-	ev := evaluateDesign(f, lib)
+func evaluate(ctx context.Context, f *designForm, lib cellLookup) *evaluation {
+	ev := evaluateDesign(ctx, f, lib)
 	ev.problems = append(slices.Clone(f.actionProblems), ev.problems...)
 	return ev
 }
 
-func evaluateDesign(f *designForm, lib cellLookup) *evaluation {
+func evaluateDesign(ctx context.Context, f *designForm, lib cellLookup) *evaluation {
 	ev := &evaluation{form: f, dec: f.decode(lib)}
 	if len(ev.dec.problems) > 0 {
 		ev.problems = formProblems(ev.dec, validationErrors(sizing.Validate(ev.dec.design)))
 	} else {
-		rep, err := sizing.Size(ev.dec.design)
+		rep, err := sizing.SizeContext(ctx, ev.dec.design)
 		switch {
 		case err == nil:
 			ev.report, ev.sized = rep, ev.dec.design
@@ -68,7 +69,7 @@ func evaluateDesign(f *designForm, lib cellLookup) *evaluation {
 	}
 	if f.lastGood != "" && len(f.lastGood) <= maxLastGood {
 		if d, err := sizing.DecodeDesign(strings.NewReader(f.lastGood)); err == nil {
-			if rep, err := sizing.Size(d); err == nil {
+			if rep, err := sizing.SizeContext(ctx, d); err == nil {
 				ev.report, ev.sized, ev.stale = rep, d, true
 			}
 		}
@@ -137,7 +138,7 @@ func (s *Server) getPage(c echo.Context) error {
 		}
 		return s.renderPage(c, http.StatusOK, ev)
 	}
-	return s.renderPage(c, http.StatusOK, evaluate(exampleForm(), s.lookup(c)))
+	return s.renderPage(c, http.StatusOK, evaluate(c.Request().Context(), exampleForm(), s.lookup(c)))
 }
 
 // renderPage writes the whole design page for an evaluation.

@@ -3,8 +3,11 @@ package web
 import (
 	"errors"
 	"fmt"
+	"math"
 	"net/http"
+	"strconv"
 	"strings"
+	"time"
 
 	"github.com/labstack/echo/v4"
 
@@ -22,6 +25,9 @@ type problem struct {
 	// Errors lists every problem with a field, by its path in the design
 	// file.
 	Errors []sizing.FieldError `json:"errors,omitempty"`
+	// RetryAfter, when set, is sent as the Retry-After header (whole
+	// seconds, at least one).
+	RetryAfter time.Duration `json:"-"`
 }
 
 // Problem types. The type URIs are relative references into this server;
@@ -36,6 +42,7 @@ const (
 	typeNoExport   = "/problems/cannot-export"
 	typeBadLink    = "/problems/bad-share-link"
 	typeDeadline   = "/problems/compute-deadline"
+	typeBusy       = "/problems/busy"
 	typeStorage    = "/problems/storage"
 	typeNotFound   = "/problems/not-found"
 	typeConflict   = "/problems/conflict"
@@ -79,6 +86,7 @@ func problemFor(err error) problem {
 		mibs = fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
 	)
 	var (
+		be  *busyError
 		cje *cellJSONError
 		qe  *queryError
 		mte *mediaTypeError
@@ -148,6 +156,10 @@ func problemFor(err error) problem {
 				"or analyse it on the command line with capbank measure, which sets no deadline."
 		}
 		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable, Detail: detail}
+	case errors.As(err, &be):
+		return problem{Type: typeBusy, Title: "The server is busy", Status: http.StatusServiceUnavailable, RetryAfter: be.retryAfter,
+			Detail: "The server is already computing as many designs as it runs at once, and none finished within " + seconds(be.retryAfter) +
+				". Nothing is wrong with the request: send it again in a moment."}
 	case errors.As(err, &fe):
 		return problem{Type: typeBadForm, Title: "The form could not be read", Status: http.StatusBadRequest,
 			Detail: "The request body is not a readable form; reload the page and try again."}
@@ -195,6 +207,9 @@ func (s *Server) handleError(err error, c echo.Context) {
 	}
 	if c.Response().Committed {
 		return
+	}
+	if p.RetryAfter > 0 {
+		c.Response().Header().Set("Retry-After", strconv.Itoa(max(1, int(math.Ceil(p.RetryAfter.Seconds())))))
 	}
 	r := c.Request()
 	var werr error

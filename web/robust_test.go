@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"math"
 	"net/http"
 	"net/url"
@@ -99,7 +100,7 @@ func FuzzForm(f *testing.F) {
 		v.Set("inline.id", "x")
 		v.Set("inline.rated_v", b)
 		v.Set("inline.capacitance_f", "10")
-		ev := evaluate(readForm(v), democells.ByID)
+		ev := evaluate(context.Background(), readForm(v), democells.ByID)
 		if ev.report == nil && len(ev.problems) == 0 {
 			t.Fatal("neither a report nor a problem")
 		}

@@ -54,6 +54,20 @@ type Config struct {
 	// ComputeTimeout is the most one request may spend sizing or writing
 	// an export before it is answered 503; zero is DefaultComputeTimeout.
 	ComputeTimeout time.Duration
+	// ComputeSlots is how many computations (sizings, exports, analyses
+	// of a measurement log) may run at once; zero is one per core
+	// (GOMAXPROCS). The rest wait up to QueueWait for a slot, then are
+	// answered 503 with Retry-After.
+	ComputeSlots int
+	// QueueWait is how long a computation waits for a free slot; zero is
+	// DefaultQueueWait.
+	QueueWait time.Duration
+	// TrustProxy is set when capbank runs behind a reverse proxy that
+	// sets X-Forwarded-For and X-Forwarded-Proto: then the log names the
+	// client the proxy reports, and the access cookie is Secure when the
+	// proxy says the client came over HTTPS. Unset (the default), those
+	// headers are ignored, since any client can send them.
+	TrustProxy bool
 	// Token, when not empty, is the access token every write needs
 	// (guard.go); empty leaves writes open to anyone who reaches the server.
 	Token string
@@ -71,6 +85,10 @@ type Server struct {
 	now func() time.Time
 	// computeTimeout is the compute deadline of one request (deadline.go).
 	computeTimeout time.Duration
+	// slots bound the computations running at once (deadline.go).
+	slots *computeSlots
+	// trustProxy: believe X-Forwarded-Proto (Config.TrustProxy).
+	trustProxy bool
 	// assets are the static files, compressed once (staticAssets).
 	assets map[string]staticAsset
 	// guard refuses cross-site writes and, with a token, writes without it.
@@ -88,6 +106,14 @@ func New(cfg Config) *Server {
 	s := &Server{echo: e, log: log, dataDir: cfg.DataDir, store: cfg.Store,
 		css: assetURL("capbank.css"), js: assetURL("htmx.min.js"), assets: compressedAssets(), now: time.Now}
 	s.computeTimeout = computeTimeoutOrDefault(cfg)
+	s.slots = newComputeSlots(cfg.ComputeSlots, cfg.QueueWait)
+	s.trustProxy = cfg.TrustProxy
+	// The client's address: the connection's own unless a proxy in front
+	// is trusted to report it (echo, "IP address extraction").
+	e.IPExtractor = echo.ExtractIPDirect()
+	if cfg.TrustProxy {
+		e.IPExtractor = echo.ExtractIPFromXFFHeader()
+	}
 	e.HTTPErrorHandler = s.handleError
 	// The security headers first, so that every answer carries them: a
 	// refused body (413) and a recovered panic (500) too.

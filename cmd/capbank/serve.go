@@ -20,6 +20,7 @@ import (
 )
 
 const serveUsage = `usage: capbank serve [--addr HOST:PORT] [--data DIR] [--token TOKEN] [--compute-timeout DURATION]
+                     [--compute-slots N] [--trust-proxy]
 
 Starts capbank's web server: the design page, where a bank is sized as
 you type, and the JSON API (POST /api/v1/size, described at

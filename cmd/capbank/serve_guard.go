@@ -37,6 +37,8 @@ const (
 type guardFlags struct {
 	token          *string
 	computeTimeout *time.Duration
+	computeSlots   *int
+	trustProxy     *bool
 }
 
 func addGuardFlags(flags *flag.FlagSet) guardFlags {
@@ -44,17 +46,23 @@ func addGuardFlags(flags *flag.FlagSet) guardFlags {
 		token: flags.String("token", "", "every write (cells, designs) needs this access `TOKEN`: API clients send "+
 			"Authorization: Bearer TOKEN, a browser asks once at /unlock (default $"+tokenEnv+"; none: writes are open)"),
 		computeTimeout: flags.Duration("compute-timeout", web.DefaultComputeTimeout,
-			"the most one request may spend sizing or exporting before it is answered 503"),
+			"the most one request may spend sizing or exporting before it is answered 503; the computation stops then"),
+		computeSlots: flags.Int("compute-slots", 0, "how many sizings, exports and log analyses run at once; the rest wait up to "+
+			web.DefaultQueueWait.String()+" for a slot, then are answered 503 with Retry-After (default 0: one per core)"),
+		trustProxy: flags.Bool("trust-proxy", false, "believe X-Forwarded-For (the client named in the log) and X-Forwarded-Proto "+
+			"(the access cookie made Secure): set it only behind a reverse proxy that sets both"),
 	}
 }
 
 // guardFlagNames are the names isServeFlag knows.
-var guardFlagNames = []string{"token", "compute-timeout"}
+var guardFlagNames = []string{"token", "compute-timeout", "compute-slots", "trust-proxy"}
 
 // guardOptions are the checked values of guardFlags.
 type guardOptions struct {
 	token          string
 	computeTimeout time.Duration
+	computeSlots   int
+	trustProxy     bool
 }
 
 // options checks the flags: the token comes from --token, else from
@@ -80,12 +88,16 @@ func (g guardFlags) options() (guardOptions, error) {
 	if *g.computeTimeout <= 0 {
 		return guardOptions{}, fmt.Errorf("--compute-timeout: must be more than 0 (got %s)", *g.computeTimeout)
 	}
-	return guardOptions{token: tok, computeTimeout: *g.computeTimeout}, nil
+	if *g.computeSlots < 0 {
+		return guardOptions{}, fmt.Errorf("--compute-slots: must be 0 (one per core) or more (got %d)", *g.computeSlots)
+	}
+	return guardOptions{token: tok, computeTimeout: *g.computeTimeout, computeSlots: *g.computeSlots, trustProxy: *g.trustProxy}, nil
 }
 
 // apply puts the options into the web server's configuration.
 func (o guardOptions) apply(cfg *web.Config) {
 	cfg.Token, cfg.ComputeTimeout = o.token, o.computeTimeout
+	cfg.ComputeSlots, cfg.TrustProxy = o.computeSlots, o.trustProxy
 }
 
 // logAccess says in the log who may write: with a token only its holders;
