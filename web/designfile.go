@@ -5,7 +5,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"mime/multipart"
 	"net/url"
 	"slices"
 	"strconv"
@@ -21,32 +20,26 @@ const maxDesignFile = 4 << 20
 // openDesign reads an uploaded design file into a new form. A file that
 // cannot be read, or that the form cannot show without losing part of it,
 // leaves the form as it was with the reason beside the file input.
-func (f *designForm) openDesign(fh *multipart.FileHeader, lib cellLookup) *designForm {
-	if fh == nil || fh.Size == 0 {
+func (f *designForm) openDesign(fh *upload, lib cellLookup) *designForm {
+	if fh == nil || len(fh.data) == 0 {
 		f.actionProblem("design_file", "required", "choose a design file first (the JSON that capbank size reads)")
 		return f
 	}
-	if fh.Size > maxDesignFile {
-		f.actionProblem("design_file", "size", fmt.Sprintf("%s is %d bytes, more than the %d this page opens; size it with the JSON API or capbank size", fh.Filename, fh.Size, maxDesignFile))
+	if len(fh.data) > maxDesignFile {
+		f.actionProblem("design_file", "size", fmt.Sprintf("%s is %d bytes, more than the %d this page opens; size it with the JSON API or capbank size", fh.filename, len(fh.data), maxDesignFile))
 		return f
 	}
-	file, err := fh.Open()
+	d, err := sizing.DecodeDesign(bytes.NewReader(fh.data))
 	if err != nil {
-		f.actionProblem("design_file", "read", "could not be read; try choosing the file again")
-		return f
-	}
-	defer file.Close()
-	d, err := sizing.DecodeDesign(file)
-	if err != nil {
-		f.actionProblem("design_file", "decode", fh.Filename+": "+oneLine(err))
+		f.actionProblem("design_file", "decode", fh.filename+": "+oneLine(err))
 		return f
 	}
 	nf, err := formFromDesign(d, lib)
 	if err != nil {
-		f.actionProblem("design_file", "form", fh.Filename+": "+err.Error())
+		f.actionProblem("design_file", "form", fh.filename+": "+err.Error())
 		return f
 	}
-	nf.notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.Filename,
+	nf.notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.filename,
 		len(d.Load.Steps), plural(len(d.Load.Steps), "step", "steps"), len(d.Cells), plural(len(d.Cells), "cell", "cells"))
 	return nf
 }
@@ -111,7 +104,7 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 			}
 		}
 		if kinds != 1 {
-			return nil, fmt.Errorf("load.steps[%d] must give exactly one of power_w, current_a, resistance_ohm or rest (found %d); fix the file first", i, kinds)
+			return nil, fmt.Errorf("has a step, load.steps[%d], that gives %d of power_w, current_a, resistance_ohm and rest instead of exactly one; fix the file first", i, kinds)
 		}
 		num(p+"duration_s", s.DurationS)
 	}

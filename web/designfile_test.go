@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/share"
 	"encoding/json"
 	"net/http"
 	"net/url"
@@ -156,7 +157,7 @@ func TestOpenDesignFileProblems(t *testing.T) {
 		{"no file", "", "", "choose a design file first"},
 		{"not JSON", "x.json", "window: 48", "x.json: "},
 		{"unknown key", "y.json", `{"window": {"max_v": 48, "min_v": 24}, "colour": "red"}`, `colour: is not a design key`},
-		{"two kinds in a step", "z.json", twoKinds, "load.steps[0] must give exactly one of"},
+		{"two kinds in a step", "z.json", twoKinds, "load.steps[0], that gives 2 of"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -211,5 +212,55 @@ func TestFieldNumber(t *testing.T) {
 		if back, err := parseSI(got, unitNone); err != nil || back != c.x {
 			t.Errorf("%q reads back as %v (%v), want exactly %v", got, back, err, c.x)
 		}
+	}
+}
+
+// A share link whose design the form cannot show (testdata/bad/form) gets
+// the same 422 and reason as opening the same file with "Open a design
+// file": an HTML page for a browser, a problem document for any other
+// client. Before, both answered 500.
+func TestShareLinkTheFormCannotShow(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	want := map[string]string{
+		"two-kinds-step.json": "has a step, load.steps[0], that gives 2 of",
+		"501-steps.json":      "has 501 load steps, more than the 500 this form edits",
+	}
+	files, _ := filepath.Glob("../testdata/bad/form/*.json")
+	if len(files) != len(want) {
+		t.Fatalf("%d files in testdata/bad/form, want %d", len(files), len(want))
+	}
+	for _, f := range files {
+		name := filepath.Base(f)
+		t.Run(name, func(t *testing.T) {
+			data, err := os.ReadFile(f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			tok, err := share.Encode(data)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// The same file through "Open a design file".
+			v := designValues()
+			v.Set("action", "open-design")
+			rec := postMultipart(t, s, "/", v, "design_file", name, string(data))
+			wantStatus(t, rec, http.StatusUnprocessableEntity)
+			if got := text(parse(t, rec), "#msg-design_file"); !strings.Contains(got, want[name]) {
+				t.Fatalf("open-design message %q, want %q", got, want[name])
+			}
+
+			rec = serve(s, request("GET", "/?d="+tok, "", "", map[string]string{"Accept": "text/html"}))
+			wantStatus(t, rec, http.StatusUnprocessableEntity)
+			if got := text(parse(t, rec), "[data-testid=error-page]"); !strings.Contains(got, want[name]) || !strings.Contains(got, "does not fit the form") {
+				t.Errorf("page %q, want %q", got, want[name])
+			}
+			rec = serve(s, request("GET", "/?d="+tok, "", "", nil))
+			wantStatus(t, rec, http.StatusUnprocessableEntity)
+			p := decodeProblem(t, rec)
+			if p.Type != typeNoFit || len(p.Errors) != 1 || !strings.Contains(p.Errors[0].Message, want[name]) {
+				t.Errorf("problem %+v, want %s naming %q", p, typeNoFit, want[name])
+			}
+		})
 	}
 }

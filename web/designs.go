@@ -172,7 +172,7 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 		var fse *formShowError
 		if errors.As(err, &fse) {
 			return s.render(c, http.StatusUnprocessableEntity, components.ErrorPage(s.css, "This design does not fit the form",
-				fmt.Sprintf("“%s” is kept, but the page cannot show it without losing part of it: %s. Download its file from %s and size it with capbank size.",
+				fmt.Sprintf("“%s” is kept, but the page cannot show it without losing part of it: the design %s. Download its file from %s and size it with capbank size.",
 					rec.Name, fse.msg, "/api/v1/designs/"+strconv.FormatInt(id, 10)+"/file"), http.StatusUnprocessableEntity))
 		}
 		return err

@@ -82,16 +82,8 @@ func (s *Server) readExportDesign(c echo.Context) (*sizing.Design, error) {
 
 // formParseError is the error of reading the request's form, if any.
 func formParseError(r *http.Request) error {
-	var err error
-	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
-		err = r.ParseMultipartForm(maxFormMemory)
-	} else {
-		err = r.ParseForm()
-	}
-	if err != nil {
-		return formReadError(err)
-	}
-	return nil
+	_, err := readFormBody(r)
+	return err
 }
 
 // postExport is POST /export/{format}: the design (see readExportDesign)

@@ -1,10 +1,10 @@
 package web
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"math"
-	"mime/multipart"
 	"net/url"
 	"regexp"
 	"slices"
@@ -178,7 +178,7 @@ func (f *designForm) actionProblem(field, rule, msg string) {
 }
 
 // uploads are the files a form post carries.
-type uploads struct{ profile, design *multipart.FileHeader }
+type uploads struct{ profile, design *upload }
 
 // apply carries out a form action: editing the step list or the own BOQ
 // lines, expanding the pulse train, loading a profile CSV or opening a
@@ -228,7 +228,7 @@ func (f *designForm) removeExtra(i int) {
 
 func extraName(i int, key string) string { return fmt.Sprintf("boq.extras[%d].%s", i, key) }
 
-func (f *designForm) applyStep(verb, arg string, csv *multipart.FileHeader) {
+func (f *designForm) applyStep(verb, arg string, csv *upload) {
 	i, err := strconv.Atoi(arg)
 	if err != nil || i < 0 || i >= len(f.steps) {
 		i = -1
@@ -314,26 +314,20 @@ func (f *designForm) addPulses() {
 }
 
 // loadCSV replaces the steps with those of a logged profile.
-func (f *designForm) loadCSV(fh *multipart.FileHeader) {
-	if fh == nil || fh.Size == 0 {
+func (f *designForm) loadCSV(fh *upload) {
+	if fh == nil || len(fh.data) == 0 {
 		f.actionProblem("profile_csv", "required", "choose a CSV file first (a header naming time_s and power_w or current_a)")
 		return
 	}
-	file, err := fh.Open()
+	p, err := sizing.ParseProfileCSV(bytes.NewReader(fh.data))
 	if err != nil {
-		f.actionProblem("profile_csv", "read", "could not be read; try choosing the file again")
-		return
-	}
-	defer file.Close()
-	p, err := sizing.ParseProfileCSV(file)
-	if err != nil {
-		f.actionProblem("profile_csv", "csv", fh.Filename+": "+err.Error())
+		f.actionProblem("profile_csv", "csv", fh.filename+": "+err.Error())
 		return
 	}
 	if len(p.Steps) > maxFormSteps {
 		f.actionProblem("profile_csv", "form_steps", fmt.Sprintf(
 			"%s: %d rows give %d steps, more than the %d this form edits; resample the log, or size it with the JSON API or capbank size",
-			fh.Filename, p.Rows, len(p.Steps), maxFormSteps))
+			fh.filename, p.Rows, len(p.Steps), maxFormSteps))
 		return
 	}
 	kind := "power"
@@ -352,7 +346,7 @@ func (f *designForm) loadCSV(fh *multipart.FileHeader) {
 		f.steps = append(f.steps, row)
 	}
 	f.notice = fmt.Sprintf("Loaded %s: %d rows of %s became %d steps, %s s in all.",
-		fh.Filename, p.Rows, p.Column, len(p.Steps), formatFloat(p.DurationS))
+		fh.filename, p.Rows, p.Column, len(p.Steps), formatFloat(p.DurationS))
 }
 
 func formatFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

@@ -5,7 +5,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"mime/multipart"
 	"net/http"
 	"net/url"
 	"slices"
@@ -16,10 +15,6 @@ import (
 	"capbank/components"
 	"capbank/sizing"
 )
-
-// maxFormMemory is how much of a multipart form is held in memory; the
-// rest of an upload goes to a temporary file that net/http removes.
-const maxFormMemory = 4 << 20
 
 // maxLastGood is the largest design the page carries back for showing
 // stale results; a larger one is simply not carried.
@@ -86,21 +81,11 @@ func validationErrors(err error) sizing.ValidationError {
 // readPosted reads the posted form and carries out its action.
 func (s *Server) readPosted(c echo.Context) (*designForm, error) {
 	r := c.Request()
-	var files uploads
-	if strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
-		if err := r.ParseMultipartForm(maxFormMemory); err != nil {
-			return nil, formReadError(err)
-		}
-		first := func(name string) *multipart.FileHeader {
-			if fs := r.MultipartForm.File[name]; len(fs) > 0 {
-				return fs[0]
-			}
-			return nil
-		}
-		files = uploads{profile: first("profile_csv"), design: first("design_file")}
-	} else if err := r.ParseForm(); err != nil {
-		return nil, formReadError(err)
+	got, err := readFormBody(r)
+	if err != nil {
+		return nil, err
 	}
+	files := uploads{profile: got["profile_csv"], design: got["design_file"]}
 	vals := r.PostForm
 	if vals == nil {
 		vals = url.Values{}

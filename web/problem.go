@@ -43,6 +43,7 @@ const (
 	typeBadLink    = "/problems/bad-share-link"
 	typeDeadline   = "/problems/compute-deadline"
 	typeBusy       = "/problems/busy"
+	typeNoFit      = "/problems/does-not-fit-form"
 	typeStorage    = "/problems/storage"
 	typeNotFound   = "/problems/not-found"
 	typeConflict   = "/problems/conflict"
@@ -87,6 +88,7 @@ func problemFor(err error) problem {
 	)
 	var (
 		be  *busyError
+		fse *formShowError
 		cje *cellJSONError
 		qe  *queryError
 		mte *mediaTypeError
@@ -156,6 +158,10 @@ func problemFor(err error) problem {
 				"or analyse it on the command line with capbank measure, which sets no deadline."
 		}
 		return problem{Type: typeDeadline, Title: "The computation took too long", Status: http.StatusServiceUnavailable, Detail: detail}
+	case errors.As(err, &fse):
+		return problem{Type: typeNoFit, Title: "This design does not fit the form", Status: http.StatusUnprocessableEntity,
+			Detail: "The design page cannot show this design without losing part of it: the design " + fse.msg + ".",
+			Errors: []sizing.FieldError{{Field: "design", Rule: "form", Message: fse.msg}}}
 	case errors.As(err, &be):
 		return problem{Type: typeBusy, Title: "The server is busy", Status: http.StatusServiceUnavailable, RetryAfter: be.retryAfter,
 			Detail: "The server is already computing as many designs as it runs at once, and none finished within " + seconds(be.retryAfter) +

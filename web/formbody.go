@@ -1,0 +1,95 @@
+package web
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"net/http"
+	"net/url"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+)
+
+// upload is one file of a form post, read into memory (the body as a
+// whole is capped at MaxBodyBytes).
+type upload struct {
+	filename string
+	data     []byte
+}
+
+// maxFormParts is the most fields a posted form may carry. The design
+// form at its largest (500 steps of three fields, 50 own BOQ lines of
+// five, the cell fields and picks) holds about 2 000; net/http's
+// ParseMultipartForm stops at 1 000 (GODEBUG multipartmaxparts), which a
+// form of ~310 steps already reaches.
+const maxFormParts = 10_000
+
+// maxFormMemory is how much of the library's import form net/http holds
+// in memory; the rest of the upload goes to a temporary file it removes.
+const maxFormMemory = 4 << 20
+
+// maxFieldBytes is the longest value of a field that is not a file: the
+// design carried back for stale results (maxLastGood) is the longest.
+const maxFieldBytes = maxLastGood + 1024
+
+// readFormBody reads a posted form, urlencoded or multipart, into
+// r.PostForm and r.Form (the query's values after the body's, as
+// ParseForm does) and returns its files by field name. A file input left
+// empty is no file.
+func readFormBody(r *http.Request) (map[string]*upload, error) {
+	if !strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
+		if err := r.ParseForm(); err != nil {
+			return nil, formReadError(err)
+		}
+		return nil, nil
+	}
+	mr, err := r.MultipartReader()
+	if err != nil {
+		return nil, formReadError(err)
+	}
+	vals, files := url.Values{}, map[string]*upload{}
+	for n := 0; ; n++ {
+		part, err := mr.NextPart()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, formReadError(err)
+		}
+		if n >= maxFormParts {
+			return nil, formReadError(fmt.Errorf("the form has more than %d fields", maxFormParts))
+		}
+		name := part.FormName()
+		if name == "" {
+			continue
+		}
+		if part.FileName() != "" {
+			data, err := io.ReadAll(part)
+			if err != nil {
+				return nil, formReadError(err)
+			}
+			if files[name] == nil {
+				files[name] = &upload{filename: part.FileName(), data: data}
+			}
+			continue
+		}
+		b, err := io.ReadAll(io.LimitReader(part, maxFieldBytes+1))
+		if err != nil {
+			return nil, formReadError(err)
+		}
+		if len(b) > maxFieldBytes {
+			return nil, formReadError(fmt.Errorf("the field %q is longer than %d bytes", name, maxFieldBytes))
+		}
+		vals.Add(name, string(b))
+	}
+	r.PostForm = vals
+	r.Form = url.Values{}
+	for k, v := range vals {
+		r.Form[k] = append(r.Form[k], v...)
+	}
+	for k, v := range r.URL.Query() {
+		r.Form[k] = append(r.Form[k], v...)
+	}
+	return files, nil
+}
