@@ -75,7 +75,11 @@ func heavyDesign(t testing.TB, n, repeat int) []byte {
 // charging 100 W (values invented), repeated 500 times: 10^7 steps a
 // trial that every candidate carries, so each is sized in full — about
 // 12 s of solver work on this machine's cores.
-func feasibleHeavyDesign(t testing.TB) []byte {
+func feasibleHeavyDesign(t testing.TB) []byte { return feasibleHeavyDesignOf(t, 20000, 500) }
+
+// feasibleHeavyDesignOf is feasibleHeavyDesign with n steps repeated
+// repeat times.
+func feasibleHeavyDesignOf(t testing.TB, n, repeat int) []byte {
 	t.Helper()
 	data, err := os.ReadFile("../testdata/ups-ride-through.json")
 	if err != nil {
@@ -85,7 +89,7 @@ func feasibleHeavyDesign(t testing.TB) []byte {
 	if err != nil {
 		t.Fatal(err)
 	}
-	steps := make([]sizing.Step, 20000)
+	steps := make([]sizing.Step, n)
 	vals := make([]float64, len(steps))
 	for i := range steps {
 		vals[i] = 100
@@ -94,7 +98,6 @@ func feasibleHeavyDesign(t testing.TB) []byte {
 		}
 		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 0.001}
 	}
-	repeat := 500
 	d.Load.Steps, d.Load.Repeat = steps, &repeat
 	out, err := json.Marshal(d)
 	if err != nil {

@@ -50,7 +50,11 @@ type designForm struct {
 	keep     map[string]bool
 	sort     string
 	lastGood string
-	notice   string
+	// keepsLast is set when the client keeps showing the results of
+	// lastGood while the design has problems (the htmx results update):
+	// then lastGood is not sized again, since only the status is sent.
+	keepsLast bool
+	notice    string
 	// problems are what reading the form found (too many steps); the
 	// design cannot be sized until they are fixed. Decoding adds its own.
 	problems sizing.ValidationError

@@ -31,6 +31,9 @@ type evaluation struct {
 	// sized is the design the report is of.
 	sized *sizing.Design
 	stale bool
+	// keptLast: the design has problems and the client keeps its last
+	// results (designForm.keepsLast); no report was made.
+	keptLast bool
 	// pristine is a new, empty form: nothing is reported missing yet.
 	pristine bool
 }
@@ -61,6 +64,10 @@ func evaluateDesign(ctx context.Context, f *designForm, lib cellLookup) *evaluat
 			p := problemFor(err)
 			ev.problems = sizing.ValidationError{{Field: "design", Rule: "size", Message: p.Title + ": " + p.Detail}}
 		}
+	}
+	if f.lastGood != "" && f.keepsLast {
+		ev.keptLast = true
+		return ev
 	}
 	if f.lastGood != "" && len(f.lastGood) <= maxLastGood {
 		if d, err := sizing.DecodeDesign(strings.NewReader(f.lastGood)); err == nil {
@@ -171,13 +178,14 @@ func (s *Server) postResults(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	f.keepsLast = true // with problems only the status line is sent
 	ev, err := s.evaluateWithin(c, f)
 	if err != nil {
 		return err
 	}
 	p := s.pageProps(ev, nil)
 	slots, units := formSlots(p.Form)
-	if len(ev.problems) > 0 && f.lastGood != "" {
+	if ev.keptLast {
 		h := c.Response().Header()
 		h.Set("HX-Retarget", "#results-status")
 		h.Set("HX-Reswap", "outerHTML")

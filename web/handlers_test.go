@@ -13,6 +13,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/PuerkitoBio/goquery"
 
@@ -605,5 +606,27 @@ func TestFirstPageWeight(t *testing.T) {
 	}
 	if raw > 200_000 {
 		t.Errorf("first page unpacks to %d bytes", raw)
+	}
+}
+
+// The results update of a design with problems sends only the status line
+// (the client keeps its last results), so the last design that sized is
+// not sized again: with a last design of about 6 s of work and a 1 s
+// compute deadline, the answer is the stale status, not a 503. Before,
+// the server sized the last design again and dropped the result.
+func TestPostResultsWithProblemsDoesNotResize(t *testing.T) {
+	t.Parallel()
+	heavy := feasibleHeavyDesignOf(t, 10000, 1000) // 10^7 steps a trial, under maxLastGood
+	if len(heavy) > maxLastGood {
+		t.Fatalf("the last design is %d bytes, more than the form carries", len(heavy))
+	}
+	s, _ := newServerWith(t, Config{ComputeTimeout: time.Second})
+	v := designValues()
+	v.Set("window.min_v", "50")
+	v.Set("last_good", string(heavy))
+	rec := postForm(t, s, "/results", v, true)
+	wantStatus(t, rec, http.StatusOK)
+	if got := text(parse(t, rec), "#results-status"); !strings.Contains(got, "last design that sized") {
+		t.Errorf("status %q, want the stale status", got)
 	}
 }

@@ -301,6 +301,8 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 	switch {
 	case ev.pristine:
 		p.Empty = "Give the window and the load, pick one or more cells, and the bank appears here."
+	case ev.keptLast:
+		p.Status = staleStatus(n)
 	case ev.report == nil:
 		p.Empty = "Fix the problems marked in the form to see the bank."
 		p.Status = fmt.Sprintf("The design has %d %s, marked beside %s.", n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))
@@ -315,8 +317,7 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 	p.Token, p.TokenNote = designToken(ev.sized)
 	if ev.stale {
 		p.Stale = true
-		p.Status = fmt.Sprintf("The design has %d %s, marked beside %s. These results are for the last design that sized.",
-			n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))
+		p.Status = staleStatus(n)
 	}
 	p.Report = r
 	if r.Recommended != nil {
@@ -329,6 +330,13 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 	p.Candidates = sortCandidates(r.Candidates, ev.form.sort)
 	p.Summary = designSummary(r, len(ev.sized.Load.Steps))
 	return p
+}
+
+// staleStatus is the status line of a design with n problems whose
+// results are those of the last design that sized.
+func staleStatus(n int) string {
+	return fmt.Sprintf("The design has %d %s, marked beside %s. These results are for the last design that sized.",
+		n, plural(n, "problem", "problems"), plural(n, "its field", "their fields"))
 }
 
 // designSummary describes the design as it was sized, in one line.
