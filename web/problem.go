@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
+	"strconv"
 	"strings"
 
 	"github.com/labstack/echo/v4"
@@ -22,6 +23,9 @@ type problem struct {
 	// Errors lists every problem with a field, by its path in the design
 	// file.
 	Errors []sizing.FieldError `json:"errors,omitempty"`
+	// RetryAfter, when not zero, is sent as the Retry-After header
+	// (seconds): the same request may succeed then.
+	RetryAfter int `json:"-"`
 }
 
 // Problem types. The type URIs are relative references into this server;
@@ -37,6 +41,7 @@ const (
 	typeBadLink    = "/problems/bad-share-link"
 	typeDeadline   = "/problems/compute-deadline"
 	typeStorage    = "/problems/storage"
+	typeBusy       = "/problems/busy"
 	typeNotFound   = "/problems/not-found"
 	typeConflict   = "/problems/conflict"
 	typeBadCell    = "/problems/invalid-cell"
@@ -88,6 +93,10 @@ func problemFor(err error) problem {
 		return problem{Type: typeStorage, Title: "Nothing was saved", Status: http.StatusServiceUnavailable,
 			Detail: "The database could not be written: " + store.StorageFault(err) + ". Nothing of this change was kept, " +
 				"and what was saved before is intact. Free space on the disk or fix the data directory's permissions, then try again."}
+	case store.Busy(err):
+		return problem{Type: typeBusy, Title: "The database is busy; retry", Status: http.StatusServiceUnavailable, RetryAfter: busyRetryAfter,
+			Detail: "The database was busy with other changes for longer than capbank waits. Nothing of this change was kept; " +
+				"send it again in a few seconds."}
 	case errors.Is(err, store.ErrNotFound):
 		return problem{Type: typeNotFound, Title: "Not found", Status: http.StatusNotFound,
 			Detail: "There is no " + strings.TrimSuffix(err.Error(), ": "+store.ErrNotFound.Error()) + " here; the list pages show what there is."}
@@ -174,6 +183,10 @@ func problemFor(err error) problem {
 		Detail: "capbank met an error it did not expect. It has been logged; please report what you did."}
 }
 
+// busyRetryAfter is the Retry-After (s) of a write refused as busy: the
+// queue of writes before it is seconds long at most.
+const busyRetryAfter = 2
+
 func plural(n int, one, many string) string {
 	if n == 1 {
 		return one
@@ -195,6 +208,9 @@ func (s *Server) handleError(err error, c echo.Context) {
 	}
 	if c.Response().Committed {
 		return
+	}
+	if p.RetryAfter > 0 {
+		c.Response().Header().Set("Retry-After", strconv.Itoa(p.RetryAfter))
 	}
 	r := c.Request()
 	var werr error
