@@ -32,7 +32,11 @@ func (s *Server) apiListCells(c echo.Context) error {
 		var ve sizing.ValidationError
 		for _, fl := range filterFields {
 			if m, ok := msgs[fl.Name]; ok {
-				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: "number", Message: m})
+				rule := "number"
+				if fl.Kind == kindText {
+					rule = "length"
+				}
+				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: rule, Message: m})
 			}
 		}
 		return &queryError{errs: ve}

@@ -195,6 +195,20 @@ func TestListCellsFilters(t *testing.T) {
 			t.Errorf("filter %+v: %s, want %s", c.f, got, c.want)
 		}
 	}
+
+	// The longest search, each character a 4-byte one or a LIKE wildcard
+	// that escaping doubles, stays within SQLite's pattern limit; one
+	// character more is refused before it reaches SQLite.
+	for _, q := range []string{strings.Repeat("😀", MaxSearchLen), strings.Repeat(`\`, MaxSearchLen), "big" + strings.Repeat("%", MaxSearchLen-3)} {
+		if _, err := s.ListCells(ctx, CellFilter{Search: q}); err != nil {
+			t.Errorf("a search of %d characters: %v", MaxSearchLen, err)
+		}
+	}
+	for _, q := range []string{strings.Repeat("a", MaxSearchLen+1), strings.Repeat("%", 50_000)} {
+		if _, err := s.ListCells(ctx, CellFilter{Search: q}); !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "at most 200") {
+			t.Errorf("a search of %d characters: %v, want ErrInvalid naming the limit", len(q), err)
+		}
+	}
 }
 
 func TestDesignRoundTripAndSnapshot(t *testing.T) {
