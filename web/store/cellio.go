@@ -78,15 +78,9 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	var items []json.RawMessage
-	if err := json.Unmarshal(data, &items); err != nil {
-		var wrap struct {
-			Cells []json.RawMessage `json:"cells"`
-		}
-		if err2 := json.Unmarshal(data, &wrap); err2 != nil || wrap.Cells == nil {
-			return ImportReport{Error: "is not a JSON list of cells (or an object with a \"cells\" list): " + err.Error()}, nil
-		}
-		items = wrap.Cells
+	items, fileErr := cellItems(data)
+	if fileErr != "" {
+		return ImportReport{Error: fileErr}, nil
 	}
 	if len(items) > MaxImportRows {
 		return ImportReport{Error: fmt.Sprintf("holds %d cells, more than %d", len(items), MaxImportRows)}, nil
@@ -94,10 +88,9 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 	rows := make([]parsedCell, len(items))
 	for i, it := range items {
 		rows[i].line = i + 1
-		dec := json.NewDecoder(bytes.NewReader(it))
-		dec.DisallowUnknownFields()
-		if err := dec.Decode(&rows[i].cell); err != nil {
-			rows[i].err = strings.TrimPrefix(err.Error(), "json: ")
+		var err error
+		if rows[i].cell, err = DecodeCell(it); err != nil {
+			rows[i].err = err.Error()
 		}
 	}
 	return s.importRows(ctx, rows)
