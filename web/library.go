@@ -2,7 +2,6 @@ package web
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
@@ -454,11 +453,9 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 	if s.store == nil {
 		return errNoStore
 	}
-	var cell sizing.Cell
-	dec := json.NewDecoder(strings.NewReader(c.FormValue("cell_json")))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&cell); err != nil {
-		return &cellJSONError{msg: "cell_json " + strings.TrimPrefix(err.Error(), "json: ")}
+	cell, err := store.DecodeCell([]byte(c.FormValue("cell_json")))
+	if err != nil {
+		return &cellJSONError{msg: "cell_json: " + err.Error()}
 	}
 	vals := url.Values{}
 	cellValues(vals, "", cell)

@@ -117,7 +117,7 @@ func problemFor(err error) problem {
 			Detail: errNoStore.Error() + "; run it with a data directory (capbank serve --data DIR)."}
 	case errors.As(err, &cje):
 		return problem{Type: typeMalformed, Title: "The cell could not be read", Status: http.StatusBadRequest,
-			Detail: "The body is not one cell's JSON: fix what errors names.",
+			Detail: "The body is not one cell's JSON: " + cje.msg + ".",
 			Errors: []sizing.FieldError{{Field: "cell", Rule: "decode", Message: cje.msg}}}
 	case errors.As(err, &qe):
 		return problem{Type: typeBadQuery, Title: "A parameter is invalid", Status: http.StatusUnprocessableEntity,
