@@ -16,7 +16,8 @@
 // where busy_timeout does apply (another process writing the same file);
 // the one writer connection makes this process's own writes wait their
 // turn in Go instead of polling SQLite's lock. A write that still cannot
-// start is ErrBusy: nothing of it was kept, and it may be sent again.
+// start is an error for which Busy is true: nothing of it was kept, and it
+// may be sent again.
 package store
 
 import (
