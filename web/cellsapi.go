@@ -1,8 +1,6 @@
 package web
 
 import (
-	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -32,7 +30,11 @@ func (s *Server) apiListCells(c echo.Context) error {
 		var ve sizing.ValidationError
 		for _, fl := range filterFields {
 			if m, ok := msgs[fl.Name]; ok {
-				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: "number", Message: m})
+				rule := "number"
+				if fl.Kind == kindText {
+					rule = "length"
+				}
+				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: rule, Message: m})
 			}
 		}
 		return &queryError{errs: ve}
@@ -71,13 +73,8 @@ func readCellJSON(c echo.Context) (sizing.Cell, error) {
 		}
 		return cell, &cellJSONError{msg: "could not be read; send the whole body"}
 	}
-	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&cell); err != nil {
-		return cell, &cellJSONError{msg: strings.TrimPrefix(err.Error(), "json: ")}
-	}
-	if dec.More() {
-		return cell, &cellJSONError{msg: "holds more than one JSON value; send one cell"}
+	if cell, err = store.DecodeCell(data); err != nil {
+		return cell, &cellJSONError{msg: err.Error()}
 	}
 	return cell, nil
 }

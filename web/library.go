@@ -2,13 +2,13 @@ package web
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
 	"net/url"
 	"path/filepath"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/labstack/echo/v4"
 
@@ -130,6 +130,10 @@ var filterFields = []field{
 func readFilter(q url.Values) (store.CellFilter, map[string]string) {
 	f := store.CellFilter{Search: strings.TrimSpace(q.Get("q"))}
 	msgs := map[string]string{}
+	if n := utf8.RuneCountInString(f.Search); n > store.MaxSearchLen {
+		msgs["q"] = fmt.Sprintf("is %d characters long; a search has at most %d: search for part of an id or a name", n, store.MaxSearchLen)
+		f.Search = ""
+	}
 	num := func(name string, u unitSpec, dst *float64) {
 		v, err := parseSI(q.Get(name), u)
 		switch {
@@ -177,6 +181,7 @@ func (s *Server) renderLibrary(c echo.Context, status int, notice string, rep *s
 	q := c.Request().URL.Query()
 	filter, msgs := readFilter(q)
 	if len(msgs) > 0 {
+		// A bad limit lists by the search alone; a bad search lists all.
 		filter = store.CellFilter{Search: filter.Search}
 		status = http.StatusUnprocessableEntity
 	}
@@ -448,11 +453,9 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 	if s.store == nil {
 		return errNoStore
 	}
-	var cell sizing.Cell
-	dec := json.NewDecoder(strings.NewReader(c.FormValue("cell_json")))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&cell); err != nil {
-		return &cellJSONError{msg: "cell_json " + strings.TrimPrefix(err.Error(), "json: ")}
+	cell, err := store.DecodeCell([]byte(c.FormValue("cell_json")))
+	if err != nil {
+		return &cellJSONError{msg: "cell_json: " + err.Error()}
 	}
 	vals := url.Values{}
 	cellValues(vals, "", cell)

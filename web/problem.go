@@ -26,7 +26,7 @@ type problem struct {
 	// file.
 	Errors []sizing.FieldError `json:"errors,omitempty"`
 	// RetryAfter, when set, is sent as the Retry-After header (whole
-	// seconds, at least one).
+	// seconds, at least one): the same request may succeed then.
 	RetryAfter time.Duration `json:"-"`
 }
 
@@ -98,6 +98,10 @@ func problemFor(err error) problem {
 		return problem{Type: typeStorage, Title: "Nothing was saved", Status: http.StatusServiceUnavailable,
 			Detail: "The database could not be written: " + store.StorageFault(err) + ". Nothing of this change was kept, " +
 				"and what was saved before is intact. Free space on the disk or fix the data directory's permissions, then try again."}
+	case store.Busy(err):
+		return problem{Type: typeBusy, Title: "The database is busy; retry", Status: http.StatusServiceUnavailable, RetryAfter: busyRetryAfter,
+			Detail: "The database was busy with other changes for longer than capbank waits. Nothing of this change was kept; " +
+				"send it again in a few seconds."}
 	case errors.Is(err, store.ErrNotFound):
 		return problem{Type: typeNotFound, Title: "Not found", Status: http.StatusNotFound,
 			Detail: "There is no " + strings.TrimSuffix(err.Error(), ": "+store.ErrNotFound.Error()) + " here; the list pages show what there is."}
@@ -118,7 +122,7 @@ func problemFor(err error) problem {
 			Detail: errNoStore.Error() + "; run it with a data directory (capbank serve --data DIR)."}
 	case errors.As(err, &cje):
 		return problem{Type: typeMalformed, Title: "The cell could not be read", Status: http.StatusBadRequest,
-			Detail: "The body is not one cell's JSON: fix what errors names.",
+			Detail: "The body is not one cell's JSON: " + cje.msg + ".",
 			Errors: []sizing.FieldError{{Field: "cell", Rule: "decode", Message: cje.msg}}}
 	case errors.As(err, &qe):
 		return problem{Type: typeBadQuery, Title: "A parameter is invalid", Status: http.StatusUnprocessableEntity,
@@ -191,6 +195,10 @@ func problemFor(err error) problem {
 	return problem{Type: typeHTTP, Title: "Internal server error", Status: http.StatusInternalServerError,
 		Detail: "capbank met an error it did not expect. It has been logged; please report what you did."}
 }
+
+// busyRetryAfter is the Retry-After (s) of a write refused as busy: the
+// queue of writes before it is seconds long at most.
+const busyRetryAfter = 2 * time.Second
 
 func plural(n int, one, many string) string {
 	if n == 1 {

@@ -5,25 +5,33 @@ import (
 	"context"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
-// TestBadCellCSVCorpus: every bad cell CSV in testdata/bad/cells is refused
-// with a file error or a rejected row that says why, and imports nothing.
-func TestBadCellCSVCorpus(t *testing.T) {
+// TestBadCellCorpus: every bad cell file in testdata/bad/cells (CSV and
+// JSON imports) is refused with a file error or a rejected row that says
+// why in plain words, never naming a Go type, and imports nothing.
+func TestBadCellCorpus(t *testing.T) {
 	t.Parallel()
 	ctx := context.Background()
-	files, _ := filepath.Glob("../../testdata/bad/cells/*.csv")
-	if len(files) < 5 {
-		t.Fatalf("only %d bad cell files", len(files))
+	csvs, _ := filepath.Glob("../../testdata/bad/cells/*.csv")
+	jsons, _ := filepath.Glob("../../testdata/bad/cells/*.json")
+	if len(csvs) < 5 || len(jsons) < 5 {
+		t.Fatalf("only %d bad cell CSV files and %d JSON files", len(csvs), len(jsons))
 	}
 	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	for _, f := range files {
+	for _, f := range append(csvs, jsons...) {
 		fh, err := os.Open(f)
 		if err != nil {
 			t.Fatal(err)
 		}
-		rep, err := s.ImportCellsCSV(ctx, fh)
+		var rep ImportReport
+		if strings.HasSuffix(f, ".json") {
+			rep, err = s.ImportCellsJSON(ctx, fh)
+		} else {
+			rep, err = s.ImportCellsCSV(ctx, fh)
+		}
 		fh.Close()
 		if err != nil {
 			t.Fatal(err)
@@ -34,7 +42,7 @@ func TestBadCellCSVCorpus(t *testing.T) {
 				reason = r.Reason
 			}
 		}
-		if rep.Imported || reason == "" {
+		if rep.Imported || reason == "" || goTypeName.MatchString(reason) {
 			t.Errorf("%s: imported %v, reason %q", filepath.Base(f), rep.Imported, reason)
 		}
 	}

@@ -78,15 +78,9 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	var items []json.RawMessage
-	if err := json.Unmarshal(data, &items); err != nil {
-		var wrap struct {
-			Cells []json.RawMessage `json:"cells"`
-		}
-		if err2 := json.Unmarshal(data, &wrap); err2 != nil || wrap.Cells == nil {
-			return ImportReport{Error: "is not a JSON list of cells (or an object with a \"cells\" list): " + err.Error()}, nil
-		}
-		items = wrap.Cells
+	items, fileErr := cellItems(data)
+	if fileErr != "" {
+		return ImportReport{Error: fileErr}, nil
 	}
 	if len(items) > MaxImportRows {
 		return ImportReport{Error: fmt.Sprintf("holds %d cells, more than %d", len(items), MaxImportRows)}, nil
@@ -94,21 +88,25 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 	rows := make([]parsedCell, len(items))
 	for i, it := range items {
 		rows[i].line = i + 1
-		dec := json.NewDecoder(bytes.NewReader(it))
-		dec.DisallowUnknownFields()
-		if err := dec.Decode(&rows[i].cell); err != nil {
-			rows[i].err = strings.TrimPrefix(err.Error(), "json: ")
+		var err error
+		if rows[i].cell, err = DecodeCell(it); err != nil {
+			rows[i].err = err.Error()
 		}
 	}
 	return s.importRows(ctx, rows)
 }
 
+// importRows checks every row and inserts them all, or none if any row is
+// bad. Whether an id is already in the library is checked in the write
+// transaction itself, so a cell added by someone else meanwhile is a
+// rejected row, never a failed insert.
 func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport, error) {
-	rep := ImportReport{Rows: make([]ImportRow, len(rows))}
+	if len(rows) == 0 {
+		return ImportReport{Rows: []ImportRow{}, Error: "holds no cells"}, nil
+	}
 	seen := map[string]int{}
 	for i := range rows {
 		p := &rows[i]
-		row := ImportRow{Line: p.line, ID: p.cell.ID}
 		if p.err == "" {
 			if err := sizing.ValidateCell(&p.cell); err != nil {
 				p.err = strings.ReplaceAll(err.Error(), "\n", "; ")
@@ -119,29 +117,29 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 				p.err = fmt.Sprintf("repeats the id %q of line %d", p.cell.ID, j)
 			} else {
 				seen[p.cell.ID] = p.line
-				if _, err := s.GetCell(ctx, p.cell.ID); err == nil {
-					p.err = fmt.Sprintf("id %q is already in the library; give the cell another id or edit the existing one", p.cell.ID)
-				} else if !errors.Is(err, ErrNotFound) {
-					return rep, err
-				}
 			}
 		}
-		if p.err != "" {
-			row.Reason = p.err
-			rep.Rejected++
-		} else {
-			row.Accepted = true
-			rep.Accepted++
-		}
-		rep.Rows[i] = row
 	}
-	if rep.Rejected > 0 || len(rows) == 0 {
-		if len(rows) == 0 {
-			rep.Error = "holds no cells"
-		}
-		return rep, nil
-	}
+	rejected := false
 	err := s.tx(ctx, func(tx *sql.Tx) error {
+		for i := range rows {
+			p := &rows[i]
+			if p.err != "" {
+				rejected = true
+				continue
+			}
+			var n int
+			if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, p.cell.ID).Scan(&n); err != nil {
+				return err
+			}
+			if n > 0 {
+				p.err = fmt.Sprintf("id %q is already in the library; give the cell another id or edit the existing one", p.cell.ID)
+				rejected = true
+			}
+		}
+		if rejected {
+			return errNotImported
+		}
 		for i := range rows {
 			if err := insertCell(ctx, tx, &rows[i].cell, false); err != nil {
 				return err
@@ -149,12 +147,23 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 		}
 		return nil
 	})
-	if err != nil {
+	if err != nil && !errors.Is(err, errNotImported) {
 		return ImportReport{}, err
 	}
-	rep.Imported = true
+	rep := ImportReport{Imported: !rejected, Rows: make([]ImportRow, len(rows))}
+	for i, p := range rows {
+		rep.Rows[i] = ImportRow{Line: p.line, ID: p.cell.ID, Accepted: p.err == "", Reason: p.err}
+		if p.err == "" {
+			rep.Accepted++
+		} else {
+			rep.Rejected++
+		}
+	}
 	return rep, nil
 }
+
+// errNotImported rolls back an import with a rejected row.
+var errNotImported = errors.New("store: import has rejected rows")
 
 // parseCellsCSV reads the CSV into rows; a file-level problem comes back as
 // a message.

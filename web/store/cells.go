@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"capbank/sizing"
 )
@@ -21,9 +22,16 @@ type CellRecord struct {
 	UpdatedAt time.Time `json:"updated_at"`
 }
 
+// MaxSearchLen is the most characters a CellFilter.Search may have. Escaped
+// for LIKE, such a search stays far below SQLite's pattern limit
+// (SQLITE_MAX_LIKE_PATTERN_LENGTH, 50 000 bytes): at most 4 bytes a
+// character, doubled by escaping.
+const MaxSearchLen = 200
+
 // CellFilter narrows ListCells; zero fields do not filter.
 type CellFilter struct {
-	// Search matches the id or name, case-insensitively.
+	// Search matches the id or name, case-insensitively; at most
+	// MaxSearchLen characters.
 	Search string
 	// MinRatedV, MaxRatedV in V; MinCapacitanceF, MaxCapacitanceF in F.
 	MinRatedV, MaxRatedV             float64
@@ -82,8 +90,12 @@ func updateCell(ctx context.Context, tx *sql.Tx, c *sizing.Cell) error {
 }
 
 // ListCells returns the library's cells that pass the filter, ordered by
-// rated voltage, then capacitance, then id.
+// rated voltage, then capacitance, then id. A search longer than
+// MaxSearchLen characters is ErrInvalid.
 func (s *Store) ListCells(ctx context.Context, f CellFilter) ([]CellRecord, error) {
+	if n := utf8.RuneCountInString(f.Search); n > MaxSearchLen {
+		return nil, fmt.Errorf("%w: the search has %d characters; it may have at most %d", ErrInvalid, n, MaxSearchLen)
+	}
 	q := `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE 1 = 1`
 	var args []any
 	if f.Search != "" {

@@ -36,10 +36,10 @@ func (s *Store) IntegrityCheck(ctx context.Context) error {
 	return fmt.Errorf("store: integrity check found: %s", strings.Join(found, "; "))
 }
 
-// durability is what a connection of the pool runs with: the journal mode
-// and the synchronous level (0 OFF, 1 NORMAL, 2 FULL, 3 EXTRA).
+// durability is what the connection that commits runs with: the journal
+// mode and the synchronous level (0 OFF, 1 NORMAL, 2 FULL, 3 EXTRA).
 func (s *Store) durability(ctx context.Context) (journal string, synchronous int, err error) {
-	conn, err := s.db.Conn(ctx)
+	conn, err := s.writer.Conn(ctx)
 	if err != nil {
 		return "", 0, err
 	}
@@ -75,4 +75,23 @@ func StorageFault(err error) string {
 		return "the operating system refused access to the database file"
 	}
 	return ""
+}
+
+// Busy is true when err is a write, or a read, that could not run because
+// the database was busy: ErrBusy, or SQLite's SQLITE_BUSY or SQLITE_LOCKED
+// (another process held the lock for longer than the busy timeout). A
+// write that failed so was rolled back whole: it may simply be sent again.
+func Busy(err error) bool {
+	if errors.Is(err, ErrBusy) {
+		return true
+	}
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return false
+	}
+	switch se.Code() & 0xff {
+	case sqlite3.SQLITE_BUSY, sqlite3.SQLITE_LOCKED:
+		return true
+	}
+	return false
 }

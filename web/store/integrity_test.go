@@ -3,6 +3,8 @@ package store
 import (
 	"context"
 	"database/sql"
+	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -17,22 +19,20 @@ func faultCell(id string) sizing.Cell {
 	return sizing.Cell{ID: id, Name: "Invented test cell", RatedV: 2.7, CapacitanceF: 100, ESROhm: 0.009}
 }
 
-// Every connection runs in WAL mode with synchronous FULL: SQLite's PRAGMA
+// The writer connection runs in WAL mode with synchronous FULL: SQLite's PRAGMA
 // synchronous documentation says a commit under WAL + NORMAL "might roll
 // back following a power loss or system crash", and FULL syncs the log at
 // each commit so an answered save survives one.
 func TestCommitsAreSyncedToDisk(t *testing.T) {
 	t.Parallel()
 	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	for range 3 { // several connections of the pool
-		journal, sync, err := s.durability(context.Background())
-		if err != nil {
-			t.Fatal(err)
-		}
-		// SQLite's codes: synchronous 2 is FULL.
-		if journal != "wal" || sync != 2 {
-			t.Errorf("journal_mode %q, synchronous %d; want wal and 2 (FULL)", journal, sync)
-		}
+	journal, sync, err := s.durability(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	// SQLite's codes: synchronous 2 is FULL.
+	if journal != "wal" || sync != 2 {
+		t.Errorf("journal_mode %q, synchronous %d; want wal and 2 (FULL)", journal, sync)
 	}
 }
 
@@ -101,7 +101,7 @@ func TestStorageFault(t *testing.T) {
 	if _, err := full.ExecContext(ctx, `PRAGMA max_page_count = 1`); err != nil {
 		t.Fatal(err)
 	}
-	fs := &Store{db: full}
+	fs := &Store{db: full, writer: full}
 	var fullErr error
 	for i := 0; i < 50 && fullErr == nil; i++ {
 		c := faultCell("full-" + itoa(i))
@@ -117,7 +117,7 @@ func TestStorageFault(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer ro.Close()
-	roErr := (&Store{db: ro}).CreateCell(ctx, faultCell("read-only"))
+	roErr := (&Store{db: ro, writer: ro}).CreateCell(ctx, faultCell("read-only"))
 	if got := StorageFault(roErr); !strings.Contains(got, "read-only") {
 		t.Errorf("read-only database: error %v, fault %q", roErr, got)
 	}
@@ -130,5 +130,52 @@ func TestStorageFault(t *testing.T) {
 		if got := StorageFault(err); got != "" {
 			t.Errorf("%v: fault %q, want none", err, got)
 		}
+	}
+}
+
+// A write that cannot get the write lock within the busy timeout — another
+// process holds it — is Busy, not a storage fault, and writes nothing.
+// (The writer here waits 50 ms instead of the store's five seconds.)
+func TestBusyWrite(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), FileName)
+	s := mustOpen(t, path)
+
+	holder, err := sql.Open("sqlite", "file:"+path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer holder.Close()
+	conn, err := holder.Conn(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(ctx, `BEGIN IMMEDIATE`); err != nil {
+		t.Fatal(err)
+	}
+	defer conn.ExecContext(ctx, `ROLLBACK`)
+
+	impatient, err := sql.Open("sqlite", "file:"+path+"?_pragma=busy_timeout(50)&_txlock=immediate")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer impatient.Close()
+	busy := &Store{db: impatient, writer: impatient}
+	err = busy.CreateCell(ctx, faultCell("while-locked"))
+	if !Busy(err) || StorageFault(err) != "" {
+		t.Errorf("write while another connection holds the lock: %v; Busy %v, fault %q", err, Busy(err), StorageFault(err))
+	}
+	if _, err := s.GetCell(ctx, "while-locked"); !errors.Is(err, ErrNotFound) {
+		t.Errorf("the refused cell: %v, want not found", err)
+	}
+	for _, err := range []error{nil, ErrNotFound, os.ErrNotExist} {
+		if Busy(err) {
+			t.Errorf("Busy(%v) is true", err)
+		}
+	}
+	if !Busy(fmt.Errorf("saving: %w", ErrBusy)) {
+		t.Error("Busy(ErrBusy wrapped) is false")
 	}
 }

@@ -4,8 +4,20 @@
 //
 // The schema is a numbered list of embedded SQL migrations, applied in order
 // at open and recorded in schema_migrations. The database runs in WAL mode
-// with foreign keys on; every write is one transaction; every query takes a
-// context.
+// with foreign keys on; every query takes a context.
+//
+// Writes queue: every write is one transaction on the store's single
+// writer connection, begun IMMEDIATE. In WAL mode a deferred transaction
+// that reads first and then writes cannot wait for the write lock — SQLite
+// calls the busy handler only for a connection that holds no transaction
+// yet, so the upgrade fails at once with SQLITE_BUSY (or
+// SQLITE_BUSY_SNAPSHOT when another writer committed since its read) and
+// busy_timeout never applies. BEGIN IMMEDIATE takes the write lock first,
+// where busy_timeout does apply (another process writing the same file);
+// the one writer connection makes this process's own writes wait their
+// turn in Go instead of polling SQLite's lock. A write that still cannot
+// start is an error for which Busy is true: nothing of it was kept, and it
+// may be sent again.
 package store
 
 import (
@@ -28,18 +40,33 @@ import (
 var migrationFiles embed.FS
 
 // Errors a caller maps to a status: ErrNotFound (404), ErrExists and
-// ErrReadOnly (409), ErrInvalid (422).
+// ErrReadOnly (409), ErrInvalid (422), ErrBusy (503, send it again).
 var (
 	ErrNotFound = errors.New("not found")
 	ErrExists   = errors.New("already exists")
 	ErrReadOnly = errors.New("read-only")
 	ErrInvalid  = errors.New("invalid")
+	ErrBusy     = errors.New("the database is busy with other writes")
 )
 
 // Store is an open capbank database.
 type Store struct {
+	// db reads: any number of connections, each reading its own snapshot
+	// of the WAL alongside the writer.
 	db *sql.DB
+	// writer is the one connection that writes, its transactions begun
+	// IMMEDIATE (see the package comment).
+	writer *sql.DB
 }
+
+// writeWait bounds how long a write waits for its turn on the writer
+// connection before it is ErrBusy. A write here is a person saving a cell or
+// a design, a few milliseconds with its commit synced; busyTimeout bounds
+// the wait for another process's write lock once it is its turn.
+const (
+	writeWait   = 15 * time.Second
+	busyTimeout = 5 * time.Second
+)
 
 // FileName is the database file's name in the data directory.
 const FileName = "capbank.db"
@@ -58,7 +85,30 @@ func openTo(ctx context.Context, dbPath string, upTo int) (*Store, error) {
 	// checkpoint, so a commit already answered could roll back after a
 	// power loss; FULL syncs it at every commit (SQLite, PRAGMA
 	// synchronous). Writes here are a person saving a cell or a design.
-	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=busy_timeout(5000)&_pragma=synchronous(FULL)"
+	// _txlock=immediate: every transaction the writer begins is BEGIN
+	// IMMEDIATE (modernc.org/sqlite's DSN parameter).
+	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=synchronous(FULL)" +
+		fmt.Sprintf("&_pragma=busy_timeout(%d)", busyTimeout.Milliseconds())
+	// The writer opens first: it creates the file and turns on WAL.
+	writer, err := openPool(ctx, dbPath, dsn+"&_txlock=immediate")
+	if err != nil {
+		return nil, err
+	}
+	writer.SetMaxOpenConns(1)
+	db, err := openPool(ctx, dbPath, dsn)
+	if err != nil {
+		writer.Close()
+		return nil, err
+	}
+	s := &Store{db: db, writer: writer}
+	if err := s.migrate(ctx, upTo); err != nil {
+		s.Close()
+		return nil, err
+	}
+	return s, nil
+}
+
+func openPool(ctx context.Context, dbPath, dsn string) (*sql.DB, error) {
 	db, err := sql.Open("sqlite", dsn)
 	if err != nil {
 		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
@@ -67,16 +117,11 @@ func openTo(ctx context.Context, dbPath string, upTo int) (*Store, error) {
 		db.Close()
 		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
 	}
-	s := &Store{db: db}
-	if err := s.migrate(ctx, upTo); err != nil {
-		db.Close()
-		return nil, err
-	}
-	return s, nil
+	return db, nil
 }
 
 // Close closes the database.
-func (s *Store) Close() error { return s.db.Close() }
+func (s *Store) Close() error { return errors.Join(s.db.Close(), s.writer.Close()) }
 
 type migration struct {
 	version int
@@ -114,7 +159,7 @@ func (s *Store) SchemaVersion(ctx context.Context) (int, error) {
 }
 
 func (s *Store) migrate(ctx context.Context, upTo int) error {
-	if _, err := s.db.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
+	if _, err := s.writer.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
 		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
 		return fmt.Errorf("store: migrations table: %w", err)
 	}
@@ -148,9 +193,23 @@ func (s *Store) migrate(ctx context.Context, upTo int) error {
 	return nil
 }
 
-// tx runs f in one transaction, committing when it returns nil.
+// tx runs f in one write transaction on the writer connection, committing
+// when f returns nil. It waits at most writeWait for the connection (other
+// writes of this process before it), then at most busyTimeout for the
+// write lock (another process's write); either wait that runs out is an
+// error for which Busy is true, with nothing written.
 func (s *Store) tx(ctx context.Context, f func(*sql.Tx) error) error {
-	tx, err := s.db.BeginTx(ctx, nil)
+	wait, cancel := context.WithTimeout(ctx, writeWait)
+	conn, err := s.writer.Conn(wait)
+	cancel()
+	if err != nil {
+		if ctx.Err() == nil && errors.Is(err, context.DeadlineExceeded) {
+			return fmt.Errorf("store: waited %v for the writes before this one: %w", writeWait, ErrBusy)
+		}
+		return err
+	}
+	defer conn.Close()
+	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
 		return err
 	}

@@ -195,6 +195,20 @@ func TestListCellsFilters(t *testing.T) {
 			t.Errorf("filter %+v: %s, want %s", c.f, got, c.want)
 		}
 	}
+
+	// The longest search, each character a 4-byte one or a LIKE wildcard
+	// that escaping doubles, stays within SQLite's pattern limit; one
+	// character more is refused before it reaches SQLite.
+	for _, q := range []string{strings.Repeat("😀", MaxSearchLen), strings.Repeat(`\`, MaxSearchLen), "big" + strings.Repeat("%", MaxSearchLen-3)} {
+		if _, err := s.ListCells(ctx, CellFilter{Search: q}); err != nil {
+			t.Errorf("a search of %d characters: %v", MaxSearchLen, err)
+		}
+	}
+	for _, q := range []string{strings.Repeat("a", MaxSearchLen+1), strings.Repeat("%", 50_000)} {
+		if _, err := s.ListCells(ctx, CellFilter{Search: q}); !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "at most 200") {
+			t.Errorf("a search of %d characters: %v, want ErrInvalid naming the limit", len(q), err)
+		}
+	}
 }
 
 func TestDesignRoundTripAndSnapshot(t *testing.T) {
@@ -357,7 +371,7 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 		t.Errorf("JSON import: %+v", rep)
 	}
 	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`))
-	if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, `unknown field "colour"`) {
+	if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, `"colour" is not a cell key`) {
 		t.Errorf("JSON import with an unknown key: %+v", rep)
 	}
 }
