@@ -23,7 +23,7 @@ func (s *Server) apiSize(c echo.Context) error {
 	if ct := r.Header.Get(echo.HeaderContentType); ct != "" {
 		mt, _, err := mime.ParseMediaType(ct)
 		if err != nil || (mt != "application/json" && mt != "text/json") {
-			return echo.NewHTTPError(http.StatusUnsupportedMediaType)
+			return unsupportedMedia(r, "application/json (a design file)")
 		}
 	}
 	data, err := readBody(r, "design", "file")

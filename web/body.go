@@ -22,7 +22,7 @@ func readBody(r *http.Request, field, what string) ([]byte, error) {
 		if errors.As(err, &mbe) {
 			return nil, err
 		}
-		return nil, &malformedError{errs: sizing.ValidationError{{Field: field, Rule: "read", Message: "could not be read; send the whole " + what}}}
+		return nil, malformed(sizing.ValidationError{{Field: field, Rule: "read", Message: "could not be read; send the whole " + what}})
 	}
 	return data, nil
 }
@@ -34,7 +34,7 @@ func decodeDesignFile(data []byte) (*sizing.Design, error) {
 	if err != nil {
 		var ve sizing.ValidationError
 		if errors.As(err, &ve) {
-			return nil, &malformedError{errs: ve}
+			return nil, malformed(ve)
 		}
 		return nil, err
 	}
@@ -52,7 +52,7 @@ func postedToken(c echo.Context) ([]byte, error) {
 	}
 	data, err := share.Decode(tok)
 	if err != nil {
-		return nil, &tokenError{err}
+		return nil, badLink(err)
 	}
 	return data, nil
 }

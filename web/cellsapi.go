@@ -37,7 +37,7 @@ func (s *Server) apiListCells(c echo.Context) error {
 				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: rule, Message: m})
 			}
 		}
-		return &queryError{errs: ve}
+		return badParams(ve)
 	}
 	recs, err := s.libraryCells(c.Request().Context(), filter)
 	if err != nil {
@@ -63,7 +63,7 @@ func (s *Server) apiGetCell(c echo.Context) error {
 func readCellJSON(c echo.Context) (sizing.Cell, error) {
 	var cell sizing.Cell
 	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
-		return cell, echo.NewHTTPError(http.StatusUnsupportedMediaType)
+		return cell, unsupportedMedia(c.Request(), "application/json (one cell)")
 	}
 	data, err := io.ReadAll(c.Request().Body)
 	if err != nil {
@@ -71,23 +71,13 @@ func readCellJSON(c echo.Context) (sizing.Cell, error) {
 		if errors.As(err, &mbe) {
 			return cell, err
 		}
-		return cell, &cellJSONError{msg: "could not be read; send the whole body"}
+		return cell, badCellJSON("could not be read; send the whole body")
 	}
 	if cell, err = store.DecodeCell(data); err != nil {
-		return cell, &cellJSONError{msg: err.Error()}
+		return cell, badCellJSON(err.Error())
 	}
 	return cell, nil
 }
-
-// cellJSONError is a cell body that is not one cell's JSON.
-type cellJSONError struct{ msg string }
-
-func (e *cellJSONError) Error() string { return "the cell could not be read: " + e.msg }
-
-// queryError is a query parameter that is not valid.
-type queryError struct{ errs sizing.ValidationError }
-
-func (e *queryError) Error() string { return e.errs.Error() }
 
 // apiCreateCell is POST /api/v1/cells: add a user cell (201, with its
 // address in Location); 409 when the id is taken, 422 when invalid.
@@ -125,8 +115,8 @@ func (s *Server) apiUpdateCell(c echo.Context) error {
 		cell.ID = id
 	}
 	if cell.ID != id {
-		return &queryError{errs: sizing.ValidationError{{Field: "id", Rule: "fixed",
-			Message: fmt.Sprintf("is %q but the address names %q; to rename a cell, create it under the new id and delete the old one", cell.ID, id)}}}
+		return badParams(sizing.ValidationError{{Field: "id", Rule: "fixed",
+			Message: fmt.Sprintf("is %q but the address names %q; to rename a cell, create it under the new id and delete the old one", cell.ID, id)}})
 	}
 	if err := s.store.UpdateCell(c.Request().Context(), cell); err != nil {
 		return err
@@ -170,7 +160,7 @@ func (s *Server) apiImportCells(c echo.Context) error {
 	case "application/json":
 		rep, err = s.store.ImportCellsJSON(r.Context(), r.Body)
 	default:
-		return &mediaTypeError{want: "text/csv or application/json"}
+		return unsupportedMedia(c.Request(), "text/csv or application/json")
 	}
 	if err != nil {
 		return err
@@ -187,8 +177,3 @@ func (s *Server) apiImportCells(c echo.Context) error {
 	}
 	return c.JSON(status, rep)
 }
-
-// mediaTypeError is a body of a type the endpoint does not take.
-type mediaTypeError struct{ want string }
-
-func (e *mediaTypeError) Error() string { return "send the body as " + e.want }

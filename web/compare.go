@@ -14,6 +14,7 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
+	"capbank/web/fault"
 	"capbank/web/share"
 	"capbank/web/store"
 )
@@ -36,11 +37,11 @@ func (s *Server) getCompare(c echo.Context) error {
 	if token != "" {
 		data, err := share.Decode(token)
 		if err != nil {
-			return &tokenError{err}
+			return badLink(err)
 		}
 		d, err = sizing.DecodeDesign(bytes.NewReader(data))
 		if err != nil {
-			return &tokenError{fmt.Errorf("the link's design does not read: %s", oneLine(err))}
+			return badLink(fmt.Errorf("the link's design does not read: %s", oneLine(err)))
 		}
 		d.ResolveCells(s.lookup(c))
 	} else {
@@ -122,8 +123,7 @@ func (s *Server) getCompare(c echo.Context) error {
 		dd := *d
 		dd.Cells = cells
 		rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, &dd) })
-		var de *deadlineError
-		if errors.As(err, &de) || errors.Is(err, errClientGone) {
+		if fe := fault.As(err); (fe != nil && fe.Code == fault.Unavailable) || errors.Is(err, errClientGone) {
 			return err
 		}
 		if err != nil {

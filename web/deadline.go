@@ -13,24 +13,12 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/sizing"
+	"capbank/web/fault"
 )
 
 // DefaultComputeTimeout is how long one request may spend sizing a design
 // or writing an export when Config.ComputeTimeout is zero.
 const DefaultComputeTimeout = 10 * time.Second
-
-// deadlineError is a request whose computation ran past the server's
-// compute deadline; it is answered 503 with what to make smaller.
-type deadlineError struct {
-	limit time.Duration
-	// measurement is set for the analysis of a measurement log, whose
-	// message asks for a shorter log rather than a smaller design.
-	measurement bool
-}
-
-func (e *deadlineError) Error() string {
-	return "the computation took longer than " + seconds(e.limit)
-}
 
 // seconds writes a duration for a message: "10 s", "2.5 s"; below a
 // second in milliseconds: "1 ms", "0.001 ms".
@@ -47,8 +35,8 @@ func seconds(d time.Duration) string {
 var errClientGone = errors.New("the client closed the request")
 
 // compute runs fn under the server's compute deadline and returns its
-// result; a *deadlineError when the deadline passes first; a *busyError
-// when every compute slot stays taken for the whole queue wait;
+// result; pastDeadline when the deadline passes first; computeBusy when
+// every compute slot stays taken for the whole queue wait;
 // errClientGone when the client leaves first.
 //
 // At most Config.ComputeSlots computations run at once (one per core by
@@ -74,7 +62,7 @@ func compute[T any](s *Server, c echo.Context, fn func(ctx context.Context) (T, 
 	if err := s.slots.acquire(c.Request().Context()); err != nil {
 		if errors.Is(err, errBusy) {
 			s.log.Warn("compute slots busy", "method", method, "path", path, "slots", cap(s.slots.c))
-			return zero, &busyError{retryAfter: s.slots.wait}
+			return zero, computeBusy(s.slots.wait)
 		}
 		return zero, errClientGone
 	}
@@ -111,22 +99,13 @@ func compute[T any](s *Server, c echo.Context, fn func(ctx context.Context) (T, 
 	}
 	if errors.Is(ctx.Err(), context.DeadlineExceeded) {
 		s.log.Warn("compute deadline passed", "method", method, "path", path, "limit", s.computeTimeout.String())
-		return zero, &deadlineError{limit: s.computeTimeout}
+		return zero, pastDeadline(s.computeTimeout, false)
 	}
 	return zero, errClientGone
 }
 
 // errBusy is every compute slot staying taken for the whole queue wait.
 var errBusy = errors.New("every compute slot is taken")
-
-// busyError is a computation refused because the server was already
-// computing as much as it allows at once; it is answered 503 with
-// Retry-After.
-type busyError struct{ retryAfter time.Duration }
-
-func (e *busyError) Error() string {
-	return "the server is computing as many designs as it allows at once"
-}
 
 // computeSlots bounds the computations running at once: a buffered
 // channel used as a counting semaphore.
@@ -195,9 +174,8 @@ func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, err
 // message asks for a shorter log.
 func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
 	out, err := computeWithLookup(s, c, func(_ context.Context, find cellLookup) (*measureOutcome, error) { return measure(in, find) })
-	var de *deadlineError
-	if errors.As(err, &de) {
-		de.measurement = true
+	if fe := fault.As(err); fe != nil && fe.Type == typeDeadline {
+		return out, pastDeadline(s.computeTimeout, true)
 	}
 	return out, err
 }

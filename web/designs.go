@@ -15,6 +15,7 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
+	"capbank/web/fault"
 	"capbank/web/share"
 	"capbank/web/store"
 )
@@ -24,7 +25,7 @@ import (
 func (s *Server) openSharedDesign(c echo.Context, token string) error {
 	data, err := share.Decode(token)
 	if err != nil {
-		return &tokenError{err}
+		return badLink(err)
 	}
 	f, err := s.formFromJSON(c, data)
 	if err != nil {
@@ -46,16 +47,10 @@ func (s *Server) formFromJSON(c echo.Context, data []byte) (*designForm, error) 
 	}
 	f, err := formFromDesign(d, s.lookup(c))
 	if err != nil {
-		return nil, &formShowError{msg: err.Error()}
+		return nil, noFit(err.Error())
 	}
 	return f, nil
 }
-
-// formShowError is a design the form cannot show without losing part of
-// it; the design file itself is fine for capbank size and the API.
-type formShowError struct{ msg string }
-
-func (e *formShowError) Error() string { return e.msg }
 
 // savedID reads a saved design's id from the address.
 func savedID(c echo.Context) (int64, error) {
@@ -169,11 +164,9 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 	}
 	f, err := s.formFromJSON(c, rec.JSON)
 	if err != nil {
-		var fse *formShowError
-		if errors.As(err, &fse) {
-			return s.render(c, http.StatusUnprocessableEntity, components.ErrorPage(s.css, "This design does not fit the form",
-				fmt.Sprintf("“%s” is kept, but the page cannot show it without losing part of it: the design %s. Download its file from %s and size it with capbank size.",
-					rec.Name, fse.msg, "/api/v1/designs/"+strconv.FormatInt(id, 10)+"/file"), http.StatusUnprocessableEntity))
+		if fe := fault.As(err); fe != nil && fe.Type == typeNoFit {
+			fe.Message = fmt.Sprintf("“%s” is kept, but the page cannot show it without losing part of it: the design %s. Download its file from %s and size it with capbank size.",
+				rec.Name, fe.Fields[0].Message, "/api/v1/designs/"+strconv.FormatInt(id, 10)+"/file")
 		}
 		return err
 	}
@@ -323,7 +316,7 @@ type designBody struct {
 func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, error) {
 	var b designBody
 	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
-		return b, &mediaTypeError{want: "application/json"}
+		return b, unsupportedMedia(c.Request(), "application/json")
 	}
 	data, err := readBody(c.Request(), "design", "body")
 	if err != nil {
@@ -332,20 +325,20 @@ func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, erro
 	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&b); err != nil {
-		return b, &malformedError{errs: sizing.ValidationError{{Field: "body", Rule: "decode",
-			Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…", "design": {…the design file…}}`}}}
+		return b, malformed(sizing.ValidationError{{Field: "body", Rule: "decode",
+			Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…", "design": {…the design file…}}`}})
 	}
 	if needName && strings.TrimSpace(b.Name) == "" {
-		return b, &queryError{errs: sizing.ValidationError{{Field: "name", Rule: "required", Message: "is needed: a saved design has a name"}}}
+		return b, badParams(sizing.ValidationError{{Field: "name", Rule: "required", Message: "is needed: a saved design has a name"}})
 	}
 	if len(b.Design) == 0 {
-		return b, &queryError{errs: sizing.ValidationError{{Field: "design", Rule: "required", Message: "is needed: the design file, as capbank size reads it"}}}
+		return b, badParams(sizing.ValidationError{{Field: "design", Rule: "required", Message: "is needed: the design file, as capbank size reads it"}})
 	}
 	d, err := sizing.DecodeDesign(bytes.NewReader(b.Design))
 	if err != nil {
 		var ve sizing.ValidationError
 		if errors.As(err, &ve) {
-			return b, &malformedError{errs: prefixed("design.", ve)}
+			return b, malformed(prefixed("design.", ve))
 		}
 		return b, err
 	}
@@ -464,12 +457,12 @@ func (s *Server) apiRenameDesign(c echo.Context) error {
 		Name string `json:"name"`
 	}
 	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
-		return &mediaTypeError{want: "application/json"}
+		return unsupportedMedia(c.Request(), "application/json")
 	}
 	dec := json.NewDecoder(c.Request().Body)
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&b); err != nil {
-		return &malformedError{errs: sizing.ValidationError{{Field: "body", Rule: "decode", Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…"}`}}}
+		return malformed(sizing.ValidationError{{Field: "body", Rule: "decode", Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…"}`}})
 	}
 	if err := s.store.RenameDesign(c.Request().Context(), id, b.Name); err != nil {
 		return err

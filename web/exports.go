@@ -40,19 +40,6 @@ func designToken(d *sizing.Design) (token, note string) {
 	return tok, ""
 }
 
-// exportError is a request for an export that cannot be made from its
-// design: a cell that is not a feasible candidate, a bad paper size, a
-// bill of quantities when no bank carries the load.
-type exportError struct{ field, msg string }
-
-func (e *exportError) Error() string { return e.field + ": " + e.msg }
-
-// tokenError is a share token that does not decode.
-type tokenError struct{ err error }
-
-func (e *tokenError) Error() string { return e.err.Error() }
-func (e *tokenError) Unwrap() error { return e.err }
-
 // readExportDesign reads the design of an export or share request: a
 // JSON body (the design file), or a form whose field d holds the share
 // token, as the page's download buttons post it.
@@ -67,7 +54,7 @@ func (s *Server) readExportDesign(c echo.Context) (*sizing.Design, error) {
 	case "application/x-www-form-urlencoded", "multipart/form-data":
 		data, err = postedToken(c)
 	default:
-		return nil, echo.NewHTTPError(http.StatusUnsupportedMediaType)
+		return nil, unsupportedMedia(r, "application/json (a design file) or a form with the share token d")
 	}
 	if err != nil {
 		return nil, err
@@ -102,7 +89,7 @@ func (s *Server) postExport(c echo.Context) error {
 	}
 	paper, err := export.ParsePaper(c.QueryParam("paper"))
 	if err != nil {
-		return &exportError{field: "paper", msg: "must be a4 or letter"}
+		return exportRefused("paper", "must be a4 or letter")
 	}
 	d, err := s.readExportDesign(c)
 	if err != nil {
@@ -168,16 +155,16 @@ func exportBOQ(d *sizing.Design, r *sizing.Report, cellID string, f export.Forma
 	if cellID != "" {
 		i := slices.IndexFunc(r.Candidates, func(c sizing.Candidate) bool { return c.CellID == cellID })
 		if i < 0 {
-			return nil, &exportError{field: "cell", msg: fmt.Sprintf("%q is not a candidate cell of this design", cellID)}
+			return nil, exportRefused("cell", fmt.Sprintf("%q is not a candidate cell of this design", cellID))
 		}
 		if c := r.Candidates[i]; !c.Feasible {
-			return nil, &exportError{field: "cell", msg: fmt.Sprintf("%q cannot carry the load (%s), so it has no bank to export", cellID, c.Reason)}
+			return nil, exportRefused("cell", fmt.Sprintf("%q cannot carry the load (%s), so it has no bank to export", cellID, c.Reason))
 		}
 	} else if r.Recommended == nil {
 		if f.Name == "pdf" {
 			return nil, nil
 		}
-		return nil, &exportError{field: "cell", msg: "no candidate carries the load at worst case, so there is no bank to list; the PDF report says why"}
+		return nil, exportRefused("cell", "no candidate carries the load at worst case, so there is no bank to list; the PDF report says why")
 	}
 	return sizing.BillOfQuantities(d, r, cellID)
 }

@@ -64,13 +64,6 @@ func (s *Server) useGuards(e *echo.Echo, cfg Config) {
 	e.POST("/unlock", s.postUnlock)
 }
 
-// crossOriginError is a state-changing request that a browser sent from
-// another site.
-type crossOriginError struct{ err error }
-
-func (e *crossOriginError) Error() string { return "cross-origin request refused: " + e.err.Error() }
-func (e *crossOriginError) Unwrap() error { return e.err }
-
 // refuseCrossOrigin refuses a POST, PUT, PATCH or DELETE that a browser
 // sent from another site (Sec-Fetch-Site, or an Origin that is not this
 // host), with net/http's CrossOriginProtection: a page elsewhere cannot
@@ -79,7 +72,7 @@ func (e *crossOriginError) Unwrap() error { return e.err }
 func (s *Server) refuseCrossOrigin(next echo.HandlerFunc) echo.HandlerFunc {
 	return func(c echo.Context) error {
 		if err := s.guard.csrf.Check(c.Request()); err != nil {
-			return &crossOriginError{err}
+			return crossOrigin(err)
 		}
 		return next(c)
 	}

@@ -106,7 +106,7 @@ func formReadError(err error) error {
 	if errors.As(err, &mbe) {
 		return mbe
 	}
-	return &formError{err: err}
+	return formUnreadable(err)
 }
 
 // getPage is GET /: the example design with its results; with ?new an

@@ -260,7 +260,7 @@ func importProps(r store.ImportReport) *components.ImportReportProps {
 func (s *Server) getLibraryExport(c echo.Context) error {
 	filter, msgs := readFilter(c.QueryParams())
 	for name, m := range msgs {
-		return &exportError{field: name, msg: m}
+		return exportRefused(name, m)
 	}
 	recs, err := s.libraryCells(c.Request().Context(), filter)
 	if err != nil {
@@ -455,7 +455,7 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 	}
 	cell, err := store.DecodeCell([]byte(c.FormValue("cell_json")))
 	if err != nil {
-		return &cellJSONError{msg: "cell_json: " + err.Error()}
+		return badCellJSON("cell_json: " + err.Error())
 	}
 	vals := url.Values{}
 	cellValues(vals, "", cell)

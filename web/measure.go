@@ -192,7 +192,7 @@ func readMeasureInput(c echo.Context) (measureInput, error) {
 			if errors.As(err, &mbe) {
 				return in, err
 			}
-			return in, &formError{err: err}
+			return in, formUnreadable(err)
 		}
 		if f, _, err := r.FormFile("log_csv"); err == nil {
 			in.log, err = readAll(f)
@@ -201,7 +201,7 @@ func readMeasureInput(c echo.Context) (measureInput, error) {
 			}
 		}
 	} else if err := r.ParseForm(); err != nil {
-		return in, &formError{err: err}
+		return in, formUnreadable(err)
 	}
 	for k, v := range r.Form {
 		if len(v) > 0 {

@@ -21,6 +21,7 @@ import (
 	"syscall"
 
 	"capbank/sizing"
+	"capbank/web/fault"
 )
 
 func main() {
@@ -144,17 +145,28 @@ func report(stderr io.Writer, err error) {
 }
 
 // exitStatus is the one place that maps an error from run to the exit
-// status: 0 for none or a help request, 2 for a usage mistake or an invalid
-// design, 1 for anything else.
+// status: 0 for none or a help request; otherwise the exit status of its
+// code in the one error table (capbank/web/fault), which the web's HTTP
+// statuses come from too: 2 for a usage mistake or an invalid design, 1
+// for anything else.
 func exitStatus(err error) int {
+	if err == nil || errors.Is(err, flag.ErrHelp) {
+		return 0
+	}
+	return fault.ExitStatus(codeOf(err))
+}
+
+// codeOf is the fault code of an error from run.
+func codeOf(err error) fault.Code {
 	var ve sizing.ValidationError
 	var ue usageError
-	switch {
-	case err == nil, errors.Is(err, flag.ErrHelp):
-		return 0
-	case errors.As(err, &ue), errors.As(err, &ve):
-		return 2
-	default:
-		return 1
+	switch fe := fault.As(err); {
+	case fe != nil:
+		return fe.Code
+	case errors.As(err, &ue):
+		return fault.Malformed
+	case errors.As(err, &ve):
+		return fault.Invalid
 	}
+	return fault.Internal
 }
