@@ -82,9 +82,6 @@ func readCellJSON(c echo.Context) (sizing.Cell, error) {
 // apiCreateCell is POST /api/v1/cells: add a user cell (201, with its
 // address in Location); 409 when the id is taken, 422 when invalid.
 func (s *Server) apiCreateCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	cell, err := readCellJSON(c)
 	if err != nil {
 		return err
@@ -103,9 +100,6 @@ func (s *Server) apiCreateCell(c echo.Context) error {
 // apiUpdateCell is PUT /api/v1/cells/{id}: replace a user cell. The body's
 // id must be the address's; demo cells are read-only (409).
 func (s *Server) apiUpdateCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	cell, err := readCellJSON(c)
 	if err != nil {
 		return err
@@ -131,9 +125,6 @@ func (s *Server) apiUpdateCell(c echo.Context) error {
 // apiDeleteCell is DELETE /api/v1/cells/{id}: 204; saved designs keep
 // their own copy of the cell.
 func (s *Server) apiDeleteCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	if err := s.store.DeleteCell(c.Request().Context(), cellIDParam(c)); err != nil {
 		return err
 	}
@@ -145,9 +136,6 @@ func (s *Server) apiDeleteCell(c echo.Context) error {
 // the row-by-row report: 200 when imported, 422 when any row (or the file)
 // was rejected and nothing changed.
 func (s *Server) apiImportCells(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	r := c.Request()
 	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
 	var (

@@ -114,9 +114,6 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 // of (share token d) under name, as a new saved design; "save as new"
 // never overwrites.
 func (s *Server) postSaveDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	data, d, err := s.postedDesign(c)
 	if err != nil {
 		return err
@@ -151,9 +148,6 @@ func (s *Server) postedDesign(c echo.Context) ([]byte, *sizing.Design, error) {
 // getSavedDesign is GET /designs/{id}: the saved design opened in the
 // design page, which then offers to save over it.
 func (s *Server) getSavedDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -190,9 +184,6 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 // postReplaceDesign is POST /designs/{id}: save the page's design over
 // saved design id (the page's "Save" when a saved design is open).
 func (s *Server) postReplaceDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -209,9 +200,6 @@ func (s *Server) postReplaceDesign(c echo.Context) error {
 
 // postRenameDesign is POST /designs/{id}/rename.
 func (s *Server) postRenameDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -230,9 +218,6 @@ func (s *Server) postRenameDesign(c echo.Context) error {
 // postDuplicateDesign is POST /designs/{id}/duplicate: a copy named
 // "… (copy)".
 func (s *Server) postDuplicateDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -259,9 +244,6 @@ func copyName(name string) string {
 
 // postDeleteDesign is POST /designs/{id}/delete.
 func (s *Server) postDeleteDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -290,9 +272,6 @@ type designList struct {
 }
 
 func (s *Server) apiListDesigns(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	recs, err := s.store.ListDesigns(c.Request().Context())
 	if err != nil {
 		return err
@@ -371,9 +350,6 @@ func prefixed(p string, ve sizing.ValidationError) sizing.ValidationError {
 
 // apiSaveDesign is POST /api/v1/designs: 201 with the new id.
 func (s *Server) apiSaveDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	b, err := s.readDesignBody(c, true)
 	if err != nil {
 		return err
@@ -398,9 +374,6 @@ func (s *Server) answerDesign(c echo.Context, status int, id int64) error {
 // GET /api/v1/designs/{id}/file gives the design file itself, byte for
 // byte as saved.
 func (s *Server) apiGetDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -409,9 +382,6 @@ func (s *Server) apiGetDesign(c echo.Context) error {
 }
 
 func (s *Server) apiDesignFile(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -427,9 +397,6 @@ func (s *Server) apiDesignFile(c echo.Context) error {
 // apiReplaceDesign is PUT /api/v1/designs/{id}: a new design file (and,
 // if given, a new name) for a saved design.
 func (s *Server) apiReplaceDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -446,9 +413,6 @@ func (s *Server) apiReplaceDesign(c echo.Context) error {
 
 // apiRenameDesign is PATCH /api/v1/designs/{id} with {"name": …}.
 func (s *Server) apiRenameDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err
@@ -472,9 +436,6 @@ func (s *Server) apiRenameDesign(c echo.Context) error {
 
 // apiDeleteDesign is DELETE /api/v1/designs/{id}: 204.
 func (s *Server) apiDeleteDesign(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id, err := savedID(c)
 	if err != nil {
 		return err

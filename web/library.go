@@ -37,45 +37,61 @@ func OpenStore(ctx context.Context, dataDir string) (*store.Store, error) {
 // run without a store.
 var errNoStore = errors.New("this capbank runs without a database, so it cannot keep cells or designs")
 
+// needStore answers errNoStore, before the handler runs, on a server run
+// without a store.
+func (s *Server) needStore(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		if s.store == nil {
+			return errNoStore
+		}
+		return next(c)
+	}
+}
+
 // libraryRoutes are the cell library's, the comparison's and the saved
 // designs' pages and API.
 func (s *Server) libraryRoutes(e *echo.Echo) {
+	// needStore guards the routes that need the store: without one they
+	// answer 503 (errNoStore); the rest read the built-in demo cells then.
+	// (Route middleware rather than a Group: echo's group with an empty
+	// prefix would answer every unknown address itself.)
+	needStore := s.needStore
 	e.GET("/library", s.getLibrary)
-	e.POST("/library", s.postNewCell)
-	e.GET("/library/new", s.getNewCell)
-	e.POST("/library/new", s.postNewCellDraft)
+	e.POST("/library", s.postNewCell, needStore)
+	e.GET("/library/new", s.getNewCell, needStore)
+	e.POST("/library/new", s.postNewCellDraft, needStore)
 	e.GET("/library.csv", s.getLibraryExport)
 	e.GET("/library.json", s.getLibraryExport)
-	e.POST("/library/import", s.postLibraryImport)
+	e.POST("/library/import", s.postLibraryImport, needStore)
 	e.GET("/library/:id", s.getCellPage)
-	e.POST("/library/:id", s.postCellPage)
-	e.POST("/library/:id/duplicate", s.postDuplicateCell)
-	e.POST("/library/:id/delete", s.postDeleteCell)
+	e.POST("/library/:id", s.postCellPage, needStore)
+	e.POST("/library/:id/duplicate", s.postDuplicateCell, needStore)
+	e.POST("/library/:id/delete", s.postDeleteCell, needStore)
 
 	e.GET("/api/v1/cells", s.apiListCells)
-	e.POST("/api/v1/cells", s.apiCreateCell)
-	e.POST("/api/v1/cells/import", s.apiImportCells)
+	e.POST("/api/v1/cells", s.apiCreateCell, needStore)
+	e.POST("/api/v1/cells/import", s.apiImportCells, needStore)
 	e.GET("/api/v1/cells/:id", s.apiGetCell)
-	e.PUT("/api/v1/cells/:id", s.apiUpdateCell)
-	e.DELETE("/api/v1/cells/:id", s.apiDeleteCell)
+	e.PUT("/api/v1/cells/:id", s.apiUpdateCell, needStore)
+	e.DELETE("/api/v1/cells/:id", s.apiDeleteCell, needStore)
 
 	e.GET("/compare", s.getCompare)
 
 	e.GET("/designs", s.getDesigns)
-	e.POST("/designs", s.postSaveDesign)
-	e.GET("/designs/:id", s.getSavedDesign)
-	e.POST("/designs/:id", s.postReplaceDesign)
-	e.POST("/designs/:id/rename", s.postRenameDesign)
-	e.POST("/designs/:id/duplicate", s.postDuplicateDesign)
-	e.POST("/designs/:id/delete", s.postDeleteDesign)
+	e.POST("/designs", s.postSaveDesign, needStore)
+	e.GET("/designs/:id", s.getSavedDesign, needStore)
+	e.POST("/designs/:id", s.postReplaceDesign, needStore)
+	e.POST("/designs/:id/rename", s.postRenameDesign, needStore)
+	e.POST("/designs/:id/duplicate", s.postDuplicateDesign, needStore)
+	e.POST("/designs/:id/delete", s.postDeleteDesign, needStore)
 
-	e.GET("/api/v1/designs", s.apiListDesigns)
-	e.POST("/api/v1/designs", s.apiSaveDesign)
-	e.GET("/api/v1/designs/:id", s.apiGetDesign)
-	e.GET("/api/v1/designs/:id/file", s.apiDesignFile)
-	e.PUT("/api/v1/designs/:id", s.apiReplaceDesign)
-	e.PATCH("/api/v1/designs/:id", s.apiRenameDesign)
-	e.DELETE("/api/v1/designs/:id", s.apiDeleteDesign)
+	e.GET("/api/v1/designs", s.apiListDesigns, needStore)
+	e.POST("/api/v1/designs", s.apiSaveDesign, needStore)
+	e.GET("/api/v1/designs/:id", s.apiGetDesign, needStore)
+	e.GET("/api/v1/designs/:id/file", s.apiDesignFile, needStore)
+	e.PUT("/api/v1/designs/:id", s.apiReplaceDesign, needStore)
+	e.PATCH("/api/v1/designs/:id", s.apiRenameDesign, needStore)
+	e.DELETE("/api/v1/designs/:id", s.apiDeleteDesign, needStore)
 }
 
 func (s *Server) shell(title, tagline, current string) components.ShellProps {
@@ -286,9 +302,6 @@ func (s *Server) getLibraryExport(c echo.Context) error {
 // postLibraryImport is POST /library/import: a CSV or JSON cell file from
 // the page's upload, with the row-by-row report.
 func (s *Server) postLibraryImport(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	r := c.Request()
 	if err := r.ParseMultipartForm(maxFormMemory); err != nil {
 		return formReadError(err)
@@ -440,9 +453,6 @@ func optOr(v *float64, unit, none string) string {
 
 // getNewCell is GET /library/new: the empty cell form.
 func (s *Server) getNewCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	return s.render(c, http.StatusOK, components.CellPage(s.cellPageProps(nil, url.Values{"source": {"datasheet"}}, nil, true)))
 }
 
@@ -450,9 +460,6 @@ func (s *Server) getNewCell(c echo.Context) error {
 // (as the measurement page posts its measured cell): the add form filled
 // with it, to check before adding. Nothing is stored yet.
 func (s *Server) postNewCellDraft(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	cell, err := store.DecodeCell([]byte(c.FormValue("cell_json")))
 	if err != nil {
 		return badCellJSON("cell_json: " + err.Error())
@@ -474,9 +481,6 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 // postNewCell is POST /library: add the posted cell, then show it; with
 // problems, the form again with each beside its field (422).
 func (s *Server) postNewCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	vals, err := c.FormParams()
 	if err != nil {
 		return formReadError(err)
@@ -520,9 +524,6 @@ func (s *Server) getCellPage(c echo.Context) error {
 // form may differ from the address only if it is new: renaming is a
 // duplicate and a delete, so that nothing is silently lost.
 func (s *Server) postCellPage(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	ctx := c.Request().Context()
 	id := cellIDParam(c)
 	rec, err := s.store.GetCell(ctx, id)
@@ -551,9 +552,6 @@ func (s *Server) postCellPage(c echo.Context) error {
 
 // postDuplicateCell is POST /library/{id}/duplicate: a writable copy.
 func (s *Server) postDuplicateCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	rec, err := s.store.DuplicateCell(c.Request().Context(), cellIDParam(c), "")
 	if err != nil {
 		return err
@@ -563,9 +561,6 @@ func (s *Server) postDuplicateCell(c echo.Context) error {
 
 // postDeleteCell is POST /library/{id}/delete.
 func (s *Server) postDeleteCell(c echo.Context) error {
-	if s.store == nil {
-		return errNoStore
-	}
 	id := cellIDParam(c)
 	if err := s.store.DeleteCell(c.Request().Context(), id); err != nil {
 		return err
