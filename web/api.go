@@ -26,15 +26,10 @@ func (s *Server) apiSize(c echo.Context) error {
 			return unsupportedMedia(r, "application/json (a design file)")
 		}
 	}
-	data, err := readBody(r, "design", "file")
+	d, _, err := s.designFrom(c, fromBody) // a design may name a library cell by its id
 	if err != nil {
 		return err
 	}
-	d, err := decodeDesignFile(data)
-	if err != nil {
-		return err
-	}
-	d.ResolveCells(s.lookup(c)) // a design may name a library cell by its id
 	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, d) })
 	if err != nil {
 		return err

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"io"
+	"mime"
 	"net/http"
 
 	"github.com/labstack/echo/v4"
@@ -39,6 +40,57 @@ func decodeDesignFile(data []byte) (*sizing.Design, error) {
 		return nil, err
 	}
 	return d, nil
+}
+
+// designSource is where a request carries its design file.
+type designSource int
+
+const (
+	fromBody        designSource = iota // the body, a JSON design file
+	fromPostedToken                     // a posted form's share token d
+	fromQueryToken                      // the address's share token d
+	fromBodyOrForm                      // by the body's media type: a JSON design file, or a form with the token d
+)
+
+// designFrom is the one intake of a design file on the web: read from src
+// (a body over MaxBodyBytes is a 413, a bad share token a 400), decoded
+// strictly (a malformed, 400, naming the fields) and its library ids
+// resolved. It also returns the file as it came, for saving.
+func (s *Server) designFrom(c echo.Context, src designSource) (*sizing.Design, []byte, error) {
+	r := c.Request()
+	if src == fromBodyOrForm {
+		mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
+		switch mt {
+		case "application/json", "text/json":
+			src = fromBody
+		case "application/x-www-form-urlencoded", "multipart/form-data":
+			src = fromPostedToken
+		default:
+			return nil, nil, unsupportedMedia(r, "application/json (a design file) or a form with the share token d")
+		}
+	}
+	var data []byte
+	var err error
+	switch src {
+	case fromBody:
+		data, err = readBody(r, "design", "file")
+	case fromPostedToken:
+		data, err = postedToken(c)
+	case fromQueryToken:
+		data, err = share.Decode(c.QueryParam("d"))
+		if err != nil {
+			err = badLink(err)
+		}
+	}
+	if err != nil {
+		return nil, nil, err
+	}
+	d, err := decodeDesignFile(data)
+	if err != nil {
+		return nil, nil, err
+	}
+	d.ResolveCells(s.lookup(c))
+	return d, data, nil
 }
 
 // postedToken is the design file a posted form carries in its share token

@@ -1,13 +1,14 @@
 package web
 
 import (
-	"bytes"
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
 	"math"
 	"net/http"
 	"net/url"
+	"slices"
 	"strings"
 
 	"github.com/labstack/echo/v4"
@@ -15,7 +16,6 @@ import (
 	"capbank/components"
 	"capbank/sizing"
 	"capbank/web/fault"
-	"capbank/web/share"
 	"capbank/web/store"
 )
 
@@ -30,38 +30,46 @@ const (
 // the design a share token d carries (the example design without one);
 // without cell parameters, the design's own cells.
 func (s *Server) getCompare(c echo.Context) error {
-	q := c.QueryParams()
-	ctx := c.Request().Context()
-	var d *sizing.Design
-	token := q.Get("d")
-	if token != "" {
-		data, err := share.Decode(token)
-		if err != nil {
-			return badLink(err)
-		}
-		d, err = sizing.DecodeDesign(bytes.NewReader(data))
-		if err != nil {
-			return badLink(fmt.Errorf("the link's design does not read: %s", oneLine(err)))
-		}
-		d.ResolveCells(s.lookup(c))
-	} else {
-		d = exampleForm().decode(s.lookup(c)).design
+	d, err := s.compareDesign(c)
+	if err != nil {
+		return err
 	}
-
+	token := c.QueryParam("d")
 	p := components.CompareProps{
 		Shell:  s.shell("Compare cells", "Candidate cells side by side for one design", "compare"),
-		Design: d.Name, Token: token, MessageID: "msg-cell",
-		DesignHref: "/",
-	}
-	if p.Design == "" {
-		p.Design = "the unnamed design"
+		Design: cmp.Or(d.Name, "the unnamed design"), Token: token, MessageID: "msg-cell", DesignHref: "/",
 	}
 	if token != "" {
 		p.DesignHref = "/?d=" + url.QueryEscape(token)
 	}
-	status := http.StatusOK
+	cells, status := s.compareCells(c.Request().Context(), d, c.QueryParams()["cell"], &p.Message)
+	if p.Picks, err = s.comparePicks(c.Request().Context(), cells); err != nil {
+		return err
+	}
+	if cells != nil {
+		if status, err = s.sizeCompare(c, d, cells, &p); err != nil {
+			return err
+		}
+	}
+	return s.render(c, status, components.ComparePage(p))
+}
+
+// compareDesign is the design of a comparison: the one a share token d
+// carries, else the example design.
+func (s *Server) compareDesign(c echo.Context) (*sizing.Design, error) {
+	if c.QueryParam("d") != "" {
+		d, _, err := s.designFrom(c, fromQueryToken)
+		return d, err
+	}
+	return exampleForm().decode(s.lookup(c)).design, nil
+}
+
+// compareCells chooses the cells to compare: the library cells ids names,
+// or without ids the design's own typed cells (the first maxCompare). A
+// choice that cannot be compared is nil cells, with why in msg and the
+// status to answer with.
+func (s *Server) compareCells(ctx context.Context, d *sizing.Design, ids []string, msg *string) ([]sizing.Cell, int) {
 	var cells []sizing.Cell
-	ids := q["cell"]
 	if len(ids) == 0 {
 		for _, cell := range d.Cells {
 			if !cell.IsReference() {
@@ -70,11 +78,11 @@ func (s *Server) getCompare(c echo.Context) error {
 		}
 		if len(cells) > maxCompare {
 			cells = cells[:maxCompare]
-			p.Message = fmt.Sprintf("The design has %d cells; the first %d are compared. Pick the ones you want below.", len(d.Cells), maxCompare)
+			*msg = fmt.Sprintf("The design has %d cells; the first %d are compared. Pick the ones you want below.", len(d.Cells), maxCompare)
 		}
 	} else {
-		seen := map[string]bool{}
 		var unknown []string
+		seen := map[string]bool{}
 		for _, id := range ids {
 			if seen[id] {
 				continue
@@ -88,53 +96,55 @@ func (s *Server) getCompare(c echo.Context) error {
 			cells = append(cells, rec.Cell)
 		}
 		if len(unknown) > 0 {
-			p.Message = fmt.Sprintf("Not in the library: %s.", strings.Join(unknown, ", "))
-			status = http.StatusUnprocessableEntity
-			cells = nil
+			*msg = fmt.Sprintf("Not in the library: %s.", strings.Join(unknown, ", "))
+			return nil, http.StatusUnprocessableEntity
 		}
 	}
 	switch {
-	case p.Message != "" && cells == nil:
 	case len(cells) < minCompare:
-		p.Message = fmt.Sprintf("Pick at least %d cells to compare (%d picked).", minCompare, len(cells))
+		*msg = fmt.Sprintf("Pick at least %d cells to compare (%d picked).", minCompare, len(cells))
 		if len(ids) > 0 {
-			status = http.StatusUnprocessableEntity
+			return nil, http.StatusUnprocessableEntity
 		}
-		cells = nil
+		return nil, http.StatusOK
 	case len(cells) > maxCompare:
-		p.Message = fmt.Sprintf("Pick at most %d cells to compare (%d picked): more do not fit side by side.", maxCompare, len(cells))
-		status = http.StatusUnprocessableEntity
-		cells = nil
+		*msg = fmt.Sprintf("Pick at most %d cells to compare (%d picked): more do not fit side by side.", maxCompare, len(cells))
+		return nil, http.StatusUnprocessableEntity
 	}
+	return cells, http.StatusOK
+}
 
-	picked := map[string]bool{}
-	for _, cell := range cells {
-		picked[cell.ID] = true
-	}
+// comparePicks is the library as a pick list, the compared cells ticked.
+func (s *Server) comparePicks(ctx context.Context, cells []sizing.Cell) ([]components.CellPickProps, error) {
 	recs, err := s.libraryCells(ctx, store.CellFilter{})
 	if err != nil {
-		return err
+		return nil, err
 	}
+	picks := make([]components.CellPickProps, 0, len(recs))
 	for _, r := range recs {
-		p.Picks = append(p.Picks, cellPick(r.Cell, picked[r.Cell.ID]))
+		picked := slices.ContainsFunc(cells, func(c sizing.Cell) bool { return c.ID == r.Cell.ID })
+		picks = append(picks, cellPick(r.Cell, picked))
 	}
+	return picks, nil
+}
 
-	if cells != nil {
-		dd := *d
-		dd.Cells = cells
-		rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, &dd) })
-		if fe := fault.As(err); (fe != nil && fe.Code == fault.Unavailable) || errors.Is(err, errClientGone) {
-			return err
-		}
-		if err != nil {
-			p.Message = "The design could not be sized with these cells: " + oneLine(err)
-			status = http.StatusUnprocessableEntity
-		} else {
-			p.Summary = designSummary(rep, len(dd.Load.Steps))
-			fillCompare(&p, &dd, rep)
-		}
+// sizeCompare sizes d with cells under the compute deadline and fills the
+// comparison; a design that does not size with them is a message (422),
+// a deadline or a busy server the error itself.
+func (s *Server) sizeCompare(c echo.Context, d *sizing.Design, cells []sizing.Cell, p *components.CompareProps) (int, error) {
+	dd := *d
+	dd.Cells = cells
+	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, &dd) })
+	if fe := fault.As(err); (fe != nil && fe.Code == fault.Unavailable) || errors.Is(err, errClientGone) {
+		return 0, err
 	}
-	return s.render(c, status, components.ComparePage(p))
+	if err != nil {
+		p.Message = "The design could not be sized with these cells: " + oneLine(err)
+		return http.StatusUnprocessableEntity, nil
+	}
+	p.Summary = designSummary(rep, len(dd.Load.Steps))
+	fillCompare(p, &dd, rep)
+	return http.StatusOK, nil
 }
 
 // fillCompare lays out the report's candidates side by side.

@@ -114,7 +114,7 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 // of (share token d) under name, as a new saved design; "save as new"
 // never overwrites.
 func (s *Server) postSaveDesign(c echo.Context) error {
-	data, d, err := s.postedDesign(c)
+	d, data, err := s.designFrom(c, fromPostedToken)
 	if err != nil {
 		return err
 	}
@@ -130,19 +130,6 @@ func (s *Server) postSaveDesign(c echo.Context) error {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, designsPath(id)+"?done=saved")
-}
-
-// postedDesign reads the design file a form carries in its share token d.
-func (s *Server) postedDesign(c echo.Context) ([]byte, *sizing.Design, error) {
-	data, err := postedToken(c)
-	if err != nil {
-		return nil, nil, err
-	}
-	d, err := decodeDesignFile(data)
-	if err != nil {
-		return nil, nil, err
-	}
-	return data, d, nil
 }
 
 // getSavedDesign is GET /designs/{id}: the saved design opened in the
@@ -188,7 +175,7 @@ func (s *Server) postReplaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	data, _, err := s.postedDesign(c)
+	_, data, err := s.designFrom(c, fromPostedToken)
 	if err != nil {
 		return err
 	}

@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
-	"mime"
 	"net/http"
 	"slices"
 	"strings"
@@ -40,33 +39,6 @@ func designToken(d *sizing.Design) (token, note string) {
 	return tok, ""
 }
 
-// readExportDesign reads the design of an export or share request: a
-// JSON body (the design file), or a form whose field d holds the share
-// token, as the page's download buttons post it.
-func (s *Server) readExportDesign(c echo.Context) (*sizing.Design, error) {
-	r := c.Request()
-	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
-	var data []byte
-	var err error
-	switch mt {
-	case "application/json", "text/json":
-		data, err = readBody(r, "design", "file")
-	case "application/x-www-form-urlencoded", "multipart/form-data":
-		data, err = postedToken(c)
-	default:
-		return nil, unsupportedMedia(r, "application/json (a design file) or a form with the share token d")
-	}
-	if err != nil {
-		return nil, err
-	}
-	d, err := decodeDesignFile(data)
-	if err != nil {
-		return nil, err
-	}
-	d.ResolveCells(s.lookup(c))
-	return d, nil
-}
-
 // formParseError is the error of reading the request's form, if any.
 func formParseError(r *http.Request) error {
 	_, err := readFormBody(r)
@@ -91,7 +63,7 @@ func (s *Server) postExport(c echo.Context) error {
 	if err != nil {
 		return exportRefused("paper", "must be a4 or letter")
 	}
-	d, err := s.readExportDesign(c)
+	d, _, err := s.designFrom(c, fromBodyOrForm)
 	if err != nil {
 		return err
 	}
