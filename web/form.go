@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"math"
 	"net/url"
 	"regexp"
 	"slices"
@@ -385,43 +384,9 @@ type decoded struct {
 // values, do not report a second problem about it.
 func (f *designForm) decode(lib cellLookup) decoded {
 	d := &sizing.Design{Name: strings.TrimSpace(f.value("name"))}
-	out := decoded{design: d, problems: slices.Clone(f.problems)}
-	bad := func(name, rule, msg string) {
-		out.problems = append(out.problems, sizing.FieldError{Field: name, Rule: rule, Message: msg})
-	}
-	nan := math.NaN()
-	requiredText := func(name, text string, u unitSpec) float64 {
-		v, err := parseSI(text, u)
-		if err != nil {
-			bad(name, ruleOf(err), numberMessage(err, u))
-			return nan
-		}
-		return v
-	}
-	required := func(name string, u unitSpec) float64 { return requiredText(name, f.value(name), u) }
-	optional := func(name string, u unitSpec) *float64 {
-		v, err := parseSI(f.value(name), u)
-		if err == errSIEmpty {
-			return nil
-		}
-		if err != nil {
-			bad(name, "number", err.Error())
-			v = nan
-		}
-		return &v
-	}
-	optionalCount := func(name string) *int {
-		v, err := parseCount(f.value(name), unitCount)
-		if err == errSIEmpty {
-			return nil
-		}
-		if err != nil {
-			bad(name, "number", err.Error())
-			return nil
-		}
-		return &v
-	}
-
+	out := decoded{design: d}
+	r := &fieldReader{get: f.value, problems: slices.Clone(f.problems)}
+	bad, requiredText, required, optional, optionalCount := r.bad, r.requiredText, r.required, r.optional, r.optionalCount
 	d.Window.MaxV = required("window.max_v", unitVolt)
 	d.Window.MinV = required("window.min_v", unitVolt)
 	d.CellMaxV = optional("cell_max_v", unitVolt)
@@ -535,6 +500,7 @@ func (f *designForm) decode(lib cellLookup) decoded {
 			out.sources = append(out.sources, c.ID)
 		}
 	}
+	out.problems = r.problems
 	return out
 }
 

@@ -342,36 +342,14 @@ var cellFormFields = cellFields("")
 // problem named by its field: numbers that do not parse, then the
 // library's validation of the cell.
 func readCellForm(vals url.Values) (sizing.Cell, sizing.ValidationError) {
-	var problems sizing.ValidationError
-	bad := func(name, rule, msg string) {
-		problems = append(problems, sizing.FieldError{Field: name, Rule: rule, Message: msg})
-	}
-	required := func(name string, u unitSpec) float64 {
-		v, err := parseSI(vals.Get(name), u)
-		if err != nil {
-			bad(name, ruleOf(err), numberMessage(err, u))
-			return 0
-		}
-		return v
-	}
-	optional := func(name string, u unitSpec) *float64 {
-		v, err := parseSI(vals.Get(name), u)
-		if err == errSIEmpty {
-			return nil
-		}
-		if err != nil {
-			bad(name, "number", err.Error())
-			return nil
-		}
-		return &v
-	}
-	cell, _ := typedCell(vals.Get, "", required, optional)
-	if len(problems) == 0 {
+	r := &fieldReader{get: vals.Get}
+	cell, _ := typedCell(vals.Get, "", r.required, r.optional)
+	if len(r.problems) == 0 {
 		if err := sizing.ValidateCell(&cell); err != nil {
-			problems = append(problems, validationErrors(err)...)
+			r.problems = append(r.problems, validationErrors(err)...)
 		}
 	}
-	return cell, problems
+	return cell, r.problems
 }
 
 // cellPageProps lays out a cell's page: the form with vals and problems.

@@ -52,21 +52,18 @@ type measureInput struct {
 
 func (in measureInput) get(k string) string { return strings.TrimSpace(in.values[k]) }
 
-// number reads field k with SI prefixes and the unit u (see parseSI);
-// empty gives nil.
+// number reads field k, a number in unit u (nil when empty), with the
+// form's one field reader; a problem goes to errs.
 func (in measureInput) number(k string, u unitSpec, errs *sizing.ValidationError) *float64 {
-	v := in.get(k)
-	if v == "" {
-		return nil
-	}
-	x, err := parseSI(v, u)
-	if err != nil {
-		*errs = append(*errs, sizing.FieldError{Field: k, Rule: "number", Message: err.Error()})
-		return nil
-	}
-	return &x
+	r := fieldReader{get: in.get, problems: *errs}
+	v := r.optional(k, u)
+	*errs = r.problems
+	return v
 }
 
+// required is the number p read for field k, which the method needs: a
+// problem when the field was left empty (a number that did not parse has
+// its problem already and reads NaN).
 func required(k string, p *float64, errs *sizing.ValidationError) float64 {
 	if p == nil {
 		*errs = append(*errs, sizing.FieldError{Field: k, Rule: "required", Message: "is required for this method"})
