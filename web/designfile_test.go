@@ -3,6 +3,7 @@ package web
 import (
 	"bytes"
 	"capbank/web/share"
+	"capbank/web/store"
 	"encoding/json"
 	"net/http"
 	"net/url"
@@ -14,7 +15,6 @@ import (
 	"github.com/PuerkitoBio/goquery"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 )
 
 // richDesign sets every key the form has: balancing, life, the bill of
@@ -65,8 +65,8 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			d.ResolveCells(democells.ByID)
-			f, err := formFromDesign(d, democells.ByID)
+			d.ResolveCells(store.DemoCell)
+			f, err := formFromDesign(d, store.DemoCell)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -75,7 +75,7 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 			for _, fp := range formValues(t, f) {
 				vals.Add(fp[0], fp[1])
 			}
-			dec := readForm(vals).decode(democells.ByID)
+			dec := readForm(vals).decode(store.DemoCell)
 			if len(dec.problems) > 0 {
 				t.Fatalf("problems: %v", dec.problems)
 			}
@@ -91,8 +91,8 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 	}
 	// The rich design's cells land where they belong.
 	d, _ := sizing.DecodeDesign(strings.NewReader(richDesign))
-	d.ResolveCells(democells.ByID)
-	f, _ := formFromDesign(d, democells.ByID)
+	d.ResolveCells(store.DemoCell)
+	f, _ := formFromDesign(d, store.DemoCell)
 	if got := f.vals["cells.pick"]; len(got) != 1 || got[0] != "demo-2v7-650f" {
 		t.Errorf("picked %q, want only the unchanged demo cell", got)
 	}
@@ -179,11 +179,11 @@ func TestOpenDesignFileProblems(t *testing.T) {
 	}
 	// An opened file's own cells can be left out; they stay offered.
 	d, _ := sizing.DecodeDesign(strings.NewReader(richDesign))
-	d.ResolveCells(democells.ByID)
-	f, _ := formFromDesign(d, democells.ByID)
+	d.ResolveCells(store.DemoCell)
+	f, _ := formFromDesign(d, store.DemoCell)
 	f.vals.Del("carried.keep")
 	f = readForm(f.vals)
-	dec := f.decode(democells.ByID)
+	dec := f.decode(store.DemoCell)
 	if len(dec.design.Cells) != 2 {
 		t.Errorf("%d cells with the kept ones cleared, want the picked and the typed", len(dec.design.Cells))
 	}

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/store"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -20,7 +21,6 @@ import (
 	"github.com/xuri/excelize/v2"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 	"capbank/web/export"
 	"capbank/web/share"
 )
@@ -48,7 +48,7 @@ func postExport(t testing.TB, s http.Handler, target, token, cell string) *httpt
 // exampleReport is the example design as the engine sizes it.
 func exampleReport(t testing.TB) (*sizing.Design, *sizing.Report) {
 	t.Helper()
-	ev := evaluate(context.Background(), exampleForm(), democells.ByID)
+	ev := evaluate(context.Background(), exampleForm(), store.DemoCell)
 	if ev.report == nil || ev.report.Recommended == nil {
 		t.Fatalf("the example does not size: %v", ev.problems)
 	}

@@ -1,11 +1,10 @@
 package web
 
 import (
+	"capbank/web/store"
 	"math"
 	"net/url"
 	"testing"
-
-	"capbank/web/democells"
 )
 
 // The design form, the cell form and the measurement form read their
@@ -26,7 +25,7 @@ func TestOneFieldReader(t *testing.T) {
 		return n
 	}
 
-	_, err := measure(measureInput{values: map[string]string{"method": "timed", "v0_v": "2.7", "v1_v": "2,1", "duration_s": "60", "resistor_ohm": "10"}}, democells.ByID)
+	_, err := measure(measureInput{values: map[string]string{"method": "timed", "v0_v": "2.7", "v1_v": "2,1", "duration_s": "60", "resistor_ohm": "10"}}, store.DemoCell)
 	var fields []string
 	for _, fe := range validationErrors(err) {
 		fields = append(fields, fe.Field)
@@ -47,7 +46,7 @@ func TestOneFieldReader(t *testing.T) {
 
 	v := designValues()
 	v.Set("window.max_v", "4x8")
-	dec := readForm(v).decode(democells.ByID)
+	dec := readForm(v).decode(store.DemoCell)
 	fields = nil
 	for _, fe := range dec.problems {
 		fields = append(fields, fe.Field)

@@ -1,11 +1,10 @@
 package web
 
 import (
+	"capbank/web/store"
 	"context"
 	"strings"
 	"testing"
-
-	"capbank/web/democells"
 )
 
 // sizing's field paths land on the form's inputs.
@@ -49,7 +48,7 @@ func TestInlineCellProblems(t *testing.T) {
 	v.Set("inline.capacitance_f", "100")
 	v.Set("inline.esr_ohm", "")
 	v.Set("inline.capacitance_tolerance_pct[1]", "20")
-	ev := evaluate(context.Background(), readForm(v), democells.ByID)
+	ev := evaluate(context.Background(), readForm(v), store.DemoCell)
 	got := map[string]string{}
 	for _, p := range ev.problems {
 		got[p.Field] = p.Message
@@ -75,12 +74,12 @@ func TestZeroIsNotEmpty(t *testing.T) {
 	t.Parallel()
 	v := designValues()
 	v.Set("load.efficiency", "0")
-	ev := evaluate(context.Background(), readForm(v), democells.ByID)
+	ev := evaluate(context.Background(), readForm(v), store.DemoCell)
 	if len(ev.problems) != 1 || ev.problems[0].Field != "load.efficiency" {
 		t.Fatalf("problems %v", ev.problems)
 	}
 	v.Set("load.efficiency", "  ")
-	if ev := evaluate(context.Background(), readForm(v), democells.ByID); len(ev.problems) != 0 || ev.sized.Load.Efficiency != nil {
+	if ev := evaluate(context.Background(), readForm(v), store.DemoCell); len(ev.problems) != 0 || ev.sized.Load.Efficiency != nil {
 		t.Errorf("blank efficiency: problems %v", ev.problems)
 	}
 }

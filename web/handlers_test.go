@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/store"
 	"compress/gzip"
 	"encoding/json"
 	"io"
@@ -20,7 +21,6 @@ import (
 	"capbank/components"
 	"capbank/sizing"
 	"capbank/static"
-	"capbank/web/democells"
 )
 
 func fp(v float64) *float64 { return &v }
@@ -30,7 +30,7 @@ func wantDesign(t *testing.T) *sizing.Design {
 	t.Helper()
 	var cells []sizing.Cell
 	for _, id := range []string{"demo-2v7-650f", "demo-3v0-500f"} {
-		c, ok := democells.ByID(id)
+		c, ok := store.DemoCell(id)
 		if !ok {
 			t.Fatalf("no demo cell %s", id)
 		}
@@ -60,7 +60,7 @@ func wantBank(t *testing.T) string {
 // SI prefixes applied, empty optional fields nil, nothing defaulted to 0.
 func TestFormDecodesToTheDesign(t *testing.T) {
 	t.Parallel()
-	dec := readForm(designValues()).decode(democells.ByID)
+	dec := readForm(designValues()).decode(store.DemoCell)
 	if len(dec.problems) > 0 {
 		t.Fatalf("problems: %v", dec.problems)
 	}
@@ -91,7 +91,7 @@ func TestFormDecodesEveryField(t *testing.T) {
 	} {
 		v.Set(k, val)
 	}
-	dec := readForm(v).decode(democells.ByID)
+	dec := readForm(v).decode(store.DemoCell)
 	if len(dec.problems) > 0 {
 		t.Fatalf("problems: %v", dec.problems)
 	}
@@ -475,7 +475,7 @@ func TestCandidateOrder(t *testing.T) {
 		})
 		return ids
 	}
-	rep, err := sizing.Size(readForm(v).decode(democells.ByID).design)
+	rep, err := sizing.Size(readForm(v).decode(store.DemoCell).design)
 	if err != nil {
 		t.Fatal(err)
 	}

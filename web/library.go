@@ -14,7 +14,6 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
-	"capbank/web/democells"
 	"capbank/web/store"
 )
 
@@ -26,7 +25,7 @@ func OpenStore(ctx context.Context, dataDir string) (*store.Store, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := st.SeedDemo(ctx, democells.All()); err != nil {
+	if err := st.SeedDemo(ctx, store.DemoCells()); err != nil {
 		st.Close()
 		return nil, fmt.Errorf("writing the demo cells: %w", err)
 	}
@@ -105,7 +104,7 @@ func (s *Server) libraryCells(ctx context.Context, f store.CellFilter) ([]store.
 		return s.store.ListCells(ctx, f)
 	}
 	var out []store.CellRecord
-	for _, c := range democells.All() {
+	for _, c := range store.DemoCells() {
 		if cellPasses(c, f) {
 			out = append(out, store.CellRecord{Cell: c, ReadOnly: true})
 		}
@@ -126,7 +125,7 @@ func (s *Server) libraryCell(ctx context.Context, id string) (store.CellRecord, 
 	if s.store != nil {
 		return s.store.GetCell(ctx, id)
 	}
-	if c, ok := democells.ByID(id); ok {
+	if c, ok := store.DemoCell(id); ok {
 		return store.CellRecord{Cell: c, ReadOnly: true}, nil
 	}
 	return store.CellRecord{}, fmt.Errorf("cell %q: %w", id, store.ErrNotFound)

@@ -14,7 +14,6 @@ import (
 	"github.com/PuerkitoBio/goquery"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 	"capbank/web/share"
 	"capbank/web/store"
 )
@@ -47,8 +46,8 @@ func TestCellsAPILifecycle(t *testing.T) {
 	rec := do(t, s, http.MethodGet, "/api/v1/cells", "", "")
 	wantStatus(t, rec, http.StatusOK)
 	decodeJSON(t, rec, &list)
-	if list.Count != len(democells.All()) || len(list.Cells) != list.Count {
-		t.Fatalf("a fresh library lists %d cells, want the %d demo cells", list.Count, len(democells.All()))
+	if list.Count != len(store.DemoCells()) || len(list.Cells) != list.Count {
+		t.Fatalf("a fresh library lists %d cells, want the %d demo cells", list.Count, len(store.DemoCells()))
 	}
 	for _, c := range list.Cells {
 		if !c.ReadOnly || c.Cell.Source != "demo" {
@@ -94,7 +93,7 @@ func TestCellsAPILifecycle(t *testing.T) {
 	wantStatus(t, rec, http.StatusOK)
 	decodeJSON(t, rec, &list)
 	want := 0
-	for _, c := range democells.All() {
+	for _, c := range store.DemoCells() {
 		if c.RatedV >= 2.9 {
 			want++
 		}
@@ -181,8 +180,8 @@ func TestLibraryPages(t *testing.T) {
 	rec := get(t, s, "/library")
 	wantStatus(t, rec, http.StatusOK)
 	doc := parse(t, rec)
-	if n := doc.Find(`[data-testid=library-row]`).Length(); n != len(democells.All()) {
-		t.Errorf("library lists %d rows, want %d", n, len(democells.All()))
+	if n := doc.Find(`[data-testid=library-row]`).Length(); n != len(store.DemoCells()) {
+		t.Errorf("library lists %d rows, want %d", n, len(store.DemoCells()))
 	}
 
 	form := url.Values{"id": {"my-cell"}, "name": {"My cell"}, "rated_v": {"2.7"}, "capacitance_f": {"100"}, "esr_ohm": {"12m"}, "mass_kg": {"21m"}}
@@ -249,7 +248,7 @@ func TestLibraryPages(t *testing.T) {
 	doc = parse(t, rec)
 	doc.Find(`[data-testid=library-row]`).Each(func(_ int, r *goquery.Selection) {
 		id, _ := r.Attr("data-id")
-		if c, ok := democells.ByID(strings.TrimSuffix(id, "-copy")); !ok || c.CapacitanceF < 1000 {
+		if c, ok := store.DemoCell(strings.TrimSuffix(id, "-copy")); !ok || c.CapacitanceF < 1000 {
 			t.Errorf("min_f=1k lists %s", id)
 		}
 	})
@@ -444,10 +443,10 @@ func TestCompare(t *testing.T) {
 	}
 
 	// The same design sized directly: the example design with these cells.
-	d := exampleForm().decode(democells.ByID).design
+	d := exampleForm().decode(store.DemoCell).design
 	d.Cells = nil
 	for _, id := range ids {
-		c, _ := democells.ByID(id)
+		c, _ := store.DemoCell(id)
 		d.Cells = append(d.Cells, c)
 	}
 	rep, err := sizing.Size(d)
@@ -471,7 +470,7 @@ func TestCompare(t *testing.T) {
 		t.Errorf("Cells row: column %d (%d cells) not marked best: %s", fewestCol, fewest, row.Text())
 	}
 	// Energy per mass of demo-3v0-500f from sizing.Merit.
-	c, _ := democells.ByID("demo-3v0-500f")
+	c, _ := store.DemoCell("demo-3v0-500f")
 	want := fmt.Sprintf("%.3g", *sizing.Merit(c).EnergyWhPerKg)
 	if got := rowNamed(doc, "Energy per mass").Find("td").Eq(1).Text(); !strings.Contains(got, want) {
 		t.Errorf("energy per mass of demo-3v0-500f reads %q, want %s Wh/kg", got, want)
@@ -512,7 +511,7 @@ func rowNamed(doc *goquery.Document, label string) *goquery.Selection {
 
 func allDemoIDs() []string {
 	var ids []string
-	for _, c := range democells.All() {
+	for _, c := range store.DemoCells() {
 		ids = append(ids, c.ID)
 	}
 	return ids

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/store"
 	"context"
 	"math"
 	"net/http"
@@ -8,8 +9,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"capbank/web/democells"
 )
 
 // Nothing a user types gives a 500, a panic, NaN or Inf on the page: every
@@ -100,7 +99,7 @@ func FuzzForm(f *testing.F) {
 		v.Set("inline.id", "x")
 		v.Set("inline.rated_v", b)
 		v.Set("inline.capacitance_f", "10")
-		ev := evaluate(context.Background(), readForm(v), democells.ByID)
+		ev := evaluate(context.Background(), readForm(v), store.DemoCell)
 		if ev.report == nil && len(ev.problems) == 0 {
 			t.Fatal("neither a report nor a problem")
 		}

@@ -6,7 +6,6 @@ import (
 	"strings"
 	"testing"
 
-	"capbank/web/democells"
 	"capbank/web/store"
 )
 
@@ -37,8 +36,8 @@ func TestLibrarySearchLength(t *testing.T) {
 	if msg := text(doc, "#msg-q"); !strings.Contains(msg, "50000 characters") || !strings.Contains(msg, "at most 200") {
 		t.Errorf("beside the search box: %q, want its length and the limit", msg)
 	}
-	if n := doc.Find(`[data-testid=library-row]`).Length(); n != len(democells.All()) {
-		t.Errorf("a refused search lists %d cells, want all %d", n, len(democells.All()))
+	if n := doc.Find(`[data-testid=library-row]`).Length(); n != len(store.DemoCells()) {
+		t.Errorf("a refused search lists %d cells, want all %d", n, len(store.DemoCells()))
 	}
 
 	atLimit := url.QueryEscape(strings.Repeat(`%_\`, store.MaxSearchLen/3) + "ab")

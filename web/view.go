@@ -13,7 +13,6 @@ import (
 
 	"capbank/components"
 	"capbank/sizing"
-	"capbank/web/democells"
 	"capbank/web/store"
 )
 
@@ -38,7 +37,7 @@ func (s *Server) lookup(c echo.Context) cellLookup {
 	if s.store != nil {
 		return s.store.Lookup(c.Request().Context())
 	}
-	return democells.ByID
+	return store.DemoCell
 }
 
 // cellPicks lists the library's cells for the picker, each marked when
@@ -48,7 +47,7 @@ func (s *Server) cellPicks(c echo.Context, f *designForm) []components.CellPickP
 	if err != nil {
 		s.log.Error("listing the library for the picker", "error", err.Error())
 		recs = nil
-		for _, cell := range democells.All() {
+		for _, cell := range store.DemoCells() {
 			recs = append(recs, store.CellRecord{Cell: cell, ReadOnly: true})
 		}
 	}

@@ -14,7 +14,6 @@ import (
 	"runtime/debug"
 
 	"capbank/sizing"
-	"capbank/web/democells"
 	"capbank/web/export"
 	"capbank/web/store"
 )
@@ -215,7 +214,7 @@ func openLibrary(ctx context.Context, dataDir string, explicit bool) (func(strin
 		if explicit {
 			return nil, nil, fmt.Errorf("--data %s: there is no capbank database (%s) there; start capbank serve --data %s once to create it, or leave --data out to use the demo cells", dataDir, store.FileName, dataDir)
 		}
-		return democells.ByID, func() {}, nil
+		return store.DemoCell, func() {}, nil
 	}
 	st, err := store.Open(ctx, path)
 	if err != nil {

@@ -20,7 +20,6 @@ import (
 	"sort"
 	"strings"
 
-	"capbank/web/democells"
 	"capbank/web/share"
 	"capbank/web/store"
 )
@@ -111,7 +110,7 @@ func main() {
 	cells := newTarget("web/store", "FuzzImportCellsCSV")
 	cells.addFiles("bad-", "testdata/bad/cells/*.csv", "[]byte")
 	var lib bytes.Buffer
-	if err := store.ExportCellsCSV(&lib, democells.All()); err != nil {
+	if err := store.ExportCellsCSV(&lib, store.DemoCells()); err != nil {
 		log.Fatal(err)
 	}
 	cells.add("demo-cells", value{"[]byte", lib.String()})

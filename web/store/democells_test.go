@@ -1,4 +1,4 @@
-package democells
+package store
 
 import (
 	"encoding/json"
@@ -16,7 +16,7 @@ func ptr[T any](v T) *T { return &v }
 // accepts it, and it gives every figure the report can use.
 func TestEveryDemoCellValidates(t *testing.T) {
 	t.Parallel()
-	cells := All()
+	cells := DemoCells()
 	if n := len(cells); n < 16 || n > 20 {
 		t.Fatalf("got %d demo cells, want 16 to 20", n)
 	}
@@ -39,14 +39,14 @@ func TestEveryDemoCellValidates(t *testing.T) {
 	}
 }
 
-// Every key of sizing.Cell is filled in cells.json, so the demo set shows
+// Every key of sizing.Cell is filled in democells.json, so the demo set shows
 // every figure the engine can judge.
 func TestEveryKeyFilled(t *testing.T) {
 	t.Parallel()
 	var raw struct {
 		Cells []map[string]any `json:"cells"`
 	}
-	if err := json.Unmarshal(cellsJSON, &raw); err != nil {
+	if err := json.Unmarshal(demoCellsJSON, &raw); err != nil {
 		t.Fatal(err)
 	}
 	ct := reflect.TypeOf(sizing.Cell{})
@@ -66,7 +66,7 @@ func TestEveryKeyFilled(t *testing.T) {
 func TestIDsAndNames(t *testing.T) {
 	t.Parallel()
 	seen := map[string]bool{}
-	for _, c := range All() {
+	for _, c := range DemoCells() {
 		if !strings.HasPrefix(c.ID, "demo-") {
 			t.Errorf("id %q does not start with demo-", c.ID)
 		}
@@ -80,11 +80,11 @@ func TestIDsAndNames(t *testing.T) {
 		if c.Source != "demo" {
 			t.Errorf("%s: source %q, want demo", c.ID, c.Source)
 		}
-		if got, ok := ByID(c.ID); !ok || got.ID != c.ID {
-			t.Errorf("ByID(%q) = %v, %v", c.ID, got.ID, ok)
+		if got, ok := DemoCell(c.ID); !ok || got.ID != c.ID {
+			t.Errorf("DemoCell(%q) = %v, %v", c.ID, got.ID, ok)
 		}
 	}
-	if _, ok := ByID("no-such-cell"); ok {
+	if _, ok := DemoCell("no-such-cell"); ok {
 		t.Error("ByID found a cell that does not exist")
 	}
 }
@@ -97,7 +97,7 @@ func TestSpansTheField(t *testing.T) {
 	var minF, maxF float64 = 1e9, 0
 	organicV := map[float64]bool{}
 	var aqueous, hybrid int
-	for _, c := range All() {
+	for _, c := range DemoCells() {
 		minF, maxF = min(minF, c.CapacitanceF), max(maxF, c.CapacitanceF)
 		switch c.Electrolyte {
 		case "organic":
@@ -136,7 +136,7 @@ func TestFiguresScaleWithCapacitance(t *testing.T) {
 		ratedV      float64
 	}
 	fams := map[family][]sizing.Cell{}
-	for _, c := range All() {
+	for _, c := range DemoCells() {
 		k := family{c.Electrolyte, c.RatedV}
 		fams[k] = append(fams[k], c)
 	}
@@ -162,9 +162,9 @@ func TestFiguresScaleWithCapacitance(t *testing.T) {
 
 func TestAllReturnsFreshValues(t *testing.T) {
 	t.Parallel()
-	a := All()
+	a := DemoCells()
 	*a[0].MassKg = 99
-	if b := All(); *b[0].MassKg == 99 {
+	if b := DemoCells(); *b[0].MassKg == 99 {
 		t.Fatal("All shares pointers between calls")
 	}
 }
