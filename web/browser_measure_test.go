@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"math"
 	"path/filepath"
 	"strings"
@@ -37,11 +38,11 @@ func TestBrowserMeasureSaveAndSize(t *testing.T) {
 	// Save it: the add form comes filled in; give it an id and add it.
 	must(t, chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`[data-testid=save-measured] button`)), chromedp.WaitVisible(chromedp.ID("f-id"))), "opening the filled cell form")
 	capText := run(t, ctx, chromedp.Evaluate[string](`document.getElementById("f-capacitance_f").value`), "reading the capacitance")
-	if c, err := parseSI(capText, unitFarad); err != nil || math.Abs(c-100) > 1 {
+	if c, err := form.ParseSI(capText, form.UnitFarad); err != nil || math.Abs(c-100) > 1 {
 		t.Errorf("the form's capacitance is %q, want 100 F within 1 %%", capText)
 	}
 	esrText := run(t, ctx, chromedp.Evaluate[string](`document.getElementById("f-esr_ohm").value`), "reading the ESR")
-	if r, err := parseSI(esrText, unitOhm); err != nil || math.Abs(r-0.025) > 0.025*0.05 {
+	if r, err := form.ParseSI(esrText, form.UnitOhm); err != nil || math.Abs(r-0.025) > 0.025*0.05 {
 		t.Errorf("the form's ESR is %q, want 25 mΩ within 5 %%", esrText)
 	}
 	must(t, chromedp.Do(ctx, typeInto("f-id", "sample-100f-measured"),

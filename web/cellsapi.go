@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"errors"
 	"fmt"
 	"io"
@@ -31,7 +32,7 @@ func (s *Server) apiListCells(c echo.Context) error {
 		for _, fl := range filterFields {
 			if m, ok := msgs[fl.Name]; ok {
 				rule := "number"
-				if fl.Kind == kindText {
+				if fl.Kind == form.KindText {
 					rule = "length"
 				}
 				ve = append(ve, sizing.FieldError{Field: fl.Name, Rule: rule, Message: m})

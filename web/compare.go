@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"cmp"
 	"context"
 	"errors"
@@ -61,7 +62,7 @@ func (s *Server) compareDesign(c echo.Context) (*sizing.Design, error) {
 		d, _, err := s.designFrom(c, fromQueryToken)
 		return d, err
 	}
-	return exampleForm().decode(s.lookup(c)).design, nil
+	return exampleForm().Decode(s.lookup(c)).Design, nil
 }
 
 // compareCells chooses the cells to compare: the library cells ids names,
@@ -139,7 +140,7 @@ func (s *Server) sizeCompare(c echo.Context, d *sizing.Design, cells []sizing.Ce
 		return 0, err
 	}
 	if err != nil {
-		p.Message = "The design could not be sized with these cells: " + oneLine(err)
+		p.Message = "The design could not be sized with these cells: " + form.OneLine(err)
 		return http.StatusUnprocessableEntity, nil
 	}
 	p.Summary = designSummary(rep, len(dd.Load.Steps))

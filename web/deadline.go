@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"context"
 	"errors"
 	"fmt"
@@ -154,15 +155,15 @@ func (q *computeSlots) release() { <-q.c }
 // the library: fn gets a lookup that is closed once the request is over,
 // so a computation left running in the background past the deadline never
 // reaches the request's context (see compute).
-func computeWithLookup[T any](s *Server, c echo.Context, fn func(ctx context.Context, find cellLookup) (T, error)) (T, error) {
+func computeWithLookup[T any](s *Server, c echo.Context, fn func(ctx context.Context, find form.CellLookup) (T, error)) (T, error) {
 	lib := &closableLookup{lookup: s.lookup(c)}
 	defer lib.close()
 	return compute(s, c, func(ctx context.Context) (T, error) { return fn(ctx, lib.find) })
 }
 
 // evaluateWithin is evaluate under the compute deadline.
-func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, error) {
-	return computeWithLookup(s, c, func(ctx context.Context, find cellLookup) (*evaluation, error) {
+func (s *Server) evaluateWithin(c echo.Context, f *form.Form) (*evaluation, error) {
+	return computeWithLookup(s, c, func(ctx context.Context, find form.CellLookup) (*evaluation, error) {
 		ev := evaluate(ctx, f, find)
 		return ev, ctx.Err()
 	})
@@ -173,7 +174,7 @@ func (s *Server) evaluateWithin(c echo.Context, f *designForm) (*evaluation, err
 // read and fit. A deadline error is marked as a measurement's, whose
 // message asks for a shorter log.
 func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
-	out, err := computeWithLookup(s, c, func(_ context.Context, find cellLookup) (*measureOutcome, error) { return measure(in, find) })
+	out, err := computeWithLookup(s, c, func(_ context.Context, find form.CellLookup) (*measureOutcome, error) { return measure(in, find) })
 	if fe := fault.As(err); fe != nil && fe.Type == typeDeadline {
 		return out, pastDeadline(s.computeTimeout, true)
 	}
@@ -185,7 +186,7 @@ func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome
 type closableLookup struct {
 	mu     sync.RWMutex
 	closed bool
-	lookup cellLookup
+	lookup form.CellLookup
 }
 
 func (l *closableLookup) find(id string) (sizing.Cell, bool) {

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/form"
 	"context"
 	"encoding/json"
 	"errors"
@@ -159,7 +160,7 @@ func TestComputeDeadlineAPI(t *testing.T) {
 // times, and four demo cells: tens of milliseconds of solver work.
 func heavyForm() url.Values {
 	v := designValues()
-	for i := range maxFormSteps {
+	for i := range form.MaxSteps {
 		p := fmt.Sprintf("load.steps[%d].", i)
 		val := 300 + (i%7)*10
 		if i%2 == 1 {
@@ -258,7 +259,7 @@ func TestClosableLookup(t *testing.T) {
 func TestComputeDeadlineLinks(t *testing.T) {
 	t.Parallel()
 	s, _ := newServerWith(t, Config{ComputeTimeout: time.Millisecond})
-	heavy := heavyDesign(t, maxFormSteps, 40)
+	heavy := heavyDesign(t, form.MaxSteps, 40)
 	tok, err := share.Encode(heavy)
 	if err != nil {
 		t.Fatal(err)

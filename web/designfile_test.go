@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/form"
 	"capbank/web/share"
 	"capbank/web/store"
 	"encoding/json"
@@ -66,7 +67,7 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 				t.Fatal(err)
 			}
 			d.ResolveCells(store.DemoCell)
-			f, err := formFromDesign(d, store.DemoCell)
+			f, err := form.FromDesign(d, store.DemoCell)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -75,11 +76,11 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 			for _, fp := range formValues(t, f) {
 				vals.Add(fp[0], fp[1])
 			}
-			dec := readForm(vals).decode(store.DemoCell)
-			if len(dec.problems) > 0 {
-				t.Fatalf("problems: %v", dec.problems)
+			dec := form.Read(vals).Decode(store.DemoCell)
+			if len(dec.Problems) > 0 {
+				t.Fatalf("problems: %v", dec.Problems)
 			}
-			got, _ := json.Marshal(dec.design)
+			got, _ := json.Marshal(dec.Design)
 			if d.RankBy == "price" {
 				d.RankBy = "" // the default, said outright in the file; the form's default choice
 			}
@@ -92,21 +93,21 @@ func TestFormFromDesignRoundTrip(t *testing.T) {
 	// The rich design's cells land where they belong.
 	d, _ := sizing.DecodeDesign(strings.NewReader(richDesign))
 	d.ResolveCells(store.DemoCell)
-	f, _ := formFromDesign(d, store.DemoCell)
-	if got := f.vals["cells.pick"]; len(got) != 1 || got[0] != "demo-2v7-650f" {
+	f, _ := form.FromDesign(d, store.DemoCell)
+	if got := f.Vals["cells.pick"]; len(got) != 1 || got[0] != "demo-2v7-650f" {
 		t.Errorf("picked %q, want only the unchanged demo cell", got)
 	}
-	if f.value("inline.id") != "own-a" || len(f.carried) != 2 || f.carried[0].ID != "own-b" || f.carried[1].ID != "demo-3v0-500f" {
-		t.Errorf("typed %q, kept %+v", f.value("inline.id"), f.carried)
+	if f.Value("inline.id") != "own-a" || len(f.Carried) != 2 || f.Carried[0].ID != "own-b" || f.Carried[1].ID != "demo-3v0-500f" {
+		t.Errorf("typed %q, kept %+v", f.Value("inline.id"), f.Carried)
 	}
 }
 
 // formValues renders the form and reads back what a browser would post:
 // every input's name and value, checked boxes only, selected options.
-func formValues(t *testing.T, f *designForm) [][2]string {
+func formValues(t *testing.T, f *form.Form) [][2]string {
 	t.Helper()
 	s, _ := newTestServer(t)
-	rec := postForm(t, s, "/", f.vals, false)
+	rec := postForm(t, s, "/", f.Vals, false)
 	if rec.Code != http.StatusOK && rec.Code != http.StatusUnprocessableEntity {
 		t.Fatalf("status %d", rec.Code)
 	}
@@ -180,14 +181,14 @@ func TestOpenDesignFileProblems(t *testing.T) {
 	// An opened file's own cells can be left out; they stay offered.
 	d, _ := sizing.DecodeDesign(strings.NewReader(richDesign))
 	d.ResolveCells(store.DemoCell)
-	f, _ := formFromDesign(d, store.DemoCell)
-	f.vals.Del("carried.keep")
-	f = readForm(f.vals)
-	dec := f.decode(store.DemoCell)
-	if len(dec.design.Cells) != 2 {
-		t.Errorf("%d cells with the kept ones cleared, want the picked and the typed", len(dec.design.Cells))
+	f, _ := form.FromDesign(d, store.DemoCell)
+	f.Vals.Del("carried.keep")
+	f = form.Read(f.Vals)
+	dec := f.Decode(store.DemoCell)
+	if len(dec.Design.Cells) != 2 {
+		t.Errorf("%d cells with the kept ones cleared, want the picked and the typed", len(dec.Design.Cells))
 	}
-	rec := postForm(t, s, "/", f.vals, false)
+	rec := postForm(t, s, "/", f.Vals, false)
 	if n := parse(t, rec).Find(`input[name="carried.keep"]`).Length(); n != 2 {
 		t.Errorf("%d kept cells offered, want 2", n)
 	}
@@ -205,11 +206,11 @@ func TestFieldNumber(t *testing.T) {
 		{1.5e4, "15k"}, {2.2e6, "2.2M"}, {123456789, "123.456789M"}, {1.0000000000000003e-5, "10.000000000000003µ"}, {-4.7e-9, "-4.7n"}, {1e15, "1e+15"},
 	}
 	for _, c := range cases {
-		got := fieldNumber(c.x)
+		got := form.FieldNumber(c.x)
 		if got != c.want {
 			t.Errorf("fieldNumber(%v) = %q, want %q", c.x, got, c.want)
 		}
-		if back, err := parseSI(got, unitNone); err != nil || back != c.x {
+		if back, err := form.ParseSI(got, form.UnitNone); err != nil || back != c.x {
 			t.Errorf("%q reads back as %v (%v), want exactly %v", got, back, err, c.x)
 		}
 	}

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/form"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -31,7 +32,7 @@ func (s *Server) openSharedDesign(c echo.Context, token string) error {
 	if err != nil {
 		return err
 	}
-	f.notice = "Opened from a share link: the link carries the whole design. Save it to keep it here."
+	f.Notice = "Opened from a share link: the link carries the whole design. Save it to keep it here."
 	ev, err := s.evaluateWithin(c, f)
 	if err != nil {
 		return err
@@ -40,12 +41,12 @@ func (s *Server) openSharedDesign(c echo.Context, token string) error {
 }
 
 // formFromJSON decodes a design file into the form that shows it.
-func (s *Server) formFromJSON(c echo.Context, data []byte) (*designForm, error) {
+func (s *Server) formFromJSON(c echo.Context, data []byte) (*form.Form, error) {
 	d, err := decodeDesignFile(data)
 	if err != nil {
 		return nil, err
 	}
-	f, err := formFromDesign(d, s.lookup(c))
+	f, err := form.FromDesign(d, s.lookup(c))
 	if err != nil {
 		return nil, noFit(err.Error())
 	}
@@ -151,15 +152,15 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 		}
 		return err
 	}
-	f.vals.Set("saved_id", strconv.FormatInt(id, 10))
-	f.vals.Set("saved_name", rec.Name)
+	f.Vals.Set("saved_id", strconv.FormatInt(id, 10))
+	f.Vals.Set("saved_name", rec.Name)
 	switch c.QueryParam("done") {
 	case "saved":
-		f.notice = fmt.Sprintf("Saved as “%s”.", rec.Name)
+		f.Notice = fmt.Sprintf("Saved as “%s”.", rec.Name)
 	case "replaced":
-		f.notice = fmt.Sprintf("Saved over “%s”.", rec.Name)
+		f.Notice = fmt.Sprintf("Saved over “%s”.", rec.Name)
 	default:
-		f.notice = fmt.Sprintf("Opened “%s”, last saved %s.", rec.Name, rec.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"))
+		f.Notice = fmt.Sprintf("Opened “%s”, last saved %s.", rec.Name, rec.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"))
 	}
 	ev, err := s.evaluateWithin(c, f)
 	if err != nil {

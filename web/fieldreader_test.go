@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"capbank/web/store"
 	"math"
 	"net/url"
@@ -46,12 +47,12 @@ func TestOneFieldReader(t *testing.T) {
 
 	v := designValues()
 	v.Set("window.max_v", "4x8")
-	dec := readForm(v).decode(store.DemoCell)
+	dec := form.Read(v).Decode(store.DemoCell)
 	fields = nil
-	for _, fe := range dec.problems {
+	for _, fe := range dec.Problems {
 		fields = append(fields, fe.Field)
 	}
-	if count(fields, "window.max_v") != 1 || !math.IsNaN(dec.design.Window.MaxV) {
-		t.Errorf("design problems %v, max_v %v; want window.max_v named once and NaN", fields, dec.design.Window.MaxV)
+	if count(fields, "window.max_v") != 1 || !math.IsNaN(dec.Design.Window.MaxV) {
+		t.Errorf("design problems %v, max_v %v; want window.max_v named once and NaN", fields, dec.Design.Window.MaxV)
 	}
 }

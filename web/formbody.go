@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"errors"
 	"fmt"
 	"io"
@@ -10,13 +11,6 @@ import (
 
 	"github.com/labstack/echo/v4"
 )
-
-// upload is one file of a form post, read into memory (the body as a
-// whole is capped at MaxBodyBytes).
-type upload struct {
-	filename string
-	data     []byte
-}
 
 // maxFormParts is the most fields a posted form may carry. The design
 // form at its largest (500 steps of three fields, 50 own BOQ lines of
@@ -37,7 +31,7 @@ const maxFieldBytes = maxLastGood + 1024
 // r.PostForm and r.Form (the query's values after the body's, as
 // ParseForm does) and returns its files by field name. A file input left
 // empty is no file.
-func readFormBody(r *http.Request) (map[string]*upload, error) {
+func readFormBody(r *http.Request) (map[string]*form.Upload, error) {
 	if !strings.HasPrefix(r.Header.Get(echo.HeaderContentType), echo.MIMEMultipartForm) {
 		if err := r.ParseForm(); err != nil {
 			return nil, formReadError(err)
@@ -48,7 +42,7 @@ func readFormBody(r *http.Request) (map[string]*upload, error) {
 	if err != nil {
 		return nil, formReadError(err)
 	}
-	vals, files := url.Values{}, map[string]*upload{}
+	vals, files := url.Values{}, map[string]*form.Upload{}
 	for n := 0; ; n++ {
 		part, err := mr.NextPart()
 		if errors.Is(err, io.EOF) {
@@ -70,7 +64,7 @@ func readFormBody(r *http.Request) (map[string]*upload, error) {
 				return nil, formReadError(err)
 			}
 			if files[name] == nil {
-				files[name] = &upload{filename: part.FileName(), data: data}
+				files[name] = &form.Upload{Filename: part.FileName(), Data: data}
 			}
 			continue
 		}

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"net/http"
 	"strings"
 	"testing"
@@ -22,8 +23,8 @@ func TestFormOfFiveHundredStepsPosts(t *testing.T) {
 	rec := postMultipart(t, s, "/", v, "", "", "")
 	wantStatus(t, rec, http.StatusOK)
 	doc := parse(t, rec)
-	if n := doc.Find("[data-testid=step-row]").Length(); n != maxFormSteps {
-		t.Errorf("%d step rows on the page, want %d", n, maxFormSteps)
+	if n := doc.Find("[data-testid=step-row]").Length(); n != form.MaxSteps {
+		t.Errorf("%d step rows on the page, want %d", n, form.MaxSteps)
 	}
 	if text(doc, "[data-testid=bank]") == "" {
 		t.Errorf("no bank sized:\n%.2000s", rec.Body)

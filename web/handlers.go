@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"context"
 	"encoding/json"
 	"errors"
@@ -22,8 +23,8 @@ const maxLastGood = 512 << 10
 
 // evaluation is a form read, decoded and sized.
 type evaluation struct {
-	form     *designForm
-	dec      decoded
+	form     *form.Form
+	dec      form.Decoded
 	problems sizing.ValidationError
 	// report is the design's report, or, when the design has problems and
 	// stale is set, the report of the last design that sized.
@@ -42,35 +43,35 @@ type evaluation struct {
 // sizing.Validate are reported together, each beside its field; when there
 // are any and the form carries the last design that sized, that design's
 // report comes back marked stale.
-func evaluate(ctx context.Context, f *designForm, lib cellLookup) *evaluation {
+func evaluate(ctx context.Context, f *form.Form, lib form.CellLookup) *evaluation {
 	ev := evaluateDesign(ctx, f, lib)
-	ev.problems = append(slices.Clone(f.actionProblems), ev.problems...)
+	ev.problems = append(slices.Clone(f.ActionProblems), ev.problems...)
 	return ev
 }
 
-func evaluateDesign(ctx context.Context, f *designForm, lib cellLookup) *evaluation {
-	ev := &evaluation{form: f, dec: f.decode(lib)}
-	if len(ev.dec.problems) > 0 {
-		ev.problems = formProblems(ev.dec, validationErrors(sizing.Validate(ev.dec.design)))
+func evaluateDesign(ctx context.Context, f *form.Form, lib form.CellLookup) *evaluation {
+	ev := &evaluation{form: f, dec: f.Decode(lib)}
+	if len(ev.dec.Problems) > 0 {
+		ev.problems = form.MergeProblems(ev.dec, validationErrors(sizing.Validate(ev.dec.Design)))
 	} else {
-		rep, err := sizing.SizeContext(ctx, ev.dec.design)
+		rep, err := sizing.SizeContext(ctx, ev.dec.Design)
 		switch {
 		case err == nil:
-			ev.report, ev.sized = rep, ev.dec.design
+			ev.report, ev.sized = rep, ev.dec.Design
 			return ev
 		case errors.As(err, new(sizing.ValidationError)):
-			ev.problems = formProblems(ev.dec, validationErrors(err))
+			ev.problems = form.MergeProblems(ev.dec, validationErrors(err))
 		default:
 			p := problemFor(err)
 			ev.problems = sizing.ValidationError{{Field: "design", Rule: "size", Message: p.Title + ": " + p.Detail}}
 		}
 	}
-	if f.lastGood != "" && f.keepsLast {
+	if f.LastGood != "" && f.KeepsLast {
 		ev.keptLast = true
 		return ev
 	}
-	if f.lastGood != "" && len(f.lastGood) <= maxLastGood {
-		if d, err := sizing.DecodeDesign(strings.NewReader(f.lastGood)); err == nil {
+	if f.LastGood != "" && len(f.LastGood) <= maxLastGood {
+		if d, err := sizing.DecodeDesign(strings.NewReader(f.LastGood)); err == nil {
 			if rep, err := sizing.SizeContext(ctx, d); err == nil {
 				ev.report, ev.sized, ev.stale = rep, d, true
 			}
@@ -86,19 +87,19 @@ func validationErrors(err error) sizing.ValidationError {
 }
 
 // readPosted reads the posted form and carries out its action.
-func (s *Server) readPosted(c echo.Context) (*designForm, error) {
+func (s *Server) readPosted(c echo.Context) (*form.Form, error) {
 	r := c.Request()
 	got, err := readFormBody(r)
 	if err != nil {
 		return nil, err
 	}
-	files := uploads{profile: got["profile_csv"], design: got["design_file"]}
+	files := form.Uploads{Profile: got["profile_csv"], Design: got["design_file"]}
 	vals := r.PostForm
 	if vals == nil {
 		vals = url.Values{}
 	}
-	f := readForm(vals)
-	return f.apply(vals.Get("action"), files, s.lookup(c)), nil
+	f := form.Read(vals)
+	return f.Apply(vals.Get("action"), files, s.lookup(c)), nil
 }
 
 func formReadError(err error) error {
@@ -124,7 +125,7 @@ func (s *Server) getPage(c echo.Context) error {
 		v := exampleValues()
 		v["cells.pick"] = q["cell"]
 		v.Set("name", "Example with "+strings.Join(q["cell"], ", ")+" (invented load)")
-		ev, err := s.evaluateWithin(c, readForm(v))
+		ev, err := s.evaluateWithin(c, form.Read(v))
 		if err != nil {
 			return err
 		}
@@ -178,7 +179,7 @@ func (s *Server) postResults(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	f.keepsLast = true // with problems only the status line is sent
+	f.KeepsLast = true // with problems only the status line is sent
 	ev, err := s.evaluateWithin(c, f)
 	if err != nil {
 		return err
@@ -205,12 +206,12 @@ func lastGoodJSON(d *sizing.Design) string {
 }
 
 // blankForm is a new design: one empty power step, nothing picked.
-func blankForm() *designForm {
-	return readForm(url.Values{"load.steps[0].kind": {"power"}})
+func blankForm() *form.Form {
+	return form.Read(url.Values{"load.steps[0].kind": {"power"}})
 }
 
 // exampleForm is the design the page opens with: invented, and named so.
-func exampleForm() *designForm { return readForm(exampleValues()) }
+func exampleForm() *form.Form { return form.Read(exampleValues()) }
 
 // exampleValues are the example design's form values.
 func exampleValues() url.Values {
@@ -225,7 +226,7 @@ func exampleValues() url.Values {
 		"life_years":      {"10"},
 		"cells.pick":      {"demo-2v7-650f", "demo-2v7-1200f", "demo-3v0-500f", "demo-hy-3v8-250f"},
 	}
-	steps := []stepRow{{"power", "350", "15"}, {"power", "1.5k", "2"}, {"power", "350", "10"}}
+	steps := []form.StepRow{{Kind: "power", Value: "350", Duration: "15"}, {Kind: "power", Value: "1.5k", Duration: "2"}, {Kind: "power", Value: "350", Duration: "10"}}
 	for i, s := range steps {
 		p := fmt.Sprintf("load.steps[%d].", i)
 		v.Set(p+"kind", s.Kind)

@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/form"
 	"capbank/web/store"
 	"compress/gzip"
 	"encoding/json"
@@ -60,16 +61,16 @@ func wantBank(t *testing.T) string {
 // SI prefixes applied, empty optional fields nil, nothing defaulted to 0.
 func TestFormDecodesToTheDesign(t *testing.T) {
 	t.Parallel()
-	dec := readForm(designValues()).decode(store.DemoCell)
-	if len(dec.problems) > 0 {
-		t.Fatalf("problems: %v", dec.problems)
+	dec := form.Read(designValues()).Decode(store.DemoCell)
+	if len(dec.Problems) > 0 {
+		t.Fatalf("problems: %v", dec.Problems)
 	}
-	got, _ := json.Marshal(dec.design)
+	got, _ := json.Marshal(dec.Design)
 	want, _ := json.Marshal(wantDesign(t))
 	if string(got) != string(want) {
 		t.Fatalf("decoded design\n%s\nwant\n%s", got, want)
 	}
-	d := dec.design
+	d := dec.Design
 	if d.CellMaxV != nil || d.Load.Efficiency != nil || d.Load.Repeat != nil || d.EOL != nil || d.AmbientC != nil ||
 		d.ColdC != nil || d.LifeYears != nil || d.StandbyH != nil {
 		t.Errorf("an empty optional field decoded to a value: %+v", d)
@@ -91,11 +92,11 @@ func TestFormDecodesEveryField(t *testing.T) {
 	} {
 		v.Set(k, val)
 	}
-	dec := readForm(v).decode(store.DemoCell)
-	if len(dec.problems) > 0 {
-		t.Fatalf("problems: %v", dec.problems)
+	dec := form.Read(v).Decode(store.DemoCell)
+	if len(dec.Problems) > 0 {
+		t.Fatalf("problems: %v", dec.Problems)
 	}
-	d := dec.design
+	d := dec.Design
 	// Each expected value is the typed text read by hand with its SI prefix.
 	checks := []struct {
 		name      string
@@ -221,7 +222,7 @@ func TestPostPageShowsEveryProblem(t *testing.T) {
 	doc := parse(t, rec)
 	for id, want := range map[string]string{
 		"#msg-window-min_v":            "must be below window.max_v (60 V ≥ 48 V)",
-		"#msg-load-steps-0-duration_s": notANumber,
+		"#msg-load-steps-0-duration_s": form.NotANumber,
 		"#msg-ambient_c":               "comma",
 		"#msg-load-efficiency":         "must be at most 1",
 	} {
@@ -395,7 +396,7 @@ func TestPulseTrain(t *testing.T) {
 	rec = postForm(t, s, "/", bad, false)
 	wantStatus(t, rec, http.StatusUnprocessableEntity)
 	doc = parse(t, rec)
-	for id, want := range map[string]string{"#msg-pulse-value": "is required", "#msg-pulse-rest_s": notANumber, "#msg-pulse-count": "from 1 to 200"} {
+	for id, want := range map[string]string{"#msg-pulse-value": "is required", "#msg-pulse-rest_s": form.NotANumber, "#msg-pulse-count": "from 1 to 200"} {
 		if got := text(doc, id); !strings.Contains(got, want) {
 			t.Errorf("%s says %q, want %q", id, got, want)
 		}
@@ -475,7 +476,7 @@ func TestCandidateOrder(t *testing.T) {
 		})
 		return ids
 	}
-	rep, err := sizing.Size(readForm(v).decode(store.DemoCell).design)
+	rep, err := sizing.Size(form.Read(v).Decode(store.DemoCell).Design)
 	if err != nil {
 		t.Fatal(err)
 	}

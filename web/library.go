@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"context"
 	"errors"
 	"fmt"
@@ -132,12 +133,12 @@ func (s *Server) libraryCell(ctx context.Context, id string) (store.CellRecord, 
 }
 
 // filterFields are the library filter's inputs.
-var filterFields = []field{
-	{Name: "q", Label: "Search", Kind: kindText, Hint: "in the id and the name"},
-	{Name: "min_v", Label: "Rated voltage from", Units: unitVolt},
-	{Name: "max_v", Label: "Rated voltage to", Units: unitVolt},
-	{Name: "min_f", Label: "Capacitance from", Units: unitFarad},
-	{Name: "max_f", Label: "Capacitance to", Units: unitFarad},
+var filterFields = []form.Field{
+	{Name: "q", Label: "Search", Kind: form.KindText, Hint: "in the id and the name"},
+	{Name: "min_v", Label: "Rated voltage from", Units: form.UnitVolt},
+	{Name: "max_v", Label: "Rated voltage to", Units: form.UnitVolt},
+	{Name: "min_f", Label: "Capacitance from", Units: form.UnitFarad},
+	{Name: "max_f", Label: "Capacitance to", Units: form.UnitFarad},
 }
 
 // readFilter reads the library filter from a query; a bad number is a
@@ -149,10 +150,10 @@ func readFilter(q url.Values) (store.CellFilter, map[string]string) {
 		msgs["q"] = fmt.Sprintf("is %d characters long; a search has at most %d: search for part of an id or a name", n, store.MaxSearchLen)
 		f.Search = ""
 	}
-	num := func(name string, u unitSpec, dst *float64) {
-		v, err := parseSI(q.Get(name), u)
+	num := func(name string, u form.UnitSpec, dst *float64) {
+		v, err := form.ParseSI(q.Get(name), u)
 		switch {
-		case err == errSIEmpty:
+		case err == form.ErrEmpty:
 		case err != nil:
 			msgs[name] = err.Error()
 		case v <= 0:
@@ -161,10 +162,10 @@ func readFilter(q url.Values) (store.CellFilter, map[string]string) {
 			*dst = v
 		}
 	}
-	num("min_v", unitVolt, &f.MinRatedV)
-	num("max_v", unitVolt, &f.MaxRatedV)
-	num("min_f", unitFarad, &f.MinCapacitanceF)
-	num("max_f", unitFarad, &f.MaxCapacitanceF)
+	num("min_v", form.UnitVolt, &f.MinRatedV)
+	num("max_v", form.UnitVolt, &f.MaxRatedV)
+	num("min_f", form.UnitFarad, &f.MinCapacitanceF)
+	num("max_f", form.UnitFarad, &f.MaxCapacitanceF)
 	if f.MinRatedV > 0 && f.MaxRatedV > 0 && f.MinRatedV > f.MaxRatedV {
 		msgs["max_v"] = "is below the lower limit; swap them"
 	}
@@ -335,20 +336,20 @@ func isJSONName(name, ctype string) bool {
 }
 
 // cellFormFields are the library cell form's inputs: the cell's keys.
-var cellFormFields = cellFields("")
+var cellFormFields = form.CellFields("")
 
 // readCellForm reads the posted cell form into a cell, with every
 // problem named by its field: numbers that do not parse, then the
 // library's validation of the cell.
 func readCellForm(vals url.Values) (sizing.Cell, sizing.ValidationError) {
-	r := &fieldReader{get: vals.Get}
-	cell, _ := typedCell(vals.Get, "", r.required, r.optional)
-	if len(r.problems) == 0 {
+	r := &form.FieldReader{Get: vals.Get}
+	cell, _ := form.TypedCell(vals.Get, "", r.Required, r.Optional)
+	if len(r.Problems) == 0 {
 		if err := sizing.ValidateCell(&cell); err != nil {
-			r.problems = append(r.problems, validationErrors(err)...)
+			r.Problems = append(r.Problems, validationErrors(err)...)
 		}
 	}
-	return cell, r.problems
+	return cell, r.Problems
 }
 
 // cellPageProps lays out a cell's page: the form with vals and problems.
@@ -385,7 +386,7 @@ func (s *Server) cellPageProps(rec *store.CellRecord, vals url.Values, problems 
 		p.Fields = append(p.Fields, fp)
 	}
 	for _, pr := range problems {
-		p.Problems = append(p.Problems, components.ProblemProps{Label: cellFieldLabel(pr.Field), Message: pr.Message, Href: "#f-" + domID(pr.Field)})
+		p.Problems = append(p.Problems, components.ProblemProps{Label: cellFieldLabel(pr.Field), Message: pr.Message, Href: "#f-" + form.DomID(pr.Field)})
 	}
 	return p
 }
@@ -442,7 +443,7 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 		return badCellJSON("cell_json: " + err.Error())
 	}
 	vals := url.Values{}
-	cellValues(vals, "", cell)
+	form.CellValues(vals, "", cell)
 	var problems sizing.ValidationError
 	if err := sizing.ValidateCell(&cell); err != nil {
 		problems = validationErrors(err)
@@ -484,7 +485,7 @@ func (s *Server) getCellPage(c echo.Context) error {
 		return err
 	}
 	vals := url.Values{}
-	cellValues(vals, "", rec.Cell)
+	form.CellValues(vals, "", rec.Cell)
 	p := s.cellPageProps(&rec, vals, nil, false)
 	switch c.QueryParam("done") {
 	case "created":

@@ -443,7 +443,7 @@ func TestCompare(t *testing.T) {
 	}
 
 	// The same design sized directly: the example design with these cells.
-	d := exampleForm().decode(store.DemoCell).design
+	d := exampleForm().Decode(store.DemoCell).Design
 	d.Cells = nil
 	for _, id := range ids {
 		c, _ := store.DemoCell(id)

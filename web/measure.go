@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/web/form"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -54,10 +55,10 @@ func (in measureInput) get(k string) string { return strings.TrimSpace(in.values
 
 // number reads field k, a number in unit u (nil when empty), with the
 // form's one field reader; a problem goes to errs.
-func (in measureInput) number(k string, u unitSpec, errs *sizing.ValidationError) *float64 {
-	r := fieldReader{get: in.get, problems: *errs}
-	v := r.optional(k, u)
-	*errs = r.problems
+func (in measureInput) number(k string, u form.UnitSpec, errs *sizing.ValidationError) *float64 {
+	r := form.FieldReader{Get: in.get, Problems: *errs}
+	v := r.Optional(k, u)
+	*errs = r.Problems
 	return v
 }
 
@@ -76,7 +77,7 @@ func required(k string, p *float64, errs *sizing.ValidationError) float64 {
 // a sizing.ValidationError naming the field (or the log's line).
 // measure works out the figures of a test; lookup finds the library cell
 // a comparison names.
-func measure(in measureInput, lookup cellLookup) (*measureOutcome, error) {
+func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 	var errs sizing.ValidationError
 	method := in.get("method")
 	out := &measureOutcome{Method: method}
@@ -95,33 +96,33 @@ func measure(in measureInput, lookup cellLookup) (*measureOutcome, error) {
 		}
 	}
 	var opts *sizing.DischargeOptions
-	if s := in.number("start_s", unitSecond, &errs); s != nil {
+	if s := in.number("start_s", form.UnitSecond, &errs); s != nil {
 		opts = &sizing.DischargeOptions{StartS: s}
 	}
 	var res any
 	var err error
 	switch method {
 	case "constant-current":
-		rated := required("rated_v", in.number("rated_v", unitVolt, &errs), &errs)
-		cur := in.number("current_a", unitAmp, &errs)
+		rated := required("rated_v", in.number("rated_v", form.UnitVolt, &errs), &errs)
+		cur := in.number("current_a", form.UnitAmp, &errs)
 		if len(errs) == 0 {
 			var r sizing.ConstantCurrentResult
 			r, err = sizing.ConstantCurrentDischarge(log, rated, cur, opts)
 			res, out.figures = r, r.Figures()
 		}
 	case "resistor":
-		rl := required("resistor_ohm", in.number("resistor_ohm", unitOhm, &errs), &errs)
+		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
 		if len(errs) == 0 {
 			var r sizing.ResistorDischargeResult
 			r, err = sizing.ResistorDischargeLog(log, rl, opts)
 			res, out.figures = r, r.Figures()
 		}
 	case "hold":
-		c := required("capacitance_f", in.number("capacitance_f", unitFarad, &errs), &errs)
+		c := required("capacitance_f", in.number("capacitance_f", form.UnitFarad, &errs), &errs)
 		var at []float64
 		if v := in.get("at_s"); v != "" {
 			for i, part := range strings.Split(v, ",") {
-				x, perr := parseSI(strings.TrimSpace(part), unitSecond)
+				x, perr := form.ParseSI(strings.TrimSpace(part), form.UnitSecond)
 				if perr != nil {
 					errs = append(errs, sizing.FieldError{Field: fmt.Sprintf("at_s[%d]", i), Rule: "number", Message: perr.Error()})
 					continue
@@ -135,10 +136,10 @@ func measure(in measureInput, lookup cellLookup) (*measureOutcome, error) {
 			res, out.figures = r, r.Figures()
 		}
 	case "timed":
-		v0 := required("v0_v", in.number("v0_v", unitVolt, &errs), &errs)
-		v1 := required("v1_v", in.number("v1_v", unitVolt, &errs), &errs)
-		t := required("duration_s", in.number("duration_s", unitSecond, &errs), &errs)
-		rl := required("resistor_ohm", in.number("resistor_ohm", unitOhm, &errs), &errs)
+		v0 := required("v0_v", in.number("v0_v", form.UnitVolt, &errs), &errs)
+		v1 := required("v1_v", in.number("v1_v", form.UnitVolt, &errs), &errs)
+		t := required("duration_s", in.number("duration_s", form.UnitSecond, &errs), &errs)
+		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
 		if len(errs) == 0 {
 			var r sizing.TimedDischarge
 			r, err = sizing.TimedResistorDischarge(v0, v1, t, rl)

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"capbank/web/store"
 	"context"
 	"math"
@@ -70,7 +71,7 @@ func TestOddForms(t *testing.T) {
 	}
 	// Too many step rows: reported, never silently cut.
 	v := designValues()
-	for i := range maxFormSteps + 5 {
+	for i := range form.MaxSteps + 5 {
 		p := "load.steps[" + itoa(i+1) + "]."
 		v.Set(p+"kind", "rest")
 		v.Set(p+"duration_s", "1")
@@ -99,7 +100,7 @@ func FuzzForm(f *testing.F) {
 		v.Set("inline.id", "x")
 		v.Set("inline.rated_v", b)
 		v.Set("inline.capacitance_f", "10")
-		ev := evaluate(context.Background(), readForm(v), store.DemoCell)
+		ev := evaluate(context.Background(), form.Read(v), store.DemoCell)
 		if ev.report == nil && len(ev.problems) == 0 {
 			t.Fatal("neither a report nor a problem")
 		}

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"capbank/web/form"
 	"encoding/json"
 	"fmt"
 	"regexp"
@@ -20,7 +21,7 @@ import (
 // cells the picker offers (nil for an answer without the form).
 func (s *Server) pageProps(ev *evaluation, picks []components.CellPickProps) components.PageProps {
 	title := "capbank – supercapacitor bank sizing"
-	if n := strings.TrimSpace(ev.form.value("name")); n != "" {
+	if n := strings.TrimSpace(ev.form.Value("name")); n != "" {
 		title = n + " – capbank"
 	}
 	results := resultsProps(ev)
@@ -33,7 +34,7 @@ func (s *Server) pageProps(ev *evaluation, picks []components.CellPickProps) com
 }
 
 // lookup finds the cells a design may pick by id: the library's.
-func (s *Server) lookup(c echo.Context) cellLookup {
+func (s *Server) lookup(c echo.Context) form.CellLookup {
 	if s.store != nil {
 		return s.store.Lookup(c.Request().Context())
 	}
@@ -42,7 +43,7 @@ func (s *Server) lookup(c echo.Context) cellLookup {
 
 // cellPicks lists the library's cells for the picker, each marked when
 // the form picked it.
-func (s *Server) cellPicks(c echo.Context, f *designForm) []components.CellPickProps {
+func (s *Server) cellPicks(c echo.Context, f *form.Form) []components.CellPickProps {
 	recs, err := s.libraryCells(c.Request().Context(), store.CellFilter{})
 	if err != nil {
 		s.log.Error("listing the library for the picker", "error", err.Error())
@@ -53,7 +54,7 @@ func (s *Server) cellPicks(c echo.Context, f *designForm) []components.CellPickP
 	}
 	out := make([]components.CellPickProps, 0, len(recs))
 	for _, r := range recs {
-		out = append(out, cellPick(r.Cell, f.picked[r.Cell.ID]))
+		out = append(out, cellPick(r.Cell, f.Picked[r.Cell.ID]))
 	}
 	return out
 }
@@ -82,14 +83,14 @@ func messages(problems sizing.ValidationError) map[string]string {
 	return m
 }
 
-func fieldProps(fl field, value, msg string) components.FieldProps {
-	id := domID(fl.Name)
+func fieldProps(fl form.Field, value, msg string) components.FieldProps {
+	id := form.DomID(fl.Name)
 	fp := components.FieldProps{
 		Name: fl.Name, ID: "f-" + id, MessageID: "msg-" + id,
 		Label: fl.Label, Unit: fl.Units.Unit, Hint: fl.Hint, Value: value, Message: msg,
-		Required: fl.Required, Text: fl.Kind == kindText,
+		Required: fl.Required, Text: fl.Kind == form.KindText,
 	}
-	if fl.Kind == kindChoice {
+	if fl.Kind == form.KindChoice {
 		fp.Select = true
 		for _, c := range fl.Choices {
 			fp.Choices = append(fp.Choices, components.Choice{Value: c.Value, Label: c.Label})
@@ -101,54 +102,54 @@ func fieldProps(fl field, value, msg string) components.FieldProps {
 func formProps(ev *evaluation, picks []components.CellPickProps) components.FormProps {
 	f := ev.form
 	msg := messages(ev.problems)
-	group := func(fields []field) []components.FieldProps {
+	group := func(fields []form.Field) []components.FieldProps {
 		out := make([]components.FieldProps, len(fields))
 		for i, fl := range fields {
-			out[i] = fieldProps(fl, f.value(fl.Name), msg[fl.Name])
+			out[i] = fieldProps(fl, f.Value(fl.Name), msg[fl.Name])
 		}
 		return out
 	}
 	p := components.FormProps{
-		SavedID: f.savedID(), SavedName: f.value("saved_name"),
-		Name:           fieldProps(nameField, f.value("name"), msg["name"]),
-		Window:         group(windowFields),
-		Load:           group(loadFields),
+		SavedID: f.SavedID(), SavedName: f.Value("saved_name"),
+		Name:           fieldProps(form.NameField, f.Value("name"), msg["name"]),
+		Window:         group(form.WindowFields),
+		Load:           group(form.LoadFields),
 		StepsMessageID: "msg-load-steps", StepsMessage: msg["load.steps"],
-		MaxSteps:     maxFormSteps,
-		Pulse:        group(pulseFields),
+		MaxSteps:     form.MaxSteps,
+		Pulse:        group(form.PulseFields),
 		CSVMessageID: "msg-profile_csv", CSVMessage: msg["profile_csv"],
-		Notice:         f.notice,
-		Conditions:     group(conditionFields),
-		EOL:            group(eolFields),
+		Notice:         f.Notice,
+		Conditions:     group(form.ConditionFields),
+		EOL:            group(form.EOLFields),
 		CellsMessageID: "msg-cells-pick", CellsMessage: msg["cells.pick"],
-		Inline:            group(inlineFields),
+		Inline:            group(form.InlineFields),
 		InlineToleranceID: "msg-inline-capacitance_tolerance_pct", InlineToleranceMessage: msg["inline.capacitance_tolerance_pct"],
-		RankBy:          fieldProps(rankField, f.value("rank_by"), msg["rank_by"]),
-		Balancing:       group(balancingFields),
-		Life:            group(lifeFields),
-		BOQ:             group(boqFields),
+		RankBy:          fieldProps(form.RankField, f.Value("rank_by"), msg["rank_by"]),
+		Balancing:       group(form.BalancingFields),
+		Life:            group(form.LifeFields),
+		BOQ:             group(form.BOQFields),
 		ExtrasMessageID: "msg-boq-extras", ExtrasMessage: msg["boq.extras"],
 		DesignFileMessageID: "msg-design_file", DesignFileMessage: msg["design_file"],
 		Cells: picks,
 	}
-	rows := slices.Clone(f.extras)
-	if n := len(rows); n == 0 || !f.extraEmpty(rows[n-1]) {
-		rows = append(rows, f.nextExtra())
+	rows := slices.Clone(f.Extras)
+	if n := len(rows); n == 0 || !f.ExtraEmpty(rows[n-1]) {
+		rows = append(rows, f.NextExtra())
 	}
 	for _, i := range rows {
 		base := fmt.Sprintf("boq.extras[%d]", i)
-		row := components.ExtraRowProps{Index: i, RowID: "row-" + domID(base), Number: len(p.Extras) + 1}
-		for _, fl := range extraFields {
+		row := components.ExtraRowProps{Index: i, RowID: "row-" + form.DomID(base), Number: len(p.Extras) + 1}
+		for _, fl := range form.ExtraFields {
 			fl.Name = base + "." + fl.Name
-			row.Fields = append(row.Fields, fieldProps(fl, f.value(fl.Name), msg[fl.Name]))
+			row.Fields = append(row.Fields, fieldProps(fl, f.Value(fl.Name), msg[fl.Name]))
 		}
 		p.Extras = append(p.Extras, row)
 	}
-	if len(f.carried) > 0 {
-		b, _ := json.Marshal(f.carried)
+	if len(f.Carried) > 0 {
+		b, _ := json.Marshal(f.Carried)
 		p.CarriedJSON = string(b)
-		for _, c := range f.carried {
-			p.Carried = append(p.Carried, components.CarriedCellProps{ID: c.ID, Name: c.Name, Keep: f.keep[c.ID],
+		for _, c := range f.Carried {
+			p.Carried = append(p.Carried, components.CarriedCellProps{ID: c.ID, Name: c.Name, Keep: f.Keep[c.ID],
 				Figures: components.Quantity(c.RatedV, "V", 3) + ", " + components.Quantity(c.CapacitanceF, "F", 4) + ", " + components.Quantity(c.ESROhm, "Ω", 3)})
 		}
 	}
@@ -160,36 +161,36 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 	for _, fp := range p.BOQ {
 		p.BOQOpen = p.BOQOpen || fp.Value != "" || fp.Message != ""
 	}
-	p.BOQOpen = p.BOQOpen || len(f.extras) > 0 || p.ExtrasMessage != ""
+	p.BOQOpen = p.BOQOpen || len(f.Extras) > 0 || p.ExtrasMessage != ""
 	p.DesignFileOpen = p.DesignFileMessage != ""
 	if p.Pulse[0].Value == "" {
 		p.Pulse[0].Value = "power"
 	}
-	for _, k := range stepKinds {
+	for _, k := range form.StepKinds {
 		p.StepKinds = append(p.StepKinds, components.Choice{Value: k.Value, Label: k.Label})
 	}
-	for i, r := range f.steps {
+	for i, r := range f.Steps {
 		base := fmt.Sprintf("load.steps[%d]", i)
-		id := domID(base)
-		kind := fieldProps(field{Name: base + ".kind", Label: "Kind", Kind: kindChoice}, r.Kind, msg[base+".kind"])
-		value := fieldProps(field{Name: base + ".value", Label: "Value", Units: stepValueUnit(r.Kind)}, r.Value, msg[base+".value"])
+		id := form.DomID(base)
+		kind := fieldProps(form.Field{Name: base + ".kind", Label: "Kind", Kind: form.KindChoice}, r.Kind, msg[base+".kind"])
+		value := fieldProps(form.Field{Name: base + ".value", Label: "Value", Units: form.StepValueUnit(r.Kind)}, r.Value, msg[base+".value"])
 		if r.Kind == "rest" {
 			value.Unit = "—"
 		}
-		dur := fieldProps(field{Name: base + ".duration_s", Label: "Duration", Units: unitSecond}, r.Duration, msg[base+".duration_s"])
+		dur := fieldProps(form.Field{Name: base + ".duration_s", Label: "Duration", Units: form.UnitSecond}, r.Duration, msg[base+".duration_s"])
 		p.Steps = append(p.Steps, components.StepProps{
 			Number: i + 1, Index: i, RowID: "row-" + id, RowMessageID: "msg-" + id, RowMessage: msg[base],
 			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value",
-			First: i == 0, Last: i == len(f.steps)-1,
+			First: i == 0, Last: i == len(f.Steps)-1,
 		})
 	}
-	for _, fl := range inlineFields {
-		if strings.TrimSpace(f.value(fl.Name)) != "" || msg[fl.Name] != "" {
+	for _, fl := range form.InlineFields {
+		if strings.TrimSpace(f.Value(fl.Name)) != "" || msg[fl.Name] != "" {
 			p.InlineOpen = true
 		}
 	}
 	p.InlineOpen = p.InlineOpen || msg["inline.capacitance_tolerance_pct"] != ""
-	for _, fl := range pulseFields {
+	for _, fl := range form.PulseFields {
 		p.PulseOpen = p.PulseOpen || msg[fl.Name] != ""
 	}
 	p.CSVOpen = msg["profile_csv"] != ""
@@ -215,7 +216,7 @@ func problemLabel(name string) string {
 		part := map[string]string{"item": " item", "description": " description", "quantity": " quantity", "unit": " unit", "unit_price": " unit price", "": ""}[m[2]]
 		return "Own BOQ line" + part
 	}
-	if l, ok := fieldLabels[name]; ok {
+	if l, ok := form.FieldLabels[name]; ok {
 		if strings.HasPrefix(name, "inline.") {
 			return "Own cell, " + strings.ToLower(l[:1]) + l[1:]
 		}
@@ -244,15 +245,15 @@ func problemHref(name string) string {
 	}
 	if m := extraPart.FindStringSubmatch(name); m != nil {
 		if m[2] == "" {
-			return "#row-" + domID(name)
+			return "#row-" + form.DomID(name)
 		}
-		return "#f-" + domID(name)
+		return "#f-" + form.DomID(name)
 	}
 	if m := stepPart.FindStringSubmatch(name); m != nil && m[2] == "" {
-		return "#row-" + domID(name)
+		return "#row-" + form.DomID(name)
 	}
-	if _, ok := fieldLabels[name]; ok || stepPart.MatchString(name) {
-		return "#f-" + domID(name)
+	if _, ok := form.FieldLabels[name]; ok || stepPart.MatchString(name) {
+		return "#f-" + form.DomID(name)
 	}
 	return "#design-form"
 }
@@ -294,8 +295,8 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 }
 
 func resultsProps(ev *evaluation) components.ResultsProps {
-	p := components.ResultsProps{Sort: ev.form.sort, LastGood: ev.form.lastGood,
-		SavedID: ev.form.savedID(), SavedName: ev.form.value("saved_name"), DesignName: strings.TrimSpace(ev.form.value("name"))}
+	p := components.ResultsProps{Sort: ev.form.Sort, LastGood: ev.form.LastGood,
+		SavedID: ev.form.SavedID(), SavedName: ev.form.Value("saved_name"), DesignName: strings.TrimSpace(ev.form.Value("name"))}
 	n := len(ev.problems)
 	switch {
 	case ev.pristine:
@@ -326,7 +327,7 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 			}
 		}
 	}
-	p.Candidates = sortCandidates(r.Candidates, ev.form.sort)
+	p.Candidates = sortCandidates(r.Candidates, ev.form.Sort)
 	p.Summary = designSummary(r, len(ev.sized.Load.Steps))
 	return p
 }

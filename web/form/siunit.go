@@ -1,4 +1,4 @@
-package web
+package form
 
 import (
 	"errors"
@@ -7,10 +7,10 @@ import (
 	"strings"
 )
 
-// unitSpec says how a number field may be typed: the unit spellings it
+// UnitSpec says how a number field may be typed: the unit spellings it
 // accepts after the number (each with its scale to the field's unit) and
 // whether a trailing % means hundredths (a fraction field).
-type unitSpec struct {
+type UnitSpec struct {
 	// Unit is the field's unit as shown beside the input, "" for none.
 	Unit    string
 	Symbols []unitSymbol
@@ -27,26 +27,26 @@ type unitSymbol struct {
 
 // Units of the form's fields.
 var (
-	unitVolt       = unitSpec{Unit: "V", Symbols: []unitSymbol{{"V", 1}}}
-	unitAmp        = unitSpec{Unit: "A", Symbols: []unitSymbol{{"A", 1}}}
-	unitWatt       = unitSpec{Unit: "W", Symbols: []unitSymbol{{"W", 1}}}
-	unitOhm        = unitSpec{Unit: "Ω", Symbols: []unitSymbol{{"Ω", 1}, {"Ω", 1}, {"ohms", 1}, {"ohm", 1}, {"Ohm", 1}}}
-	unitFarad      = unitSpec{Unit: "F", Symbols: []unitSymbol{{"F", 1}}}
-	unitSecond     = unitSpec{Unit: "s", Symbols: []unitSymbol{{"s", 1}}}
-	unitHour       = unitSpec{Unit: "h", Symbols: []unitSymbol{{"h", 1}}}
-	unitYear       = unitSpec{Unit: "years", Symbols: []unitSymbol{{"years", 1}, {"year", 1}, {"yr", 1}, {"y", 1}}}
-	unitCelsius    = unitSpec{Unit: "°C", Symbols: []unitSymbol{{"°C", 1}, {"℃", 1}, {"C", 1}}}
-	unitKelvin     = unitSpec{Unit: "K", Symbols: []unitSymbol{{"K", 1}}}
-	unitKPerW      = unitSpec{Unit: "K/W", Symbols: []unitSymbol{{"K/W", 1}}}
-	unitKilogram   = unitSpec{Unit: "kg", Symbols: []unitSymbol{{"g", 1e-3}}}
-	unitLitre      = unitSpec{Unit: "L", Symbols: []unitSymbol{{"L", 1}, {"l", 1}}}
-	unitJPerKgK    = unitSpec{Unit: "J/(kg·K)", Symbols: []unitSymbol{{"J/(kg·K)", 1}, {"J/kgK", 1}, {"J/(kgK)", 1}}}
-	unitPercent    = unitSpec{Unit: "%", Symbols: []unitSymbol{{"%", 1}}}
-	unitFraction   = unitSpec{Unit: "0–1", Percent: true}
-	unitFactor     = unitSpec{Unit: "×", Symbols: []unitSymbol{{"×", 1}, {"x", 1}}, Percent: true}
-	unitCount      = unitSpec{Unit: "×", Symbols: []unitSymbol{{"×", 1}, {"x", 1}}}
-	unitNone       = unitSpec{}
-	unitCurrencyEa = unitSpec{Unit: "each"}
+	UnitVolt       = UnitSpec{Unit: "V", Symbols: []unitSymbol{{"V", 1}}}
+	UnitAmp        = UnitSpec{Unit: "A", Symbols: []unitSymbol{{"A", 1}}}
+	UnitWatt       = UnitSpec{Unit: "W", Symbols: []unitSymbol{{"W", 1}}}
+	UnitOhm        = UnitSpec{Unit: "Ω", Symbols: []unitSymbol{{"Ω", 1}, {"Ω", 1}, {"ohms", 1}, {"ohm", 1}, {"Ohm", 1}}}
+	UnitFarad      = UnitSpec{Unit: "F", Symbols: []unitSymbol{{"F", 1}}}
+	UnitSecond     = UnitSpec{Unit: "s", Symbols: []unitSymbol{{"s", 1}}}
+	UnitHour       = UnitSpec{Unit: "h", Symbols: []unitSymbol{{"h", 1}}}
+	UnitYear       = UnitSpec{Unit: "years", Symbols: []unitSymbol{{"years", 1}, {"year", 1}, {"yr", 1}, {"y", 1}}}
+	UnitCelsius    = UnitSpec{Unit: "°C", Symbols: []unitSymbol{{"°C", 1}, {"℃", 1}, {"C", 1}}}
+	UnitKelvin     = UnitSpec{Unit: "K", Symbols: []unitSymbol{{"K", 1}}}
+	UnitKPerW      = UnitSpec{Unit: "K/W", Symbols: []unitSymbol{{"K/W", 1}}}
+	UnitKilogram   = UnitSpec{Unit: "kg", Symbols: []unitSymbol{{"g", 1e-3}}}
+	UnitLitre      = UnitSpec{Unit: "L", Symbols: []unitSymbol{{"L", 1}, {"l", 1}}}
+	UnitJPerKgK    = UnitSpec{Unit: "J/(kg·K)", Symbols: []unitSymbol{{"J/(kg·K)", 1}, {"J/kgK", 1}, {"J/(kgK)", 1}}}
+	UnitPercent    = UnitSpec{Unit: "%", Symbols: []unitSymbol{{"%", 1}}}
+	UnitFraction   = UnitSpec{Unit: "0–1", Percent: true}
+	UnitFactor     = UnitSpec{Unit: "×", Symbols: []unitSymbol{{"×", 1}, {"x", 1}}, Percent: true}
+	UnitCount      = UnitSpec{Unit: "×", Symbols: []unitSymbol{{"×", 1}, {"x", 1}}}
+	UnitNone       = UnitSpec{}
+	UnitCurrencyEa = UnitSpec{Unit: "each"}
 )
 
 // siPrefixes are the prefixes an engineer types after a number. Upper-case
@@ -55,12 +55,12 @@ var siPrefixes = map[byte]float64{
 	'p': 1e-12, 'n': 1e-9, 'u': 1e-6, 'm': 1e-3, 'k': 1e3, 'M': 1e6, 'G': 1e9,
 }
 
-const notANumber = "is not a number; use digits with an optional SI prefix such as 3.5k or 2.8m"
+const NotANumber = "is not a number; use digits with an optional SI prefix such as 3.5k or 2.8m"
 
-// errSIEmpty is returned by parseSI for a field left empty.
-var errSIEmpty = errors.New("is empty")
+// ErrEmpty is returned by ParseSI for a field left empty.
+var ErrEmpty = errors.New("is empty")
 
-// parseSI reads a number as an engineer types it: digits with an optional
+// ParseSI reads a number as an engineer types it: digits with an optional
 // decimal point and exponent, an optional SI prefix and an optional unit
 // symbol matching the field, with spaces anywhere between them:
 //
@@ -69,10 +69,10 @@ var errSIEmpty = errors.New("is empty")
 // A decimal comma, a unit of another quantity, NaN, Inf and a number beyond
 // the range of float64 are errors, never guesses. The error's text is a
 // message that reads after the field's name.
-func parseSI(text string, u unitSpec) (float64, error) {
+func ParseSI(text string, u UnitSpec) (float64, error) {
 	s := normalizeNumber(text)
 	if s == "" {
-		return 0, errSIEmpty
+		return 0, ErrEmpty
 	}
 	if strings.ContainsRune(s, ',') {
 		return 0, errors.New("has a comma; write the decimal point as a full stop (2.5, not 2,5) and no thousands separator")
@@ -131,9 +131,9 @@ func parseSI(text string, u unitSpec) (float64, error) {
 // scale is one).
 func decimalExponent(scale float64) int { return int(math.Round(math.Log10(scale))) }
 
-// parseCount is parseSI for a whole number such as a repeat or a count.
-func parseCount(text string, u unitSpec) (int, error) {
-	v, err := parseSI(text, u)
+// ParseCount is ParseSI for a whole number such as a repeat or a count.
+func ParseCount(text string, u UnitSpec) (int, error) {
+	v, err := ParseSI(text, u)
 	if err != nil {
 		return 0, err
 	}
@@ -169,8 +169,8 @@ func plainDecimal(s string) bool {
 
 // notANumberFor is the message for a value that is not a number, with a
 // hint when the text ends in something that looks like a unit or a prefix.
-func notANumberFor(s string, u unitSpec) string {
-	msg := notANumber
+func notANumberFor(s string, u UnitSpec) string {
+	msg := NotANumber
 	switch {
 	case strings.HasSuffix(s, "K") && u.Unit != "K/W":
 		msg += "; write kilo as a lower-case k"

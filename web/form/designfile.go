@@ -1,4 +1,4 @@
-package web
+package form
 
 import (
 	"bytes"
@@ -13,41 +13,41 @@ import (
 	"capbank/sizing"
 )
 
-// maxDesignFile is the largest design file the page opens; larger designs
+// MaxDesignFile is the largest design file the page opens; larger designs
 // go through the JSON API or capbank size.
-const maxDesignFile = 4 << 20
+const MaxDesignFile = 4 << 20
 
 // openDesign reads an uploaded design file into a new form. A file that
 // cannot be read, or that the form cannot show without losing part of it,
 // leaves the form as it was with the reason beside the file input.
-func (f *designForm) openDesign(fh *upload, lib cellLookup) *designForm {
-	if fh == nil || len(fh.data) == 0 {
+func (f *Form) openDesign(fh *Upload, lib CellLookup) *Form {
+	if fh == nil || len(fh.Data) == 0 {
 		f.actionProblem("design_file", "required", "choose a design file first (the JSON that capbank size reads)")
 		return f
 	}
-	if len(fh.data) > maxDesignFile {
-		f.actionProblem("design_file", "size", fmt.Sprintf("%s is %d bytes, more than the %d this page opens; size it with the JSON API or capbank size", fh.filename, len(fh.data), maxDesignFile))
+	if len(fh.Data) > MaxDesignFile {
+		f.actionProblem("design_file", "size", fmt.Sprintf("%s is %d bytes, more than the %d this page opens; size it with the JSON API or capbank size", fh.Filename, len(fh.Data), MaxDesignFile))
 		return f
 	}
-	d, err := sizing.DecodeDesign(bytes.NewReader(fh.data))
+	d, err := sizing.DecodeDesign(bytes.NewReader(fh.Data))
 	if err != nil {
-		f.actionProblem("design_file", "decode", fh.filename+": "+oneLine(err))
+		f.actionProblem("design_file", "decode", fh.Filename+": "+OneLine(err))
 		return f
 	}
-	nf, err := formFromDesign(d, lib)
+	nf, err := FromDesign(d, lib)
 	if err != nil {
-		f.actionProblem("design_file", "form", fh.filename+": "+err.Error())
+		f.actionProblem("design_file", "form", fh.Filename+": "+err.Error())
 		return f
 	}
-	nf.notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.filename,
+	nf.Notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.Filename,
 		len(d.Load.Steps), plural(len(d.Load.Steps), "step", "steps"), len(d.Cells), plural(len(d.Cells), "cell", "cells"))
 	return nf
 }
 
-// oneLine joins a multi-line error (a sizing.ValidationError) with "; ".
-func oneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", "; ") }
+// OneLine joins a multi-line error (a sizing.ValidationError) with "; ".
+func OneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", "; ") }
 
-// formFromDesign is the form that decodes back into d: every key of the
+// FromDesign is the form that decodes back into d: every key of the
 // design file has its field. A cell goes to the library picks when the
 // library holds the very same cell under its id, else into the typed-cell
 // fields (the first such cell) or is kept as the file gave it. Library
@@ -55,15 +55,15 @@ func oneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", ";
 // them. A design the form cannot show in full is an error, never a guess:
 // a step that is not exactly one kind, a tolerance that is not a pair, more
 // steps or own lines than the form edits.
-func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
-	if n := len(d.Load.Steps); n > maxFormSteps {
-		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, maxFormSteps)
+func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
+	if n := len(d.Load.Steps); n > MaxSteps {
+		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, MaxSteps)
 	}
-	if d.BOQ != nil && len(d.BOQ.Extras) > maxFormExtras {
-		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), maxFormExtras)
+	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
+		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}
 	v := url.Values{}
-	num := func(key string, x float64) { v.Set(key, fieldNumber(x)) }
+	num := func(key string, x float64) { v.Set(key, FieldNumber(x)) }
 	opt := func(key string, x *float64) {
 		if x != nil {
 			num(key, *x)
@@ -116,7 +116,7 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 	opt("cold_c", d.ColdC)
 	opt("life_years", d.LifeYears)
 	opt("standby_h", d.StandbyH)
-	if d.RankBy != "price" { // price is the default, which the form shows as its first choice
+	if d.RankBy != "price" { // price is the default, which the form shows as its first Choice
 		text("rank_by", d.RankBy)
 	}
 	if b := d.Balancing; b != nil {
@@ -153,7 +153,7 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 			continue
 		}
 		if lib != nil && !slices.Contains(v["cells.pick"], c.ID) {
-			if lc, ok := lib(c.ID); ok && sameCell(lc, c) {
+			if lc, ok := lib(c.ID); ok && SameCell(lc, c) {
 				v.Add("cells.pick", c.ID)
 				continue
 			}
@@ -163,7 +163,7 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 				return nil, fmt.Errorf("cell %q: capacitance_tolerance_pct must be a pair [minus, plus] (found %d values); fix the file first", c.ID, len(t))
 			}
 			inline = true
-			inlineValues(v, c)
+			InlineValues(v, c)
 			continue
 		}
 		carried = append(carried, c)
@@ -176,18 +176,18 @@ func formFromDesign(d *sizing.Design, lib cellLookup) (*designForm, error) {
 		}
 		v.Set("carried", string(b))
 	}
-	return readForm(v), nil
+	return Read(v), nil
 }
 
-// inlineValues writes cell c into the typed-cell fields.
-func inlineValues(v url.Values, c sizing.Cell) { cellValues(v, "inline.", c) }
+// InlineValues writes cell c into the typed-cell fields.
+func InlineValues(v url.Values, c sizing.Cell) { CellValues(v, "inline.", c) }
 
-// cellValues writes cell c into the inputs named prefix + its keys (see
-// cellFields), each number as typed so that it reads back exactly.
-func cellValues(v url.Values, prefix string, c sizing.Cell) {
+// CellValues writes cell c into the inputs named prefix + its keys (see
+// CellFields), each number as typed so that it reads back exactly.
+func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	set := func(key string, x *float64) {
 		if x != nil {
-			v.Set(prefix+key, fieldNumber(*x))
+			v.Set(prefix+key, FieldNumber(*x))
 		}
 	}
 	v.Set(prefix+"id", c.ID)
@@ -203,12 +203,12 @@ func cellValues(v url.Values, prefix string, c sizing.Cell) {
 	if c.Electrolyte != "" {
 		v.Set(prefix+"electrolyte", c.Electrolyte)
 	}
-	v.Set(prefix+"rated_v", fieldNumber(c.RatedV))
-	v.Set(prefix+"capacitance_f", fieldNumber(c.CapacitanceF))
-	v.Set(prefix+"esr_ohm", fieldNumber(c.ESROhm))
+	v.Set(prefix+"rated_v", FieldNumber(c.RatedV))
+	v.Set(prefix+"capacitance_f", FieldNumber(c.CapacitanceF))
+	v.Set(prefix+"esr_ohm", FieldNumber(c.ESROhm))
 	if t := c.CapacitanceTolerancePct; len(t) == 2 {
-		v.Set(prefix+"capacitance_tolerance_pct[0]", fieldNumber(t[0]))
-		v.Set(prefix+"capacitance_tolerance_pct[1]", fieldNumber(t[1]))
+		v.Set(prefix+"capacitance_tolerance_pct[0]", FieldNumber(t[0]))
+		v.Set(prefix+"capacitance_tolerance_pct[1]", FieldNumber(t[1]))
 	}
 	set("surge_v", c.SurgeV)
 	set("cold_esr_factor", c.ColdESRFactor)
@@ -227,16 +227,16 @@ func cellValues(v url.Values, prefix string, c sizing.Cell) {
 	set("specific_heat_j_per_kg_k", c.SpecificHeatJPerKgK)
 }
 
-// fieldPrefixes are the SI prefixes fieldNumber writes, by their power of
+// fieldPrefixes are the SI prefixes FieldNumber writes, by their power of
 // ten.
 var fieldPrefixes = map[int]string{9: "G", 6: "M", 3: "k", -3: "m", -6: "µ", -9: "n", -12: "p"}
 
-// fieldNumber writes a design-file number as an engineer types it into a
+// FieldNumber writes a design-file number as an engineer types it into a
 // field: plain between 0.001 and 9999, else with the SI prefix that keeps
 // the figure between 1 and 1000 (4µ, not 4e-06). The digits are those of
 // the shortest exact form with the decimal point moved, so the field reads
 // back as exactly the same number.
-func fieldNumber(x float64) string {
+func FieldNumber(x float64) string {
 	plain := formatFloat(x)
 	if a := math.Abs(x); x == 0 || (a >= 1e-3 && a < 1e4) || math.IsNaN(x) || math.IsInf(x, 0) {
 		return plain
@@ -266,15 +266,15 @@ func fieldNumber(x float64) string {
 		text += "." + rest
 	}
 	text += sym
-	if back, err := parseSI(text, unitNone); err != nil || back != x {
+	if back, err := ParseSI(text, UnitNone); err != nil || back != x {
 		return plain
 	}
 	return text
 }
 
-// sameCell reports whether two cells are the same in every key of the
+// SameCell reports whether two cells are the same in every key of the
 // design file.
-func sameCell(a, b sizing.Cell) bool {
+func SameCell(a, b sizing.Cell) bool {
 	ja, err1 := json.Marshal(a)
 	jb, err2 := json.Marshal(b)
 	return err1 == nil && err2 == nil && bytes.Equal(ja, jb)

@@ -1,0 +1,210 @@
+package form
+
+import "strings"
+
+// FieldKind is how a form field is typed.
+type FieldKind int
+
+const (
+	KindNumber FieldKind = iota // a number with an optional SI prefix and unit
+	KindCount                   // a whole number
+	KindText                    // free text
+	KindChoice                  // one of Choices
+)
+
+// Choice is one option of a select.
+type Choice struct{ Value, Label string }
+
+// Field is one input of the design form. Its Name is the design file's JSON
+// path, so a sizing.FieldError names the input directly.
+type Field struct {
+	Name     string
+	Label    string
+	Hint     string // the default, or what the field means
+	Kind     FieldKind
+	Units    UnitSpec
+	Required bool
+	Choices  []Choice
+}
+
+// The design-wide fields, by form section.
+var (
+	NameField = Field{Name: "name", Label: "Design name", Kind: KindText, Hint: "labels the report; optional"}
+
+	WindowFields = []Field{
+		{Name: "window.max_v", Label: "Window top", Units: UnitVolt, Required: true,
+			Hint: "charge voltage: the bank starts here, full"},
+		{Name: "window.min_v", Label: "Window bottom", Units: UnitVolt, Required: true,
+			Hint: "converter cut-off: the terminal voltage stays at or above it"},
+		{Name: "cell_max_v", Label: "Per-cell ceiling", Units: UnitVolt,
+			Hint: "empty: each cell's rated voltage"},
+	}
+
+	LoadFields = []Field{
+		{Name: "load.efficiency", Label: "Converter efficiency", Units: UnitFraction,
+			Hint: "0.94 or 94 %; applies to power steps; empty: 1"},
+		{Name: "load.repeat", Label: "Repeat the steps", Kind: KindCount, Units: UnitCount,
+			Hint: "times back to back; empty: 1"},
+	}
+
+	ConditionFields = []Field{
+		{Name: "ambient_c", Label: "Ambient temperature", Units: UnitCelsius, Hint: "empty: 25 °C"},
+		{Name: "cold_c", Label: "Coldest temperature", Units: UnitCelsius, Hint: "raises the ESR by each cell's cold factor; empty: no cold case"},
+		{Name: "life_years", Label: "Required service life", Units: UnitYear, Hint: "empty: not checked"},
+		{Name: "standby_h", Label: "Standby hold without charger", Units: UnitHour, Hint: "empty: not checked"},
+	}
+
+	EOLFields = []Field{
+		{Name: "eol.capacitance_factor", Label: "Capacitance at end of life", Units: UnitFactor,
+			Hint: "× rated, e.g. 0.8 or 80 %; empty: 0.8"},
+		{Name: "eol.esr_factor", Label: "ESR at end of life", Units: UnitFactor,
+			Hint: "× rated, e.g. 2; empty: 2"},
+	}
+
+	BalancingFields = []Field{
+		{Name: "balancing.kind", Label: "Balancing", Kind: KindChoice, Choices: []Choice{
+			{"", "passive resistors (default)"}, {"passive", "passive resistors"}, {"active", "active circuits"}, {"none", "none"},
+		}},
+		{Name: "balancing.current_multiple", Label: "Resistor current", Units: UnitFactor,
+			Hint: "× the leakage spread; empty: 10"},
+		{Name: "balancing.leakage_spread_a", Label: "Leakage spread", Units: UnitAmp,
+			Hint: "worst difference between two cells; empty: the cell's leakage"},
+		{Name: "balancing.series", Label: "Resistor series", Kind: KindChoice, Choices: []Choice{
+			{"", "E24 (default)"}, {"E12", "E12"}, {"E24", "E24"}, {"E96", "E96"},
+		}},
+		{Name: "balancing.quiescent_a", Label: "Active circuit draw", Units: UnitAmp,
+			Hint: "per cell; needed for active balancing"},
+	}
+
+	LifeFields = []Field{
+		{Name: "life.temp_step_k", Label: "Life halves every", Units: UnitKelvin, Hint: "of cell temperature; empty: 10 K"},
+		{Name: "life.voltage_step_v", Label: "Life halves every", Units: UnitVolt, Hint: "of cell voltage; empty: 0.2 V"},
+	}
+
+	BOQFields = []Field{
+		{Name: "boq.currency", Label: "Currency", Kind: KindText, Hint: "a label for every price, e.g. EUR; no conversion"},
+		{Name: "boq.link_unit_price", Label: "Interconnect link", Units: UnitCurrencyEa, Hint: "price of one link"},
+		{Name: "boq.resistor_unit_price", Label: "Balancing resistor", Units: UnitCurrencyEa},
+		{Name: "boq.balancer_unit_price", Label: "Active balancing circuit", Units: UnitCurrencyEa},
+		{Name: "boq.bleeder_unit_price", Label: "Service bleeder resistor", Units: UnitCurrencyEa},
+		{Name: "boq.bleeder_time_s", Label: "Bleeder discharge time", Units: UnitSecond,
+			Hint: "to the service voltage; empty: 300 s"},
+	}
+
+	RankField = Field{Name: "rank_by", Label: "Recommend the bank with", Kind: KindChoice, Choices: []Choice{
+		{"", "lowest price (default)"}, {"cells", "fewest cells"}, {"mass", "least mass"}, {"volume", "least volume"},
+	}}
+
+	// StepKinds are the kinds of a load step and the unit of each value.
+	StepKinds = []Choice{
+		{"power", "Power"}, {"current", "Current"}, {"resistance", "Resistance"}, {"rest", "Rest"},
+	}
+
+	PulseFields = []Field{
+		{Name: "pulse.kind", Label: "Pulse kind", Kind: KindChoice, Choices: StepKinds[:3]},
+		{Name: "pulse.value", Label: "Pulse value", Units: UnitNone, Hint: "W, A or Ω by the kind"},
+		{Name: "pulse.duration_s", Label: "Pulse length", Units: UnitSecond},
+		{Name: "pulse.rest_s", Label: "Rest between pulses", Units: UnitSecond},
+		{Name: "pulse.count", Label: "Number of pulses", Kind: KindCount, Units: UnitCount},
+	}
+
+	// InlineFields are the keys of one cell typed into the design form,
+	// named inline.<cell key>.
+	InlineFields = CellFields("inline.")
+
+	// cellSources are where a cell's figures come from.
+	cellSources = []Choice{{"", "not said"}, {"datasheet", "a datasheet"}, {"measured", "a measurement"}, {"demo", "demo (invented)"}}
+
+	// ExtraFields are the columns of a user's own line of the bill of
+	// quantities, named boq.extras[i].<key>.
+	ExtraFields = []Field{
+		{Name: "item", Label: "Item", Kind: KindText},
+		{Name: "description", Label: "Description", Kind: KindText},
+		{Name: "quantity", Label: "Quantity", Units: UnitNone},
+		{Name: "unit", Label: "Unit", Kind: KindText},
+		{Name: "unit_price", Label: "Unit price", Units: UnitCurrencyEa},
+	}
+)
+
+// CellFields are the inputs of one cell, named prefix + its design-file key
+// (the design form types one cell under "inline."; the library's cell form
+// uses the bare keys).
+func CellFields(prefix string) []Field {
+	return []Field{
+		{Name: prefix + "id", Label: "Id", Kind: KindText, Hint: "short and unique, e.g. my-cell"},
+		{Name: prefix + "name", Label: "Name", Kind: KindText},
+		{Name: prefix + "source", Label: "Figures from", Kind: KindChoice, Choices: cellSources},
+		{Name: prefix + "rated_v", Label: "Rated voltage", Units: UnitVolt},
+		{Name: prefix + "surge_v", Label: "Surge voltage", Units: UnitVolt},
+		{Name: prefix + "capacitance_f", Label: "Capacitance", Units: UnitFarad},
+		{Name: prefix + "capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: UnitPercent, Hint: "e.g. -10"},
+		{Name: prefix + "capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: UnitPercent, Hint: "e.g. 20"},
+		{Name: prefix + "esr_ohm", Label: "ESR (DC)", Units: UnitOhm},
+		{Name: prefix + "cold_esr_factor", Label: "Cold ESR factor", Units: UnitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
+		{Name: prefix + "cold_esr_temp_c", Label: "Cold ESR measured at", Units: UnitCelsius},
+		{Name: prefix + "leakage_a", Label: "Leakage current", Units: UnitAmp},
+		{Name: prefix + "max_current_a", Label: "Continuous current", Units: UnitAmp},
+		{Name: prefix + "peak_current_a", Label: "Peak current", Units: UnitAmp},
+		{Name: prefix + "thermal_resistance_k_per_w", Label: "Thermal resistance", Units: UnitKPerW},
+		{Name: prefix + "min_temp_c", Label: "Lowest operating temperature", Units: UnitCelsius},
+		{Name: prefix + "max_temp_c", Label: "Highest operating temperature", Units: UnitCelsius},
+		{Name: prefix + "mass_kg", Label: "Mass", Units: UnitKilogram},
+		{Name: prefix + "volume_l", Label: "Volume", Units: UnitLitre},
+		{Name: prefix + "unit_price", Label: "Unit price", Units: UnitCurrencyEa, Hint: "in your currency"},
+		{Name: prefix + "rated_life_h", Label: "Rated life", Units: UnitHour},
+		{Name: prefix + "rated_life_temp_c", Label: "Rated life at", Units: UnitCelsius},
+		{Name: prefix + "specific_heat_j_per_kg_k", Label: "Specific heat", Units: UnitJPerKgK, Hint: "empty: 1000"},
+		{Name: prefix + "electrolyte", Label: "Electrolyte", Kind: KindChoice, Choices: []Choice{
+			{"", "not given"}, {"organic", "organic"}, {"aqueous", "aqueous"}, {"ionic-liquid", "ionic liquid"}, {"hybrid", "hybrid"},
+		}},
+		{Name: prefix + "notes", Label: "Notes", Kind: KindText, Hint: "free text, e.g. the datasheet's revision"},
+	}
+}
+
+// StepValueUnit is the unit of a step's value by its kind.
+func StepValueUnit(kind string) UnitSpec {
+	switch kind {
+	case "power":
+		return UnitWatt
+	case "current":
+		return UnitAmp
+	case "resistance":
+		return UnitOhm
+	}
+	return UnitNone
+}
+
+// FieldLabels maps every field name (and group name) to its label, for
+// the problem summary.
+var FieldLabels = func() map[string]string {
+	m := map[string]string{
+		"cells.pick":                       "Candidate cells",
+		"load.steps":                       "Load steps",
+		"profile_csv":                      "Profile file",
+		"inline.capacitance_tolerance_pct": "Capacitance tolerance",
+		"design":                           "Design",
+		"design_file":                      "Design file",
+		"boq.extras":                       "Own lines",
+		"balancing.current_multiple":       "Balancing resistor current",
+		"balancing.leakage_spread_a":       "Balancing leakage spread",
+		"balancing.series":                 "Balancing resistor series",
+		"balancing.quiescent_a":            "Active balancing circuit draw",
+		"life.temp_step_k":                 "Life halves every (temperature)",
+		"life.voltage_step_v":              "Life halves every (voltage)",
+	}
+	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, LifeFields, BOQFields} {
+		for _, f := range group {
+			if _, ok := m[f.Name]; !ok {
+				m[f.Name] = f.Label
+			}
+		}
+	}
+	return m
+}()
+
+// DomID turns a field name into an HTML id fragment: load.steps[2].value
+// becomes load-steps-2-value.
+func DomID(name string) string {
+	r := strings.NewReplacer(".", "-", "[", "-", "]", "")
+	return r.Replace(name)
+}
