@@ -3,6 +3,8 @@ package web
 import (
 	"net/http"
 	"net/url"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -49,4 +51,36 @@ func TestLibrarySearchLength(t *testing.T) {
 		t.Errorf("a search of LIKE's wildcards matched %d cells; they must match themselves", list.Count)
 	}
 	wantStatus(t, get(t, s, "/library?q="+atLimit), http.StatusOK)
+}
+
+// Every query string in testdata/bad/queries is refused as 422 with the
+// parameter named, by the API and by the library page, never a 500.
+func TestBadQueryCorpus(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	files, _ := filepath.Glob("../testdata/bad/queries/*.txt")
+	if len(files) < 4 {
+		t.Fatalf("%d bad queries", len(files))
+	}
+	for _, f := range files {
+		t.Run(filepath.Base(f), func(t *testing.T) {
+			b, err := os.ReadFile(f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			q := strings.TrimSpace(string(b))
+			rec := do(t, s, http.MethodGet, "/api/v1/cells?"+q, "", "")
+			wantStatus(t, rec, http.StatusUnprocessableEntity)
+			var p problem
+			decodeJSON(t, rec, &p)
+			if len(p.Errors) == 0 || p.Errors[0].Field == "" {
+				t.Errorf("API problem %+v names no parameter", p)
+			}
+			rec = get(t, s, "/library?"+q)
+			wantStatus(t, rec, http.StatusUnprocessableEntity)
+			if parse(t, rec).Find(`[id^="msg-"]:not(:empty)`).Length() == 0 {
+				t.Errorf("the library page shows no message beside a box:\n%.1500s", rec.Body)
+			}
+		})
+	}
 }
