@@ -90,16 +90,15 @@ func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
 type bankModel struct {
 	c, r, g float64
 	// Constants of the constant-power solution (see step.go), set by
-	// newBankModel: cpA = −R/(1 + R·g), cpB = 1 + R·g/(1 + R·g),
-	// inv1RG = 1/(1 + R·g).
-	cpA, cpB, inv1RG float64
-	invC             float64 // 1/c, so that steps multiply instead of divide
-	work             int     // steps solved by runtime, for the benchmarks
+	// newBankModel: cpA = −R/(1 + R·g), cpB = 1 + R·g/(1 + R·g).
+	cpA, cpB float64
+	invC     float64 // 1/c, so that steps multiply instead of divide
+	work     int     // steps solved by runtime, for the benchmarks
 }
 
 // newBankModel returns the bank model of capacitance c (F), series
 // resistance r (Ω) and leakage conductance g (S).
 func newBankModel(c, r, g float64) bankModel {
 	k := 1 / (1 + r*g)
-	return bankModel{c: c, r: r, g: g, cpA: -r * k, cpB: 1 + r*g*k, inv1RG: k, invC: 1 / c}
+	return bankModel{c: c, r: r, g: g, cpA: -r * k, cpB: 1 + r*g*k, invC: 1 / c}
 }

@@ -73,10 +73,8 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 		switch {
 		case s.PowerW != nil && *s.PowerW > 0:
 			c.kind, c.x = kindPower, *s.PowerW/eff
-			c.inv = 1 / c.x
 		case s.PowerW != nil && *s.PowerW < 0:
 			c.kind, c.x = kindPower, *s.PowerW*eff
-			c.inv = 1 / c.x
 		case s.CurrentA != nil && *s.CurrentA != 0:
 			c.kind, c.x = kindCurrent, *s.CurrentA
 		case s.ResistanceOhm != nil:
