@@ -239,6 +239,11 @@ type Cell struct {
 	Electrolyte string `json:"electrolyte,omitempty" validate:"omitempty,oneof=organic aqueous ionic-liquid hybrid"`
 }
 
+// setReference makes c a reference to the library cell id, as a design
+// file gives it ("cells": ["id"]); DecodeStrict calls it for a string
+// where a cell is expected.
+func (c *Cell) setReference(id string) { *c = Cell{ID: id, libraryRef: true} }
+
 // IsReference reports whether the cell is only an id naming a cell of a
 // library (the design file gave "cells": ["id"]), not yet resolved.
 func (c *Cell) IsReference() bool { return c.libraryRef }

@@ -122,7 +122,7 @@ func TestDecodeDesignErrors(t *testing.T) {
 	}{
 		{"string for a number", `{"window":{"max_v":"42","min_v":21}}`, "window.max_v", "must be a number, not a JSON string"},
 		{"unknown key", `{"window":{"max_v":42,"min_v":21},"windw":{}}`, "windw", "not a design key"},
-		{"nested unknown key", `{"load":{"steps":[{"power":5,"duration_s":1}]}}`, "power", "not a design key"},
+		{"nested unknown key", `{"load":{"steps":[{"power":5,"duration_s":1}]}}`, "load.steps[0].power", "not a design key"},
 		{"truncated", `{"window":{"max_v":42,`, "design", "truncated"},
 		{"syntax", `{"window":{"max_v":42,,}}`, "design", "line 1, column"},
 		{"empty", ``, "design", "is empty"},
