@@ -94,6 +94,73 @@ func TestValidateBadDesigns(t *testing.T) {
 	}
 }
 
+// TestValidateRefusesAbsurdValues: issue 14, items 3 and 4. Each value was
+// accepted and sized to a wrong or non-finite figure (a series count of
+// −9223372036854775808, a short-circuit current of +Inf A); each is now
+// refused by its field. The floors are in design.go with their reasons.
+func TestValidateRefusesAbsurdValues(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name   string
+		break_ func(d *Design)
+		field  string
+		msg    string
+	}{
+		{"rated voltage 1e-20 V", func(d *Design) { d.Cells[0].RatedV = 1e-20; d.Cells[0].SurgeV = nil }, "cells[0].rated_v", "must be at least 0.1"},
+		{"rated voltage 1e-15 V", func(d *Design) { d.Cells[0].RatedV = 1e-15; d.Cells[0].SurgeV = nil }, "cells[0].rated_v", "must be at least 0.1"},
+		{"denormal ceiling", func(d *Design) { d.CellMaxV = fp(5e-324) }, "cell_max_v", "must be at least 0.1"},
+		// Own arithmetic: 42 000 V / 2.7 V = 15 555.6 → 15 556 cells.
+		{"window top in millivolts", func(d *Design) { d.Window.MaxV = 42000 }, "cells[0].rated_v",
+			"needs 15556 cells in series to hold window.max_v (42000 V) at 2.7 V per cell, more than 10000; check window.max_v and rated_v"},
+		// Own arithmetic: 42 000 V / 2.5 V = 16 800 cells.
+		{"ceiling and window top", func(d *Design) { d.Window.MaxV = 42000; d.CellMaxV = fp(2.5) }, "cell_max_v",
+			"needs 16800 cells in series to hold window.max_v (42000 V) at 2.5 V per cell, more than 10000; check window.max_v and cell_max_v"},
+		{"denormal ESR", func(d *Design) { d.Cells[0].ESROhm = 1e-310 }, "cells[0].esr_ohm", "must be at least 1e-6"},
+		{"smallest ESR", func(d *Design) { d.Cells[0].ESROhm = 5e-324 }, "cells[0].esr_ohm", "must be at least 1e-6"},
+		{"denormal capacitance", func(d *Design) { d.Cells[0].CapacitanceF = 1e-310 }, "cells[0].capacitance_f", "must be at least 1e-6"},
+		{"picosecond step", func(d *Design) { d.Load.Steps[1].DurationS = 1e-12 }, "load.steps[1].duration_s", "must be at least 1e-9"},
+		{"tiny efficiency", func(d *Design) { d.Load.Efficiency = fp(1e-300) }, "load.efficiency", "must be at least 0.01"},
+		{"tiny end-of-life capacitance", func(d *Design) { d.EOL = &EOL{CapacitanceFactor: fp(1e-300)} }, "eol.capacitance_factor", "must be at least 0.1"},
+		{"tiny window bottom", func(d *Design) { d.Window.MinV = 1e-300 }, "window.min_v", "must be at least 0.001"},
+		{"attowatt load", func(d *Design) { d.Load.Steps[0].PowerW = fp(1e-18) }, "load.steps[0].power_w", "below 1e-15 W"},
+		{"denormal charge", func(d *Design) { d.Load.Steps[0].PowerW = fp(-5e-324) }, "load.steps[0].power_w", "below 1e-15 W"},
+		{"denormal leakage", func(d *Design) { d.Cells[0].LeakageA = fp(1e-310) }, "cells[0].leakage_a", "below 1e-12 A"},
+		{"denormal quiescent draw", func(d *Design) { d.Balancing = &Balancing{Kind: "active", QuiescentA: fp(1e-310)} },
+			"balancing.quiescent_a", "below 1e-12 A"},
+		{"denormal leakage spread", func(d *Design) { d.Balancing = &Balancing{LeakageSpreadA: fp(1e-310)} },
+			"balancing.leakage_spread_a", "must be at least 1e-12"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			d := validDesign()
+			d.Cells = append(d.Cells, testCell("b"))
+			c.break_(d)
+			var ve ValidationError
+			if err := Validate(d); !errors.As(err, &ve) {
+				t.Fatalf("Validate = %v, want a ValidationError", err)
+			}
+			n := 0
+			for _, fe := range ve {
+				if fe.Field == c.field && strings.Contains(fe.Message, c.msg) {
+					n++
+				}
+			}
+			if n != 1 {
+				t.Errorf("%d errors on %s containing %q, want 1; got:\n%v", n, c.field, c.msg, ve)
+			}
+		})
+	}
+	// Zero stays allowed where it means "none".
+	d := validDesign()
+	d.Load.Steps[0].PowerW = fp(0)
+	d.Cells[0].LeakageA = fp(0)
+	d.Balancing = &Balancing{Kind: "active", QuiescentA: fp(0)}
+	if err := Validate(d); err != nil {
+		t.Errorf("zero power, leakage and quiescent draw: %v", err)
+	}
+}
+
 func TestValidateReportsEveryProblem(t *testing.T) {
 	t.Parallel()
 	d := validDesign()
