@@ -5,8 +5,11 @@ import (
 	"math"
 	"reflect"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/go-playground/validator/v10"
 )
@@ -293,6 +296,9 @@ func cellRules(c *Cell, p string) ValidationError {
 		}
 		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
 	}
+	if rule, msg := idProblem(c.ID); msg != "" {
+		add("id", rule, "%s", msg)
+	}
 	if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
 		add("surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
 	}
@@ -330,6 +336,37 @@ func cellRules(c *Cell, p string) ValidationError {
 			c.RatedV/(*c.LeakageA)*c.CapacitanceF)
 	}
 	return errs
+}
+
+// idProblem says what is wrong with a cell id that is not empty (the
+// required tag reports that): one of blanks only, one holding a control
+// or invisible formatting character (a tab, a newline, a zero-width space,
+// a right-to-left override), or one that is not UTF-8. An id is shown in
+// tables, typed to look a cell up and written in design files, so it must
+// be visible as what it is.
+func idProblem(id string) (rule, msg string) {
+	switch {
+	case id == "":
+		return "", ""
+	case !utf8.ValidString(id):
+		return "utf8", "is not valid UTF-8 text; give the cell an id of letters, digits and punctuation"
+	case strings.TrimSpace(id) == "":
+		return "blank", fmt.Sprintf("is blank (%s); give the cell an id of letters, digits and punctuation", quoteShort(id))
+	}
+	for i, r := range id {
+		if unicode.IsControl(r) || unicode.Is(unicode.Cf, r) {
+			return "control", fmt.Sprintf("holds the invisible character %U at byte %d (%s); give the cell an id of letters, digits, punctuation and spaces only", r, i, quoteShort(id))
+		}
+	}
+	return "", ""
+}
+
+// quoteShort quotes s with Go escapes, cut to 40 characters.
+func quoteShort(s string) string {
+	if r := []rune(s); len(r) > 40 {
+		return strconv.Quote(string(r[:40])) + "…"
+	}
+	return strconv.Quote(s)
 }
 
 // ValidateCell checks one cell on its own, as a cell library does before

@@ -238,6 +238,49 @@ func TestValidateCell(t *testing.T) {
 	}
 }
 
+// TestValidateCellIDs: issue 14, item 9. Ids that are blank or hold an
+// invisible character were accepted; each is refused, in a cell on its own
+// (a library) and in a design, by the id's field.
+func TestValidateCellIDs(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name, id, rule, msg string
+	}{
+		{"spaces", "   ", "blank", `is blank ("   ")`},
+		{"tab and newline", "\t\n", "blank", `is blank ("\t\n")`},
+		{"no-break space", "\u00a0", "blank", "is blank"},
+		{"a bell", "demo\abell", "control", `holds the invisible character U+0007 at byte 4 ("demo\abell")`},
+		{"a NUL", "a\x00", "control", "U+0000 at byte 1"},
+		{"a newline inside", "cell\n2", "control", "U+000A at byte 4"},
+		{"a right-to-left override", "abc\u202edef", "control", "U+202E at byte 3"},
+		{"a zero-width space", "a\u200bb", "control", "U+200B"},
+		{"not UTF-8", "caf\xe9", "utf8", "is not valid UTF-8"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			c := testCell(tc.id)
+			p := strictProblem(t, ValidateCell(&c))
+			if p.Field != "id" || p.Rule != tc.rule || !strings.Contains(p.Message, tc.msg) {
+				t.Errorf("ValidateCell: %s (%s): %s; want id (%s): …%s…", p.Field, p.Rule, p.Message, tc.rule, tc.msg)
+			}
+			d := validDesign()
+			d.Cells = append(d.Cells, c)
+			p = strictProblem(t, Validate(d))
+			if p.Field != "cells[1].id" || p.Rule != tc.rule {
+				t.Errorf("Validate: %s (%s): %s; want cells[1].id (%s)", p.Field, p.Rule, p.Message, tc.rule)
+			}
+		})
+	}
+	// Ids a user would write stay valid: spaces inside, accents, symbols.
+	for _, id := range []string{"demo 400 F", "Zellé-3000/2,7V", "a", "x_y.z#1"} {
+		c := testCell(id)
+		if err := ValidateCell(&c); err != nil {
+			t.Errorf("id %q: %v", id, err)
+		}
+	}
+}
+
 func TestLibraryCellReferences(t *testing.T) {
 	t.Parallel()
 	in := `{"window":{"max_v":27,"min_v":13.5},"load":{"steps":[{"current_a":5,"duration_s":10}]},
