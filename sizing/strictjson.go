@@ -228,6 +228,15 @@ func (d *strictDecoder) next() byte {
 // value decodes the next JSON value into v.
 func (d *strictDecoder) value(v reflect.Value) error {
 	c := d.next()
+	if c == 'n' && v.Kind() != reflect.Pointer {
+		if u, ok := d.unmarshaler(v); ok { // as encoding/json: it reads null itself
+			d.pos += len("null")
+			if err := u.UnmarshalJSON([]byte("null")); err != nil {
+				return d.problem("json", "could not be read: %v", err)
+			}
+			return nil
+		}
+	}
 	if c == 'n' { // null: nil for pointers, maps, slices and interfaces, else no change
 		d.pos += len("null")
 		switch v.Kind() {

@@ -180,6 +180,7 @@ func TestDecodeStrictMatchesEncodingJSON(t *testing.T) {
 		`{"m":{"k":"v","K":"w"},"any":{"x":[1,"two",null,false,{"y":{}}]},"raw":{"kept": [1, 2]},"byte":"aGVsbG8="}`,
 		`{"n":{"n":{"s":"deep","l":[]}},"mp":{"w":{"max_v":1,"min_v":0.5},"none":null},"NoTag":7}`,
 		`{"p":null,"l":null,"m":null,"any":null,"s":null,"f":null}`,
+		`{"raw":null,"byte":null,"a":null,"n":null,"mp":{"a":null},"any":[null],"u8":null}`,
 		` [ ] `,
 	}
 	for _, doc := range docs {
@@ -209,6 +210,7 @@ func TestDecodeStrictMatchesEncodingJSON(t *testing.T) {
 func FuzzDecodeStrict(f *testing.F) {
 	f.Add([]byte(`{"s":"x","l":[1,2],"m":{"a":"b"},"any":[{"k":1}],"n":{"p":1}}`))
 	f.Add([]byte(`{"a":[1,2],"raw":[true],"byte":"AA==","u8":7,"e":"\ud800"}`))
+	f.Add([]byte(`{"raw":null,"n":{"raw":null,"p":null},"mp":{"k":null},"a":null}`))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		var got, want strictSample
 		err := DecodeStrict(data, &got, "sample")
