@@ -37,8 +37,10 @@ import (
 // ("cells[3].esr_ohm"). A struct type of this package that may be given as a plain JSON
 // string, a Cell (its library id; see Cell.IsReference), is decoded so.
 // Types that implement json.Unmarshaler or encoding.TextUnmarshaler decode
-// themselves, without these checks inside them. Decoding stops at the
-// first problem; v may then hold part of the document.
+// themselves, without these checks inside them; the ",string" tag option
+// is not supported (no capbank type uses it). Decoding stops at the first
+// problem; v may then hold part of the document. An empty root is taken
+// as "document".
 //
 // Use it for every JSON body a user writes (a design file, a cell, a list
 // of cells to import, a saved design), so that all of them obey the same
@@ -49,6 +51,9 @@ import (
 //		return err // a ValidationError: one "field: message" per problem
 //	}
 func DecodeStrict(data []byte, v any, root string) error {
+	if root == "" {
+		root = "document"
+	}
 	rv := reflect.ValueOf(v)
 	if rv.Kind() != reflect.Pointer || rv.IsNil() {
 		return fmt.Errorf("sizing: DecodeStrict needs a non-nil pointer, not %T", v)
