@@ -5,6 +5,13 @@ import (
 	"sync/atomic"
 )
 
+// MaxSeries is the most cells in series capbank sizes in one string. Ten
+// thousand 2.7 V cells make a 27 kV string, beyond any supercapacitor bank
+// built (common practice, no source: the largest known are a few kV);
+// more means a unit slip in window.max_v or a cell's voltage, and the count
+// must still fit an int whatever the input.
+const MaxSeries = 10_000
+
 // SeriesCount returns the fewest cells in series that keep each cell at or
 // below ceilingV (V) when the string sits at maxV (V):
 //
@@ -14,16 +21,21 @@ import (
 // (42.0 V / 2.8 V = 15) counts as that number even when binary rounding
 // makes it 15.000000000000002, so floating-point division never adds a cell.
 // The tolerance is 1e-9 relative, far below any real voltage's precision.
-// It returns 0 when either voltage is not positive and finite.
+// It returns 0 when either voltage is not positive and finite, or when the
+// count would pass MaxSeries (so the conversion to int never overflows).
 func SeriesCount(maxV, ceilingV float64) int {
 	if !(maxV > 0) || !(ceilingV > 0) || math.IsInf(maxV, 0) || math.IsInf(ceilingV, 0) {
 		return 0
 	}
 	q := maxV / ceilingV
-	if n := math.Round(q); n >= 1 && math.Abs(q-n) <= 1e-9*n {
-		return int(n)
+	n := math.Ceil(q)
+	if r := math.Round(q); r >= 1 && math.Abs(q-r) <= 1e-9*r {
+		n = r
 	}
-	return int(math.Ceil(q))
+	if !(n <= MaxSeries) {
+		return 0
+	}
+	return int(n)
 }
 
 // BankCapacitance returns the capacitance, in F, of parallel strings of
@@ -93,11 +105,10 @@ func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
 type bankModel struct {
 	c, r, g float64
 	// Constants of the constant-power solution (see step.go), set by
-	// newBankModel: cpA = −R/(1 + R·g), cpB = 1 + R·g/(1 + R·g),
-	// inv1RG = 1/(1 + R·g).
-	cpA, cpB, inv1RG float64
-	invC             float64 // 1/c, so that steps multiply instead of divide
-	work             int     // steps solved by runtime, for the benchmarks
+	// newBankModel: cpA = −R/(1 + R·g), cpB = 1 + R·g/(1 + R·g).
+	cpA, cpB float64
+	invC     float64 // 1/c, so that steps multiply instead of divide
+	work     int     // steps solved by runtime, for the benchmarks
 	// halt, when set, stops every step at once (see solveStep); nil for
 	// a model that cannot be cancelled.
 	halt *atomic.Bool
@@ -107,5 +118,5 @@ type bankModel struct {
 // resistance r (Ω) and leakage conductance g (S).
 func newBankModel(c, r, g float64) bankModel {
 	k := 1 / (1 + r*g)
-	return bankModel{c: c, r: r, g: g, cpA: -r * k, cpB: 1 + r*g*k, inv1RG: k, invC: 1 / c}
+	return bankModel{c: c, r: r, g: g, cpA: -r * k, cpB: 1 + r*g*k, invC: 1 / c}
 }

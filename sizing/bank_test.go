@@ -29,6 +29,16 @@ func TestSeriesCount(t *testing.T) {
 		{"below one cell", 2.0, 2.7, 1},
 		{"invalid ceiling", 42, 0, 0},
 		{"NaN window", math.NaN(), 2.7, 0},
+		// Issue 14, item 3: a ceiling of 1e-20 V gave −9223372036854775808
+		// (4.2e21 does not fit an int) and 1e-15 V gave 4.2e16 cells; more
+		// than MaxSeries is no count at all (0), which Validate refuses.
+		{"count beyond an int", 42, 1e-20, 0},
+		{"denormal ceiling", 42, 5e-324, 0},
+		{"count beyond MaxSeries", 42, 1e-15, 0},
+		// Hand computed: 27 000 V / 2.7 V = 10 000 cells, the most allowed;
+		// 27 000.27 V needs 10 001.
+		{"exactly MaxSeries", 27000, 2.7, 10000},
+		{"one past MaxSeries", 27000.27, 2.7, 0},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -89,8 +89,8 @@ func BenchmarkStepKinds(b *testing.B) {
 		st   compiledStep
 	}{
 		{"current", compiledStep{kind: kindCurrent, x: 2, dur: 1}},
-		{"power", compiledStep{kind: kindPower, x: 60, inv: 1.0 / 60, dur: 1}},
-		{"charging_power", compiledStep{kind: kindPower, x: -15, inv: -1.0 / 15, dur: 1}},
+		{"power", compiledStep{kind: kindPower, x: 60, dur: 1}},
+		{"charging_power", compiledStep{kind: kindPower, x: -15, dur: 1}},
 		{"resistance", compiledStep{kind: kindResistance, x: 20, dur: 1}},
 		{"rest", compiledStep{kind: kindRest, dur: 1}},
 	} {

@@ -141,7 +141,9 @@ func (s *bucketSink) add(t, u, v, i, temp float64) {
 	p := point{t: t, u: u, v: v, i: i, temp: temp, seq: s.seq}
 	b := 0
 	if s.width > 0 {
-		b = int(t / s.width)
+		// t lies within the pass, so the quotient is at most the bucket
+		// count; the bound only keeps the conversion to int defined.
+		b = int(min(t/s.width, math.MaxInt32))
 	}
 	if s.have && b != s.bucket {
 		s.flush()

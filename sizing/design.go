@@ -14,7 +14,7 @@ type Design struct {
 	// CellMaxV, in V, is the per-cell ceiling the series count is judged
 	// against. nil: each cell's rated voltage. A ceiling above a cell's
 	// rating is not used for that cell (its rating applies, with a flag).
-	CellMaxV *float64 `json:"cell_max_v,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
+	CellMaxV *float64 `json:"cell_max_v,omitempty" validate:"omitempty,finite,gt=0,gte=0.1,lte=1000"`
 	// Load is the load profile the bank must carry.
 	Load Load `json:"load"`
 	// EOL holds the end-of-life factors. nil: the defaults of EOL.
@@ -87,12 +87,14 @@ type Balancing struct {
 	// LeakageSpreadA, in A, is the worst difference in leakage current
 	// between two cells of a string. nil: the cell's leakage_a, as if one
 	// cell leaked nothing and another the datasheet maximum (the worst case).
-	LeakageSpreadA *float64 `json:"leakage_spread_a,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
+	// At least 1 pA (MinLeakageA), or the resistor would be infinite.
+	LeakageSpreadA *float64 `json:"leakage_spread_a,omitempty" validate:"omitempty,finite,gt=0,gte=1e-12,lte=1000"`
 	// Series is the preferred-value series the resistor is rounded down to:
 	// "E12", "E24" (default) or "E96" (IEC 60063).
 	Series string `json:"series,omitempty" validate:"omitempty,oneof=E12 E24 E96"`
 	// QuiescentA, in A, is what an active balancing circuit draws from its
-	// cell; required for kind "active".
+	// cell; required for kind "active". Zero, or at least 1 pA
+	// (MinLeakageA).
 	QuiescentA *float64 `json:"quiescent_a,omitempty" validate:"omitempty,finite,gte=0,lte=10"`
 }
 
@@ -109,6 +111,19 @@ type LifeModel struct {
 	VoltageStepV *float64 `json:"voltage_step_v,omitempty" validate:"omitempty,finite,gte=0.01,lte=10"`
 }
 
+// Floors of the inputs that may be zero but not tiny: a value between zero
+// and the floor is refused by field. Below them a drain's time constant or
+// a constant-power step's 1/(P·(1 + R·g)) passes the largest float64.
+const (
+	// MinPowerW, in W, is the smallest power a step may give other than
+	// zero: a femtowatt, far below any load's draw.
+	MinPowerW = 1e-15
+	// MinLeakageA, in A, is the smallest leakage, leakage spread or
+	// balancing draw other than zero: a picoampere, below any cell's
+	// leakage (the best leak nanoamperes).
+	MinLeakageA = 1e-12
+)
+
 // Defaults of Balancing and LifeModel.
 const (
 	DefaultBalancingMultiple = 10.0
@@ -124,9 +139,13 @@ const (
 // Window is the voltage window at the bank terminals, in V: the bank starts
 // at rest at MaxV (fully charged) and must keep its terminal voltage at or
 // above MinV (the converter's cut-off) through the whole profile.
+//
+// Both are at least 1 mV: no converter works from less, and the floor
+// bounds the current a power load draws at the window bottom
+// (10⁹ W / 1 mV = 10¹² A), so every figure stays a finite number.
 type Window struct {
-	MaxV float64 `json:"max_v" validate:"finite,gt=0,lte=100000"`
-	MinV float64 `json:"min_v" validate:"finite,gt=0,lte=100000"`
+	MaxV float64 `json:"max_v" validate:"finite,gt=0,gte=0.001,lte=100000"`
+	MinV float64 `json:"min_v" validate:"finite,gt=0,gte=0.001,lte=100000"`
 }
 
 // Load is a load profile: ordered steps, run Repeat times back to back.
@@ -137,7 +156,9 @@ type Load struct {
 	// |power_w| × efficiency into it, since the converter loses energy both
 	// ways. nil: 1, meaning power_w is already given at the bank terminals.
 	// Current and resistance steps are at the bank terminals and ignore it.
-	Efficiency *float64 `json:"efficiency,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// At least 0.01: no converter runs at under 1 %, and P/η must stay a
+	// finite number.
+	Efficiency *float64 `json:"efficiency,omitempty" validate:"omitempty,finite,gt=0,gte=0.01,lte=1"`
 	// Repeat is how many times the steps run in the sizing check. nil: 1.
 	Repeat *int `json:"repeat,omitempty" validate:"omitempty,gte=1,lte=1000000"`
 	// Steps are the profile's steps in order.
@@ -148,7 +169,9 @@ type Load struct {
 // ResistanceOhm or Rest, held for DurationS. A negative PowerW or CurrentA is
 // energy flowing into the bank (a charger, regenerative braking).
 type Step struct {
-	// PowerW, in W, is a constant power at the converter output.
+	// PowerW, in W, is a constant power at the converter output. Zero is
+	// a rest; a power of less than 1e-15 W (a femtowatt) either way is
+	// refused (see MinPowerW).
 	PowerW *float64 `json:"power_w,omitempty" validate:"omitempty,finite,gte=-1e9,lte=1e9"`
 	// CurrentA, in A, is a constant current at the bank terminals.
 	CurrentA *float64 `json:"current_a,omitempty" validate:"omitempty,finite,gte=-1e6,lte=1e6"`
@@ -156,16 +179,19 @@ type Step struct {
 	ResistanceOhm *float64 `json:"resistance_ohm,omitempty" validate:"omitempty,finite,gt=0,lte=1e12"`
 	// Rest means no load: only the bank's own drains act.
 	Rest bool `json:"rest,omitempty"`
-	// DurationS, in s, is how long the step lasts.
-	DurationS float64 `json:"duration_s" validate:"finite,gt=0,lte=1e9"`
+	// DurationS, in s, is how long the step lasts: at least 1 ns, below
+	// which a cell is an inductance and a transmission line, not the
+	// capacitor behind a resistance that capbank models.
+	DurationS float64 `json:"duration_s" validate:"finite,gt=0,gte=1e-9,lte=1e9"`
 }
 
 // EOL holds the end-of-life factors applied to every cell for the worst case.
 type EOL struct {
 	// CapacitanceFactor multiplies the rated capacitance. nil: 0.8, the
 	// usual end-of-life criterion of 80 % of the initial capacitance
-	// (REFERENCES.md 4.4; common practice in supplier literature).
-	CapacitanceFactor *float64 `json:"capacitance_factor,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// (REFERENCES.md 4.4; common practice in supplier literature). At least
+	// 0.1: a cell that has lost 90 % is far past any end-of-life criterion.
+	CapacitanceFactor *float64 `json:"capacitance_factor,omitempty" validate:"omitempty,finite,gt=0,gte=0.1,lte=1"`
 	// ESRFactor multiplies the rated ESR. nil: 2.0, the usual end-of-life
 	// criterion of 200 % of the initial ESR (REFERENCES.md 4.4; common
 	// practice in supplier literature).
@@ -189,22 +215,28 @@ type Cell struct {
 	// Notes is free text: a measured cell's test summary, a datasheet's
 	// revision.
 	Notes string `json:"notes,omitempty" validate:"max=2000"`
-	// RatedV, in V, is the rated (continuous) cell voltage.
-	RatedV float64 `json:"rated_v" validate:"finite,gt=0,lte=1000"`
+	// RatedV, in V, is the rated (continuous) cell voltage: at least 0.1 V,
+	// below any supercapacitor chemistry (aqueous cells rate about 1 V).
+	RatedV float64 `json:"rated_v" validate:"finite,gt=0,gte=0.1,lte=1000"`
 	// SurgeV, in V, is the surge voltage; at least RatedV.
-	SurgeV *float64 `json:"surge_v,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
-	// CapacitanceF, in F, is the rated capacitance.
-	CapacitanceF float64 `json:"capacitance_f" validate:"finite,gt=0,lte=1e6"`
+	SurgeV *float64 `json:"surge_v,omitempty" validate:"omitempty,finite,gt=0,gte=0.1,lte=1000"`
+	// CapacitanceF, in F, is the rated capacitance: at least 1 µF, a
+	// thousandth of the smallest supercapacitor cells.
+	CapacitanceF float64 `json:"capacitance_f" validate:"finite,gt=0,gte=1e-6,lte=1e6"`
 	// CapacitanceTolerancePct is [minus, plus] in percent, e.g. [-10, 20].
 	CapacitanceTolerancePct []float64 `json:"capacitance_tolerance_pct,omitempty" validate:"omitempty,len=2,dive,finite"`
-	// ESROhm, in Ω, is the rated DC ESR (the datasheet maximum).
-	ESROhm float64 `json:"esr_ohm" validate:"finite,gt=0,lte=10000"`
+	// ESROhm, in Ω, is the rated DC ESR (the datasheet maximum): at least
+	// 1 µΩ, a hundredth of the lowest-ESR cells made. The floor keeps the
+	// bank's short-circuit current max_v/R finite (10⁵ V over
+	// 1 µΩ/10⁴ strings is 10¹⁵ A).
+	ESROhm float64 `json:"esr_ohm" validate:"finite,gt=0,gte=1e-6,lte=10000"`
 	// ColdESRFactor is the ESR at ColdESRTempC divided by the ESR at 25 °C.
 	ColdESRFactor *float64 `json:"cold_esr_factor,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
 	// ColdESRTempC, in °C, is where ColdESRFactor was measured; below 25 °C.
 	ColdESRTempC *float64 `json:"cold_esr_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lt=25"`
 	// LeakageA, in A, is the leakage current at rated voltage. It is modelled
-	// as a resistance RatedV/LeakageA across the capacitor.
+	// as a resistance RatedV/LeakageA across the capacitor. Zero, or at
+	// least 1 pA (see MinLeakageA).
 	LeakageA *float64 `json:"leakage_a,omitempty" validate:"omitempty,finite,gte=0,lte=1000"`
 	// MaxCurrentA, in A, is the maximum continuous current, checked against
 	// the cell's RMS current over the sizing pass (it is a heating limit).
@@ -238,6 +270,11 @@ type Cell struct {
 	// fire check (the usual and the more cautious case), with a flag.
 	Electrolyte string `json:"electrolyte,omitempty" validate:"omitempty,oneof=organic aqueous ionic-liquid hybrid"`
 }
+
+// setReference makes c a reference to the library cell id, as a design
+// file gives it ("cells": ["id"]); DecodeStrict calls it for a string
+// where a cell is expected.
+func (c *Cell) setReference(id string) { *c = Cell{ID: id, libraryRef: true} }
 
 // IsReference reports whether the cell is only an id naming a cell of a
 // library (the design file gave "cells": ["id"]), not yet resolved.

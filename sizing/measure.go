@@ -162,14 +162,15 @@ type TimedDischarge struct {
 // result says so in a note).
 //
 // Errors (a ValidationError) name the input: v0_v, v1_v, duration_s or
-// resistor_ohm, for a value that is not finite, not positive, or a v1_v not
-// below v0_v.
+// resistor_ohm, for a value that is not finite, not positive, outside its
+// bench range (1 µV–100 kV, 1 µs–10⁹ s, 1 µΩ–1 TΩ), or a v1_v not below
+// v0_v.
 func TimedResistorDischarge(v0V, v1V, seconds, resistorOhm float64) (TimedDischarge, error) {
 	var c measureChecks
-	c.positive("v0_v", v0V, "V")
-	c.positive("v1_v", v1V, "V")
-	c.positive("duration_s", seconds, "s")
-	c.positive("resistor_ohm", resistorOhm, "Ω")
+	c.positive("v0_v", v0V, benchVolts)
+	c.positive("v1_v", v1V, benchVolts)
+	c.positive("duration_s", seconds, benchSeconds)
+	c.positive("resistor_ohm", resistorOhm, benchOhms)
 	if measureFinite(v0V) && measureFinite(v1V) && v0V > 0 && v1V >= v0V {
 		c.add("v1_v", "below_v0", "must be below the start voltage v0_v (%g V ≥ %g V): the cell discharges from v0_v down to v1_v", v1V, v0V)
 	}
@@ -294,9 +295,9 @@ type ConstantCurrentResult struct {
 // voltages) or has fewer than 3 samples between them.
 func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *float64, opts *DischargeOptions) (ConstantCurrentResult, error) {
 	var c measureChecks
-	c.positive("rated_v", ratedV, "V")
+	c.positive("rated_v", ratedV, benchVolts)
 	if currentA != nil {
-		c.positive("current_a", *currentA, "A")
+		c.positive("current_a", *currentA, benchAmps)
 	}
 	startS := measureStart(opts)
 	if startS != nil && !measureFinite(*startS) {
@@ -594,7 +595,7 @@ type ResistorDischargeResult struct {
 // log's bad sample, or log when it has no decay to fit.
 func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *DischargeOptions) (ResistorDischargeResult, error) {
 	var c measureChecks
-	c.positive("resistor_ohm", resistorOhm, "Ω")
+	c.positive("resistor_ohm", resistorOhm, benchOhms)
 	startS := measureStart(opts)
 	if startS != nil && !measureFinite(*startS) {
 		c.add("start_s", "finite", "must be a finite number")
@@ -837,7 +838,7 @@ type HoldResult struct {
 // around it), the log's bad sample, or log.
 func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResult, error) {
 	var c measureChecks
-	c.positive("capacitance_f", capacitanceF, "F")
+	c.positive("capacitance_f", capacitanceF, benchFarads)
 	for i, at := range atS {
 		if !measureFinite(at) {
 			c.add(fmt.Sprintf("at_s[%d]", i), "finite", "must be a finite number")
@@ -970,15 +971,16 @@ type SymmetricCellResult struct {
 //
 // nil mass or area leaves that figure nil. Errors (a ValidationError) name
 // capacitance_f, electrode_mass_g or electrode_area_cm2 when one is not
-// finite and positive.
+// finite and positive, or outside its bench range (1 µF–1 MF, 1 µg–1 t,
+// 10⁻⁶–10⁶ cm²).
 func SymmetricCell(cellF float64, electrodeMassG, electrodeAreaCm2 *float64) (SymmetricCellResult, error) {
 	var c measureChecks
-	c.positive("capacitance_f", cellF, "F")
+	c.positive("capacitance_f", cellF, benchFarads)
 	if electrodeMassG != nil {
-		c.positive("electrode_mass_g", *electrodeMassG, "g")
+		c.positive("electrode_mass_g", *electrodeMassG, benchGrams)
 	}
 	if electrodeAreaCm2 != nil {
-		c.positive("electrode_area_cm2", *electrodeAreaCm2, "cm²")
+		c.positive("electrode_area_cm2", *electrodeAreaCm2, benchCm2)
 	}
 	if err := c.err(); err != nil {
 		return SymmetricCellResult{}, err
@@ -1282,12 +1284,38 @@ func (c *measureChecks) add(field, rule, format string, a ...any) {
 	c.errs = append(c.errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
 }
 
-func (c *measureChecks) positive(field string, x float64, unit string) {
+// benchRange is the range of a measurement input: wider than any bench
+// test of a supercapacitor cell or bank reaches, narrow enough that no
+// figure worked out from the inputs overflows (the timed method's V0/V1
+// stays within 10¹¹, its capacitance within 10³¹ F). A value outside is a
+// slip of unit or a typo (1e-320 for 1e-3), refused by its field.
+type benchRange struct {
+	lo, hi float64
+	unit   string
+}
+
+var (
+	benchVolts   = benchRange{1e-6, 1e5, "V"}   // a logger's microvolt to the design window's 100 kV
+	benchSeconds = benchRange{1e-6, 1e9, "s"}   // a microsecond to 30 years
+	benchOhms    = benchRange{1e-6, 1e12, "Ω"}  // a busbar's microohm to an insulation tester's teraohm
+	benchAmps    = benchRange{1e-9, 1e6, "A"}   // a nanoampere to a megaampere
+	benchFarads  = benchRange{1e-6, 1e6, "F"}   // the design's range of cell capacitance
+	benchGrams   = benchRange{1e-6, 1e6, "g"}   // a microgram of electrode to a tonne
+	benchCm2     = benchRange{1e-6, 1e6, "cm²"} // a hundredth of a square millimetre to 100 m²
+)
+
+// positive checks that x is a finite number greater than zero, within the
+// bench range r.
+func (c *measureChecks) positive(field string, x float64, r benchRange) {
 	switch {
 	case !measureFinite(x):
 		c.add(field, "finite", "must be a finite number (got %g)", x)
 	case !(x > 0):
-		c.add(field, "gt", "must be greater than 0 %s (got %g)", unit, x)
+		c.add(field, "gt", "must be greater than 0 %s (got %g)", r.unit, x)
+	case x < r.lo:
+		c.add(field, "range", "is %g %s, below %g %s, less than any bench test measures; check the value and its unit", x, r.unit, r.lo, r.unit)
+	case x > r.hi:
+		c.add(field, "range", "is %g %s, above %g %s, more than any bench test measures; check the value and its unit", x, r.unit, r.hi, r.unit)
 	}
 }
 

@@ -141,8 +141,14 @@ func TestTimedResistorDischargeErrors(t *testing.T) {
 		{"negative resistor", 1.5, 0.5, 68, -1, "resistor_ohm", "gt"},
 		{"NaN time", 1.5, 0.5, math.NaN(), 1000, "duration_s", "finite"},
 		{"infinite v0", math.Inf(1), 0.5, 68, 1000, "v0_v", "finite"},
-		// 1e-310 Ω: C = 68/(1e-310·ln 3) = 6e311 F overflows.
-		{"overflow", 1.5, 0.5, 68, 1e-310, "inputs", "overflow"},
+		// Issue 14, item 9: outside the bench ranges, each input is refused
+		// by its own field (1e-310 Ω once overflowed C = 68/(1e-310·ln 3)
+		// and was named only as "inputs"; v1 = 1e-320 V gave V0/V1 = +Inf).
+		{"denormal resistor", 1.5, 0.5, 68, 1e-310, "resistor_ohm", "range"},
+		{"denormal v1", 1.5, 1e-320, 68, 1000, "v1_v", "range"},
+		{"huge v0", 1e300, 0.5, 68, 1000, "v0_v", "range"},
+		{"femtosecond", 1.5, 0.5, 1e-15, 1000, "duration_s", "range"},
+		{"huge resistor", 1.5, 0.5, 68, 1e300, "resistor_ohm", "range"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -776,6 +782,10 @@ func TestSymmetricCell(t *testing.T) {
 	_, err = SymmetricCell(0.25, measurePtr(-1), nil)
 	if field, _, _ := measureFieldOf(t, err); field != "electrode_mass_g" {
 		t.Errorf("field %s, want electrode_mass_g", field)
+	}
+	_, err = SymmetricCell(0.25, measurePtr(5e-324), nil)
+	if field, rule, _ := measureFieldOf(t, err); field != "electrode_mass_g" || rule != "range" {
+		t.Errorf("denormal mass: field %s (%s), want electrode_mass_g (range)", field, rule)
 	}
 	_, err = SymmetricCell(math.Inf(1), nil, nil)
 	if field, rule, _ := measureFieldOf(t, err); field != "capacitance_f" || rule != "finite" {

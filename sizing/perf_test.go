@@ -140,13 +140,13 @@ func TestParallelSizingMatchesSerial(t *testing.T) {
 func mixedSteps() []compiledStep {
 	return []compiledStep{
 		{kind: kindCurrent, x: 2, dur: 1},
-		{kind: kindPower, x: 60, inv: 1.0 / 60, dur: 1},
+		{kind: kindPower, x: 60, dur: 1},
 		{kind: kindResistance, x: 20, dur: 2},
 		{kind: kindRest, dur: 5},
-		{kind: kindPower, x: -15, inv: -1.0 / 15, dur: 3},
+		{kind: kindPower, x: -15, dur: 3},
 		{kind: kindCurrent, x: -1, dur: 2},
-		{kind: kindPower, x: 400, inv: 1.0 / 400, dur: 0.5},
-		{kind: kindPower, x: -200, inv: -1.0 / 200, dur: 30}, // reaches the top and is held
+		{kind: kindPower, x: 400, dur: 0.5},
+		{kind: kindPower, x: -200, dur: 30}, // reaches the top and is held
 	}
 }
 

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"reflect"
 	"runtime"
 	"sort"
 	"strings"
@@ -75,10 +76,8 @@ func compileSteps(steps []Step, eff float64) []compiledStep {
 		switch {
 		case s.PowerW != nil && *s.PowerW > 0:
 			c.kind, c.x = kindPower, *s.PowerW/eff
-			c.inv = 1 / c.x
 		case s.PowerW != nil && *s.PowerW < 0:
 			c.kind, c.x = kindPower, *s.PowerW*eff
-			c.inv = 1 / c.x
 		case s.CurrentA != nil && *s.CurrentA != 0:
 			c.kind, c.x = kindCurrent, *s.CurrentA
 		case s.ResistanceOhm != nil:
@@ -765,42 +764,70 @@ func rank(c []Candidate, by string) {
 	})
 }
 
-// ErrNotFinite reports a figure that came out NaN or Inf: a bug in capbank,
-// never passed on as a number.
+// ErrNotFinite reports a figure that came out NaN or Inf. Validate refuses
+// every input that could give one (FuzzDesign holds it to that), so it
+// means an extreme input capbank does not yet check; it is never passed on
+// as a number.
 var ErrNotFinite = errors.New("sizing: a computed figure is not finite")
 
+// checkFinite walks every number of the report, by reflection so that a
+// figure added later is covered too, and returns ErrNotFinite naming the
+// first that is NaN or infinite, by its JSON path and its cell.
 func checkFinite(r *Report) error {
-	bad := func(name string, xs ...float64) error {
-		for _, x := range xs {
-			if !finite(x) {
-				return fmt.Errorf("%w (%s); please report this design", ErrNotFinite, name)
-			}
-		}
-		return nil
+	fail := func(where string) error {
+		return fmt.Errorf("%w (%s); look for an extreme value in the design", ErrNotFinite, where)
 	}
 	for i := range r.Candidates {
-		c := &r.Candidates[i]
-		opt := func(p *float64) float64 {
-			if p == nil {
-				return 0
-			}
-			return *p
-		}
-		if err := bad(c.CellID, c.CellCeilingV, c.CellV, c.CapacitanceF, c.ESROhm, c.WorstCapacitanceF, c.WorstESROhm,
-			c.ColdESRFactor, opt(c.LeakageOhm), c.StoredEnergyJ, c.UsableEnergyJ, opt(c.RuntimeS), c.MinTerminalV,
-			c.EndCapacitorV, c.PeakCurrentA, c.RMSCurrentA, c.CellPeakCurrentA, c.CellRMSCurrentA, c.DeliveredEnergyJ,
-			c.ESRLossJ, c.LeakageLossJ, c.RejectedEnergyJ, opt(c.TotalPrice), opt(c.MassKg), opt(c.VolumeL)); err != nil {
-			return err
+		if path, bad := nonFinite(reflect.ValueOf(&r.Candidates[i]), fmt.Sprintf("candidates[%d]", i)); bad {
+			return fail(fmt.Sprintf("cell %q: %s", r.Candidates[i].CellID, path))
 		}
 	}
-	if r.Curve != nil {
-		for _, s := range [][]float64{r.Curve.TimeS, r.Curve.TerminalV, r.Curve.CapacitorV, r.Curve.CurrentA} {
-			if err := bad("curve", s...); err != nil {
-				return err
-			}
-		}
+	rest := *r
+	rest.Candidates = nil
+	if path, bad := nonFinite(reflect.ValueOf(&rest), ""); bad {
+		return fail(path)
 	}
 	return nil
+}
+
+// nonFinite returns the JSON path, below path, of the first NaN or
+// infinite float64 in v.
+func nonFinite(v reflect.Value, path string) (string, bool) {
+	switch v.Kind() {
+	case reflect.Float64:
+		if !finite(v.Float()) {
+			return path, true
+		}
+	case reflect.Pointer, reflect.Interface:
+		if !v.IsNil() {
+			return nonFinite(v.Elem(), path)
+		}
+	case reflect.Slice, reflect.Array:
+		for i := range v.Len() {
+			if p, bad := nonFinite(v.Index(i), fmt.Sprintf("%s[%d]", path, i)); bad {
+				return p, true
+			}
+		}
+	case reflect.Struct:
+		t := v.Type()
+		for i := range v.NumField() {
+			f := t.Field(i)
+			if !f.IsExported() {
+				continue
+			}
+			name, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+			if name == "" || name == "-" {
+				name = f.Name
+			}
+			if path != "" {
+				name = path + "." + name
+			}
+			if p, bad := nonFinite(v.Field(i), name); bad {
+				return p, true
+			}
+		}
+	}
+	return "", false
 }
 
 // fillSafety writes the hazard figures, the string's voltage spread and
@@ -942,9 +969,14 @@ func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankMo
 		temp = cand.Thermal.HotSpotC
 	}
 	hours := ExpectedLife(*c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, temp, cand.CellV, tStep, vStep)
-	life := &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears}
-	cand.Life = life
-	if p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
+	if !(hours <= MaxLifeYears*hoursPerYear) {
+		cand.Flags = append(cand.Flags, Flag{Code: "life-beyond-rules", Severity: Info, Message: fmt.Sprintf(
+			"At %.3g V per cell and %.1f °C the life rules of thumb (×2 per %g K cooler and per %g V lower than rated %g h at %g °C and %g V; REFERENCES.md 4.1–4.3) give more than %g years, far outside the range they are fitted on: neither voltage nor temperature limits this bank's life, and capbank gives no figure.",
+			cand.CellV, temp, tStep, vStep, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, MaxLifeYears)})
+	} else {
+		cand.Life = &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears}
+	}
+	if life := cand.Life; life != nil && p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
 		cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
 			"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower; REFERENCES.md 4.1–4.3, common practice). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (4.4).",
 			life.ExpectedYears, temp, cand.CellV, *p.d.LifeYears, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, tStep, vStep)})

@@ -398,3 +398,42 @@ func TestCandidateCurve(t *testing.T) {
 		t.Errorf("curve of an unknown cell")
 	}
 }
+
+// TestSizePicowattLoadOnAHighVoltageBank is issue 14, item 5: a 5000 V to
+// 24 V window, one step of 1e-12 W for 10 s and a 3.0 V 500 F cell with
+// passive balancing was refused as "a computed figure is not finite". The
+// load is negligible, so the runtime is the drain's alone: with the
+// leakage and balancing resistor per cell as a conductance g_cell across
+// the worst-case cell capacitance C_w, the bank falls as
+// v = max_v·e^(−t·g_cell/C_w) (the same for any string count), and the
+// terminal (v less a current of 2e-16 A through the ESR) reaches min_v at
+//
+//	t = (C_w/g_cell)·ln(max_v/min_v)
+//
+// (own arithmetic from REFERENCES.md 3.6). The load's 1e-12 W × 1200 s
+// moves it by ~1e-16 of the 3 MJ the bank holds, far inside the tolerance.
+func TestSizePicowattLoadOnAHighVoltageBank(t *testing.T) {
+	t.Parallel()
+	d := &Design{Name: "issue 14 item 5", Window: Window{MaxV: 5000, MinV: 24},
+		Load:  Load{Steps: []Step{{PowerW: fp(1e-12), DurationS: 10}}},
+		Cells: []Cell{{ID: "c500", RatedV: 3.0, CapacitanceF: 500, ESROhm: 0.01, LeakageA: fp(0.001)}}}
+	c := mustSize(t, d).Candidates[0]
+	if !c.Feasible || c.Series != 1667 || c.Parallel != 1 {
+		t.Fatalf("%d s × %d p, feasible %v (%s); want 1667 s × 1 p (⌈5000/3⌉, one string carries 1e-12 W)",
+			c.Series, c.Parallel, c.Feasible, c.Reason)
+	}
+	if c.Balancing == nil || c.Balancing.ResistorOhm == nil || c.RuntimeS == nil {
+		t.Fatalf("balancing %+v, runtime %v; want a passive resistor and a runtime", c.Balancing, c.RuntimeS)
+	}
+	gCell := 0.001/3.0 + 1 / *c.Balancing.ResistorOhm // leakage at rated voltage as a resistance, and the resistor
+	cw := 500 * DefaultEOLCapacitanceFactor
+	want := cw / gCell * math.Log(5000.0/24)
+	if math.Abs(*c.RuntimeS-want) > 1e-9*want {
+		t.Errorf("runtime %.12g s, want (C_w/g_cell)·ln(max_v/min_v) = %.12g s", *c.RuntimeS, want)
+	}
+	// RMS current ≈ P/v ≈ 1e-12/4900 A, between the figures at the ends of
+	// the pass (the terminal voltage falls from 5000 V).
+	if !(c.RMSCurrentA >= 1e-12/5000 && c.RMSCurrentA <= 1e-12/c.MinTerminalV*(1+1e-12)) {
+		t.Errorf("RMS current %g A, want within [P/5000 V, P/%g V]", c.RMSCurrentA, c.MinTerminalV)
+	}
+}

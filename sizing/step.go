@@ -48,7 +48,6 @@ func (k stepKind) String() string {
 type compiledStep struct {
 	kind stepKind
 	x    float64
-	inv  float64 // 1/x for power steps
 	dur  float64
 }
 
@@ -100,7 +99,7 @@ func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64, o *stepOu
 	case kindCurrent:
 		m.currentStep(st.x, st.dur, v0, minV, maxV, o)
 	case kindPower:
-		m.powerStep(st.x, st.inv, st.dur, v0, minV, maxV, o)
+		m.powerStep(st.x, st.dur, v0, minV, maxV, o)
 	case kindResistance:
 		m.resistorStep(st.x, st.dur, v0, minV, o)
 	default:
@@ -246,7 +245,7 @@ func (m *bankModel) restStep(dur, v0, minV float64, o *stepOutcome) {
 }
 
 // powerStep: constant power p (W) at the bank terminals; p < 0 charges.
-func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutcome) {
+func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64, o *stepOutcome) {
 	if p == 0 {
 		m.restStep(dur, v0, minV, o)
 		return
@@ -276,7 +275,7 @@ func (m *bankModel) powerStep(p, invP, dur, v0, minV, maxV float64, o *stepOutco
 	a := p * (1 + r*g)
 	iden0 := 1 / (a + g*u0*u0)
 	cp := cpSolution{c: c, invC: m.invC, pr: pr, g: g, u0: u0, iu0: iu0, iden0: iden0, gIden0: g * iden0,
-		a: a, A: m.cpA, B: m.cpB, invA: invP * m.inv1RG}
+		a: a, A: m.cpA, B: m.cpB}
 
 	if p > 0 {
 		uStop, why := minV, stopVoltage
@@ -358,43 +357,36 @@ func abs(x float64) float64 {
 	return x
 }
 
-// cpSolution holds the constants of one constant-power step's closed form,
-// and the logarithms of the last t(u) evaluated, for ∫i² dt.
+// cpSolution holds the constants of one constant-power step's closed form.
 type cpSolution struct {
 	c, pr, g, u0 float64
 	a, A, B      float64
-	invA         float64 // 1/a
 	invC         float64 // 1/c
 	iu0          float64 // 1/u0
 	iden0        float64 // 1/(a + g·u0²)
 	gIden0       float64 // g/(a + g·u0²)
-	lastU        float64 // u of the last time evaluation
-	lnRatio      float64 // ln(u0/lastU)
-	yLy          float64 // ln((a + g·u0²)/(a + g·lastU²))
 }
 
-// time returns t(u) for the step and keeps the two logarithms it used.
+// time returns t(u) for the step.
 func (cp *cpSolution) time(u float64) float64 {
-	cp.lastU = u
-	lnRatio, yLy, yLyOverG := cp.logs(u)
-	cp.lnRatio, cp.yLy = lnRatio, yLy
+	lnRatio, yLyOverG := cp.logs(u)
 	return cp.c * (cp.A*lnRatio + cp.B*0.5*yLyOverG)
 }
 
-// logs returns ln(u0/u), ln((a + g·u0²)/(a + g·u²)) and that second
-// logarithm divided by g (for g = 0, its limit), by way of ratios to the
-// step's start, which need no division:
+// logs returns ln(u0/u) and ln((a + g·u0²)/(a + g·u²)) divided by g (for
+// g = 0, its limit), by way of ratios to the step's start, which need no
+// division:
 //
 //	ln(u0/u) = −ln(1 − (u0 − u)/u0)
 //	ln((a + g·u0²)/(a + g·u²)) = −ln(1 − y) = y·L(−y),  y = g·(u0² − u²)/(a + g·u0²)
 //
 // with L(x) = ln(1 + x)/x, so that B/(2g)·ln(…) = B·(u0² − u²)/(2·(a + g·u0²))·L(−y).
-func (cp *cpSolution) logs(u float64) (lnRatio, yLy, yLyOverG float64) {
+func (cp *cpSolution) logs(u float64) (lnRatio, yLyOverG float64) {
 	du := cp.u0 - u
 	lnRatio = -log1p(-du * cp.iu0)
 	dw := du * (cp.u0 + u) // u0² − u², without cancellation
 	ly := log1pOverX(-dw * cp.gIden0)
-	return lnRatio, dw * cp.gIden0 * ly, dw * cp.iden0 * ly
+	return lnRatio, dw * cp.iden0 * ly
 }
 
 // rate returns du/dt = −u·(a + g·u²)/(C·(u² − PR)) and its derivative in u,
@@ -487,30 +479,20 @@ func (cp *cpSolution) finish(o *stepOutcome, p, u1, t float64) {
 //
 // with w = u², β = −PR/a and α = B/a (partial fractions of
 // (w − PR)/(w²·(a + g·w)); capbank's own derivation, checked against
-// numerical quadrature in the tests). The logarithms are those of the last
-// t(u) evaluated, moved to u1 when it is that close (the last correction
-// of Newton's method), else taken at u1 (see logs). iu1 is 1/u1.
+// numerical quadrature in the tests). The two logarithms are taken as one,
+//
+//	α·(ln(w0/w1) − ln((a + g·w0)/(a + g·w1))) = α·ln(1 + x) = B·Δw/(w1·(a + g·w0))·L(x),
+//	x = a·Δw/(w1·(a + g·w0)),  Δw = w0 − w1,  L(x) = ln(1 + x)/x,
+//
+// so that no 1/a appears: where the drain outweighs the load (g·w ≫ a,
+// a picowatt on a kilovolt bank) the two logarithms agree to every digit
+// and α = B/a is huge, and their difference times α was rounding noise,
+// even negative (issue 14). iu1 is 1/u1.
+//
+//	∫ i² dt = (C·P²/2)·(Δw/w1)·(B·L(x)/(a + g·w0) + A/w0),  A = β
 func (cp *cpSolution) integralI2(p, u1, iu1 float64) float64 {
-	lnRatio, yLy := cp.lnRatio, cp.yLy
-	if u := cp.lastU; u1 != u {
-		if abs(u-u1) > 1e-6*abs(cp.u0-u1) {
-			lnRatio, yLy, _ = cp.logs(u1)
-		} else {
-			// Move both logarithms from u to u1, a correction at most 1e-6
-			// of the step: ln(u/u1) = x − x²/2, x = (u − u1)/u1, and
-			// ln((a + g·u²)/(a + g·u1²)) = z + z²/2, z = g·(u² − u1²)/(a + g·u²).
-			// The logarithms are at least 10⁶ times x and z (|x| < 10⁻⁶), so
-			// the terms left out, x³/3 and z³/3, are below x²/(3·10⁶) < 4e-19
-			// of them.
-			x := (u - u1) * iu1
-			lnRatio += x - 0.5*x*x
-			z := cp.g * (u - u1) * (u + u1) / (cp.a + cp.g*u*u)
-			yLy += z + 0.5*z*z
-		}
-	}
 	dw := (cp.u0 - u1) * (cp.u0 + u1)
-	alpha := cp.B * cp.invA
-	beta := cp.A       // −PR/a
-	iw := cp.iu0 * iu1 // 1/(u0·u1)
-	return cp.c * p * p / 2 * (alpha*(2*lnRatio-yLy) + beta*dw*iw*iw)
+	iw1 := iu1 * iu1
+	x := cp.a * dw * cp.iden0 * iw1
+	return cp.c * p * p / 2 * dw * iw1 * (cp.B*cp.iden0*log1pOverX(x) + cp.A*cp.iu0*cp.iu0)
 }

@@ -5,8 +5,11 @@ import (
 	"math"
 	"reflect"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/go-playground/validator/v10"
 )
@@ -209,6 +212,10 @@ func physicsRules(d *Design) ValidationError {
 			add(fmt.Sprintf("load.steps[%d]", i), "one_kind",
 				"must give exactly one of power_w, current_a, resistance_ohm or rest (found %d)", n)
 		}
+		if s.PowerW != nil && *s.PowerW != 0 && math.Abs(*s.PowerW) < MinPowerW {
+			add(fmt.Sprintf("load.steps[%d].power_w", i), "min_power",
+				"is %g W, below %g W (a femtowatt) in size, less than any load draws; give 0 or a rest step for no load, or check the unit (W)", *s.PowerW, MinPowerW)
+		}
 	}
 	if d.Load.Repeat != nil && *d.Load.Repeat > 0 && *d.Load.Repeat <= 1_000_000 && len(d.Load.Steps)*(*d.Load.Repeat) > MaxPassSteps {
 		add("load.repeat", "pass_steps",
@@ -219,6 +226,10 @@ func physicsRules(d *Design) ValidationError {
 		add("balancing.quiescent_a", "required_active",
 			"is required for active balancing: give the current each balancing circuit draws from its cell, in A")
 	}
+	if b := d.Balancing; b != nil && b.QuiescentA != nil && tinyCurrent(*b.QuiescentA) {
+		add("balancing.quiescent_a", "min_current", "is %g A, below %g A (a picoampere); give 0 for none, or check the unit (A)", *b.QuiescentA, MinLeakageA)
+	}
+	ceilingReported := false
 	ids := map[string]int{}
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)
@@ -234,9 +245,46 @@ func physicsRules(d *Design) ValidationError {
 			}
 		}
 		errs = append(errs, cellRules(&c, p)...)
+		if key, ceiling, ok := seriesTooMany(d, &c); ok && !(key == "cell_max_v" && ceilingReported) {
+			field := p + "." + key
+			if key == "cell_max_v" {
+				field, ceilingReported = key, true
+			}
+			add(field, "series_count",
+				"needs %s cells in series to hold window.max_v (%g V) at %g V per cell, more than %d; check window.max_v and %s",
+				countWords(w.MaxV/ceiling), w.MaxV, ceiling, MaxSeries, key)
+		}
 	}
 	return errs
 }
+
+// seriesTooMany reports whether cell c needs more than MaxSeries cells in
+// series to hold the window top, with the key that sets its ceiling
+// (rated_v, or the design's cell_max_v when that is lower) and the
+// ceiling (V). Values that break their own range are left to it.
+func seriesTooMany(d *Design, c *Cell) (string, float64, bool) {
+	maxV, ceiling, field := d.Window.MaxV, c.RatedV, "rated_v"
+	if d.CellMaxV != nil && *d.CellMaxV <= c.RatedV {
+		ceiling, field = *d.CellMaxV, "cell_max_v"
+	}
+	if !finite(maxV) || !finite(ceiling) || !(maxV >= 0.001) || !(ceiling >= 0.1) || SeriesCount(maxV, ceiling) != 0 {
+		return "", 0, false
+	}
+	return field, ceiling, true
+}
+
+// countWords writes a count of cells: whole below a million, else in
+// powers of ten.
+func countWords(q float64) string {
+	if n := math.Ceil(q); n < 1e6 {
+		return fmt.Sprintf("%.0f", n)
+	}
+	return fmt.Sprintf("%.3g", q)
+}
+
+// tinyCurrent reports whether x, a leakage or a balancing draw in A, lies
+// between zero and MinLeakageA.
+func tinyCurrent(x float64) bool { return x > 0 && x < MinLeakageA }
 
 // cellRules are the cross-field rules of one cell whose fields sit under
 // path p ("cells[2]", or "" for a cell on its own).
@@ -247,6 +295,9 @@ func cellRules(c *Cell, p string) ValidationError {
 			field = p + "." + field
 		}
 		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+	}
+	if rule, msg := idProblem(c.ID); msg != "" {
+		add("id", rule, "%s", msg)
 	}
 	if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
 		add("surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
@@ -275,6 +326,9 @@ func cellRules(c *Cell, p string) ValidationError {
 	if (c.RatedLifeH == nil) != (c.RatedLifeTempC == nil) {
 		add("rated_life_temp_c", "life_pair", "rated_life_h and rated_life_temp_c go together: give both or neither")
 	}
+	if c.LeakageA != nil && tinyCurrent(*c.LeakageA) {
+		add("leakage_a", "min_current", "is %g A, below %g A (a picoampere), less than any cell leaks; give 0 for none, or check the unit (A)", *c.LeakageA, MinLeakageA)
+	}
 	if c.LeakageA != nil && finite(*c.LeakageA) && finite(c.RatedV) && finite(c.CapacitanceF) && *c.LeakageA > 0 &&
 		c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
 		add("leakage_a", "leakage_plausible",
@@ -282,6 +336,37 @@ func cellRules(c *Cell, p string) ValidationError {
 			c.RatedV/(*c.LeakageA)*c.CapacitanceF)
 	}
 	return errs
+}
+
+// idProblem says what is wrong with a cell id that is not empty (the
+// required tag reports that): one of blanks only, one holding a control
+// or invisible formatting character (a tab, a newline, a zero-width space,
+// a right-to-left override), or one that is not UTF-8. An id is shown in
+// tables, typed to look a cell up and written in design files, so it must
+// be visible as what it is.
+func idProblem(id string) (rule, msg string) {
+	switch {
+	case id == "":
+		return "", ""
+	case !utf8.ValidString(id):
+		return "utf8", "is not valid UTF-8 text; give the cell an id of letters, digits and punctuation"
+	case strings.TrimSpace(id) == "":
+		return "blank", fmt.Sprintf("is blank (%s); give the cell an id of letters, digits and punctuation", quoteShort(id))
+	}
+	for i, r := range id {
+		if unicode.IsControl(r) || unicode.Is(unicode.Cf, r) {
+			return "control", fmt.Sprintf("holds the invisible character %U at byte %d (%s); give the cell an id of letters, digits, punctuation and spaces only", r, i, quoteShort(id))
+		}
+	}
+	return "", ""
+}
+
+// quoteShort quotes s with Go escapes, cut to 40 characters.
+func quoteShort(s string) string {
+	if r := []rune(s); len(r) > 40 {
+		return strconv.Quote(string(r[:40])) + "…"
+	}
+	return strconv.Quote(s)
 }
 
 // ValidateCell checks one cell on its own, as a cell library does before

@@ -94,6 +94,73 @@ func TestValidateBadDesigns(t *testing.T) {
 	}
 }
 
+// TestValidateRefusesAbsurdValues: issue 14, items 3 and 4. Each value was
+// accepted and sized to a wrong or non-finite figure (a series count of
+// −9223372036854775808, a short-circuit current of +Inf A); each is now
+// refused by its field. The floors are in design.go with their reasons.
+func TestValidateRefusesAbsurdValues(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name   string
+		break_ func(d *Design)
+		field  string
+		msg    string
+	}{
+		{"rated voltage 1e-20 V", func(d *Design) { d.Cells[0].RatedV = 1e-20; d.Cells[0].SurgeV = nil }, "cells[0].rated_v", "must be at least 0.1"},
+		{"rated voltage 1e-15 V", func(d *Design) { d.Cells[0].RatedV = 1e-15; d.Cells[0].SurgeV = nil }, "cells[0].rated_v", "must be at least 0.1"},
+		{"denormal ceiling", func(d *Design) { d.CellMaxV = fp(5e-324) }, "cell_max_v", "must be at least 0.1"},
+		// Own arithmetic: 42 000 V / 2.7 V = 15 555.6 → 15 556 cells.
+		{"window top in millivolts", func(d *Design) { d.Window.MaxV = 42000 }, "cells[0].rated_v",
+			"needs 15556 cells in series to hold window.max_v (42000 V) at 2.7 V per cell, more than 10000; check window.max_v and rated_v"},
+		// Own arithmetic: 42 000 V / 2.5 V = 16 800 cells.
+		{"ceiling and window top", func(d *Design) { d.Window.MaxV = 42000; d.CellMaxV = fp(2.5) }, "cell_max_v",
+			"needs 16800 cells in series to hold window.max_v (42000 V) at 2.5 V per cell, more than 10000; check window.max_v and cell_max_v"},
+		{"denormal ESR", func(d *Design) { d.Cells[0].ESROhm = 1e-310 }, "cells[0].esr_ohm", "must be at least 1e-6"},
+		{"smallest ESR", func(d *Design) { d.Cells[0].ESROhm = 5e-324 }, "cells[0].esr_ohm", "must be at least 1e-6"},
+		{"denormal capacitance", func(d *Design) { d.Cells[0].CapacitanceF = 1e-310 }, "cells[0].capacitance_f", "must be at least 1e-6"},
+		{"picosecond step", func(d *Design) { d.Load.Steps[1].DurationS = 1e-12 }, "load.steps[1].duration_s", "must be at least 1e-9"},
+		{"tiny efficiency", func(d *Design) { d.Load.Efficiency = fp(1e-300) }, "load.efficiency", "must be at least 0.01"},
+		{"tiny end-of-life capacitance", func(d *Design) { d.EOL = &EOL{CapacitanceFactor: fp(1e-300)} }, "eol.capacitance_factor", "must be at least 0.1"},
+		{"tiny window bottom", func(d *Design) { d.Window.MinV = 1e-300 }, "window.min_v", "must be at least 0.001"},
+		{"attowatt load", func(d *Design) { d.Load.Steps[0].PowerW = fp(1e-18) }, "load.steps[0].power_w", "below 1e-15 W"},
+		{"denormal charge", func(d *Design) { d.Load.Steps[0].PowerW = fp(-5e-324) }, "load.steps[0].power_w", "below 1e-15 W"},
+		{"denormal leakage", func(d *Design) { d.Cells[0].LeakageA = fp(1e-310) }, "cells[0].leakage_a", "below 1e-12 A"},
+		{"denormal quiescent draw", func(d *Design) { d.Balancing = &Balancing{Kind: "active", QuiescentA: fp(1e-310)} },
+			"balancing.quiescent_a", "below 1e-12 A"},
+		{"denormal leakage spread", func(d *Design) { d.Balancing = &Balancing{LeakageSpreadA: fp(1e-310)} },
+			"balancing.leakage_spread_a", "must be at least 1e-12"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			d := validDesign()
+			d.Cells = append(d.Cells, testCell("b"))
+			c.break_(d)
+			var ve ValidationError
+			if err := Validate(d); !errors.As(err, &ve) {
+				t.Fatalf("Validate = %v, want a ValidationError", err)
+			}
+			n := 0
+			for _, fe := range ve {
+				if fe.Field == c.field && strings.Contains(fe.Message, c.msg) {
+					n++
+				}
+			}
+			if n != 1 {
+				t.Errorf("%d errors on %s containing %q, want 1; got:\n%v", n, c.field, c.msg, ve)
+			}
+		})
+	}
+	// Zero stays allowed where it means "none".
+	d := validDesign()
+	d.Load.Steps[0].PowerW = fp(0)
+	d.Cells[0].LeakageA = fp(0)
+	d.Balancing = &Balancing{Kind: "active", QuiescentA: fp(0)}
+	if err := Validate(d); err != nil {
+		t.Errorf("zero power, leakage and quiescent draw: %v", err)
+	}
+}
+
 func TestValidateReportsEveryProblem(t *testing.T) {
 	t.Parallel()
 	d := validDesign()
@@ -122,7 +189,7 @@ func TestDecodeDesignErrors(t *testing.T) {
 	}{
 		{"string for a number", `{"window":{"max_v":"42","min_v":21}}`, "window.max_v", "must be a number, not a JSON string"},
 		{"unknown key", `{"window":{"max_v":42,"min_v":21},"windw":{}}`, "windw", "not a design key"},
-		{"nested unknown key", `{"load":{"steps":[{"power":5,"duration_s":1}]}}`, "power", "not a design key"},
+		{"nested unknown key", `{"load":{"steps":[{"power":5,"duration_s":1}]}}`, "load.steps[0].power", "not a design key"},
 		{"truncated", `{"window":{"max_v":42,`, "design", "truncated"},
 		{"syntax", `{"window":{"max_v":42,,}}`, "design", "line 1, column"},
 		{"empty", ``, "design", "is empty"},
@@ -168,6 +235,49 @@ func TestValidateCell(t *testing.T) {
 	want := "esr_ohm: must be greater than 0\nsurge_v: must be at least rated_v (2 V < 2.7 V)"
 	if err == nil || err.Error() != want {
 		t.Errorf("ValidateCell = %v, want\n%s", err, want)
+	}
+}
+
+// TestValidateCellIDs: issue 14, item 9. Ids that are blank or hold an
+// invisible character were accepted; each is refused, in a cell on its own
+// (a library) and in a design, by the id's field.
+func TestValidateCellIDs(t *testing.T) {
+	t.Parallel()
+	cases := []struct {
+		name, id, rule, msg string
+	}{
+		{"spaces", "   ", "blank", `is blank ("   ")`},
+		{"tab and newline", "\t\n", "blank", `is blank ("\t\n")`},
+		{"no-break space", "\u00a0", "blank", "is blank"},
+		{"a bell", "demo\abell", "control", `holds the invisible character U+0007 at byte 4 ("demo\abell")`},
+		{"a NUL", "a\x00", "control", "U+0000 at byte 1"},
+		{"a newline inside", "cell\n2", "control", "U+000A at byte 4"},
+		{"a right-to-left override", "abc\u202edef", "control", "U+202E at byte 3"},
+		{"a zero-width space", "a\u200bb", "control", "U+200B"},
+		{"not UTF-8", "caf\xe9", "utf8", "is not valid UTF-8"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			c := testCell(tc.id)
+			p := strictProblem(t, ValidateCell(&c))
+			if p.Field != "id" || p.Rule != tc.rule || !strings.Contains(p.Message, tc.msg) {
+				t.Errorf("ValidateCell: %s (%s): %s; want id (%s): …%s…", p.Field, p.Rule, p.Message, tc.rule, tc.msg)
+			}
+			d := validDesign()
+			d.Cells = append(d.Cells, c)
+			p = strictProblem(t, Validate(d))
+			if p.Field != "cells[1].id" || p.Rule != tc.rule {
+				t.Errorf("Validate: %s (%s): %s; want cells[1].id (%s)", p.Field, p.Rule, p.Message, tc.rule)
+			}
+		})
+	}
+	// Ids a user would write stay valid: spaces inside, accents, symbols.
+	for _, id := range []string{"demo 400 F", "Zellé-3000/2,7V", "a", "x_y.z#1"} {
+		c := testCell(id)
+		if err := ValidateCell(&c); err != nil {
+			t.Errorf("id %q: %v", id, err)
+		}
 	}
 }
 

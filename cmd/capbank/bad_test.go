@@ -10,7 +10,8 @@ import (
 )
 
 // fieldLine is one problem line on stderr: a field path, a colon, a message.
-var fieldLine = regexp.MustCompile(`^[a-z_][a-z0-9_.\[\]]*: \S`)
+// A path may hold upper case: the key a file misspelt ("window.MAX_V").
+var fieldLine = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_.\[\]]*: \S`)
 
 // TestBadDesignCorpus sizes every malformed or invalid design in
 // testdata/bad/designs: each must exit with status 2, write nothing on

@@ -212,6 +212,11 @@ func TestMeasureExitStatus2(t *testing.T) {
 		{"NaN given", []string{"--method", "resistor", "--resistor-ohm", "NaN", resistorDemoLog}, "--resistor-ohm: must be a finite number"},
 		{"current needed", []string{"--method", "constant-current", "--rated-v", "2.5", resistorDemoLog}, "--current-a: is required: the log has no current_a column"},
 		{"time outside the hold", []string{"--method", "hold", "--capacitance-f", "10", "--at", "1e9", holdDemoLog}, "--at (item 1): 1e+09 s is outside the log"},
+		// Issue 14, item 9: a denormal end voltage answered "V0/V1 = +Inf".
+		{"denormal end voltage", []string{"--method", "timed", "--v0", "1.5", "--v1", "1e-320", "--seconds", "68", "--resistor-ohm", "1000"},
+			"--v1: is 1e-320 V, below 1e-06 V"},
+		{"absurd resistor", []string{"--method", "resistor", "--resistor-ohm", "1e-300", resistorDemoLog}, "--resistor-ohm: is 1e-300 Ω, below 1e-06 Ω"},
+		{"absurd capacitance", []string{"--method", "hold", "--capacitance-f", "1e300", holdDemoLog}, "--capacitance-f: is 1e+300 F, above 1e+06 F"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
