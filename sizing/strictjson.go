@@ -327,7 +327,23 @@ func (d *strictDecoder) unmarshaler(v reflect.Value) (json.Unmarshaler, bool) {
 // mismatch reports a value of JSON type got where v's type wants another,
 // and skips it.
 func (d *strictDecoder) mismatch(v reflect.Value, got string) error {
-	return d.problem("type", "must be %s, not a JSON %s", typeWord(v.Type()), got)
+	want := typeWord(v.Type())
+	if len(d.path) == 0 && want == "an object" {
+		want = "a " + d.root + ", an object {…}" // the document as a whole
+	}
+	return d.problem("type", "must be %s, not %s", want, jsonWord(got))
+}
+
+// jsonWord names a JSON type in the words of the messages: "a JSON list",
+// "true or false", "a JSON number".
+func jsonWord(t string) string {
+	switch t {
+	case "array":
+		return "a JSON list"
+	case "bool":
+		return "true or false"
+	}
+	return "a JSON " + t
 }
 
 // typeWord names what a Go type holds, in the words of the design format.
@@ -406,7 +422,7 @@ func (d *strictDecoder) unknownKey(info *structInfo, key string) error {
 		}
 		return d.problem("unknown", "is not a %s key: keys are case sensitive; did you mean %s?", d.root, name)
 	}
-	return d.problem("unknown", "is not a %s key; check its spelling against the %s-file format in the README", d.root, d.root)
+	return d.problem("unknown", "is not a %s key; check its spelling against the %s keys the README lists", d.root, d.root)
 }
 
 // mapObject decodes a JSON object into the map v, whose keys are strings.

@@ -49,7 +49,7 @@ func TestDecodeStrictRefuses(t *testing.T) {
 		{"a number past the float range", `{"window":{"max_v":1e309}}`, "window.max_v", "range",
 			[]string{"too large a number (1e309)"}},
 		{"an object where a cell id or cell goes", `{"cells":[true]}`, "cells[0]", "type",
-			[]string{"must be an object, not a JSON bool"}},
+			[]string{"must be an object, not true or false"}},
 		{"a closing brace too many", `{"name":"a"}}`, "design", "json", []string{"has data after the closing brace"}},
 		{"a second object", `{} {}`, "design", "json", []string{"has data after the closing brace"}},
 		{"truncated", `{"window":{"max_v":42,`, "design", "json", []string{"ends too early"}},

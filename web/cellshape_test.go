@@ -61,3 +61,28 @@ func TestCellJSONShapeMessages(t *testing.T) {
 		t.Errorf("measured-cell draft of a list: %.1500s", body)
 	}
 }
+
+// A cell sent to the API, imported or saved with a design obeys the design
+// file's key rules (sizing.DecodeStrict): a key in the wrong case or given
+// twice is refused by name, never read case-insensitively or last-wins.
+// Before, the cells API and the import took both.
+func TestCellKeysAreStrict(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	for body, want := range map[string]string{
+		`{"id":"k1","rated_v":2.7,"capacitance_f":10,"ESR_OHM":0.1}`:              "ESR_OHM: is not a cell key",
+		`{"id":"k2","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"esr_ohm":0.2}`: "esr_ohm",
+	} {
+		p := wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", body), http.StatusBadRequest, "cell")
+		if msg := p.Errors[0].Message; !strings.Contains(msg, want) {
+			t.Errorf("POST %s: %q, want %q", body, msg, want)
+		}
+		rec := do(t, s, http.MethodPost, "/api/v1/cells/import", "application/json", "["+body+"]")
+		var rep store.ImportReport
+		decodeJSON(t, rec, &rep)
+		if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, want) {
+			t.Errorf("import of %s: %+v, want the row refused naming %q", body, rep, want)
+		}
+	}
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"a","NAME":"b","design":{}}`), http.StatusBadRequest, "NAME")
+}

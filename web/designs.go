@@ -9,6 +9,7 @@ import (
 	"mime"
 	"net/http"
 	"net/url"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -289,11 +290,8 @@ func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, erro
 	if err != nil {
 		return b, err
 	}
-	dec := json.NewDecoder(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&b); err != nil {
-		return b, malformed(sizing.ValidationError{{Field: "body", Rule: "decode",
-			Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…", "design": {…the design file…}}`}})
+	if err := sizing.DecodeStrict(data, &b, "body"); err != nil {
+		return b, malformed(withHint(validationErrors(err), `send {"name": "…", "design": {…the design file…}}`))
 	}
 	if needName && strings.TrimSpace(b.Name) == "" {
 		return b, badParams(sizing.ValidationError{{Field: "name", Rule: "required", Message: "is needed: a saved design has a name"}})
@@ -325,6 +323,15 @@ func (s *Server) readDesignBody(c echo.Context, needName bool) (designBody, erro
 		}
 	}
 	return b, nil
+}
+
+// withHint adds what to send to the message of each problem.
+func withHint(ve sizing.ValidationError, hint string) sizing.ValidationError {
+	out := slices.Clone(ve)
+	for i := range out {
+		out[i].Message += "; " + hint
+	}
+	return out
 }
 
 func prefixed(p string, ve sizing.ValidationError) sizing.ValidationError {
@@ -411,10 +418,12 @@ func (s *Server) apiRenameDesign(c echo.Context) error {
 	if mt, _, _ := mime.ParseMediaType(c.Request().Header.Get(echo.HeaderContentType)); mt != "application/json" {
 		return unsupportedMedia(c.Request(), "application/json")
 	}
-	dec := json.NewDecoder(c.Request().Body)
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&b); err != nil {
-		return malformed(sizing.ValidationError{{Field: "body", Rule: "decode", Message: strings.TrimPrefix(err.Error(), "json: ") + `; send {"name": "…"}`}})
+	data, err := readBody(c.Request(), "body", "body")
+	if err != nil {
+		return err
+	}
+	if err := sizing.DecodeStrict(data, &b, "body"); err != nil {
+		return malformed(withHint(validationErrors(err), `send {"name": "…"}`))
 	}
 	if err := s.store.RenameDesign(c.Request().Context(), id, b.Name); err != nil {
 		return err

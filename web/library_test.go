@@ -414,7 +414,7 @@ func TestDesignsAPI(t *testing.T) {
 
 	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"design":`+refs+`}`), http.StatusUnprocessableEntity, "name")
 	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"x","design":`+strings.Replace(refs, `"min_v":24`, `"min_v":60`, 1)+`}`), http.StatusUnprocessableEntity, "design.window.min_v")
-	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"x","plan":{}}`), http.StatusBadRequest, "body")
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"x","plan":{}}`), http.StatusBadRequest, "plan")
 
 	rec = do(t, s, http.MethodPatch, fmt.Sprintf("/api/v1/designs/%d", sd.ID), "application/json", `{"name":"Renamed"}`)
 	wantStatus(t, rec, http.StatusOK)

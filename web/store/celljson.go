@@ -25,19 +25,27 @@ const oneCell = `a cell, an object {"id": …, "rated_v": …, "capacitance_f": 
 // one: `rated_v: must be a number, not a JSON string`.
 func DecodeCell(data []byte) (sizing.Cell, error) {
 	var c sizing.Cell
-	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	if bytes.Equal(bytes.TrimSpace(data), []byte("null")) {
+	if bytes.Equal(bytes.TrimSpace(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))), []byte("null")) {
 		return c, errors.New("must be " + oneCell + ", not null")
 	}
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&c); err != nil {
-		return c, errors.New(jsonMessage(err, data, oneCell))
-	}
-	if dec.More() {
-		return c, errors.New("holds more than one JSON value; send one cell")
+	if err := sizing.DecodeStrict(data, &c, "cell"); err != nil {
+		return c, errors.New(strictMessage(err))
 	}
 	return c, nil
+}
+
+// strictMessage is sizing.DecodeStrict's problem in one line: "field:
+// message", or the message alone for the document as a whole.
+func strictMessage(err error) string {
+	var ve sizing.ValidationError
+	if !errors.As(err, &ve) || len(ve) == 0 {
+		return err.Error()
+	}
+	fe := ve[0]
+	if fe.Field == "cell" || fe.Field == "" {
+		return fe.Message
+	}
+	return strings.TrimPrefix(fe.Field, "cell.") + ": " + fe.Message
 }
 
 // cellItems splits a cells JSON file into its cells' JSON, or says what is
