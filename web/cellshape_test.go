@@ -70,7 +70,7 @@ func TestCellKeysAreStrict(t *testing.T) {
 	t.Parallel()
 	s, _ := newTestServer(t)
 	for body, want := range map[string]string{
-		`{"id":"k1","rated_v":2.7,"capacitance_f":10,"ESR_OHM":0.1}`:              "ESR_OHM: is not a cell key",
+		`{"id":"k1","rated_v":2.7,"capacitance_f":10,"ESR_OHM":0.1}`:               "ESR_OHM: is not a cell key",
 		`{"id":"k2","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"esr_ohm":0.2}`: "esr_ohm",
 	} {
 		p := wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", body), http.StatusBadRequest, "cell")
