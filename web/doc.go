@@ -6,6 +6,6 @@
 //
 // web decodes and translates; it never judges a design itself. Every rule
 // is sizing.Validate's, and every figure comes from sizing.Size. The cell
-// library (web/store), share links (web/share) and exports (web/export)
-// live in subpackages; the built-in demo cells in web/democells.
+// library (web/store) and share links (web/share) live in subpackages, the
+// built-in demo cells in web/democells; the exports are components/export's.
 package web

@@ -13,13 +13,13 @@ import (
 
 	"github.com/labstack/echo/v4"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 	"capbank/web/share"
 )
 
 // designFormat is the design file itself as a download, beside the export
-// formats of web/export.
+// formats of components/export.
 var designFormat = export.Format{Name: "design", ContentType: "application/json", Ext: ".json"}
 
 // designToken is the share token of a design that sized, which the page's

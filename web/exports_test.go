@@ -19,9 +19,9 @@ import (
 	"github.com/PuerkitoBio/goquery"
 	"github.com/xuri/excelize/v2"
 
+	"capbank/components/export"
 	"capbank/sizing"
 	"capbank/web/democells"
-	"capbank/web/export"
 	"capbank/web/share"
 )
 

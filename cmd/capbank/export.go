@@ -8,8 +8,8 @@ import (
 	"strings"
 	"time"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 )
 
 // today is the date printed on a PDF report.

@@ -13,9 +13,9 @@ import (
 	"path/filepath"
 	"runtime/debug"
 
+	"capbank/components/export"
 	"capbank/sizing"
 	"capbank/web/democells"
-	"capbank/web/export"
 	"capbank/web/store"
 )
 
