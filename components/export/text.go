@@ -3,8 +3,8 @@ package export
 import (
 	"math"
 	"strconv"
-	"strings"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -34,141 +34,26 @@ func plainNumber(x float64) string {
 const sigFigs = 4
 
 // none stands for a figure the report does not have.
-const none = "—"
+const none = figures.None
 
-// formatSig formats x with n significant figures in plain decimal
-// notation, without trailing zeros: 1234.56 is "1235", 0.0012345 "0.001235".
-func formatSig(x float64, n int) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return none
-	}
-	if x == 0 {
-		return "0"
-	}
-	e := strconv.FormatFloat(x, 'e', n-1, 64)
-	rounded, _ := strconv.ParseFloat(e, 64)
-	_, exp, _ := strings.Cut(e, "e")
-	p, _ := strconv.Atoi(exp)
-	s := strconv.FormatFloat(rounded, 'f', max(0, n-1-p), 64)
-	if strings.Contains(s, ".") {
-		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
-	}
-	if s == "-0" {
-		s = "0"
-	}
-	return s
-}
+// quantity is v in unit through figures.SI, to sigFigs figures: 117.6 kJ.
+func quantity(v float64, unit string) string { return figures.SI(v, unit, sigFigs) }
 
-// formatSI formats x in unit with an SI prefix, so the number stands in
-// [1, 1000): 117600 J is "117.6 kJ", 0.0028 Ω "2.8 mΩ".
-func formatSI(x float64, unit string) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return none
-	}
-	if x == 0 {
-		return "0 " + unit
-	}
-	e := strconv.FormatFloat(x, 'e', sigFigs-1, 64)
-	_, exp, _ := strings.Cut(e, "e")
-	p, _ := strconv.Atoi(exp)
-	e3 := p - ((p%3)+3)%3
-	e3 = min(max(e3, -12), 12)
-	prefix := map[int]string{-12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}[e3]
-	return formatSig(x/math.Pow10(e3), sigFigs) + " " + prefix + unit
-}
-
-// formatFarad formats a capacitance: in F from 1 F up (a bank of 1000 F
-// reads "1000 F", as datasheets print it), with a prefix below.
-func formatFarad(x float64) string {
-	if math.Abs(x) >= 1 && math.Abs(x) < 1e7 {
-		return formatSig(x, sigFigs) + " F"
-	}
-	return formatSI(x, "F")
-}
-
-// formatUnit formats x with sigFigs figures and a unit that takes no
-// prefix (°C, K, %, years).
-func formatUnit(x float64, unit string) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return none
-	}
-	if unit == "" {
-		return formatSig(x, sigFigs)
-	}
-	return formatSig(x, sigFigs) + " " + unit
-}
-
-// formatDuration formats seconds in s below 2 min, min below 2 h, h below
-// 2 days and days above.
-func formatDuration(s float64) string {
-	switch {
-	case math.IsNaN(s) || math.IsInf(s, 0):
-		return none
-	case math.Abs(s) >= 2*86400:
-		return formatSig(s/86400, sigFigs) + " days"
-	case math.Abs(s) >= 7200:
-		return formatSig(s/3600, sigFigs) + " h"
-	case math.Abs(s) >= 120:
-		return formatSig(s/60, sigFigs) + " min"
-	}
-	return formatSig(s, sigFigs) + " s"
-}
-
-// formatMoney formats a price with two decimals (more when the price has
-// them, up to four) and the currency.
-func formatMoney(x float64, currency string) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return none
-	}
-	s := strconv.FormatFloat(x, 'f', 4, 64)
-	s = strings.TrimRight(s, "0")
-	if i := strings.IndexByte(s, '.'); i >= 0 && len(s)-i-1 < 2 {
-		s += strings.Repeat("0", 2-(len(s)-i-1))
-	}
-	s = groupThousands(s)
-	if currency != "" {
-		s += " " + currency
-	}
-	return s
-}
-
-// groupThousands puts a thin separator (a comma) between thousands of the
-// integer part, for reading, never for a machine.
-func groupThousands(s string) string {
-	neg := strings.HasPrefix(s, "-")
-	s = strings.TrimPrefix(s, "-")
-	intPart, frac, hasFrac := strings.Cut(s, ".")
-	var b strings.Builder
-	for i, r := range intPart {
-		if i > 0 && (len(intPart)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(r)
-	}
-	out := b.String()
-	if hasFrac {
-		out += "." + frac
-	}
-	if neg {
-		out = "-" + out
-	}
-	return out
-}
-
-// optSI formats an optional figure with formatSI, none for nil.
-func optSI(p *float64, unit string) string {
+// optQuantity is quantity for an optional figure, none for nil.
+func optQuantity(p *float64, unit string) string {
 	if p == nil {
 		return none
 	}
-	return formatSI(*p, unit)
+	return quantity(*p, unit)
 }
 
-// optUnit formats an optional figure with formatUnit, none for nil.
-func optUnit(p *float64, unit string) string {
-	if p == nil {
-		return none
+// money is a price through figures.Money with its currency, if any:
+// "683.50 EUR".
+func money(v float64, currency string) string {
+	if currency == "" {
+		return figures.Money(v)
 	}
-	return formatUnit(*p, unit)
+	return figures.Money(v) + " " + currency
 }
 
 // candidateByID returns the candidate of the report for that cell id.
@@ -189,19 +74,6 @@ func cellByID(d *sizing.Design, id string) *sizing.Cell {
 		}
 	}
 	return nil
-}
-
-// severityRank orders flags danger first, then warning, then info.
-func severityRank(s sizing.Severity) int {
-	switch s {
-	case sizing.Danger:
-		return 0
-	case sizing.Warning:
-		return 1
-	case sizing.Info:
-		return 2
-	}
-	return 3
 }
 
 // stepKind names a load step's kind and gives its value and unit.
