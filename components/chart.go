@@ -5,6 +5,7 @@ import (
 	"strconv"
 	"strings"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -73,10 +74,10 @@ func VoltageChart(c *sizing.Curve) Chart {
 	hi := max(c.MaxV, maxOf(c.TerminalV), maxOf(c.CapacitorV))
 	ch := newChart("voltage", "Voltage at the bank", "Voltage (V)", c.TimeS, lo, hi)
 	ch.Desc = "Terminal and capacitor voltage of the recommended bank at worst case over the sizing pass, with the voltage window " +
-		Quantity(c.MaxV, "V", 4) + " to " + Quantity(c.MinV, "V", 4) + "."
+		figures.SI(c.MaxV, "V", 4) + " to " + figures.SI(c.MinV, "V", 4) + "."
 	ch.Refs = []RefLine{
-		{Y: ch.y(c.MaxV), Label: "window top " + Quantity(c.MaxV, "V", 4), Class: "ref-top"},
-		{Y: ch.y(c.MinV), Label: "window bottom " + Quantity(c.MinV, "V", 4), Class: "ref-bottom"},
+		{Y: ch.y(c.MaxV), Label: "window top " + figures.SI(c.MaxV, "V", 4), Class: "ref-top"},
+		{Y: ch.y(c.MinV), Label: "window bottom " + figures.SI(c.MinV, "V", 4), Class: "ref-bottom"},
 	}
 	ch.Series = []Series{
 		{Name: "Capacitor voltage", Class: "s-cap", Points: ch.points(c.TimeS, c.CapacitorV)},
@@ -246,7 +247,7 @@ func tickLabel(v float64, ticks []float64) string {
 		step := ticks[1] - ticks[0]
 		dec = max(0, int(math.Ceil(-math.Log10(step)-1e-9)))
 	}
-	return Fixed(v, dec)
+	return figures.Fixed(v, dec)
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

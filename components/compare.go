@@ -4,6 +4,8 @@ import (
 	"math"
 	"sort"
 	"strconv"
+
+	"capbank/components/figures"
 )
 
 // CompareProps is the side-by-side comparison of candidate cells for one
@@ -104,16 +106,16 @@ func LogLogChart(id, title, desc, xLabel, yLabel string, pts []ScatterPoint, xUn
 	sy := func(v float64) float64 { return c.Bottom - (math.Log10(v)-y0)/(y1-y0)*(c.Bottom-c.Top) }
 	for e := x0; e <= x1; e++ {
 		v := math.Pow(10, e)
-		c.XTicks = append(c.XTicks, Tick{Pos: sx(v), Label: Quantity(v, xUnit, 3)})
+		c.XTicks = append(c.XTicks, Tick{Pos: sx(v), Label: figures.SI(v, xUnit, 3)})
 	}
 	for e := y0; e <= y1; e++ {
 		v := math.Pow(10, e)
-		c.YTicks = append(c.YTicks, Tick{Pos: sy(v), Label: Quantity(v, yUnit, 3)})
+		c.YTicks = append(c.YTicks, Tick{Pos: sy(v), Label: figures.SI(v, yUnit, 3)})
 	}
 	for _, p := range pts {
 		x, y := sx(p.X), sy(p.Y)
 		c.Points = append(c.Points, PlacedPoint{Label: p.Label, X: x, Y: y, LabelY: y - 6,
-			Value: p.Label + ": " + Quantity(p.X, xUnit, 3) + ", " + Quantity(p.Y, yUnit, 3)})
+			Value: p.Label + ": " + figures.SI(p.X, xUnit, 3) + ", " + figures.SI(p.Y, yUnit, 3)})
 	}
 	spreadLabels(c.Points)
 	return c

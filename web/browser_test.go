@@ -14,7 +14,7 @@ import (
 
 	"github.com/chromedp/chromedp"
 
-	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -185,7 +185,7 @@ func bankFor(t *testing.T, w float64) string {
 	if err != nil || rep.Recommended == nil {
 		t.Fatalf("sizing the expected design: %v", err)
 	}
-	return components.BankText(rep.Candidates[0])
+	return figures.BankText(rep.Candidates[0])
 }
 
 // A user opens a new design, enters it, sees the bank, changes a value and

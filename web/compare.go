@@ -15,6 +15,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/fault"
 	"capbank/web/store"
@@ -201,10 +202,10 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		return *v, true
 	}
 	q := func(unit string, sig int) func(float64) string {
-		return func(v float64) string { return components.Quantity(v, unit, sig) }
+		return func(v float64) string { return figures.SI(v, unit, sig) }
 	}
 	num := func(unit string) func(float64) string {
-		return func(v float64) string { return components.Number(v, 3) + "\u00a0" + unit }
+		return func(v float64) string { return figures.Number(v, 3) + "\u00a0" + unit }
 	}
 
 	bankRows := []components.CompareFigureRow{
@@ -213,7 +214,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			for i, cd := range cands {
 				t := "not feasible"
 				if feasible(i) {
-					t = components.BankText(*cd)
+					t = figures.BankText(*cd)
 				} else if cd != nil && cd.Reason != "" {
 					t = "not feasible: " + cd.Reason
 				}
@@ -221,27 +222,27 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			}
 			return row
 		}(),
-		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, func(v float64) string { return components.Number(v, 6) }),
-		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, massText),
+		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, func(v float64) string { return figures.Number(v, 6) }),
+		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, func(v float64) string { return figures.SI(v, "kg", 3) }),
 		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
-		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, components.Money),
-		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, components.Duration),
+		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, figures.Money),
+		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, func(v float64) string { return figures.Duration(v, 3) }),
 		bankRow("Usable energy at end of life", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
-		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, components.Money),
+		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, figures.Money),
 		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
 		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
 			if c.Thermal == nil {
 				return 0, false
 			}
 			return c.Thermal.PeakRiseK, true
-		}, components.Kelvin),
+		}, figures.Kelvin),
 		bankRow("Lowest terminal voltage", "higher", func(c *sizing.Candidate) (float64, bool) { return c.MinTerminalV, true }, q("V", 4)),
 		bankRow("Expected life", "longer", func(c *sizing.Candidate) (float64, bool) {
 			if c.Life == nil {
 				return 0, false
 			}
 			return c.Life.ExpectedYears, true
-		}, func(v float64) string { return components.Number(v, 3) + "\u00a0years" }),
+		}, func(v float64) string { return figures.Number(v, 3) + "\u00a0years" }),
 	}
 	flags := components.CompareFigureRow{Label: "Findings"}
 	for _, cd := range cands {
@@ -269,7 +270,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		cellRow("Energy per volume", "higher", m(func(x sizing.CellMerit) *float64 { return x.EnergyWhPerL }), num("Wh/L"), "no volume given"),
 		cellRow("Matched-load power per mass V²/(4·ESR·m)", "higher", m(func(x sizing.CellMerit) *float64 { return x.MatchedPowerWPerKg }), num("W/kg"), "no mass given"),
 		cellRow("Time constant ESR·C", "", m(func(x sizing.CellMerit) *float64 { return val(x.TimeConstantS) }), q("s", 3), "—"),
-		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), components.Money, "no price given"),
+		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), figures.Money, "no price given"),
 	}
 	p.Groups = []components.CompareGroup{
 		{Title: "The bank for this design", Rows: bankRows},

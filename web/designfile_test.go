@@ -15,6 +15,7 @@ import (
 
 	"github.com/PuerkitoBio/goquery"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -206,9 +207,9 @@ func TestFieldNumber(t *testing.T) {
 		{1.5e4, "15k"}, {2.2e6, "2.2M"}, {123456789, "123.456789M"}, {1.0000000000000003e-5, "10.000000000000003µ"}, {-4.7e-9, "-4.7n"}, {1e15, "1e+15"},
 	}
 	for _, c := range cases {
-		got := form.FieldNumber(c.x)
+		got := figures.Field(c.x)
 		if got != c.want {
-			t.Errorf("fieldNumber(%v) = %q, want %q", c.x, got, c.want)
+			t.Errorf("figures.Field(%v) = %q, want %q", c.x, got, c.want)
 		}
 		if back, err := form.ParseSI(got, form.UnitNone); err != nil || back != c.x {
 			t.Errorf("%q reads back as %v (%v), want exactly %v", got, back, err, c.x)

@@ -6,6 +6,7 @@
 //
 // web decodes and translates; it never judges a design itself. Every rule
 // is sizing.Validate's, and every figure comes from sizing.Size. The cell
-// library (web/store), share links (web/share) and exports (web/export)
-// live in subpackages; the built-in demo cells with the store (web/store).
+// library (web/store, with the built-in demo cells), the design form
+// (web/form), share links (web/share) and the error table (web/fault) live
+// in subpackages; the exports are components/export's.
 package web

@@ -4,21 +4,20 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
-	"io"
 	"net/http"
-	"slices"
 	"strings"
 
 	"github.com/labstack/echo/v4"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 	"capbank/web/share"
 )
 
 // designFormat is the design file itself as a download, beside the export
-// formats of web/export.
+// formats of components/export.
 var designFormat = export.Format{Name: "design", ContentType: "application/json", Ext: ".json"}
 
 // designToken is the share token of a design that sized, which the page's
@@ -113,47 +112,20 @@ func makeExport(ctx context.Context, d *sizing.Design, f export.Format, cellID s
 	if cellID != "" && (rep.Recommended == nil || cellID != *rep.Recommended) {
 		suffix = fileWord(cellID) + "-" + suffix
 	}
-	if err := writeExport(&buf, f, d, rep, boq, opt); err != nil {
+	if err := export.Write(&buf, f, d, rep, boq, opt); err != nil {
 		return exported{}, err
 	}
 	return exported{buf.Bytes(), suffix}, nil
 }
 
-// exportBOQ is the bill of quantities of the export: of cellID, or of the
-// recommended bank when cellID is empty. With nothing feasible the PDF is
-// still written (it says why) with no BOQ; the BOQ formats have nothing to
-// list.
+// exportBOQ is the bill of quantities of the export (export.BOQFor); a
+// bank the report does not have is the request's cell field at fault.
 func exportBOQ(d *sizing.Design, r *sizing.Report, cellID string, f export.Format) (*sizing.BOQ, error) {
-	if cellID != "" {
-		i := slices.IndexFunc(r.Candidates, func(c sizing.Candidate) bool { return c.CellID == cellID })
-		if i < 0 {
-			return nil, exportRefused("cell", fmt.Sprintf("%q is not a candidate cell of this design", cellID))
-		}
-		if c := r.Candidates[i]; !c.Feasible {
-			return nil, exportRefused("cell", fmt.Sprintf("%q cannot carry the load (%s), so it has no bank to export", cellID, c.Reason))
-		}
-	} else if r.Recommended == nil {
-		if f.Name == "pdf" {
-			return nil, nil
-		}
-		return nil, exportRefused("cell", "no candidate carries the load at worst case, so there is no bank to list; the PDF report says why")
+	b, err := export.BOQFor(d, r, cellID, f)
+	if bank := (*export.BankError)(nil); errors.As(err, &bank) {
+		return nil, exportRefused("cell", bank.Error())
 	}
-	return sizing.BillOfQuantities(d, r, cellID)
-}
-
-// writeExport writes the export f of the design.
-func writeExport(w io.Writer, f export.Format, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, opt export.PDFOptions) error {
-	switch f.Name {
-	case "boq-csv":
-		return export.BOQCSV(w, b)
-	case "boq-xlsx":
-		return export.BOQXLSX(w, d, r, b)
-	case "boq-json":
-		return export.BOQJSON(w, b)
-	case "pdf":
-		return export.ReportPDF(w, d, r, b, opt)
-	}
-	return fmt.Errorf("no writer for the format %q", f.Name)
+	return b, err
 }
 
 // fileWord reduces text to what a file name may hold: lower-case letters,

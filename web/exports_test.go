@@ -20,8 +20,8 @@ import (
 	"github.com/PuerkitoBio/goquery"
 	"github.com/xuri/excelize/v2"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 	"capbank/web/share"
 )
 

@@ -19,7 +19,7 @@ import (
 
 	"github.com/PuerkitoBio/goquery"
 
-	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/static"
 )
@@ -54,7 +54,7 @@ func wantBank(t *testing.T) string {
 	if rep.Recommended == nil {
 		t.Fatal("the test design recommends nothing")
 	}
-	return components.BankText(rep.Candidates[0])
+	return figures.BankText(rep.Candidates[0])
 }
 
 // The form decodes into exactly the design the command line would read:

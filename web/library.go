@@ -14,6 +14,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/store"
 )
@@ -238,11 +239,11 @@ func libraryRow(r store.CellRecord, writable bool) components.LibraryRowProps {
 	cell := r.Cell
 	row := components.LibraryRowProps{
 		ID: cell.ID, Href: libraryPath(cell.ID), Name: cell.Name, Source: sourceLabel(cell.Source), ReadOnly: r.ReadOnly,
-		RatedV:      components.Quantity(cell.RatedV, "V", 3),
-		Capacitance: components.Quantity(cell.CapacitanceF, "F", 4),
-		ESR:         components.Quantity(cell.ESROhm, "Ω", 3),
-		Mass:        components.Opt(cell.MassKg, massText),
-		Price:       components.Opt(cell.UnitPrice, components.Money),
+		RatedV:      figures.SI(cell.RatedV, "V", 3),
+		Capacitance: figures.SI(cell.CapacitanceF, "F", 4),
+		ESR:         figures.SI(cell.ESROhm, "Ω", 3),
+		Mass:        figures.Opt(cell.MassKg, func(v float64) string { return figures.SI(v, "kg", 3) }),
+		Price:       figures.Opt(cell.UnitPrice, figures.Money),
 	}
 	if writable {
 		row.DuplicateAction = libraryPath(cell.ID) + "/duplicate"
@@ -408,13 +409,13 @@ func meritRows(c sizing.Cell) [][2]string {
 	m := sizing.Merit(c)
 	na := "needs the cell's mass"
 	rows := [][2]string{
-		{"Stored energy ½·C·V²", components.Quantity(m.StoredEnergyJ, "J", 4) + " (" + components.Quantity(m.StoredEnergyJ/3600, "Wh", 3) + ")"},
+		{"Stored energy ½·C·V²", figures.SI(m.StoredEnergyJ, "J", 4) + " (" + figures.SI(m.StoredEnergyJ/3600, "Wh", 3) + ")"},
 		{"Energy per mass", optOr(m.EnergyWhPerKg, "Wh/kg", na)},
 		{"Energy per volume", optOr(m.EnergyWhPerL, "Wh/L", "needs the cell's volume")},
-		{"Matched-load power V²/(4·ESR)", components.Quantity(m.MatchedPowerW, "W", 4)},
+		{"Matched-load power V²/(4·ESR)", figures.SI(m.MatchedPowerW, "W", 4)},
 		{"Matched-load power per mass", optOr(m.MatchedPowerWPerKg, "W/kg", na)},
-		{"Time constant ESR·C", components.Quantity(m.TimeConstantS, "s", 3)},
-		{"Price per stored Wh", components.Opt(m.PricePerWh, components.Money)},
+		{"Time constant ESR·C", figures.SI(m.TimeConstantS, "s", 3)},
+		{"Price per stored Wh", figures.Opt(m.PricePerWh, figures.Money)},
 	}
 	if m.PricePerWh == nil {
 		rows[len(rows)-1][1] = "needs the unit price"
@@ -426,7 +427,7 @@ func optOr(v *float64, unit, none string) string {
 	if v == nil {
 		return none
 	}
-	return components.Number(*v, 4) + " " + unit
+	return figures.Number(*v, 4) + " " + unit
 }
 
 // getNewCell is GET /library/new: the empty cell form.
@@ -544,14 +545,6 @@ func (s *Server) postDeleteCell(c echo.Context) error {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, "/library?done=deleted&id="+url.QueryEscape(id))
-}
-
-// massText is a mass in g below 1 kg (a small cell's 8.5 g), else in kg.
-func massText(kg float64) string {
-	if kg < 1 {
-		return components.Number(kg*1000, 3) + "\u00a0g"
-	}
-	return components.Number(kg, 3) + "\u00a0kg"
 }
 
 // cellIDParam is the cell id in the address. echo routes on the escaped

@@ -16,6 +16,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/store"
 )
@@ -308,7 +309,7 @@ func figureRows(res any) []components.MeasureRow {
 			continue
 		}
 		name, unit := keyUnit(k)
-		val := components.Quantity(x, unit, 4)
+		val := figures.SI(x, unit, 4)
 		switch {
 		case k == "r_squared":
 			name, val = "R² of the fit", strconv.FormatFloat(x, 'f', 6, 64)

@@ -13,6 +13,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/store"
 )
@@ -62,10 +63,10 @@ func (s *Server) cellPicks(c echo.Context, f *form.Form) []components.CellPickPr
 func cellPick(c sizing.Cell, picked bool) components.CellPickProps {
 	return components.CellPickProps{
 		ID: c.ID, Name: c.Name, Picked: picked, Electrolyte: c.Electrolyte,
-		RatedV:      components.Quantity(c.RatedV, "V", 3),
-		Capacitance: components.Quantity(c.CapacitanceF, "F", 4),
-		ESR:         components.Quantity(c.ESROhm, "Ω", 3),
-		Price:       components.Opt(c.UnitPrice, components.Money),
+		RatedV:      figures.SI(c.RatedV, "V", 3),
+		Capacitance: figures.SI(c.CapacitanceF, "F", 4),
+		ESR:         figures.SI(c.ESROhm, "Ω", 3),
+		Price:       figures.Opt(c.UnitPrice, figures.Money),
 	}
 }
 
@@ -150,7 +151,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		p.CarriedJSON = string(b)
 		for _, c := range f.Carried {
 			p.Carried = append(p.Carried, components.CarriedCellProps{ID: c.ID, Name: c.Name, Keep: f.Keep[c.ID],
-				Figures: components.Quantity(c.RatedV, "V", 3) + ", " + components.Quantity(c.CapacitanceF, "F", 4) + ", " + components.Quantity(c.ESROhm, "Ω", 3)})
+				Figures: figures.SI(c.RatedV, "V", 3) + ", " + figures.SI(c.CapacitanceF, "F", 4) + ", " + figures.SI(c.ESROhm, "Ω", 3)})
 		}
 	}
 	for _, group := range [][]components.FieldProps{p.Balancing, p.Life} {
@@ -345,15 +346,15 @@ func designSummary(r *sizing.Report, steps int) string {
 	if r.Design != "" {
 		parts = append(parts, r.Design)
 	}
-	parts = append(parts, "window "+components.Quantity(r.MaxV, "V", 4)+" → "+components.Quantity(r.MinV, "V", 4))
-	pass := fmt.Sprintf("%d %s, %s per pass", steps, plural(steps, "step", "steps"), components.Duration(r.ProfileDurationS))
+	parts = append(parts, "window "+figures.SI(r.MaxV, "V", 4)+" → "+figures.SI(r.MinV, "V", 4))
+	pass := fmt.Sprintf("%d %s, %s per pass", steps, plural(steps, "step", "steps"), figures.Duration(r.ProfileDurationS, 3))
 	if r.Repeat > 1 {
-		pass += fmt.Sprintf(", run %d times (%s)", r.Repeat, components.Duration(r.PassDurationS))
+		pass += fmt.Sprintf(", run %d times (%s)", r.Repeat, figures.Duration(r.PassDurationS, 3))
 	}
 	parts = append(parts, pass)
-	worst := "worst case: capacitance ×" + components.Number(r.EOLCapacitanceFactor, 3) + ", ESR ×" + components.Number(r.EOLESRFactor, 3)
+	worst := "worst case: capacitance ×" + figures.Number(r.EOLCapacitanceFactor, 3) + ", ESR ×" + figures.Number(r.EOLESRFactor, 3)
 	if r.ColdC != nil {
-		worst += ", at " + components.Quantity(*r.ColdC, "°C", 3)
+		worst += ", at " + figures.SI(*r.ColdC, "°C", 3)
 	}
 	parts = append(parts, worst)
 	by := map[string]string{"price": "lowest price", "cells": "fewest cells", "mass": "least mass", "volume": "least volume"}[r.RankBy]

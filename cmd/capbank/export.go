@@ -1,47 +1,42 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"runtime/debug"
-	"slices"
 	"strings"
 	"time"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 )
 
 // today is the date printed on a PDF report.
 var today = time.Now
 
-// chooseBOQ returns the bill of quantities of the export: for cellID, or
-// the recommended cell when cellID is empty. A cell the design does not
-// have, or one that cannot carry the load, is a command-line mistake; its
-// message names the cells to choose from instead of repeating the usage. With
-// nothing feasible, the PDF is still written (it says why) and gets a nil
-// BOQ; the BOQ formats have nothing to list.
+// chooseBOQ returns the bill of quantities of the export (export.BOQFor:
+// for cellID, or the recommended cell when cellID is empty). A cell the
+// design does not have, or one that cannot carry the load, is a
+// command-line mistake; its message names the cells to choose from instead
+// of repeating the usage. With nothing feasible, the PDF is still written
+// (it says why) and gets a nil BOQ; the BOQ formats have nothing to list.
 func chooseBOQ(d *sizing.Design, r *sizing.Report, cellID string, f export.Format, stderr io.Writer) (*sizing.BOQ, error) {
-	usage := func(w io.Writer) { fmt.Fprintln(w, `Run "capbank size -h" for the flags.`) }
-	if cellID != "" {
-		i := slices.IndexFunc(r.Candidates, func(c sizing.Candidate) bool { return c.CellID == cellID })
-		if i < 0 {
-			return nil, usageFailure(stderr, usage, "capbank size: --cell %q is not a cell of this design; its cells are %s", cellID, cellList(r, false))
-		}
-		if c := r.Candidates[i]; !c.Feasible {
-			return nil, usageFailure(stderr, usage, "capbank size: --cell %q cannot carry the load (%s); feasible cells: %s", cellID, c.Reason, cellList(r, true))
-		}
-	} else if r.Recommended == nil {
-		if f.Name == "pdf" {
-			return nil, nil
-		}
+	b, err := export.BOQFor(d, r, cellID, f)
+	var bank *export.BankError
+	switch {
+	case err == nil:
+		return b, nil
+	case !errors.As(err, &bank):
+		return nil, fmt.Errorf("cannot make the bill of quantities: %w", err)
+	case bank.Problem == export.NoBank:
 		return nil, fmt.Errorf("no candidate carries the load at worst case, so there is no bank to list (capbank size --format text says why)")
 	}
-	b, err := sizing.BillOfQuantities(d, r, cellID)
-	if err != nil {
-		return nil, fmt.Errorf("cannot make the bill of quantities: %w", err)
+	usage := func(w io.Writer) { fmt.Fprintln(w, `Run "capbank size -h" for the flags.`) }
+	if bank.Problem == export.NotACandidate {
+		return nil, usageFailure(stderr, usage, "capbank size: --cell %q is not a cell of this design; its cells are %s", cellID, cellList(r, false))
 	}
-	return b, nil
+	return nil, usageFailure(stderr, usage, "capbank size: --cell %q cannot carry the load (%s); feasible cells: %s", cellID, bank.Reason, cellList(r, true))
 }
 
 // cellList lists the report's cell ids (the feasible ones only, if asked),
@@ -59,23 +54,13 @@ func cellList(r *sizing.Report, feasibleOnly bool) string {
 	return strings.Join(ids, ", ")
 }
 
-// writeExport writes the export f. A panic in an export writer is a bug in
-// capbank and becomes an internalError.
+// writeExport writes the export f (export.Write). A panic in an export
+// writer is a bug in capbank and becomes an internalError.
 func writeExport(w io.Writer, f export.Format, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, opt export.PDFOptions) (err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			err = &internalError{value: p, stack: debug.Stack()}
 		}
 	}()
-	switch f.Name {
-	case "boq-csv":
-		return export.BOQCSV(w, b)
-	case "boq-xlsx":
-		return export.BOQXLSX(w, d, r, b)
-	case "boq-json":
-		return export.BOQJSON(w, b)
-	case "pdf":
-		return export.ReportPDF(w, d, r, b, opt)
-	}
-	return fmt.Errorf("no writer for the format %q", f.Name)
+	return export.Write(w, f, d, r, b, opt)
 }

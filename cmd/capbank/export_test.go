@@ -58,7 +58,7 @@ func TestSizeExportsToFiles(t *testing.T) {
 				t.Fatalf("%d rows, header %q", len(rows), rows[0])
 			}
 			total, err := strconv.ParseFloat(rows[len(rows)-2][5], 64)
-			// The engine's total; 683.50 by hand (web/export tests).
+			// The engine's total; 683.50 by hand (components/export tests).
 			if err != nil || !closeTo(total, want.Total, 1e-12) || !closeTo(total, 683.5, 1e-12) {
 				t.Errorf("total %q, want %v", rows[len(rows)-2][5], want.Total)
 			}

@@ -13,6 +13,7 @@ import (
 	"strconv"
 	"strings"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -284,23 +285,23 @@ func measureProblem(err error, logName string) error {
 // its unit.
 type measureRow struct{ label, value, unit string }
 
-// siRow shows x in unit with an SI prefix and sigFigs figures.
-func siRow(label string, x float64, unit string) measureRow {
-	scale, prefix := siPrefix(x, sigFigs)
-	return measureRow{label, formatSig(x/scale, sigFigs), prefix + unit}
+// quantityRow shows x in unit with an SI prefix and sigFigs figures.
+func quantityRow(label string, x float64, unit string) measureRow {
+	scale, prefixed := figures.Prefix(x, unit, sigFigs)
+	return measureRow{label, number(x/scale, sigFigs), prefixed}
 }
 
 // plainRow shows x with n significant figures and no prefix (times in s,
 // percentages, R²).
 func plainRow(label string, x float64, n int, unit string) measureRow {
-	return measureRow{label, formatSig(x, n), unit}
+	return measureRow{label, number(x, n), unit}
 }
 
-func siRowPtr(label string, x *float64, unit string) measureRow {
+func optQuantityRow(label string, x *float64, unit string) measureRow {
 	if x == nil {
 		return measureRow{label, none, ""}
 	}
-	return siRow(label, *x, unit)
+	return quantityRow(label, *x, unit)
 }
 
 // writeMeasureText writes a titled table of figures, then the warnings and
@@ -340,37 +341,37 @@ func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurr
 		current = "discharge current I (logged mean, t1–t2)"
 	}
 	rows := []measureRow{
-		siRow("capacitance C = I/|slope| (fit t1–t2)", r.CapacitanceF, "F"),
-		siRow("capacitance, two-point I·(t2 − t1)/(U1 − U2)", r.TwoPointCapacitanceF, "F"),
-		siRowPtr("ESR = ΔU3/I", r.ESROhm, "Ω"),
-		siRowPtr("time constant ESR·C", r.TimeConstantS, "s"),
-		siRow(current, r.CurrentA, "A"),
-		siRow("U1 = 0.8·UR", r.U1V, "V"),
+		quantityRow("capacitance C = I/|slope| (fit t1–t2)", r.CapacitanceF, "F"),
+		quantityRow("capacitance, two-point I·(t2 − t1)/(U1 − U2)", r.TwoPointCapacitanceF, "F"),
+		optQuantityRow("ESR = ΔU3/I", r.ESROhm, "Ω"),
+		optQuantityRow("time constant ESR·C", r.TimeConstantS, "s"),
+		quantityRow(current, r.CurrentA, "A"),
+		quantityRow("U1 = 0.8·UR", r.U1V, "V"),
 		plainRow("t1", r.T1S, 6, "s"),
-		siRow("U2 = 0.4·UR", r.U2V, "V"),
+		quantityRow("U2 = 0.4·UR", r.U2V, "V"),
 		plainRow("t2", r.T2S, 6, "s"),
 		plainRow("discharge start t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
-		siRow("voltage before t0", r.VoltageBeforeV, "V"),
-		siRow("fitted line at t0", r.LineAtStartV, "V"),
-		siRow("drop ΔU3", r.DropV, "V"),
+		quantityRow("voltage before t0", r.VoltageBeforeV, "V"),
+		quantityRow("fitted line at t0", r.LineAtStartV, "V"),
+		quantityRow("drop ΔU3", r.DropV, "V"),
 		plainRow("ΔU3 / UR", r.DropPct, 3, "%"),
 		plainRow("fit points", float64(r.FitPoints), 7, ""),
 		plainRow("R²", r.RSquared, 6, ""),
-		siRow("residual RMS", r.ResidualRMSV, "V"),
+		quantityRow("residual RMS", r.ResidualRMSV, "V"),
 	}
-	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+formatSI(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
+	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+quantity(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
 }
 
 func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeResult) {
 	rows := []measureRow{
-		siRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
-		siRowPtr("ESR from the step at switch-on", r.ESROhm, "Ω"),
-		siRow("time constant τ = −1/slope", r.TimeConstantS, "s"),
-		siRow("resistor R", r.ResistorOhm, "Ω"),
+		quantityRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
+		optQuantityRow("ESR from the step at switch-on", r.ESROhm, "Ω"),
+		quantityRow("time constant τ = −1/slope", r.TimeConstantS, "s"),
+		quantityRow("resistor R", r.ResistorOhm, "Ω"),
 		plainRow("switch-on t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
-		siRowPtr("voltage before t0", r.VoltageBeforeV, "V"),
-		siRow("fitted decay at t0", r.LineAtStartV, "V"),
-		siRow("fit floor", r.FloorV, "V"),
+		optQuantityRow("voltage before t0", r.VoltageBeforeV, "V"),
+		quantityRow("fitted decay at t0", r.LineAtStartV, "V"),
+		quantityRow("fit floor", r.FloorV, "V"),
 		plainRow("fit from", r.FitFromS, 6, "s"),
 		plainRow("fit to", r.FitToS, 6, "s"),
 		plainRow("fit points", float64(r.FitPoints), 7, ""),
@@ -382,11 +383,11 @@ func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeRe
 
 func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
 	rows := []measureRow{
-		siRow("leakage current (latest point)", r.LeakageA, "A"),
-		siRowPtr("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
-		siRow("capacitance used", r.CapacitanceF, "F"),
-		siRow("start voltage", r.StartV, "V"),
-		siRow("end voltage", r.EndV, "V"),
+		quantityRow("leakage current (latest point)", r.LeakageA, "A"),
+		optQuantityRow("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
+		quantityRow("capacitance used", r.CapacitanceF, "F"),
+		quantityRow("start voltage", r.StartV, "V"),
+		quantityRow("end voltage", r.EndV, "V"),
 		plainRow("hold", r.EndS-r.StartS, 6, "s"),
 		plainRow("total drop", r.DropPct, 3, "%"),
 		plainRow("fit window", r.WindowS, 6, "s"),
@@ -400,17 +401,17 @@ func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
 				rp[i] = *p.ParallelResistanceOhm
 			}
 		}
-		lScale, lUnit := columnPrefix(leak, "A")
-		rScale, rUnit := columnPrefix(rp, "Ω")
+		lScale, lUnit := figures.Column(leak, "A", sigFigs)
+		rScale, rUnit := figures.Column(rp, "Ω", sigFigs)
 		t := table{right: []bool{true, true, true, true, true, true},
 			rows: [][]string{{"  at (s)", "voltage (V)", "dV/dt (V/s)", "leakage (" + lUnit + ")", "parallel R (" + rUnit + ")", "samples"}}}
 		for _, p := range r.Points {
 			par := none
 			if p.ParallelResistanceOhm != nil {
-				par = formatSig(*p.ParallelResistanceOhm/rScale, sigFigs)
+				par = number(*p.ParallelResistanceOhm/rScale, sigFigs)
 			}
-			t.rows = append(t.rows, []string{formatSig(p.AtS, 6), formatSig(p.VoltageV, 5),
-				strconv.FormatFloat(p.SlopeVPerS, 'e', 3, 64), formatSig(p.LeakageA/lScale, sigFigs), par, strconv.Itoa(p.Points)})
+			t.rows = append(t.rows, []string{number(p.AtS, 6), number(p.VoltageV, 5),
+				strconv.FormatFloat(p.SlopeVPerS, 'e', 3, 64), number(p.LeakageA/lScale, sigFigs), par, strconv.Itoa(p.Points)})
 		}
 		writeTable(w, t)
 	}
@@ -419,15 +420,15 @@ func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
 
 func writeTimedText(w io.Writer, r sizing.TimedDischarge) {
 	rows := []measureRow{
-		siRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
-		siRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),
+		quantityRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
+		quantityRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),
 		plainRow("quick estimate's error", r.QuickErrorPct, 3, "%"),
-		siRow("mean current I = (V0 + V1)/(2R)", r.MeanCurrentA, "A"),
-		siRow("time constant R·C", r.TimeConstantS, "s"),
-		siRow("V0", r.V0V, "V"),
-		siRow("V1", r.V1V, "V"),
+		quantityRow("mean current I = (V0 + V1)/(2R)", r.MeanCurrentA, "A"),
+		quantityRow("time constant R·C", r.TimeConstantS, "s"),
+		quantityRow("V0", r.V0V, "V"),
+		quantityRow("V1", r.V1V, "V"),
 		plainRow("time", r.DurationS, 6, "s"),
-		siRow("resistor R", r.ResistorOhm, "Ω"),
+		quantityRow("resistor R", r.ResistorOhm, "Ω"),
 	}
 	writeMeasureText(w, "Timed resistor discharge", rows, r.Warnings, r.Notes, nil)
 }

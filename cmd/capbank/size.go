@@ -13,8 +13,8 @@ import (
 	"path/filepath"
 	"runtime/debug"
 
+	"capbank/components/export"
 	"capbank/sizing"
-	"capbank/web/export"
 	"capbank/web/store"
 )
 

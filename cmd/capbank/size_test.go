@@ -191,8 +191,8 @@ func TestSizeUPSDesign(t *testing.T) {
 			row = line
 		}
 	}
-	for _, want := range []string{formatSig(rec.Thermal.HotSpotC, 3), formatSI(*rec.Balancing.ResistorOhm, "Ω"),
-		formatSig(*rec.Balancing.ShelfHoldH, sigFigs), formatSig(rec.Life.ExpectedYears, 3)} {
+	for _, want := range []string{number(rec.Thermal.HotSpotC, 3), quantity(*rec.Balancing.ResistorOhm, "Ω"),
+		number(*rec.Balancing.ShelfHoldH, sigFigs), number(rec.Life.ExpectedYears, 3)} {
 		if !strings.Contains(row, want) {
 			t.Errorf("heat row %q has no %q", row, want)
 		}

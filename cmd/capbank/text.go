@@ -4,13 +4,12 @@ import (
 	"bytes"
 	"fmt"
 	"io"
-	"math"
-	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
 	"unicode/utf8"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -19,7 +18,7 @@ const sigFigs = 4
 
 // none stands for a figure the report does not have (a nil runtime, price
 // or mass).
-const none = "—"
+const none = figures.None
 
 // writeText writes the report for a terminal: a headline with the
 // recommended bank, the assumptions applied, one table row per candidate,
@@ -60,22 +59,13 @@ func writeText(w io.Writer, r *sizing.Report) {
 	}
 	fmt.Fprintf(w, "Flags for %s:\n", rec.CellID)
 	flags := table{right: []bool{false, false, false}}
-	for _, f := range bySeverity(rec.Flags) {
+	for _, f := range figures.SortedFlags(rec.Flags) {
 		flags.rows = append(flags.rows, []string{"  " + string(f.Severity), f.Code, f.Message})
 		if f.Caution != "" {
 			flags.rows = append(flags.rows, []string{"", "", "Caution: " + f.Caution})
 		}
 	}
 	writeTable(w, flags)
-}
-
-// bySeverity orders flags danger first, then warning, then info, keeping
-// sizing's order within a severity.
-func bySeverity(flags []sizing.Flag) []sizing.Flag {
-	rank := map[sizing.Severity]int{sizing.Danger: 0, sizing.Warning: 1, sizing.Info: 2}
-	sorted := slices.Clone(flags)
-	slices.SortStableFunc(sorted, func(a, b sizing.Flag) int { return rank[a.Severity] - rank[b.Severity] })
-	return sorted
 }
 
 func recommended(r *sizing.Report) *sizing.Candidate {
@@ -95,14 +85,14 @@ func recommended(r *sizing.Report) *sizing.Candidate {
 func assumptions(r *sizing.Report) string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "Window %s → %s; worst case: capacitance × %s, ESR × %s",
-		formatSI(r.MaxV, "V"), formatSI(r.MinV, "V"),
-		formatSig(r.EOLCapacitanceFactor, sigFigs), formatSig(r.EOLESRFactor, sigFigs))
+		quantity(r.MaxV, "V"), quantity(r.MinV, "V"),
+		number(r.EOLCapacitanceFactor, sigFigs), number(r.EOLESRFactor, sigFigs))
 	if r.ColdC != nil {
-		fmt.Fprintf(&b, ", cold %s °C", formatSig(*r.ColdC, sigFigs))
+		fmt.Fprintf(&b, ", cold %s °C", number(*r.ColdC, sigFigs))
 	}
-	fmt.Fprintf(&b, "; sizing pass %s s", formatSig(r.PassDurationS, sigFigs))
+	fmt.Fprintf(&b, "; sizing pass %s s", number(r.PassDurationS, sigFigs))
 	if r.Repeat > 1 {
-		fmt.Fprintf(&b, " (%d × %s s)", r.Repeat, formatSig(r.ProfileDurationS, sigFigs))
+		fmt.Fprintf(&b, " (%d × %s s)", r.Repeat, number(r.ProfileDurationS, sigFigs))
 	}
 	if r.RankBy != "" {
 		fmt.Fprintf(&b, "; ranked by %s", r.RankBy)
@@ -124,9 +114,9 @@ func candidateTable(cs []sizing.Candidate) table {
 	for i, c := range cs {
 		energy[i], peak[i], rms[i] = c.UsableEnergyJ, c.PeakCurrentA, c.RMSCurrentA
 	}
-	eScale, eUnit := columnPrefix(energy, "J")
-	pScale, pUnit := columnPrefix(peak, "A")
-	rScale, rUnit := columnPrefix(rms, "A")
+	eScale, eUnit := figures.Column(energy, "J", sigFigs)
+	pScale, pUnit := figures.Column(peak, "A", sigFigs)
+	rScale, rUnit := figures.Column(rms, "A", sigFigs)
 
 	t := table{
 		right: []bool{false, false, true, true, true, true, true, true, true, true, true, true, false},
@@ -143,25 +133,19 @@ func candidateTable(cs []sizing.Candidate) table {
 		}
 		runtime := none
 		if c.RuntimeS != nil {
-			runtime = formatSig(*c.RuntimeS, sigFigs)
-			if c.RuntimeEstimated {
-				runtime = "≈" + runtime
-			}
+			runtime = figures.Estimated(number(*c.RuntimeS, sigFigs), c.RuntimeEstimated)
 		}
-		price := none
-		if c.TotalPrice != nil {
-			price = strconv.FormatFloat(*c.TotalPrice, 'f', 2, 64)
-		}
+		price := figures.ASCII(figures.Opt(c.TotalPrice, figures.Money))
 		mass := none
 		if c.MassKg != nil {
-			mass = formatSig(*c.MassKg, sigFigs)
+			mass = number(*c.MassKg, sigFigs)
 		}
 		t.rows = append(t.rows, []string{
 			c.CellID, feasible, strconv.Itoa(c.Series), strconv.Itoa(c.Parallel), strconv.Itoa(c.Cells),
-			runtime, formatSig(c.MinTerminalV, sigFigs),
-			formatSig(c.UsableEnergyJ/eScale, sigFigs),
-			formatSig(c.PeakCurrentA/pScale, sigFigs),
-			formatSig(c.RMSCurrentA/rScale, sigFigs),
+			runtime, number(c.MinTerminalV, sigFigs),
+			number(c.UsableEnergyJ/eScale, sigFigs),
+			number(c.PeakCurrentA/pScale, sigFigs),
+			number(c.RMSCurrentA/rScale, sigFigs),
 			price, mass, c.Reason,
 		})
 	}
@@ -169,59 +153,71 @@ func candidateTable(cs []sizing.Candidate) table {
 }
 
 // safetyTable is one row per candidate with its thermal, spread,
-// balancing and life figures.
+// balancing and life figures; the two columns in W take one SI prefix
+// each, as the candidate table's columns do.
 func safetyTable(cs []sizing.Candidate) table {
+	var losses, standings []float64
+	for _, c := range cs {
+		if c.Thermal != nil {
+			losses = append(losses, c.Thermal.CellLossW)
+		}
+		if b := c.Balancing; b != nil && b.Count > 0 {
+			standings = append(standings, b.LossW*float64(c.Parallel))
+		}
+	}
+	lScale, lUnit := figures.Column(losses, "W", sigFigs)
+	sScale, sUnit := figures.Column(standings, "W", sigFigs)
 	t := table{
 		right: []bool{false, true, true, true, true, false, true, true, true, true},
 		rows: [][]string{{
-			"cell", "hot spot (°C)", "peak rise (K)", "loss/cell (W)", "spread cell (V)",
-			"balancing", "standing loss (W)", "shelf hold (h)", "static cell (V)", "life (years)",
+			"cell", "hot spot (°C)", "peak rise (K)", "loss/cell (" + lUnit + ")", "spread cell (V)",
+			"balancing", "standing loss (" + sUnit + ")", "shelf hold (h)", "static cell (V)", "life (years)",
 		}},
 	}
 	opt := func(p *float64) string {
 		if p == nil {
 			return none
 		}
-		return formatSig(*p, sigFigs)
+		return number(*p, sigFigs)
 	}
 	for _, c := range cs {
 		hot, rise, loss := none, none, none
 		if th := c.Thermal; th != nil {
-			hot = formatSig(th.HotSpotC, 3)
+			hot = number(th.HotSpotC, 3)
 			r := th.PeakRiseK
 			if th.DutyPeakRiseK != nil {
 				r = max(r, *th.DutyPeakRiseK)
 			}
-			rise = formatSig(r, 3)
-			loss = formatSig(th.CellLossW, 3)
+			rise = number(r, 3)
+			loss = number(th.CellLossW/lScale, 3)
 		}
 		spread := none
 		if c.Spread != nil {
-			spread = formatSig(c.Spread.WorstCellV, sigFigs)
+			spread = number(c.Spread.WorstCellV, sigFigs)
 		}
 		bal, standing, shelf, static := none, none, none, none
 		if b := c.Balancing; b != nil {
 			bal = b.Kind
 			if b.ResistorOhm != nil {
-				bal += " " + formatSI(*b.ResistorOhm, "Ω")
+				bal += " " + quantity(*b.ResistorOhm, "Ω")
 				if b.ResistorPowerW != nil {
-					bal += " " + formatSig(*b.ResistorPowerW, 3) + " W"
+					bal += " " + number(*b.ResistorPowerW, 3) + " W"
 				}
 				bal += " " + b.Series
 			}
 			if b.QuiescentA != nil {
-				bal += " " + formatSI(*b.QuiescentA, "A")
+				bal += " " + quantity(*b.QuiescentA, "A")
 			}
 			if b.Count > 0 {
 				bal += fmt.Sprintf(" ×%d", b.Count)
-				standing = formatSig(b.LossW*float64(c.Parallel), 3)
+				standing = number(b.LossW*float64(c.Parallel)/sScale, 3)
 			}
 			shelf = opt(b.ShelfHoldH)
 			static = opt(b.WorstStaticCellV)
 		}
 		life := none
 		if c.Life != nil {
-			life = formatSig(c.Life.ExpectedYears, 3)
+			life = number(c.Life.ExpectedYears, 3)
 		}
 		t.rows = append(t.rows, []string{c.CellID, hot, rise, loss, spread, bal, standing, shelf, static, life})
 	}
@@ -258,71 +254,13 @@ func writeTable(w io.Writer, t table) {
 	}
 }
 
-// formatSig formats x with n significant figures in plain decimal notation
-// (1234567 with 4 gives "1235000", 0.0012345 gives "0.001235"), without
-// trailing zeros after the decimal point.
-func formatSig(x float64, n int) string {
-	switch {
-	case math.IsNaN(x):
-		return "NaN"
-	case math.IsInf(x, 1):
-		return "+Inf"
-	case math.IsInf(x, -1):
-		return "-Inf"
-	case x == 0:
-		return "0"
-	}
-	rounded, exp := roundSig(x, n)
-	s := strconv.FormatFloat(rounded, 'f', max(0, n-1-exp), 64)
-	if strings.Contains(s, ".") {
-		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
-	}
-	return s
+// number is figures.Number as a terminal shows it (an ASCII minus).
+func number(x float64, n int) string {
+	return figures.ASCII(figures.Number(x, n))
 }
 
-// roundSig rounds x to n significant figures and returns it with its
-// decimal exponent after rounding (999.96 to 4 figures is 1000, exponent 3).
-func roundSig(x float64, n int) (float64, int) {
-	e := strconv.FormatFloat(x, 'e', n-1, 64)
-	rounded, _ := strconv.ParseFloat(e, 64)
-	_, exp, _ := strings.Cut(e, "e")
-	p, _ := strconv.Atoi(exp)
-	return rounded, p
-}
-
-var siPrefixes = map[int]string{
-	-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T", 15: "P",
-}
-
-// siPrefix chooses the SI prefix for x shown to n significant figures: the
-// power of 1000 that puts it in [1, 1000). It returns the divisor and the
-// prefix; 0, NaN and ±Inf take no prefix.
-func siPrefix(x float64, n int) (float64, string) {
-	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) {
-		return 1, ""
-	}
-	_, exp := roundSig(x, n)
-	e3 := exp - ((exp%3)+3)%3 // round down to a multiple of 3, also for negative exponents
-	e3 = min(max(e3, -15), 15)
-	return math.Pow10(e3), siPrefixes[e3]
-}
-
-// formatSI formats x in unit with an SI prefix and sigFigs significant
-// figures: 120000 J is "120 kJ", 0.0072 Ω is "7.2 mΩ".
-func formatSI(x float64, unit string) string {
-	scale, prefix := siPrefix(x, sigFigs)
-	return formatSig(x/scale, sigFigs) + " " + prefix + unit
-}
-
-// columnPrefix chooses one SI prefix for a column of figures, from the
-// largest magnitude, so that a column reads in one unit.
-func columnPrefix(xs []float64, unit string) (float64, string) {
-	largest := 0.0
-	for _, x := range xs {
-		if !math.IsNaN(x) && !math.IsInf(x, 0) {
-			largest = max(largest, math.Abs(x))
-		}
-	}
-	scale, prefix := siPrefix(largest, sigFigs)
-	return scale, prefix + unit
+// quantity is figures.SI to sigFigs figures as a terminal shows it (a
+// space before the unit, an ASCII minus): "117.6 kJ".
+func quantity(x float64, unit string) string {
+	return figures.ASCII(figures.SI(x, unit, sigFigs))
 }

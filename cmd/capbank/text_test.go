@@ -2,110 +2,12 @@ package main
 
 import (
 	"bytes"
-	"math"
 	"strings"
 	"testing"
 	"unicode/utf8"
 
 	"capbank/sizing"
 )
-
-func TestFormatSig(t *testing.T) {
-	t.Parallel()
-	// Expected strings: decimal rounding to n significant figures by hand,
-	// half away from zero as strconv rounds exact decimal ties (common
-	// practice, no source).
-	tests := []struct {
-		x    float64
-		n    int
-		want string
-	}{
-		{23.30685282, 4, "23.31"},
-		{32.333333, 4, "32.33"},
-		{120000, 4, "120000"},
-		{1234567, 4, "1235000"},
-		{0.0012345678, 4, "0.001235"},
-		{999.96, 4, "1000"},
-		{2.5, 4, "2.5"},
-		{48, 3, "48"},
-		{-0.72, 4, "-0.72"},
-		{-0.00001, 3, "-0.00001"},
-		{0, 4, "0"},
-		{math.Copysign(0, -1), 4, "0"},
-		{math.NaN(), 4, "NaN"},
-		{math.Inf(1), 4, "+Inf"},
-	}
-	for _, tt := range tests {
-		if got := formatSig(tt.x, tt.n); got != tt.want {
-			t.Errorf("formatSig(%v, %d) = %q, want %q", tt.x, tt.n, got, tt.want)
-		}
-	}
-}
-
-func TestFormatSI(t *testing.T) {
-	t.Parallel()
-	// Expected strings: SI prefixes by powers of 1000 (SI Brochure, 9th
-	// ed., table 7), figures rounded by hand.
-	tests := []struct {
-		x    float64
-		unit string
-		want string
-	}{
-		{120000, "J", "120 kJ"},      // usable energy, REFERENCES.md 10.1
-		{0.0072, "Ω", "7.2 mΩ"},      // string ESR, REFERENCES.md 10.1
-		{0.0004, "Ω", "400 µΩ"},      // cell ESR, REFERENCES.md 10.1; µ, not u
-		{138.888889, "F", "138.9 F"}, // string capacitance, REFERENCES.md 10.1
-		{4556.25, "W", "4.556 kW"},   // cell matched-load power, REFERENCES.md 10.5
-		{48, "V", "48 V"},            // no prefix
-		{0, "J", "0 J"},              // zero takes no prefix
-		{-2500000, "J", "-2.5 MJ"},   // the sign is kept
-		{1000, "A", "1 kA"},          // an exact power of 1000
-		{0.001, "Ω", "1 mΩ"},         // an exact negative power of 1000
-		{999.96, "V", "1 kV"},        // rounds to 1000, so into the next prefix
-		{0.00099999, "Ω", "1 mΩ"},    // the same below 1
-		{0.0009994, "Ω", "999.4 µΩ"}, // stays below the boundary
-		{123456789, "W", "123.5 MW"}, // rounded to four figures
-		{100.04, "A", "100 A"},       // 100.0 to four figures, shown without the zero
-		{2e18, "J", "2000 PJ"},       // above the largest prefix: stays at P
-		{1e-20, "A", "0.00001 fA"},   // below the smallest: stays at f
-		{math.Inf(1), "W", "+Inf W"}, // not a number to scale
-	}
-	for _, tt := range tests {
-		if got := formatSI(tt.x, tt.unit); got != tt.want {
-			t.Errorf("formatSI(%v, %q) = %q, want %q", tt.x, tt.unit, got, tt.want)
-		}
-	}
-}
-
-func TestColumnPrefix(t *testing.T) {
-	t.Parallel()
-	// One prefix for the whole column, chosen by its largest magnitude.
-	tests := []struct {
-		xs        []float64
-		base      string
-		scale     float64
-		unit      string
-		formatted []string
-	}{
-		{[]float64{120000, 45000, 1200000}, "J", 1e6, "MJ", []string{"0.12", "0.045", "1.2"}},
-		{[]float64{208.333, 52.1}, "A", 1, "A", []string{"208.3", "52.1"}},
-		{[]float64{0.004, 0.0125}, "A", 1e-3, "mA", []string{"4", "12.5"}},
-		{[]float64{-3000, 10}, "W", 1e3, "kW", []string{"-3", "0.01"}},
-		{nil, "J", 1, "J", nil},
-		{[]float64{math.NaN(), 5000}, "J", 1e3, "kJ", []string{"NaN", "5"}},
-	}
-	for _, tt := range tests {
-		scale, unit := columnPrefix(tt.xs, tt.base)
-		if scale != tt.scale || unit != tt.unit {
-			t.Errorf("columnPrefix(%v) = %g, %q; want %g, %q", tt.xs, scale, unit, tt.scale, tt.unit)
-		}
-		for i, x := range tt.xs {
-			if got := formatSig(x/scale, sigFigs); got != tt.formatted[i] {
-				t.Errorf("%v in %s: %q, want %q", x, unit, got, tt.formatted[i])
-			}
-		}
-	}
-}
 
 func ptr[T any](v T) *T { return &v }
 
@@ -278,5 +180,33 @@ func TestWriteTextNoFlags(t *testing.T) {
 	writeText(&buf, r)
 	if !strings.Contains(buf.String(), "\nFlags for c350: none\n\nHeat, balancing and life") {
 		t.Errorf("output has no empty flags line before the heat table:\n%s", buf.String())
+	}
+}
+
+// The heat table's columns in W take one SI prefix each, chosen by the
+// column's largest figure, as the candidate table's do (README: "SI
+// prefixes chosen per column"): a logger's 6.78 µW per cell reads 6.78
+// under "loss/cell (µW)", not 0.00000678 or 6.78e-6.
+func TestSafetyTableColumnPrefixes(t *testing.T) {
+	t.Parallel()
+	cs := []sizing.Candidate{
+		{CellID: "c22", Parallel: 5, Thermal: &sizing.Thermal{CellLossW: 6.78e-6, HotSpotC: 30},
+			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, LossW: 0.002016}},
+		{CellID: "c5", Parallel: 2, Thermal: &sizing.Thermal{CellLossW: 1.31e-6, HotSpotC: 30},
+			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, LossW: 0.0082}},
+	}
+	tb := safetyTable(cs)
+	header := strings.Join(tb.rows[0], "|")
+	for _, want := range []string{"loss/cell (µW)", "standing loss (mW)"} {
+		if !strings.Contains(header, want) {
+			t.Errorf("header %q has no %q", header, want)
+		}
+	}
+	// 6.78 µW and 1.31 µW per cell; 2.016 mW × 5 strings = 10.08 mW and
+	// 8.2 mW × 2 = 16.4 mW per bank, to 3 figures.
+	for i, want := range [][2]string{{"6.78", "10.1"}, {"1.31", "16.4"}} {
+		if got := [2]string{tb.rows[i+1][3], tb.rows[i+1][6]}; got != want {
+			t.Errorf("%s: loss/cell and standing loss %q, want %q", cs[i].CellID, got, want)
+		}
 	}
 }

@@ -4,12 +4,11 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"math"
 	"net/url"
 	"slices"
-	"strconv"
 	"strings"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -63,7 +62,7 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}
 	v := url.Values{}
-	num := func(key string, x float64) { v.Set(key, FieldNumber(x)) }
+	num := func(key string, x float64) { v.Set(key, figures.Field(x)) }
 	opt := func(key string, x *float64) {
 		if x != nil {
 			num(key, *x)
@@ -187,7 +186,7 @@ func InlineValues(v url.Values, c sizing.Cell) { CellValues(v, "inline.", c) }
 func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	set := func(key string, x *float64) {
 		if x != nil {
-			v.Set(prefix+key, FieldNumber(*x))
+			v.Set(prefix+key, figures.Field(*x))
 		}
 	}
 	v.Set(prefix+"id", c.ID)
@@ -203,12 +202,12 @@ func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	if c.Electrolyte != "" {
 		v.Set(prefix+"electrolyte", c.Electrolyte)
 	}
-	v.Set(prefix+"rated_v", FieldNumber(c.RatedV))
-	v.Set(prefix+"capacitance_f", FieldNumber(c.CapacitanceF))
-	v.Set(prefix+"esr_ohm", FieldNumber(c.ESROhm))
+	v.Set(prefix+"rated_v", figures.Field(c.RatedV))
+	v.Set(prefix+"capacitance_f", figures.Field(c.CapacitanceF))
+	v.Set(prefix+"esr_ohm", figures.Field(c.ESROhm))
 	if t := c.CapacitanceTolerancePct; len(t) == 2 {
-		v.Set(prefix+"capacitance_tolerance_pct[0]", FieldNumber(t[0]))
-		v.Set(prefix+"capacitance_tolerance_pct[1]", FieldNumber(t[1]))
+		v.Set(prefix+"capacitance_tolerance_pct[0]", figures.Field(t[0]))
+		v.Set(prefix+"capacitance_tolerance_pct[1]", figures.Field(t[1]))
 	}
 	set("surge_v", c.SurgeV)
 	set("cold_esr_factor", c.ColdESRFactor)
@@ -225,51 +224,6 @@ func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	set("rated_life_h", c.RatedLifeH)
 	set("rated_life_temp_c", c.RatedLifeTempC)
 	set("specific_heat_j_per_kg_k", c.SpecificHeatJPerKgK)
-}
-
-// fieldPrefixes are the SI prefixes FieldNumber writes, by their power of
-// ten.
-var fieldPrefixes = map[int]string{9: "G", 6: "M", 3: "k", -3: "m", -6: "µ", -9: "n", -12: "p"}
-
-// FieldNumber writes a design-file number as an engineer types it into a
-// field: plain between 0.001 and 9999, else with the SI prefix that keeps
-// the figure between 1 and 1000 (4µ, not 4e-06). The digits are those of
-// the shortest exact form with the decimal point moved, so the field reads
-// back as exactly the same number.
-func FieldNumber(x float64) string {
-	plain := formatFloat(x)
-	if a := math.Abs(x); x == 0 || (a >= 1e-3 && a < 1e4) || math.IsNaN(x) || math.IsInf(x, 0) {
-		return plain
-	}
-	sci := strconv.FormatFloat(x, 'e', -1, 64) // -d.ddde±XX
-	mant, e, _ := strings.Cut(sci, "e")
-	exp, err := strconv.Atoi(e)
-	if err != nil {
-		return plain
-	}
-	pe := int(math.Floor(float64(exp)/3)) * 3
-	sym, ok := fieldPrefixes[pe]
-	if !ok {
-		return plain
-	}
-	sign := ""
-	if strings.HasPrefix(mant, "-") {
-		sign, mant = "-", mant[1:]
-	}
-	digits := strings.Replace(mant, ".", "", 1)
-	point := 1 + exp - pe // digits before the decimal point: 1 to 3
-	for len(digits) < point {
-		digits += "0"
-	}
-	text := sign + digits[:point]
-	if rest := digits[point:]; rest != "" {
-		text += "." + rest
-	}
-	text += sym
-	if back, err := ParseSI(text, UnitNone); err != nil || back != x {
-		return plain
-	}
-	return text
 }
 
 // SameCell reports whether two cells are the same in every key of the

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -32,9 +33,9 @@ const chartHeight = 70.0
 func (p *pdf) charts(d *sizing.Design, r *sizing.Report, c *sizing.Candidate, cv *sizing.Curve, note string) {
 	p.f.AddPage()
 	p.heading(fmt.Sprintf("Worst-case pass of the bank: %d s × %d p of %s", c.Series, c.Parallel, c.CellID), 0)
-	worst := fmt.Sprintf("end of life (capacitance × %s, ESR × %s)", formatSig(r.EOLCapacitanceFactor, 4), formatSig(r.EOLESRFactor, 4))
+	worst := fmt.Sprintf("end of life (capacitance × %s, ESR × %s)", figures.Number(r.EOLCapacitanceFactor, 4), figures.Number(r.EOLESRFactor, 4))
 	if r.ColdC != nil {
-		worst += fmt.Sprintf(", cold %s °C", formatSig(*r.ColdC, 4))
+		worst += fmt.Sprintf(", cold %s °C", figures.Number(*r.ColdC, 4))
 	}
 	if cv == nil || len(cv.TimeS) < 2 {
 		if note == "" {
@@ -62,8 +63,8 @@ func (p *pdf) charts(d *sizing.Design, r *sizing.Report, c *sizing.Candidate, cv
 			{name: "capacitor voltage (behind the ESR)", y: cv.CapacitorV, col: orange, dash: true},
 		},
 		[]marker{
-			{label: "window top " + formatSI(cv.MaxV, "V"), y: cv.MaxV, col: green},
-			{label: "window bottom (cut-off) " + formatSI(cv.MinV, "V"), y: cv.MinV, col: red, below: true},
+			{label: "window top " + quantity(cv.MaxV, "V"), y: cv.MaxV, col: green},
+			{label: "window bottom (cut-off) " + quantity(cv.MinV, "V"), y: cv.MinV, col: red, below: true},
 		}, "", 0)
 	p.chart("Bank current (positive out of the bank)", xLabel, "current (A)", t,
 		[]series{{name: "bank current", y: cv.CurrentA, col: purple}}, nil, "", 0)
@@ -74,14 +75,14 @@ func (p *pdf) charts(d *sizing.Design, r *sizing.Report, c *sizing.Candidate, cv
 		if d.AmbientC != nil {
 			ambient = *d.AmbientC
 		}
-		marks = append(marks, marker{label: "ambient " + formatUnit(ambient, "°C"), y: ambient, col: grey, below: true})
+		marks = append(marks, marker{label: "ambient " + quantity(ambient, "°C"), y: ambient, col: grey, below: true})
 		lo, hi := extent(cv.TemperatureC)
 		if cell := cellByID(d, c.CellID); cell != nil && cell.MaxTempC != nil {
 			limit := *cell.MaxTempC
 			if limit <= hi+3*math.Max(hi-lo, 1) {
-				marks = append(marks, marker{label: "cell maximum " + formatUnit(limit, "°C"), y: limit, col: red})
+				marks = append(marks, marker{label: "cell maximum " + quantity(limit, "°C"), y: limit, col: red})
 			} else {
-				extra = "cell maximum " + formatUnit(limit, "°C") + ", above the scale"
+				extra = "cell maximum " + quantity(limit, "°C") + ", above the scale"
 			}
 		}
 		p.chart("Temperature of the hottest cell (first-order thermal model from ambient)", xLabel, "temperature (°C)", t,
@@ -211,7 +212,7 @@ func (p *pdf) chart(title, xLabel, yLabel string, x []float64, ss []series, mark
 		f.Line(left, y, right, y)
 		p.stroke(black, 0.2, false)
 		f.Line(left-1.2, y, left, y)
-		label := formatSig(roundTo(v, ystep), 6)
+		label := pdfText(figures.Number(roundTo(v, ystep), 6))
 		f.Text(left-2-f.GetStringWidth(label), y+1.2, label)
 	}
 	for v := xlo; v <= xhi+xstep*1e-6; v += xstep {
@@ -220,7 +221,7 @@ func (p *pdf) chart(title, xLabel, yLabel string, x []float64, ss []series, mark
 		f.Line(xx, top, xx, bottom)
 		p.stroke(black, 0.2, false)
 		f.Line(xx, bottom, xx, bottom+1.2)
-		label := formatSig(roundTo(v, xstep), 6)
+		label := pdfText(figures.Number(roundTo(v, xstep), 6))
 		f.Text(xx-f.GetStringWidth(label)/2, bottom+4, label)
 	}
 	if ylo < 0 && yhi > 0 {

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 
 	"codeberg.org/go-pdf/fpdf"
@@ -268,19 +269,16 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 		}
 		runtime := "not within 10^7 s"
 		if c.RuntimeS != nil {
-			runtime = formatDuration(*c.RuntimeS)
-			if c.RuntimeEstimated {
-				runtime = "about " + runtime
-			}
+			runtime = figures.Estimated(figures.Duration(*c.RuntimeS, sigFigs), c.RuntimeEstimated)
 		}
 		lines = append(lines, fmt.Sprintf("Worst-case runtime %s; lowest terminal voltage %s against the %s cut-off; usable energy %s; stored %s at %s.",
-			runtime, formatSI(c.MinTerminalV, "V"), formatSI(p.minV(), "V"), formatSI(c.UsableEnergyJ, "J"),
-			formatSI(c.StoredEnergyJ, "J"), formatSI(c.Hazards.MaxV, "V")))
+			runtime, quantity(c.MinTerminalV, "V"), quantity(p.minV(), "V"), quantity(c.UsableEnergyJ, "J"),
+			quantity(c.StoredEnergyJ, "J"), quantity(c.Hazards.MaxV, "V")))
 		counts := map[sizing.Severity]int{}
 		for _, fl := range c.Flags {
 			counts[fl.Severity]++
 		}
-		total := formatMoney(b.Total, b.Currency)
+		total := money(b.Total, b.Currency)
 		if !b.Complete {
 			total += " (incomplete: some lines have no price)"
 		}
@@ -456,36 +454,36 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	p.heading("Design inputs", 30)
 	ceiling := "each cell's rated voltage"
 	if d.CellMaxV != nil {
-		ceiling = formatSI(*d.CellMaxV, "V") + " (cell_max_v; a cell's rating applies when lower)"
+		ceiling = quantity(*d.CellMaxV, "V") + " (cell_max_v; a cell's rating applies when lower)"
 	}
-	worst := fmt.Sprintf("end of life: capacitance × %s, ESR × %s", formatSig(r.EOLCapacitanceFactor, sigFigs), formatSig(r.EOLESRFactor, sigFigs))
+	worst := fmt.Sprintf("end of life: capacitance × %s, ESR × %s", figures.Number(r.EOLCapacitanceFactor, sigFigs), figures.Number(r.EOLESRFactor, sigFigs))
 	if r.ColdC != nil {
-		worst += fmt.Sprintf("; cold %s °C (ESR raised by each cell's cold factor)", formatSig(*r.ColdC, sigFigs))
+		worst += fmt.Sprintf("; cold %s °C (ESR raised by each cell's cold factor)", figures.Number(*r.ColdC, sigFigs))
 	}
-	ambient := formatUnit(defaultAmbientC, "°C") + " (default)"
+	ambient := quantity(defaultAmbientC, "°C") + " (default)"
 	if d.AmbientC != nil {
-		ambient = formatUnit(*d.AmbientC, "°C")
+		ambient = quantity(*d.AmbientC, "°C")
 	}
 	eff := "1 (power_w is at the bank terminals)"
 	if d.Load.Efficiency != nil {
-		eff = formatSig(*d.Load.Efficiency, sigFigs) + " (converter, both ways)"
+		eff = figures.Number(*d.Load.Efficiency, sigFigs) + " (converter, both ways)"
 	}
-	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.Steps), formatDuration(r.ProfileDurationS))
+	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.Steps), figures.Duration(r.ProfileDurationS, sigFigs))
 	if r.Repeat > 1 {
-		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, formatDuration(r.PassDurationS))
+		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, figures.Duration(r.PassDurationS, sigFigs))
 	}
 	rows := [][]string{
-		{"Voltage window", fmt.Sprintf("%s at the top (fully charged) to %s, the cut-off, at the bank terminals", formatSI(d.Window.MaxV, "V"), formatSI(d.Window.MinV, "V"))},
+		{"Voltage window", fmt.Sprintf("%s at the top (fully charged) to %s, the cut-off, at the bank terminals", quantity(d.Window.MaxV, "V"), quantity(d.Window.MinV, "V"))},
 		{"Per-cell ceiling", ceiling},
 		{"Worst case", worst},
 		{"Ambient", ambient},
 		{"Load", pass + "; converter efficiency " + eff},
 	}
 	if d.LifeYears != nil {
-		rows = append(rows, []string{"Service life asked", formatUnit(*d.LifeYears, "years")})
+		rows = append(rows, []string{"Service life asked", quantity(*d.LifeYears, "years")})
 	}
 	if d.StandbyH != nil {
-		rows = append(rows, []string{"Standby hold asked", formatUnit(*d.StandbyH, "h") + " above the cut-off with no charger"})
+		rows = append(rows, []string{"Standby hold asked", quantity(*d.StandbyH, "h") + " above the cut-off with no charger"})
 	}
 	rows = append(rows, []string{"Balancing", balancingInput(d.Balancing)})
 	rows = append(rows, []string{"Ranking", "feasible candidates ranked by " + r.RankBy})
@@ -502,9 +500,9 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		kind, v, unit, has := stepKind(s)
 		value := none
 		if has {
-			value = formatSI(v, unit)
+			value = quantity(v, unit)
 		}
-		steps = append(steps, []string{strconv.Itoa(i + 1), kind, value, formatSig(s.DurationS, 6), formatSig(start.value(), 6)})
+		steps = append(steps, []string{strconv.Itoa(i + 1), kind, value, figures.Number(s.DurationS, 6), figures.Number(start.value(), 6)})
 		start.add(s.DurationS)
 	}
 	p.table(table{cols: []column{{"step", 0.6, "R"}, {"kind", 1.2, "L"}, {"value", 1.4, "R"}, {"duration (s)", 1.2, "R"}, {"starts at (s)", 1.2, "R"}, {"", 2.4, "L"}}, rows: padRows(steps, 6)})
@@ -520,7 +518,7 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	for _, c := range d.Cells {
 		tol := ""
 		if len(c.CapacitanceTolerancePct) == 2 {
-			tol = fmt.Sprintf("%s / +%s", formatSig(c.CapacitanceTolerancePct[0], 3), formatSig(c.CapacitanceTolerancePct[1], 3))
+			tol = fmt.Sprintf("%s / +%s", figures.Number(c.CapacitanceTolerancePct[0], 3), figures.Number(c.CapacitanceTolerancePct[1], 3))
 		}
 		temps := ""
 		if c.MinTempC != nil || c.MaxTempC != nil {
@@ -528,9 +526,9 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		}
 		cold := ""
 		if c.ColdESRFactor != nil {
-			cold = "×" + formatSig(*c.ColdESRFactor, 3)
+			cold = "×" + figures.Number(*c.ColdESRFactor, 3)
 			if c.ColdESRTempC != nil {
-				cold += " at " + formatSig(*c.ColdESRTempC, 3) + " °C"
+				cold += " at " + figures.Number(*c.ColdESRTempC, 3) + " °C"
 			}
 		}
 		id := c.ID
@@ -539,22 +537,22 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		}
 		life := ""
 		if c.RatedLifeH != nil {
-			life = formatSig(*c.RatedLifeH, 4) + " h"
+			life = figures.Number(*c.RatedLifeH, 4) + " h"
 			if c.RatedLifeTempC != nil {
-				life += " at " + formatSig(*c.RatedLifeTempC, 3) + " °C"
+				life += " at " + figures.Number(*c.RatedLifeTempC, 3) + " °C"
 			}
 		}
 		price := ""
 		if c.UnitPrice != nil {
-			price = formatMoney(*c.UnitPrice, "")
+			price = money(*c.UnitPrice, "")
 		}
 		heat := ""
 		if c.SpecificHeatJPerKgK != nil {
-			heat = formatSig(*c.SpecificHeatJPerKgK, 4)
+			heat = figures.Number(*c.SpecificHeatJPerKgK, 4)
 		}
 		elec = append(elec, []string{
-			id, formatSig(c.RatedV, 4), optFig(c.SurgeV), formatSig(c.CapacitanceF, 6), tol,
-			formatSig(c.ESROhm*1e3, 4), cold, optScaled(c.LeakageA, 1e3), optFig(c.MaxCurrentA), optFig(c.PeakCurrentA),
+			id, figures.Number(c.RatedV, 4), optFig(c.SurgeV), figures.Number(c.CapacitanceF, 6), tol,
+			figures.Number(c.ESROhm*1e3, 4), cold, optScaled(c.LeakageA, 1e3), optFig(c.MaxCurrentA), optFig(c.PeakCurrentA),
 		})
 		other = append(other, []string{
 			c.ID, optFig(c.ThermalResistanceKPerW), temps, optFig(c.MassKg), optFig(c.VolumeL), heat, life, c.Electrolyte, price,
@@ -591,14 +589,14 @@ func optFig(p *float64) string {
 	if p == nil {
 		return ""
 	}
-	return formatSig(*p, sigFigs)
+	return figures.Number(*p, sigFigs)
 }
 
 func optScaled(p *float64, k float64) string {
 	if p == nil {
 		return ""
 	}
-	return formatSig(*p*k, sigFigs)
+	return figures.Number(*p*k, sigFigs)
 }
 
 // balancingInput says the design's balancing choice in words.
@@ -612,7 +610,7 @@ func balancingInput(b *sizing.Balancing) string {
 	case "active":
 		s := "active, a circuit per cell"
 		if b.QuiescentA != nil {
-			s += " drawing " + formatSI(*b.QuiescentA, "A")
+			s += " drawing " + quantity(*b.QuiescentA, "A")
 		}
 		return s
 	}
@@ -623,9 +621,9 @@ func balancingInput(b *sizing.Balancing) string {
 	if b.Series != "" {
 		series = b.Series
 	}
-	s := fmt.Sprintf("passive, a resistor across each cell: %s × the leakage spread, rounded down to %s", formatSig(mult, 4), series)
+	s := fmt.Sprintf("passive, a resistor across each cell: %s × the leakage spread, rounded down to %s", figures.Number(mult, 4), series)
 	if b.LeakageSpreadA != nil {
-		s += ", leakage spread " + formatSI(*b.LeakageSpreadA, "A")
+		s += ", leakage spread " + quantity(*b.LeakageSpreadA, "A")
 	}
 	return s
 }
@@ -642,74 +640,71 @@ func (p *pdf) bankFigures(d *sizing.Design, r *sizing.Report, c *sizing.Candidat
 	var rows [][]string
 	add := func(group, label, value, note string) { rows = append(rows, []string{group, label, value, note}) }
 	add("Arrangement", "series × parallel", fmt.Sprintf("%d s × %d p = %d cells", c.Series, c.Parallel, c.Cells), "set by "+limitText(c.Limit))
-	add("", "cell voltage at the window top", formatSI(c.CellV, "V"), "ceiling "+formatSI(c.CellCeilingV, "V"))
-	add("Bank", "capacitance (BOL / worst)", formatFarad(c.CapacitanceF)+" / "+formatFarad(c.WorstCapacitanceF), "")
-	add("", "ESR (BOL / worst)", formatSI(c.ESROhm, "Ω")+" / "+formatSI(c.WorstESROhm, "Ω"), "cold factor ×"+formatSig(c.ColdESRFactor, 3))
-	add("", "leakage and balancing drain", optSI(c.LeakageOhm, "Ω"), "as one resistance")
+	add("", "cell voltage at the window top", quantity(c.CellV, "V"), "ceiling "+quantity(c.CellCeilingV, "V"))
+	add("Bank", "capacitance (BOL / worst)", quantity(c.CapacitanceF, "F")+" / "+quantity(c.WorstCapacitanceF, "F"), "")
+	add("", "ESR (BOL / worst)", quantity(c.ESROhm, "Ω")+" / "+quantity(c.WorstESROhm, "Ω"), "cold factor ×"+figures.Number(c.ColdESRFactor, 3))
+	add("", "leakage and balancing drain", optQuantity(c.LeakageOhm, "Ω"), "as one resistance")
 	runtime := "not within 10^7 s"
 	if c.RuntimeS != nil {
-		runtime = formatDuration(*c.RuntimeS)
-		if c.RuntimeEstimated {
-			runtime = "about " + runtime
-		}
+		runtime = figures.Estimated(figures.Duration(*c.RuntimeS, sigFigs), c.RuntimeEstimated)
 	}
 	end := ""
 	if c.RuntimeEnd != "" {
 		end = "ended by the " + c.RuntimeEnd + " limit"
 	}
 	add("Runtime", "worst-case runtime", runtime, end)
-	add("", "lowest terminal voltage", formatSI(c.MinTerminalV, "V"), "cut-off "+formatSI(r.MinV, "V"))
-	add("", "capacitor voltage at the end of the pass", formatSI(c.EndCapacitorV, "V"), "")
-	add("Energy", "stored at the window top (BOL)", formatSI(c.StoredEnergyJ, "J"), "½·C·max_v²")
-	add("", "usable (worst)", formatSI(c.UsableEnergyJ, "J"), "½·C_eol·(max_v² − min_v²)")
-	add("", "delivered / ESR loss / leakage loss", formatSI(c.DeliveredEnergyJ, "J")+" / "+formatSI(c.ESRLossJ, "J")+" / "+formatSI(c.LeakageLossJ, "J"), "over the sizing pass")
-	add("Current", "bank peak / RMS", formatSI(c.PeakCurrentA, "A")+" / "+formatSI(c.RMSCurrentA, "A"), "")
-	add("", "cell peak / RMS", formatSI(c.CellPeakCurrentA, "A")+" / "+formatSI(c.CellRMSCurrentA, "A"), p.cellRatings(d, c.CellID))
+	add("", "lowest terminal voltage", quantity(c.MinTerminalV, "V"), "cut-off "+quantity(r.MinV, "V"))
+	add("", "capacitor voltage at the end of the pass", quantity(c.EndCapacitorV, "V"), "")
+	add("Energy", "stored at the window top (BOL)", quantity(c.StoredEnergyJ, "J"), "½·C·max_v²")
+	add("", "usable (worst)", quantity(c.UsableEnergyJ, "J"), "½·C_eol·(max_v² − min_v²)")
+	add("", "delivered / ESR loss / leakage loss", quantity(c.DeliveredEnergyJ, "J")+" / "+quantity(c.ESRLossJ, "J")+" / "+quantity(c.LeakageLossJ, "J"), "over the sizing pass")
+	add("Current", "bank peak / RMS", quantity(c.PeakCurrentA, "A")+" / "+quantity(c.RMSCurrentA, "A"), "")
+	add("", "cell peak / RMS", quantity(c.CellPeakCurrentA, "A")+" / "+quantity(c.CellRMSCurrentA, "A"), p.cellRatings(d, c.CellID))
 	if th := c.Thermal; th != nil {
-		add("Thermal", "hot spot", formatUnit(th.HotSpotC, "°C"), "peak rise "+formatUnit(math.Max(th.PeakRiseK, ptr(th.DutyPeakRiseK)), "K"))
-		add("", "loss per cell / bank", formatSI(th.CellLossW, "W")+" / "+formatSI(th.BankLossW, "W"), "I_rms²·ESR, worst case")
+		add("Thermal", "hot spot", quantity(th.HotSpotC, "°C"), "peak rise "+quantity(math.Max(th.PeakRiseK, ptr(th.DutyPeakRiseK)), "K"))
+		add("", "loss per cell / bank", quantity(th.CellLossW, "W")+" / "+quantity(th.BankLossW, "W"), "I_rms²·ESR, worst case")
 	} else {
 		add("Thermal", "ESR heating", "not checked", "the cell gives no thermal resistance")
 	}
 	if sp := c.Spread; sp != nil {
-		add("Balancing", "worst cell at the window top", formatSI(sp.WorstCellV, "V"), fmt.Sprintf("tolerance %s %% / +%s %%, before balancing acts", formatSig(sp.MinusPct, 3), formatSig(sp.PlusPct, 3)))
+		add("Balancing", "worst cell at the window top", quantity(sp.WorstCellV, "V"), fmt.Sprintf("tolerance %s %% / +%s %%, before balancing acts", figures.Number(sp.MinusPct, 3), figures.Number(sp.PlusPct, 3)))
 	}
 	if bl := c.Balancing; bl != nil {
 		desc := bl.Kind
 		if bl.ResistorOhm != nil {
-			desc += " " + formatSI(*bl.ResistorOhm, "Ω")
+			desc += " " + quantity(*bl.ResistorOhm, "Ω")
 			if bl.ResistorPowerW != nil {
-				desc += ", " + formatSig(*bl.ResistorPowerW, 3) + " W"
+				desc += ", " + figures.Number(*bl.ResistorPowerW, 3) + " W"
 			}
 			desc += " " + bl.Series
 		}
 		if bl.QuiescentA != nil {
-			desc += " " + formatSI(*bl.QuiescentA, "A")
+			desc += " " + quantity(*bl.QuiescentA, "A")
 		}
 		g := ""
 		if c.Spread == nil {
 			g = "Balancing"
 		}
-		add(g, "balancing per cell", desc, fmt.Sprintf("%d per string, standing loss %s per string", bl.Count, formatSI(bl.LossW, "W")))
-		add("", "shelf hold to the cut-off", optUnit(bl.ShelfHoldH, "h"), "worst-case capacitance, no load")
-		add("", "worst cell after a long hold", optSI(bl.WorstStaticCellV, "V"), "leakage spread "+formatSI(bl.LeakageSpreadA, "A"))
+		add(g, "balancing per cell", desc, fmt.Sprintf("%d per string, standing loss %s per string", bl.Count, quantity(bl.LossW, "W")))
+		add("", "shelf hold to the cut-off", optQuantity(bl.ShelfHoldH, "h"), "worst-case capacitance, no load")
+		add("", "worst cell after a long hold", optQuantity(bl.WorstStaticCellV, "V"), "leakage spread "+quantity(bl.LeakageSpreadA, "A"))
 	}
 	if l := c.Life; l != nil {
-		note := fmt.Sprintf("at %s and %s per cell", formatUnit(l.TemperatureC, "°C"), formatSI(l.CellV, "V"))
+		note := fmt.Sprintf("at %s and %s per cell", quantity(l.TemperatureC, "°C"), quantity(l.CellV, "V"))
 		if l.DesignYears != nil {
-			note += "; asked " + formatUnit(*l.DesignYears, "years")
+			note += "; asked " + quantity(*l.DesignYears, "years")
 		}
-		add("Life", "expected life", formatUnit(l.ExpectedYears, "years")+" ("+formatSig(l.ExpectedH, 4)+" h)", note)
+		add("Life", "expected life", quantity(l.ExpectedYears, "years")+" ("+figures.Number(l.ExpectedH, 4)+" h)", note)
 	} else {
 		add("Life", "expected life", "not checked", "the cell gives no rated life")
 	}
-	add("Hazards", "prospective short-circuit current", formatSI(c.Hazards.ShortCircuitCurrentA, "A"), "max_v / bank ESR, BOL")
-	add("", "energy per cell", formatSig(c.Hazards.CellEnergyWh, 4)+" Wh", "½·C·U_R², as UN SP 361 counts it")
+	add("Hazards", "prospective short-circuit current", quantity(c.Hazards.ShortCircuitCurrentA, "A"), "max_v / bank ESR, BOL")
+	add("", "energy per cell", figures.Number(c.Hazards.CellEnergyWh, 4)+" Wh", "½·C·U_R², as UN SP 361 counts it")
 	price := none
 	if c.TotalPrice != nil {
-		price = formatMoney(*c.TotalPrice, b.Currency)
+		price = money(*c.TotalPrice, b.Currency)
 	}
-	add("Totals", "cells' price / mass / volume", price+" / "+optUnit(c.MassKg, "kg")+" / "+optUnit(c.VolumeL, "L"), "the bill of quantities adds the other parts")
+	add("Totals", "cells' price / mass / volume", price+" / "+optQuantity(c.MassKg, "kg")+" / "+optQuantity(c.VolumeL, "L"), "the bill of quantities adds the other parts")
 	p.table(table{cols: []column{{"", 1.1, "L"}, {"figure", 2.9, "L"}, {"value", 2.7, "L"}, {"note", 3.3, "L"}}, rows: rows, pt: smallPt})
 }
 
@@ -726,7 +721,7 @@ func (p *pdf) cellRatings(d *sizing.Design, id string) string {
 	if cell == nil || (cell.MaxCurrentA == nil && cell.PeakCurrentA == nil) {
 		return ""
 	}
-	return "cell rating: peak " + optSI(cell.PeakCurrentA, "A") + ", continuous " + optSI(cell.MaxCurrentA, "A")
+	return "cell rating: peak " + optQuantity(cell.PeakCurrentA, "A") + ", continuous " + optQuantity(cell.MaxCurrentA, "A")
 }
 
 // candidates writes every candidate in rank order.
@@ -739,18 +734,15 @@ func (p *pdf) candidates(r *sizing.Report) {
 		}
 		runtime := none
 		if c.RuntimeS != nil {
-			runtime = formatSig(*c.RuntimeS, sigFigs)
-			if c.RuntimeEstimated {
-				runtime = "~" + runtime
-			}
+			runtime = figures.Estimated(figures.Number(*c.RuntimeS, sigFigs), c.RuntimeEstimated)
 		}
 		price := none
 		if c.TotalPrice != nil {
-			price = formatMoney(*c.TotalPrice, "")
+			price = money(*c.TotalPrice, "")
 		}
 		mass := none
 		if c.MassKg != nil {
-			mass = formatSig(*c.MassKg, sigFigs)
+			mass = figures.Number(*c.MassKg, sigFigs)
 		}
 		id := c.CellID
 		if r.Recommended != nil && *r.Recommended == c.CellID {
@@ -761,8 +753,8 @@ func (p *pdf) candidates(r *sizing.Report) {
 			bank = fmt.Sprintf("%d s × %d p", c.Series, c.Parallel)
 		}
 		rows = append(rows, []string{
-			id, feasible, bank, strconv.Itoa(c.Cells), runtime, formatSig(c.MinTerminalV, sigFigs),
-			formatSig(c.UsableEnergyJ/1e3, sigFigs), formatSig(c.PeakCurrentA, sigFigs), price, mass,
+			id, feasible, bank, strconv.Itoa(c.Cells), runtime, figures.Number(c.MinTerminalV, sigFigs),
+			figures.Number(c.UsableEnergyJ/1e3, sigFigs), figures.Number(c.PeakCurrentA, sigFigs), price, mass,
 			strings.TrimSpace(limitOrReason(c)),
 		})
 	}
@@ -794,7 +786,7 @@ func (p *pdf) flags(c *sizing.Candidate) {
 		return
 	}
 	textW := p.body - 24
-	for _, fl := range sortedFlags(c.Flags) {
+	for _, fl := range figures.SortedFlags(c.Flags) {
 		// Keep a flag together: measure its height first.
 		p.font("", smallPt)
 		h := float64(len(f.SplitLines([]byte(pdfText(fl.Message)), textW)))*smallLine + lineMM + 2
@@ -836,15 +828,15 @@ func (p *pdf) boq(b *sizing.BOQ) {
 	for _, l := range b.Lines {
 		up, ext := "not priced", ""
 		if l.UnitPrice != nil {
-			up = formatMoney(*l.UnitPrice, "")
+			up = money(*l.UnitPrice, "")
 		}
 		if l.ExtendedPrice != nil {
-			ext = formatMoney(*l.ExtendedPrice, "")
+			ext = money(*l.ExtendedPrice, "")
 		}
-		rows = append(rows, []string{l.Item, l.Description, formatSig(l.Quantity, 9), l.Unit, up, ext})
+		rows = append(rows, []string{l.Item, l.Description, figures.Number(l.Quantity, 9), l.Unit, up, ext})
 	}
 	total := "Total" + in
-	rows = append(rows, []string{total, "sum of the priced lines", "", "", "", formatMoney(b.Total, "")})
+	rows = append(rows, []string{total, "sum of the priced lines", "", "", "", money(b.Total, "")})
 	p.table(table{cols: []column{
 		{"item", 1.9, "L"}, {"description", 5.2, "L"}, {"quantity", 1.0, "R"}, {"unit", 0.6, "L"},
 		{"unit price" + in, 1.3, "R"}, {"extended" + in, 1.4, "R"},
@@ -856,16 +848,16 @@ func (p *pdf) boq(b *sizing.BOQ) {
 	}
 	note += fmt.Sprintf(" Bank: %d s × %d p of %s.", b.Series, b.Parallel, b.CellID)
 	if b.CellMassKg != nil {
-		note += " Cells' mass " + formatUnit(*b.CellMassKg, "kg") + "."
+		note += " Cells' mass " + quantity(*b.CellMassKg, "kg") + "."
 	}
 	if b.CellVolumeL != nil {
-		note += " Cells' volume " + formatUnit(*b.CellVolumeL, "L") + "."
+		note += " Cells' volume " + quantity(*b.CellVolumeL, "L") + "."
 	}
 	bl := b.Bleeder
 	note += fmt.Sprintf(" Service bleeder %s, %s rating (peak %s at the window top): the bank falls to %s in %s at beginning-of-life capacitance",
-		formatSI(bl.ResistorOhm, "Ω"), formatSig(bl.PowerW, 3)+" W", formatSI(bl.PeakW, "W"), formatSI(bl.TargetV, "V"), formatDuration(bl.TimeS))
+		quantity(bl.ResistorOhm, "Ω"), figures.Number(bl.PowerW, 3)+" W", quantity(bl.PeakW, "W"), quantity(bl.TargetV, "V"), figures.Duration(bl.TimeS, sigFigs))
 	if bl.TargetV > 2 {
-		note += ", and to 2 V in " + formatDuration(bl.TimeTo2VS)
+		note += ", and to 2 V in " + figures.Duration(bl.TimeTo2VS, sigFigs)
 	}
 	note += "; prove it dead with a meter before work."
 	p.para(note, "", smallPt, smallLine)

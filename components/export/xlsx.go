@@ -6,6 +6,7 @@ import (
 	"io"
 	"strings"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 
 	"github.com/xuri/excelize/v2"
@@ -529,13 +530,13 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 	if c.RuntimeS == nil {
 		runtimeNote = "not within 10^7 s"
 	} else if c.RuntimeEstimated {
-		runtimeNote += "; estimated from the drain per period"
+		runtimeNote += "; " + figures.EstimatedNote
 	}
 	put("runtime", c.RuntimeS, "s", runtimeNote)
 	if c.RuntimeEnd != "" {
 		put("runtime ended by", c.RuntimeEnd, "", "")
 	}
-	put("minimum terminal voltage", c.MinTerminalV, "V", fmt.Sprintf("cut-off min_v = %s V", formatSig(r.MinV, 6)))
+	put("minimum terminal voltage", c.MinTerminalV, "V", fmt.Sprintf("cut-off min_v = %s V", figures.ASCII(figures.Number(r.MinV, 6))))
 	put("capacitor voltage at the end of the pass", c.EndCapacitorV, "V", "")
 
 	section("Energies")
@@ -572,7 +573,7 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 
 	section("Voltage spread and balancing")
 	if sp := c.Spread; sp != nil {
-		put("worst cell voltage before balancing", sp.WorstCellV, "V", fmt.Sprintf("capacitance tolerance %s %% / +%s %%", formatSig(sp.MinusPct, 4), formatSig(sp.PlusPct, 4)))
+		put("worst cell voltage before balancing", sp.WorstCellV, "V", fmt.Sprintf("capacitance tolerance %s %% / +%s %%", figures.ASCII(figures.Number(sp.MinusPct, 4)), figures.ASCII(figures.Number(sp.PlusPct, 4))))
 	}
 	if bl := c.Balancing; bl != nil {
 		put("balancing", bl.Kind, "", bl.Series)
@@ -622,7 +623,7 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 		}
 	}
 	row++
-	for _, fl := range sortedFlags(c.Flags) {
+	for _, fl := range figures.SortedFlags(c.Flags) {
 		x.str(s, 1, row, fl.Code, 0)
 		x.str(s, 2, row, string(fl.Severity), 0)
 		x.str(s, 4, row, fl.Message, x.wrap)
@@ -660,20 +661,6 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 		x.str(s, 12, row, k.Reason, 0)
 		row++
 	}
-}
-
-// sortedFlags orders flags danger first, then warning, then info, keeping
-// sizing's order within a severity.
-func sortedFlags(flags []sizing.Flag) []sizing.Flag {
-	out := make([]sizing.Flag, 0, len(flags))
-	for rank := 0; rank <= 3; rank++ {
-		for _, f := range flags {
-			if severityRank(f.Severity) == rank {
-				out = append(out, f)
-			}
-		}
-	}
-	return out
 }
 
 // limitText says in words what set a candidate's string count.

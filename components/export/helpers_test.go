@@ -24,15 +24,7 @@ type sized struct {
 // with the engine.
 func mustSize(tb testing.TB, path string, edit func(*sizing.Design), cellID string) sized {
 	tb.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		tb.Fatal(err)
-	}
-	defer f.Close()
-	d, err := sizing.DecodeDesign(f)
-	if err != nil {
-		tb.Fatal(err)
-	}
+	d := mustDecode(tb, path)
 	if edit != nil {
 		edit(d)
 	}
@@ -49,6 +41,21 @@ func mustSize(tb testing.TB, path string, edit func(*sizing.Design), cellID stri
 		tb.Fatalf("no candidate %s", b.CellID)
 	}
 	return sized{d, r, b, c}
+}
+
+// mustDecode reads the design file at path.
+func mustDecode(tb testing.TB, path string) *sizing.Design {
+	tb.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	defer f.Close()
+	d, err := sizing.DecodeDesign(f)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return d
 }
 
 // withExtras adds extra lines to the design's bill of quantities.

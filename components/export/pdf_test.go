@@ -383,32 +383,6 @@ func TestPDFText(t *testing.T) {
 	}
 }
 
-func TestFormatting(t *testing.T) {
-	t.Parallel()
-	tests := []struct{ got, want string }{
-		{formatSI(117600, "J"), "117.6 kJ"},
-		{formatSI(0.0028, "Ω"), "2.8 mΩ"},
-		{formatSI(999.96, "V"), "1 kV"}, // rounds to 1000 V at 4 figures
-		{formatSI(0, "A"), "0 A"},
-		{formatSI(-147.5, "A"), "-147.5 A"},
-		{formatSig(1234567, 4), "1235000"},
-		{formatSig(0.00123456, 4), "0.001235"},
-		{formatFarad(1000), "1000 F"},
-		{formatFarad(0.47), "470 mF"},
-		{formatDuration(34.33), "34.33 s"},
-		{formatDuration(7308), "2.03 h"},
-		{formatDuration(600), "10 min"},
-		{formatMoney(683.5, "EUR"), "683.50 EUR"},
-		{formatMoney(1234567.125, ""), "1,234,567.125"},
-		{formatMoney(0.04, ""), "0.04"},
-	}
-	for _, tt := range tests {
-		if tt.got != tt.want {
-			t.Errorf("got %q, want %q", tt.got, tt.want)
-		}
-	}
-}
-
 func TestFormatsAndNames(t *testing.T) {
 	t.Parallel()
 	for _, name := range []string{"boq-csv", "boq-xlsx", "boq-json", "pdf"} {

@@ -1,0 +1,242 @@
+package figures
+
+import (
+	"fmt"
+	"sort"
+	"strconv"
+
+	"capbank/sizing"
+)
+
+// Row is one figure: what it is (Label), its value, its unit and a note
+// (how it was judged, or the per-cell value). Value is the number as text
+// ("117.6"), words ("15 s × 5 p, 75 cells") or None; Unit carries its
+// prefix ("kJ") and is empty for words and plain counts.
+type Row struct{ Label, Value, Unit, Note string }
+
+// Text is the value with its unit, joined by a no-break space, as a page
+// shows it in one cell: "117.6 kJ".
+func (r Row) Text() string { return join(r.Value, r.Unit) }
+
+// Group is a titled block of rows.
+type Group struct {
+	Title string
+	Rows  []Row
+}
+
+// quantity is a row of v in unit through SI.
+func quantity(label string, v float64, unit string, sig int, note string) Row {
+	n, u := siParts(v, unit, sig)
+	return Row{label, n, u, note}
+}
+
+// optQuantity is quantity for an optional figure: None when nil.
+func optQuantity(label string, v *float64, unit string, sig int, note string) Row {
+	if v == nil {
+		return Row{label, None, "", note}
+	}
+	return quantity(label, *v, unit, sig, note)
+}
+
+// duration is a row of a time through Duration, None when nil.
+func duration(label string, s *float64, sig int, note string) Row {
+	if s == nil {
+		return Row{label, None, "", note}
+	}
+	n, u := durationParts(*s, sig)
+	return Row{label, n, u, note}
+}
+
+// Candidate lays a candidate bank out for reading: the bank, energy and
+// runtime, current, heat, balancing, life, the safety figures and the
+// price, mass and volume, each a titled group of rows. r is the report the
+// candidate is of (its window and cold temperature). Values are formatted
+// here; nothing is computed that the report does not hold.
+func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
+	worst := "end of life"
+	if r.ColdC != nil {
+		worst += ", " + SI(*r.ColdC, "°C", 3)
+	}
+	bank := Group{Title: "Bank", Rows: []Row{
+		{"Arrangement", BankText(*c), "", limitNote(c.Limit)},
+		quantity("Cell voltage at the window top", c.CellV, "V", 4, "ceiling "+SI(c.CellCeilingV, "V", 4)),
+		quantity("Capacitance", c.CapacitanceF, "F", 4, "worst case "+SI(c.WorstCapacitanceF, "F", 4)+" ("+worst+")"),
+		quantity("ESR", c.ESROhm, "Ω", 3, "worst case "+SI(c.WorstESROhm, "Ω", 3)+coldNote(c.ColdESRFactor)),
+		optQuantity("Leakage and balancing drain", c.LeakageOhm, "Ω", 3, "as one resistance across the bank"),
+	}}
+	energy := Group{Title: "Energy and runtime, worst case", Rows: []Row{
+		quantity("Stored energy at the window top", c.StoredEnergyJ, "J", 4, SI(c.StoredEnergyJ/3600, "Wh", 3)+", beginning of life"),
+		quantity("Usable energy in the window", c.UsableEnergyJ, "J", 4, SI(c.UsableEnergyJ/3600, "Wh", 3)),
+		runtimeRow(c),
+		quantity("Lowest terminal voltage", c.MinTerminalV, "V", 4, "window bottom "+SI(r.MinV, "V", 4)),
+		quantity("Capacitor voltage at the end of the pass", c.EndCapacitorV, "V", 4, ""),
+		quantity("Energy delivered to the load", c.DeliveredEnergyJ, "J", 4, "over the sizing pass"),
+		quantity("Lost in the ESR", c.ESRLossJ, "J", 3, ""),
+		quantity("Lost in leakage and balancing", c.LeakageLossJ, "J", 3, ""),
+	}}
+	if c.RejectedEnergyJ > 0 {
+		energy.Rows = append(energy.Rows, quantity("Charge refused at the window top", c.RejectedEnergyJ, "J", 3, ""))
+	}
+	current := Group{Title: "Current, worst case", Rows: []Row{
+		quantity("Peak current", c.PeakCurrentA, "A", 3, "per cell "+SI(c.CellPeakCurrentA, "A", 3)),
+		quantity("RMS current", c.RMSCurrentA, "A", 3, "per cell "+SI(c.CellRMSCurrentA, "A", 3)),
+	}}
+	groups := []Group{bank, energy, current}
+	if t := c.Thermal; t != nil {
+		groups = append(groups, heat(t))
+	}
+	if c.Spread != nil || c.Balancing != nil {
+		groups = append(groups, balancing(c.Spread, c.Balancing))
+	}
+	if l := c.Life; l != nil {
+		g := Group{Title: "Life", Rows: []Row{
+			{"Expected life", Number(l.ExpectedYears, 3), "years", Number(l.ExpectedH, 3) + nbsp + "h at " + Celsius(l.TemperatureC) + " and " + SI(l.CellV, "V", 3) + " per cell"},
+		}}
+		if l.DesignYears != nil {
+			g.Rows = append(g.Rows, Row{"Required", Number(*l.DesignYears, 3), "years", ""})
+		}
+		groups = append(groups, g)
+	}
+	h := c.Hazards
+	groups = append(groups, Group{Title: "Safety figures", Rows: []Row{
+		quantity("Bank voltage", h.MaxV, "V", 4, "at the window top"),
+		quantity("Stored energy", h.StoredEnergyJ, "J", 4, ""),
+		quantity("Short-circuit current", h.ShortCircuitCurrentA, "A", 3, "window top ÷ bank ESR"),
+		quantity("Energy per cell", h.CellEnergyWh, "Wh", 3, "as transport rules count it"),
+	}})
+	return append(groups, Group{Title: "Price, mass and volume", Rows: []Row{
+		{"Price", Opt(c.TotalPrice, Money), "", "cells only, in the currency of the unit price"},
+		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
+		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
+	}})
+}
+
+func runtimeRow(c *sizing.Candidate) Row {
+	note := "not reached within the time followed"
+	switch c.RuntimeEnd {
+	case "voltage":
+		note = "until the window bottom"
+	case "power":
+		note = "until the maximum-power point"
+	}
+	if c.RuntimeEstimated {
+		note += ", " + EstimatedNote
+	}
+	note += ", repeating the steps"
+	if c.RuntimeS == nil {
+		n, u := durationParts(sizing.RuntimeLimitS, 3)
+		return Row{"Runtime", "beyond " + n, u, note}
+	}
+	n, u := durationParts(*c.RuntimeS, 3)
+	return Row{"Runtime", Estimated(n, c.RuntimeEstimated), u, note}
+}
+
+// Runtime is a candidate's worst-case runtime as the page states it: a
+// duration to 3 figures, marked when estimated ("≈34.3 s"), or "beyond"
+// the longest time sizing follows when the bank outlasts it.
+func Runtime(c *sizing.Candidate) string { return runtimeRow(c).Text() }
+
+func heat(t *sizing.Thermal) Group {
+	g := Group{Title: "Heat in the hottest cell", Rows: []Row{
+		quantity("ESR loss", t.CellLossW, "W", 3, "bank "+SI(t.BankLossW, "W", 3)),
+		{"Steady temperature rise", Fixed(t.SteadyRiseK, 1), "K", "at the pass's RMS loss"},
+		{"Peak rise over the pass", Fixed(t.PeakRiseK, 1), "K", "from ambient"},
+	}}
+	if t.DutyPeakRiseK != nil {
+		g.Rows = append(g.Rows, Row{"Peak rise, repeating", Fixed(*t.DutyPeakRiseK, 1), "K", "once the repeats settle"})
+	}
+	g.Rows = append(g.Rows, Row{"Hot spot", Fixed(t.HotSpotC, 1), "°C", ""})
+	tc := duration("Thermal time constant", t.TimeConstantS, 3, "")
+	if t.TimeConstantS == nil {
+		tc.Note = "no mass given: the steady rise is used"
+	}
+	note := ""
+	if t.SpecificHeatDefault {
+		note = "default"
+	}
+	g.Rows = append(g.Rows, tc, Row{"Specific heat", Number(t.SpecificHeatJPerKgK, 4), "J/(kg·K)", note})
+	return g
+}
+
+func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
+	g := Group{Title: "Balancing"}
+	if s != nil {
+		g.Rows = append(g.Rows, quantity("Worst cell before balancing acts", s.WorstCellV, "V", 4,
+			fmt.Sprintf("tolerance %s %% / +%s %%", Number(s.MinusPct, 3), Number(s.PlusPct, 3))))
+	}
+	if b == nil {
+		return g
+	}
+	g.Rows = append(g.Rows, Row{"Kind", b.Kind, "", strconv.Itoa(b.Count) + " per bank, one per cell"})
+	if b.ResistorOhm != nil {
+		g.Rows = append(g.Rows, quantity("Resistor across each cell", *b.ResistorOhm, "Ω", 3, b.Series+" value"))
+	}
+	if b.ResistorPowerW != nil {
+		g.Rows = append(g.Rows, quantity("Resistor power rating", *b.ResistorPowerW, "W", 3,
+			Opt(b.DissipationW, func(v float64) string { return "dissipates " + SI(v, "W", 3) })))
+	}
+	if b.QuiescentA != nil {
+		g.Rows = append(g.Rows, quantity("Circuit quiescent current", *b.QuiescentA, "A", 3, ""))
+	}
+	var shelfS *float64
+	if b.ShelfHoldH != nil {
+		s := *b.ShelfHoldH * 3600
+		shelfS = &s
+	}
+	g.Rows = append(g.Rows,
+		quantity("Standing loss", b.LossW, "W", 3, "at the window top"),
+		duration("Equalisation time constant", b.TimeConstantS, 3, "R·C of one cell"),
+		duration("Shelf hold to the window bottom", shelfS, 3, "no load, no charger"),
+		optQuantity("Worst cell after a long hold", b.WorstStaticCellV, "V", 4, "leakage spread "+SI(b.LeakageSpreadA, "A", 3)),
+	)
+	return g
+}
+
+// BankText is the arrangement as engineers write it: "15 s × 4 p, 60 cells".
+func BankText(c sizing.Candidate) string {
+	cells := "cells"
+	if c.Cells == 1 {
+		cells = "cell"
+	}
+	return fmt.Sprintf("%d s × %d p, %d %s", c.Series, c.Parallel, c.Cells, cells)
+}
+
+func limitNote(limit string) string {
+	switch limit {
+	case "voltage":
+		return "strings set by the window bottom"
+	case "power":
+		return "strings set by the maximum-power point"
+	case "peak_current":
+		return "strings set by the cell's peak current"
+	case "rms_current":
+		return "strings set by the cell's continuous current"
+	}
+	return "one string carries the load"
+}
+
+func coldNote(k float64) string {
+	if k > 1 {
+		return ", cold ×" + Number(k, 3)
+	}
+	return ""
+}
+
+// SortedFlags orders flags danger first, then warning, then info, keeping
+// the report's order within a grade; a grade it does not know goes last.
+func SortedFlags(flags []sizing.Flag) []sizing.Flag {
+	out := append([]sizing.Flag(nil), flags...)
+	rank := func(s sizing.Severity) int {
+		switch s {
+		case sizing.Danger:
+			return 0
+		case sizing.Warning:
+			return 1
+		case sizing.Info:
+			return 2
+		}
+		return 3
+	}
+	sort.SliceStable(out, func(i, j int) bool { return rank(out[i].Severity) < rank(out[j].Severity) })
+	return out
+}

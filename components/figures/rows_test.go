@@ -1,0 +1,125 @@
+package figures
+
+import (
+	"strings"
+	"testing"
+
+	"capbank/sizing"
+)
+
+func ptr(v float64) *float64 { return &v }
+
+// busHoldUp is a hand-made candidate (not from sizing.Size): 72 cells of
+// 350 F in 18 s × 4 p on a 48 V → 24 V window, end of life at 0.8 × C and
+// cold at −20 °C; its figures follow from those by hand (C = 350·4/18,
+// ½·C·48², ½·0.8·C·(48² − 24²), 48 V / 7.2 mΩ).
+func busHoldUp() (*sizing.Candidate, *sizing.Report) {
+	c := &sizing.Candidate{
+		CellID: "c350", Feasible: true, Series: 18, Parallel: 4, Cells: 72, Limit: "voltage",
+		CellV: 48.0 / 18, CellCeilingV: 2.7,
+		CapacitanceF: 350.0 * 4 / 18, WorstCapacitanceF: 0.8 * 350 * 4 / 18, ESROhm: 0.0072, WorstESROhm: 0.0216, ColdESRFactor: 1.5,
+		StoredEnergyJ: 89600, UsableEnergyJ: 53760,
+		RuntimeS: ptr(23.3068528), RuntimeEnd: "voltage", RuntimeEstimated: true,
+		MinTerminalV: 25.6789, EndCapacitorV: 26.1,
+		DeliveredEnergyJ: 48000, ESRLossJ: 512.3, LeakageLossJ: 0.4,
+		PeakCurrentA: 141.67, CellPeakCurrentA: 35.42, RMSCurrentA: 98.2, CellRMSCurrentA: 24.5,
+		Hazards:    sizing.Hazards{MaxV: 48, StoredEnergyJ: 89600, ShortCircuitCurrentA: 48 / 0.0072, CellEnergyWh: 350 * 2.7 * 2.7 / 2 / 3600},
+		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6),
+	}
+	return c, &sizing.Report{MaxV: 48, MinV: 24, ColdC: ptr(-20)}
+}
+
+// TestCandidate checks every row of a candidate without heat, balancing or
+// life figures: label, value, unit and note, as the page, read row by row,
+// shows them.
+func TestCandidate(t *testing.T) {
+	t.Parallel()
+	c, r := busHoldUp()
+	// Values rounded by hand to the figures each row states; "_" stands for
+	// the no-break space inside a note.
+	want := []string{
+		"# Bank",
+		"Arrangement | 18 s × 4 p, 72 cells |  | strings set by the window bottom",
+		"Cell voltage at the window top | 2.667 | V | ceiling 2.7_V",
+		"Capacitance | 77.78 | F | worst case 62.22_F (end of life, −20_°C)",
+		"ESR | 7.2 | mΩ | worst case 21.6_mΩ, cold ×1.5",
+		"Leakage and balancing drain | — |  | as one resistance across the bank",
+		"# Energy and runtime, worst case",
+		"Stored energy at the window top | 89.6 | kJ | 24.9_Wh, beginning of life",
+		"Usable energy in the window | 53.76 | kJ | 14.9_Wh",
+		"Runtime | ≈23.3 | s | until the window bottom, estimated from the drain per period, repeating the steps",
+		"Lowest terminal voltage | 25.68 | V | window bottom 24_V",
+		"Capacitor voltage at the end of the pass | 26.1 | V | ",
+		"Energy delivered to the load | 48 | kJ | over the sizing pass",
+		"Lost in the ESR | 512 | J | ",
+		"Lost in leakage and balancing | 400 | mJ | ",
+		"# Current, worst case",
+		"Peak current | 142 | A | per cell 35.4_A",
+		"RMS current | 98.2 | A | per cell 24.5_A",
+		"# Safety figures",
+		"Bank voltage | 48 | V | at the window top",
+		"Stored energy | 89.6 | kJ | ",
+		"Short-circuit current | 6.67 | kA | window top ÷ bank ESR",
+		"Energy per cell | 354 | mWh | as transport rules count it",
+		"# Price, mass and volume",
+		"Price | 468.00 |  | cells only, in the currency of the unit price",
+		"Mass | 4.54 | kg | cells only",
+		"Volume | 3.6 | L | cells only, no spacing",
+	}
+	var got []string
+	for _, g := range Candidate(c, r) {
+		got = append(got, "# "+g.Title)
+		for _, row := range g.Rows {
+			got = append(got, strings.ReplaceAll(strings.Join([]string{row.Label, row.Value, row.Unit, row.Note}, " | "), nbsp, "_"))
+		}
+	}
+	if strings.Join(got, "\n") != strings.Join(want, "\n") {
+		t.Errorf("rows:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+	}
+}
+
+// TestCandidateEdges: a runtime beyond what sizing follows, one followed
+// step by step, and a bank lighter than 1 kg.
+func TestCandidateEdges(t *testing.T) {
+	t.Parallel()
+	c, r := busHoldUp()
+	c.RuntimeS, c.RuntimeEstimated, c.RuntimeEnd, c.MassKg = nil, false, "", ptr(0.062)
+	rows := map[string]Row{}
+	for _, g := range Candidate(c, r) {
+		for _, row := range g.Rows {
+			rows[row.Label] = row
+		}
+	}
+	// sizing.RuntimeLimitS is 10⁷ s: 115.74 days, 116 to 3 figures.
+	if got, want := rows["Runtime"].Text(), "beyond 116"+nbsp+"days"; got != want {
+		t.Errorf("runtime %q, want %q", got, want)
+	}
+	if got, want := rows["Runtime"].Note, "not reached within the time followed, repeating the steps"; got != want {
+		t.Errorf("runtime note %q, want %q", got, want)
+	}
+	if got := Runtime(c); got != rows["Runtime"].Text() {
+		t.Errorf("Runtime %q, the row says %q", got, rows["Runtime"].Text())
+	}
+	if got, want := rows["Mass"].Text(), "62"+nbsp+"g"; got != want { // 0.062 kg
+		t.Errorf("mass %q, want %q", got, want)
+	}
+}
+
+func TestSortedFlags(t *testing.T) {
+	t.Parallel()
+	flags := []sizing.Flag{
+		{Code: "a", Severity: sizing.Info}, {Code: "b", Severity: "odd"}, {Code: "c", Severity: sizing.Danger},
+		{Code: "d", Severity: sizing.Warning}, {Code: "e", Severity: sizing.Danger},
+	}
+	var got []string
+	for _, f := range SortedFlags(flags) {
+		got = append(got, f.Code)
+	}
+	// Danger, warning, info, then an unknown grade; report order within one.
+	if strings.Join(got, "") != "cedab" {
+		t.Errorf("order %v, want c e d a b", got)
+	}
+	if flags[0].Code != "a" {
+		t.Error("SortedFlags reordered its argument")
+	}
+}
