@@ -55,7 +55,11 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 	add := func(tt, u, vv, i, d float64) { sink.add(tt, u, vv, i, ambientC+riseAt(d)) }
 	add(t, v, v, 0, 0)
 	for range repeat {
-		for _, s := range steps {
+		for j, s := range steps {
+			if j%haltEvery == 0 && m.halted() {
+				sink.flush()
+				return cv
+			}
 			o := m.step(s, v, minV, maxV)
 			if heat != nil {
 				w = heat.loss(o.i2dt, o.t)

@@ -54,6 +54,9 @@ func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h
 	last := make([]float64, len(steps))
 	for k := range repeat {
 		for j, st := range steps {
+			if j%haltEvery == 0 && m.halted() {
+				return res
+			}
 			m.solveStep(st, v, minV, maxV, &o)
 			w := h.loss(o.i2dt, o.t)
 			x = h.advance(x, w, o.t)

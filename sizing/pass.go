@@ -37,6 +37,10 @@ func (m *bankModel) run(steps []compiledStep, repeat int, v0, minV, maxV float64
 	var o stepOutcome
 	for range repeat {
 		for j := range steps {
+			if j%haltEvery == 0 && m.halted() {
+				s.stop, s.stopStep = stopHalted, j
+				return s
+			}
 			m.solveStep(steps[j], s.v, minV, maxV, &o)
 			s.t += o.t
 			s.v = o.v1

@@ -85,15 +85,7 @@ type stepOutcome struct {
 // terminal voltage minV and holding charging steps at capacitor voltage
 // maxV, and writes what happened to o. It never produces NaN or Inf for
 // finite, physical inputs, and allocates nothing.
-//
-// Once the model's halt flag is set (a cancelled SizeContext) every step
-// stops at once, unsolved, so each loop over the steps ends at its next
-// step; the report of a halted sizing is thrown away.
 func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64, o *stepOutcome) {
-	if m.halt != nil && m.halt.Load() {
-		*o = stepOutcome{v1: v0, uStart: v0, uEnd: v0, tTop: -1, stop: stopHalted}
-		return
-	}
 	*o = stepOutcome{t: st.dur, tTop: -1}
 	switch st.kind {
 	case kindCurrent:

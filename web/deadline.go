@@ -47,8 +47,8 @@ var errClientGone = errors.New("the client closed the request")
 //
 // The deadline is counted from when the computation gets its slot. fn
 // gets a context that is cancelled at the deadline or when the client
-// leaves; sizing.SizeContext checks it at every step it solves, so a
-// computation that misses the deadline stops within a step of it and its
+// leaves; sizing.SizeContext checks it every thousand steps or so, so a
+// computation that misses the deadline stops within a millisecond of it and its
 // goroutine returns. compute waits for it to return before giving the
 // slot back, so a slot is only ever free when nothing runs in it. fn must
 // not touch the echo.Context, which echo reuses for the next request
