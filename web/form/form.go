@@ -2,7 +2,6 @@ package form
 
 import (
 	"bytes"
-	"encoding/json"
 	"fmt"
 	"net/url"
 	"regexp"
@@ -135,9 +134,7 @@ func Read(vals url.Values) *Form {
 		}
 	}
 	if c := vals.Get("carried"); c != "" {
-		dec := json.NewDecoder(strings.NewReader(c))
-		dec.DisallowUnknownFields()
-		if err := dec.Decode(&f.Carried); err != nil {
+		if err := sizing.DecodeStrict([]byte(c), &f.Carried, "carried"); err != nil {
 			f.Carried = nil
 			f.problem("cells.pick", "carried", "the cells kept from the opened design file could not be read back; open the file again")
 		}

@@ -7,9 +7,7 @@ package store
 // (SeedDemo); without a database the web page offers them as they are.
 
 import (
-	"bytes"
 	_ "embed"
-	"encoding/json"
 
 	"capbank/sizing"
 )
@@ -27,10 +25,8 @@ type demoFile struct {
 // rated voltage, then by capacitance. Each call returns fresh values, so a
 // caller may change them (their pointers are not shared).
 func DemoCells() []sizing.Cell {
-	dec := json.NewDecoder(bytes.NewReader(demoCellsJSON))
-	dec.DisallowUnknownFields()
 	var f demoFile
-	if err := dec.Decode(&f); err != nil {
+	if err := sizing.DecodeStrict(demoCellsJSON, &f, "democells.json"); err != nil {
 		panic("store: democells.json: " + err.Error()) // embedded at build time and checked by the tests
 	}
 	return f.Cells
