@@ -81,7 +81,7 @@ func (p *plan) planBalancing(c *Cell, s int, ceiling float64) balancingPlan {
 	switch kind {
 	case "none":
 		bp.flags = append(bp.flags, Flag{Code: "unbalanced-string", Severity: Warning, Message: fmt.Sprintf(
-			"The %d cells of each string have no balancing; their voltages drift apart with the spread of their leakage and capacitance, and one cell can pass its rating. Passive resistors or active balancing are the usual remedy (REFERENCES.md 5.3–5.7).", s),
+			"The %d cells of each string have no balancing; their voltages drift apart with the spread of their capacitance (charge sharing in series) and of their leakage (which divides the voltage after a long hold), and one cell can pass its rating. Passive resistors or active balancing are the usual remedy (common practice).", s),
 			Caution: "A cell driven past its rated voltage ages fast and can vent. Balance the string or check each cell's voltage in service."})
 		return bp
 	case "active":
@@ -125,7 +125,7 @@ func (p *plan) planBalancing(c *Cell, s int, ceiling float64) balancingPlan {
 		want = math.Min(rule, bound)
 	} else {
 		bp.flags = append(bp.flags, Flag{Code: "balancing-headroom", Severity: Warning, Message: fmt.Sprintf(
-			"%d cells at %.4g V each leave no headroom below the %.4g V cell limit, so no resistor can hold every cell under it with a leakage spread of %.3g A (REFERENCES.md 5.5); the resistor follows the %g× rule alone. Add a cell in series, lower the window top, or use active balancing.",
+			"%d cells at %.4g V each leave no headroom below the %.4g V cell limit, so no resistor can hold every cell under it with a leakage spread of %.3g A (worst case in series: every other cell leaks the spread more than one); the resistor follows the %g× rule alone. Add a cell in series, lower the window top, or use active balancing.",
 			s, vCell, math.Max(ceiling, c.RatedV), spread, mult)})
 	}
 	r := PreferredFloor(want, values)
@@ -150,7 +150,7 @@ func (p *plan) planBalancing(c *Cell, s int, ceiling float64) balancingPlan {
 	bp.res.WorstStaticCellV = &static
 	if bound > 0 && boundBy == "rated voltage" {
 		bp.flags = append(bp.flags, Flag{Code: "balancing-headroom", Severity: Info, Message: fmt.Sprintf(
-			"At %.4g V per cell the string has no headroom below its %.4g V ceiling; the balancing resistor is bounded to keep every cell under its %.4g V rating instead (REFERENCES.md 5.5).",
+			"At %.4g V per cell the string has no headroom below its %.4g V ceiling; the balancing resistor is bounded to keep every cell under its %.4g V rating instead (worst case of the leakage spread in series: R ≤ (n·V_rating − V_string)/((n − 1)·ΔI)).",
 			vCell, ceiling, c.RatedV)})
 	}
 	bp.gCell = 1 / r

@@ -16,8 +16,9 @@
 // resistance across the capacitor. Each step is solved in closed form (see
 // step.go); the instant the terminal voltage meets the window bottom or a
 // constant-power load passes its maximum-power point comes from that closed
-// form, never from time stepping. Formulas and check values are in
-// shared/REFERENCES.md and shared/PHYSICS-NOTES.md beside the repository.
+// form, never from time stepping. Formulas, sources and check values are
+// in REFERENCES.md in this folder; a comment citing "REFERENCES.md N.M"
+// means its entry N.M.
 //
 // Units are SI throughout: V, A, W, Ω, F, J, s, kg, L; temperatures in °C.
 // The package imports only the standard library, gonum and validator.

@@ -63,7 +63,7 @@ func BenchmarkLibrary200Day(b *testing.B) {
 
 // rk4Pass is the obvious alternative to the exact steps: the capacitor
 // voltage integrated by the classical fixed-step fourth-order Runge–Kutta
-// method (from memory; any numerical-methods text), h seconds a step,
+// method (Kutta 1901, REFERENCES.md 12.5), h seconds a step,
 // C·dv/dt = −(i(v) + g·v), with the bank current i of each step kind
 // (PHYSICS-NOTES.md) in its cancellation-free form, the bank held at max_v
 // while charging, and a stop where the terminal voltage crosses min_v,

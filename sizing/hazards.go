@@ -8,11 +8,16 @@ import (
 // Thresholds the safety flags judge against, each with its source.
 const (
 	// ES1 and ES2 voltage limits for steady DC, V: IEC 62368-1, the table of
-	// electrical energy source limits (REFERENCES.md 7.1; clause from memory).
+	// electrical energy source limits (REFERENCES.md 7.1; the values as
+	// commonly cited, the clause not confirmed against the purchased
+	// standard).
 	es1LimitV = 60.0
 	es2LimitV = 120.0
 	// Hazardous energy level, J, at 2 V or more: IEC 60950-1 §2.1.1.5
-	// (withdrawn, still the usual reference; 20 J from memory, REFERENCES.md 7.6).
+	// (withdrawn, still the usual reference; REFERENCES.md 7.6: 2 V
+	// confirmed in a published discussion of the standard, 20 J used as
+	// commonly cited, the clause and figure not confirmed against the
+	// purchased standard).
 	hazardousEnergyJ = 20.0
 	hazardousEnergyV = 2.0
 	// Short-circuit current, A, above which a slipped tool welds or a ring
@@ -54,7 +59,7 @@ func hazardFlags(h Hazards) []Flag {
 	}
 	if h.StoredEnergyJ > hazardousEnergyJ && h.MaxV >= hazardousEnergyV {
 		f = append(f, Flag{Code: "stored-energy", Severity: Warning, Message: fmt.Sprintf(
-			"The bank stores %s at %.4g V, above the %g J hazardous energy level of IEC 60950-1 §2.1.1.5 (20 J from memory): a short can burn, arc and throw molten metal even at low voltage.",
+			"The bank stores %s at %.4g V, above the %g J hazardous energy level of IEC 60950-1 §2.1.1.5 (a withdrawn standard; 20 J at 2 V or more as commonly cited, clause not confirmed): a short can burn, arc and throw molten metal even at low voltage.",
 			joules(h.StoredEnergyJ), h.MaxV, hazardousEnergyJ),
 			Caution: "Cover the terminals, fit a fuse or breaker close to the bank, remove rings and watches, and use insulated tools. " + cautionCodes})
 	}

@@ -10,7 +10,7 @@ func f64(v float64) *float64 { return &v }
 
 // TestMerit checks the figures of merit against hand arithmetic.
 // E = ½CV² and P = V²/4R (maximum power transfer) are textbook circuit
-// formulas (from memory; any physics or circuits text).
+// formulas (REFERENCES.md 3.1 and 3.12).
 func TestMerit(t *testing.T) {
 	cases := []struct {
 		name                        string

@@ -251,7 +251,7 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 			}
 		} else if *cold < roomC {
 			*flags = append(*flags, Flag{Code: "no-cold-esr", Severity: Warning, Message: fmt.Sprintf(
-				"The cell gives no ESR at a cold temperature, so the worst case at %g °C uses the 25 °C ESR; organic cells commonly show 1.5–10 × the ESR at −40 °C (REFERENCES.md 8.3, common practice). Add cold_esr_factor and cold_esr_temp_c.",
+				"The cell gives no ESR at a cold temperature, so the worst case at %g °C uses the 25 °C ESR; organic cells commonly show 1.5–10 × the ESR at −40 °C, as their electrolyte conducts less in the cold (common practice, no source). Add cold_esr_factor and cold_esr_temp_c.",
 				*cold)})
 		}
 		if c.MinTempC != nil && *cold < *c.MinTempC {
@@ -853,7 +853,7 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 		sp.MinusPct = 0 // not −0
 	}
 	cand.Spread = sp
-	const spreadSrc = "worst cell of lowest capacitance among cells of the highest, equal charge in series (REFERENCES.md 5.2)"
+	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top"
 	switch {
 	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
 		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Danger, Message: fmt.Sprintf(
@@ -868,7 +868,7 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	}
 	if b := cand.Balancing; b.WorstStaticCellV != nil && *b.WorstStaticCellV > c.RatedV*(1+1e-9) {
 		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
-			"After a long hold at %.4g V, a leakage spread of %.3g A can leave one cell at %.4g V with the %s balancing, above its %g V rating (REFERENCES.md 5.5).",
+			"After a long hold at %.4g V, a leakage spread of %.3g A can leave one cell at %.4g V with the %s balancing, above its %g V rating (worst case in series: every other cell leaks the spread more than this one).",
 			p.maxV, b.LeakageSpreadA, *b.WorstStaticCellV, b.Kind, c.RatedV),
 			Caution: "Lower the balancing resistor, add a cell in series, or use active balancing. " + cautionCodes})
 	}
@@ -895,10 +895,10 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	// The power limit: the string count was set by the load's maximum-power point.
 	if cand.Limit == "power" {
 		cand.Flags = append(cand.Flags, Flag{Code: "power-limit", Severity: Info, Message: fmt.Sprintf(
-			"With one string fewer the load would pass the bank's maximum-power point (terminal voltage √(P·R), REFERENCES.md 3.8) and collapse; the %d strings are set by power, not energy.", cand.Parallel)})
+			"With one string fewer the load would pass the bank's maximum-power point (terminal voltage √(P·R), the most power a source behind its ESR can deliver) and collapse; the %d strings are set by power, not energy.", cand.Parallel)})
 	}
 	if !cand.Feasible && strings.Contains(cand.Reason, "maximum-power") {
-		cand.Flags = append(cand.Flags, Flag{Code: "power-limit", Severity: Danger, Message: "The load passes the bank's maximum-power point (terminal voltage √(P·R), REFERENCES.md 3.8): the converter's input collapses. " + cand.Reason})
+		cand.Flags = append(cand.Flags, Flag{Code: "power-limit", Severity: Danger, Message: "The load passes the bank's maximum-power point (terminal voltage √(P·R), the most power a source behind its ESR can deliver): the converter's input collapses. " + cand.Reason})
 	}
 	if !cand.Feasible && strings.Contains(cand.Reason, "current") {
 		cand.Flags = append(cand.Flags, Flag{Code: "over-current", Severity: Danger, Message: cand.Reason,
@@ -974,18 +974,18 @@ func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankMo
 	hours := ExpectedLife(*c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, temp, cand.CellV, tStep, vStep)
 	if !(hours <= MaxLifeYears*hoursPerYear) {
 		cand.Flags = append(cand.Flags, Flag{Code: "life-beyond-rules", Severity: Info, Message: fmt.Sprintf(
-			"At %.3g V per cell and %.1f °C the life rules of thumb (×2 per %g K cooler and per %g V lower than rated %g h at %g °C and %g V; REFERENCES.md 4.1–4.3) give more than %g years, far outside the range they are fitted on: neither voltage nor temperature limits this bank's life, and capbank gives no figure.",
+			"At %.3g V per cell and %.1f °C the life rules of thumb (×2 per %g K cooler and per %g V lower than rated %g h at %g °C and %g V; common practice, no source) give more than %g years, far outside the range they are fitted on: neither voltage nor temperature limits this bank's life, and capbank gives no figure.",
 			cand.CellV, temp, tStep, vStep, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, MaxLifeYears)})
 	} else {
 		cand.Life = &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears}
 	}
 	if life := cand.Life; life != nil && p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
 		cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
-			"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower; REFERENCES.md 4.1–4.3, common practice). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (4.4).",
+			"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower: rules of thumb, common practice, no source). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (common practice, no source).",
 			life.ExpectedYears, temp, cand.CellV, *p.d.LifeYears, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, tStep, vStep)})
 	}
 	if p.capF > DefaultEOLCapacitanceFactor || p.esrF < DefaultEOLESRFactor {
 		cand.Flags = append(cand.Flags, Flag{Code: "eol-stricter", Severity: Info, Message: fmt.Sprintf(
-			"The design's end-of-life factors (capacitance ×%g, ESR ×%g) are stricter than the usual criteria (×0.8, ×2, REFERENCES.md 4.4) a rated life refers to, so the bank reaches them sooner than the expected life says.", p.capF, p.esrF)})
+			"The design's end-of-life factors (capacitance ×%g, ESR ×%g) are stricter than the usual criteria (×0.8, ×2; common practice, no source) a rated life refers to, so the bank reaches them sooner than the expected life says.", p.capF, p.esrF)})
 	}
 }

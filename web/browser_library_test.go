@@ -28,7 +28,8 @@ func TestBrowserLibraryCompareSave(t *testing.T) {
 		chromedp.WaitVisible(chromedp.CSS("[data-testid=cell-merit]")),
 	), "adding the cell")
 	waitText(t, ctx, "[data-testid=notice]", "Added to the library", "adding the cell")
-	// 2.7 V, 80 F, 18 g: ½·80·2.7²/3600/0.018 = 4.5 Wh/kg (E = ½CV², from memory).
+	// 2.7 V, 80 F, 18 g: ½·80·2.7²/3600/0.018 = 4.5 Wh/kg (E = ½CV²,
+	// sizing/REFERENCES.md 3.1).
 	waitText(t, ctx, "[data-testid=cell-merit]", "4.5 Wh/kg", "showing its figures of merit")
 
 	// Compare it with two demo cells, picked on the compare page.

@@ -27,7 +27,8 @@ import (
 // Each payload carries a short key of its field, so a leak says where it
 // came from; the longest stays within a cell id's 100 characters. They
 // are the usual breakouts from text, from a quoted attribute and from the
-// title (OWASP XSS filter-evasion cheat sheet, from memory).
+// title (OWASP Cheat Sheet Series, XSS Filter Evasion Cheat Sheet: "End
+// Title Tag", "On Error Alert"; sizing/REFERENCES.md 12.6).
 func payload(field string) string {
 	return `"'></title><b data-injected=` + field + `>` + field + `<img src=x onerror=alert(1)><script>alert(1)</script>`
 }

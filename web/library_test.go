@@ -206,7 +206,7 @@ func TestLibraryPages(t *testing.T) {
 		t.Errorf("the ESR field reads %q, want 12 mΩ", v)
 	}
 	// The figures of merit: 2.7 V, 100 F, 21 g gives ½·100·2.7²/3600/0.021
-	// = 4.821 Wh/kg (E = ½CV², from memory, any physics text).
+	// = 4.821 Wh/kg (E = ½CV², sizing/REFERENCES.md 3.1).
 	if merit := text(doc, "[data-testid=cell-merit]"); !strings.Contains(merit, "4.821 Wh/kg") {
 		t.Errorf("figures of merit %q lack 4.821 Wh/kg", merit)
 	}

@@ -51,10 +51,10 @@ func closeTo(got, want, rel float64) bool {
 	return math.Abs(got-want) <= rel*math.Abs(want)
 }
 
-// The check design is the bank of REFERENCES.md 10.1–10.3 (2500 F, 0.40 mΩ,
-// 2.7 V cells, 48 V → 24 V) at 100 A with the end-of-life factors set to 1,
-// so the worst case is the beginning of life and every figure has a closed
-// form.
+// The check design is the bank of sizing/REFERENCES.md 10.1–10.3 (2500 F,
+// 0.40 mΩ, 2.7 V cells, 48 V → 24 V) at 100 A with the end-of-life factors
+// set to 1, so the worst case is the beginning of life and every figure has
+// a closed form.
 func TestSizeCheckDesignJSON(t *testing.T) {
 	t.Parallel()
 	out := sizeOK(t, checkDesign)
@@ -69,20 +69,20 @@ func TestSizeCheckDesignJSON(t *testing.T) {
 	if !c.Feasible {
 		t.Fatalf("check-2500f infeasible: %s", c.Reason)
 	}
-	// Ns = ceil(48/2.7) = 18 (REFERENCES.md 10.1). One string: its lowest
-	// terminal voltage, 25.68 V below, is above the 24 V cut-off.
+	// Ns = ceil(48/2.7) = 18 (sizing/REFERENCES.md 10.1). One string: its
+	// lowest terminal voltage, 25.68 V below, is above the 24 V cut-off.
 	if c.Series != 18 || c.Parallel != 1 || c.Cells != 18 {
 		t.Errorf("bank %d s × %d p = %d cells, want 18 × 1 = 18", c.Series, c.Parallel, c.Cells)
 	}
-	const rel = 1e-6 // closed forms, exact to floating point (REFERENCES.md, notes for test authors)
+	const rel = 1e-6 // closed forms, exact to floating point (sizing/REFERENCES.md, notes for test authors)
 	checks := []struct {
 		name      string
 		got, want float64
 	}{
-		// ½·C·(48² − 24²) with C = 2500/18 F (REFERENCES.md 10.1).
+		// ½·C·(48² − 24²) with C = 2500/18 F (sizing/REFERENCES.md 10.1).
 		{"usable_energy_j", c.UsableEnergyJ, 120000},
 		// 48 V − 100 A·30 s/(2500/18 F) − 100 A·7.2 mΩ = 48 − 21.6 − 0.72
-		// (REFERENCES.md 3.5, own arithmetic).
+		// (sizing/REFERENCES.md 3.5, own arithmetic).
 		{"min_terminal_v", c.MinTerminalV, 25.68},
 		// The constant 100 A step is both the peak and the RMS current.
 		{"peak_current_a", c.PeakCurrentA, 100},
@@ -91,7 +91,7 @@ func TestSizeCheckDesignJSON(t *testing.T) {
 	if c.RuntimeS == nil {
 		t.Errorf("runtime_s is null, want 32.333 s")
 	} else {
-		// C·(V0 − I·R − Vmin)/I = 32.333 333 s (REFERENCES.md 10.3): the
+		// C·(V0 − I·R − Vmin)/I = 32.333 333 s (sizing/REFERENCES.md 10.3): the
 		// 30 s step repeated back to back is one 100 A discharge.
 		checks = append(checks, struct {
 			name      string
@@ -111,7 +111,7 @@ func TestSizeCheckDesignText(t *testing.T) {
 	for _, want := range []string{
 		"Design: check: 100 A from one 18-cell string, 48 V to 24 V\n",
 		"Recommended: check-2500f, 18 s × 1 p, 18 cells\n",
-		"usable (kJ)", // 120 000 J (REFERENCES.md 10.1) reads in kJ
+		"usable (kJ)", // 120 000 J (sizing/REFERENCES.md 10.1) reads in kJ
 		"peak I (A)",
 		"Flags for check-2500f",
 	} {
@@ -126,7 +126,7 @@ func TestSizeCheckDesignText(t *testing.T) {
 			break // the candidates table comes before the heat table
 		}
 	}
-	// 32.33 s (REFERENCES.md 10.3), 25.68 V (3.5), 120 kJ (10.1), 100 A.
+	// 32.33 s (sizing/REFERENCES.md 10.3), 25.68 V (3.5), 120 kJ (10.1), 100 A.
 	if f := strings.Fields(row); len(f) < 10 || f[1] != "yes" || f[5] != "32.33" || f[6] != "25.68" || f[7] != "120" || f[8] != "100" || f[9] != "100" {
 		t.Errorf("candidate row %q, want yes 18 1 18 32.33 25.68 120 100 100", row)
 	}
