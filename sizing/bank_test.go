@@ -15,7 +15,7 @@ func TestSeriesCount(t *testing.T) {
 		want      int
 	}{
 		// 42.0 / 2.8 = 15 exactly in decimal; in binary it is 15.000000000000002
-		// (issue text and PHYSICS-NOTES.md: floating point must not add a cell).
+		// (floating point must not add a cell: 42.0 V / 2.8 V is 15 cells, common practice).
 		{"decimal quotient 42/2.8", 42.0, 2.8, 15},
 		// REFERENCES.md 10.1: Ns = ceil(48/2.7) = ceil(17.777…) = 18.
 		{"worked example 48/2.7", 48, 2.7, 18},

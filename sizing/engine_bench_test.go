@@ -65,7 +65,7 @@ func BenchmarkLibrary200Day(b *testing.B) {
 // voltage integrated by the classical fixed-step fourth-order Runge–Kutta
 // method (Kutta 1901, REFERENCES.md 12.5), h seconds a step,
 // C·dv/dt = −(i(v) + g·v), with the bank current i of each step kind
-// (PHYSICS-NOTES.md) in its cancellation-free form, the bank held at max_v
+// (REFERENCES.md 3.9) in its cancellation-free form, the bank held at max_v
 // while charging, and a stop where the terminal voltage crosses min_v,
 // placed by linear interpolation between the two points around it. It
 // returns the capacitor voltage at the end, the lowest terminal voltage,

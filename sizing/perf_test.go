@@ -19,7 +19,8 @@ import (
 // millisecond's worth of drop to near the maximum-power point and for
 // charging, and checks every step that runs its whole duration against
 // gonum's Gauss–Legendre quadrature of dt = C·dv/(i(v) + g·v), with i(v)
-// of REFERENCES.md 3.8 (PHYSICS-NOTES.md, drains).
+// of REFERENCES.md 3.8 (a drain across the capacitor has no closed form
+// under constant power; own derivation).
 //
 // The end voltage must be right to 1e-12 of the voltage: a duration error
 // δt is an end-voltage error δt·|dv/dt|. An earlier Newton iteration

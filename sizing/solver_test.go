@@ -189,7 +189,7 @@ func TestSizeInfeasibleAndRanking(t *testing.T) {
 
 func TestMoreStringsNeverWorse(t *testing.T) {
 	t.Parallel()
-	// Invariant (PHYSICS-NOTES.md, solver): runtime and the lowest terminal
+	// Invariant (more strings never make it worse; own derivation): runtime and the lowest terminal
 	// voltage never get worse with more strings.
 	for _, name := range []string{"ups-ride-through.json", "actuator-pulses.json", "logger-hold-up.json"} {
 		d := loadDesign(t, name)
@@ -391,7 +391,7 @@ func TestCandidateCurve(t *testing.T) {
 			minU = math.Min(minU, u)
 		}
 		// The curve holds every step end, where the pass's lowest terminal
-		// voltage lies (PHYSICS-NOTES.md: monotone within a step).
+		// voltage lies (the terminal voltage is monotone within a discharge step; own derivation).
 		near(t, c.CellID+" curve minimum", minU, c.MinTerminalV, 1e-12)
 	}
 	if _, err := CandidateCurve(d, r, "nope"); err == nil {

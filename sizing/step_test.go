@@ -106,7 +106,7 @@ func TestConstantPowerAgainstQuadrature(t *testing.T) {
 			}
 			r, g, cap := c.m.r, c.m.g, c.m.c
 			// dt = C·dv/(i(v) + g·v): the step's duration as an integral from
-			// v1 to v0 (PHYSICS-NOTES.md, drains), by gonum's Gauss–Legendre rule.
+			// v1 to v0 (a drain across the capacitor has no closed form under constant power; own derivation), by gonum's Gauss–Legendre rule.
 			dtdv := func(v float64) float64 { return cap / (iCP(c.p, r, v) + g*v) }
 			near(t, "duration from quadrature", gl(dtdv, o.v1, c.v0, 64), c.dur, 1e-9)
 			i2 := gl(func(v float64) float64 { i := iCP(c.p, r, v); return i * i * dtdv(v) }, o.v1, c.v0, 64)
@@ -153,7 +153,7 @@ func TestCurrentAndRestWithLeakage(t *testing.T) {
 	t.Parallel()
 	// Leakage as a parallel resistance Rp makes constant current an affine
 	// ODE: v(t) = −I·Rp + (v0 + I·Rp)·e^(−t/(Rp·C)) (textbook first-order
-	// circuit; PHYSICS-NOTES.md, drains).
+	// circuit; a drain across the capacitor, own derivation).
 	m := newBankModel(5, 0.02, 1.0/50)
 	rp := 1 / m.g
 	I, v0 := 0.3, 12.0
