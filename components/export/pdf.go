@@ -29,7 +29,7 @@ type PDFOptions struct {
 const SafetyNote = "capbank is a sizing aid. A supercapacitor bank stores energy that can burn, shock and start fires, and a bank that passes the checks in this report is not thereby safe. " +
 	"The figures here do not replace the electrical and fire codes and standards that apply where the bank is built, installed and shipped, the cell maker's instructions, or the judgement of a licensed or otherwise qualified engineer: where they disagree with this report, they decide. " +
 	"Treat the bank as live until it has been discharged through a bleeder and proven dead with a meter, and verify the design by measurement before relying on it. " +
-	"capbank does not check arc-flash energy, enclosures, creepage and clearance, fuses, wiring, the charger or transport packaging (see SAFETY.md)."
+	"capbank does not check arc-flash energy, enclosures, creepage and clearance, fuses, wiring, the charger or transport packaging: have those checked against the codes that apply."
 
 // ReportPDF writes the design report of design d, sized in report r, as a
 // PDF: the title and date, the design inputs, the bank of the bill of
