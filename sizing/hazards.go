@@ -57,9 +57,9 @@ func hazardFlags(h Hazards) []Flag {
 			"The bank charges to %.4g V DC, above the %g V extra-low-voltage limit of class ES1 for steady DC in IEC 62368-1 (ES2: a shock is painful and can cause injury).", h.MaxV, es1LimitV),
 			Caution: "Keep live parts out of reach behind a guard or enclosure and discharge the bank before service. " + cautionCodes})
 	}
-	if h.StoredEnergyJ > hazardousEnergyJ && h.MaxV >= hazardousEnergyV {
+	if h.StoredEnergyJ >= hazardousEnergyJ && h.MaxV >= hazardousEnergyV {
 		f = append(f, Flag{Code: "stored-energy", Severity: Warning, Message: fmt.Sprintf(
-			"The bank stores %s at %.4g V, above the %g J hazardous energy level of IEC 60950-1 §2.1.1.5 (a withdrawn standard; 20 J at 2 V or more as commonly cited, clause not confirmed): a short can burn, arc and throw molten metal even at low voltage.",
+			"The bank stores %s at %.4g V, at or above the %g J hazardous energy level of IEC 60950-1 §2.1.1.5 (a withdrawn standard; 20 J at 2 V or more as commonly cited, clause not confirmed): a short can burn, arc and throw molten metal even at low voltage.",
 			joules(h.StoredEnergyJ), h.MaxV, hazardousEnergyJ),
 			Caution: "Cover the terminals, fit a fuse or breaker close to the bank, remove rings and watches, and use insulated tools. " + cautionCodes})
 	}

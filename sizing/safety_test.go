@@ -262,3 +262,22 @@ func TestSafetyFlags(t *testing.T) {
 		})
 	}
 }
+
+// The hazardous energy level of IEC 60950-1 §2.1.1.5 is a stored energy of
+// 20 J or more at 2 V or more (sizing/REFERENCES.md 7.6): exactly 20 J at
+// 2 V is hazardous, 19.99 J or 1.99 V is not.
+func TestStoredEnergyBoundary(t *testing.T) {
+	t.Parallel()
+	for _, c := range []struct {
+		j, v float64
+		want bool
+	}{{20, 2, true}, {19.99, 48, false}, {20, 1.99, false}, {72.9, 5.4, true}} {
+		got := false
+		for _, f := range hazardFlags(Hazards{StoredEnergyJ: c.j, MaxV: c.v}) {
+			got = got || f.Code == "stored-energy"
+		}
+		if got != c.want {
+			t.Errorf("%g J at %g V: stored-energy flag %v, want %v", c.j, c.v, got, c.want)
+		}
+	}
+}
