@@ -81,9 +81,9 @@ func TestParseMeasurementCSVErrors(t *testing.T) {
 			if got != nil {
 				t.Errorf("a log %+v with the error %v", got, err)
 			}
-			var me *MeasurementCSVError
+			var me *CSVError
 			if !errors.As(err, &me) {
-				t.Fatalf("error %T %v, want a *MeasurementCSVError", err, err)
+				t.Fatalf("error %T %v, want a *CSVError", err, err)
 			}
 			if me.Line != tc.line || me.Column != tc.column || !strings.Contains(me.Message, tc.msg) {
 				t.Errorf("got line %d, column %q, %q; want line %d, column %q, containing %q", me.Line, me.Column, me.Message, tc.line, tc.column, tc.msg)
@@ -106,7 +106,7 @@ func TestParseMeasurementCSVReadError(t *testing.T) {
 	t.Parallel()
 	diskErr := errors.New("device gone")
 	_, err := ParseMeasurementCSV(io.MultiReader(strings.NewReader("time_s,voltage_v\n0,5\n"), iotest.ErrReader(diskErr)))
-	var me *MeasurementCSVError
+	var me *CSVError
 	if !errors.As(err, &me) || me.Line != 3 || !errors.Is(err, diskErr) {
 		t.Errorf("error %v, want line 3 and the reader's error kept", err)
 	}
@@ -127,7 +127,7 @@ func TestParseMeasurementCSVRowLimit(t *testing.T) {
 		t.Fatalf("at the limit: %v", err)
 	}
 	_, err = ParseMeasurementCSV(bytes.NewReader(build(MeasurementCSVMaxRows + 1)))
-	var me *MeasurementCSVError
+	var me *CSVError
 	// Data row 1,000,001 is on line 1,000,002 (the header is line 1).
 	if !errors.As(err, &me) || me.Line != MeasurementCSVMaxRows+2 || !strings.Contains(me.Message, "more than 1000000 data rows") {
 		t.Errorf("one over: %v", err)
@@ -208,7 +208,7 @@ func TestMeasurementDemoLogs(t *testing.T) {
 }
 
 // FuzzParseMeasurementCSV checks that any input gives either a well-formed
-// log or a *MeasurementCSVError, never a panic.
+// log or a *CSVError, never a panic.
 func FuzzParseMeasurementCSV(f *testing.F) {
 	for _, s := range []string{
 		"time_s,voltage_v\n0,2.7\n1,2.6\n",
@@ -222,9 +222,9 @@ func FuzzParseMeasurementCSV(f *testing.F) {
 	f.Fuzz(func(t *testing.T, in string) {
 		got, err := ParseMeasurementCSV(strings.NewReader(in))
 		if err != nil {
-			var me *MeasurementCSVError
+			var me *CSVError
 			if !errors.As(err, &me) || me.Line < 1 || me.Message == "" {
-				t.Fatalf("error %T %q, want a *MeasurementCSVError with a line and a message", err, err)
+				t.Fatalf("error %T %q, want a *CSVError with a line and a message", err, err)
 			}
 			return
 		}

@@ -284,9 +284,9 @@ func TestParseProfileCSVErrors(t *testing.T) {
 			if got != nil {
 				t.Errorf("ParseProfileCSV returned a profile with the error %v", err)
 			}
-			var pe *ProfileCSVError
+			var pe *CSVError
 			if !errors.As(err, &pe) {
-				t.Fatalf("error %T %q, want a *ProfileCSVError", err, err)
+				t.Fatalf("error %T %q, want a *CSVError", err, err)
 			}
 			if pe.Line != tc.line {
 				t.Errorf("Line = %d, want %d (error %q)", pe.Line, tc.line, err)
@@ -333,9 +333,9 @@ func TestParseProfileCSVReadError(t *testing.T) {
 	diskErr := errors.New("device gone")
 	r := io.MultiReader(strings.NewReader("time_s,power_w\n0,5\n"), iotest.ErrReader(diskErr))
 	_, err := ParseProfileCSV(r)
-	var pe *ProfileCSVError
+	var pe *CSVError
 	if !errors.As(err, &pe) {
-		t.Fatalf("error %T %v, want a *ProfileCSVError", err, err)
+		t.Fatalf("error %T %v, want a *CSVError", err, err)
 	}
 	if pe.Line != 3 || !strings.Contains(pe.Message, "could not be read: device gone") {
 		t.Errorf("got line %d %q, want line 3 and the reader's message", pe.Line, pe.Message)
@@ -382,9 +382,9 @@ func TestParseProfileCSVRowLimit(t *testing.T) {
 	t.Run("one over", func(t *testing.T) {
 		t.Parallel()
 		_, err := ParseProfileCSV(bytes.NewReader(profileCSVLog(ProfileCSVMaxRows+1, false)))
-		var pe *ProfileCSVError
+		var pe *CSVError
 		if !errors.As(err, &pe) {
-			t.Fatalf("error %T %v, want a *ProfileCSVError", err, err)
+			t.Fatalf("error %T %v, want a *CSVError", err, err)
 		}
 		// Hand computed: data row 1,000,001 is on line 1,000,002 after the
 		// header; the message names the limit.
@@ -488,7 +488,7 @@ func TestParseProfileCSVTestdata(t *testing.T) {
 }
 
 // FuzzParseProfileCSV checks that any input gives either a well-formed
-// profile or a *ProfileCSVError, never a panic.
+// profile or a *CSVError, never a panic.
 func FuzzParseProfileCSV(f *testing.F) {
 	for _, s := range []string{
 		"time_s,power_w\n0,100\n1,100\n3,50\n4,0\n6,0\n7,-20\n",
@@ -503,9 +503,9 @@ func FuzzParseProfileCSV(f *testing.F) {
 	f.Fuzz(func(t *testing.T, in string) {
 		got, err := ParseProfileCSV(strings.NewReader(in))
 		if err != nil {
-			var pe *ProfileCSVError
+			var pe *CSVError
 			if !errors.As(err, &pe) || pe.Line < 1 || pe.Message == "" {
-				t.Fatalf("error %T %q, want a *ProfileCSVError with a line and a message", err, err)
+				t.Fatalf("error %T %q, want a *CSVError with a line and a message", err, err)
 			}
 			return
 		}

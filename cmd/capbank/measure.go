@@ -254,7 +254,7 @@ func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLo
 // so that main reports each on its own line and exits with status 2. Other
 // errors (a file that cannot be opened) pass through.
 func measureProblem(err error, logName string) error {
-	var ce *sizing.MeasurementCSVError
+	var ce *sizing.CSVError
 	if errors.As(err, &ce) {
 		return sizing.ValidationError{{Field: logName, Rule: "csv", Message: ce.Error()}}
 	}
