@@ -18,11 +18,12 @@ import (
 	"capbank/components"
 	"capbank/components/figures"
 	"capbank/sizing"
+	"capbank/sizing/measure"
 	"capbank/web/store"
 )
 
 // The measurement page and API: a cell's capacitance, ESR and leakage from
-// bench data, by the methods of sizing/measure.go. Field names are the
+// bench data, by the methods of sizing/measure. Field names are the
 // flags of `capbank measure` with underscores: method, rated_v,
 // resistor_ohm, current_a, capacitance_f, start_s, at_s, v0_v, v1_v,
 // duration_s, compare_id, and the log file in log_csv.
@@ -38,12 +39,12 @@ var measureMethods = []components.Option{
 // measureOutcome is what a measurement gives: the result struct of the
 // method, its figures, and the comparison with a datasheet cell if asked.
 type measureOutcome struct {
-	Method      string              `json:"method"`
-	Result      any                 `json:"result"`
-	Comparison  []sizing.Comparison `json:"comparison,omitempty"`
-	CompareWith string              `json:"compare_with,omitempty"`
-	Cell        *sizing.Cell        `json:"measured_cell,omitempty"`
-	figures     sizing.MeasuredFigures
+	Method      string               `json:"method"`
+	Result      any                  `json:"result"`
+	Comparison  []measure.Comparison `json:"comparison,omitempty"`
+	CompareWith string               `json:"compare_with,omitempty"`
+	Cell        *sizing.Cell         `json:"measured_cell,omitempty"`
+	figures     measure.Figures
 }
 
 // measureInput is the form (or API multipart body) of a measurement.
@@ -78,27 +79,27 @@ func required(k string, p *float64, errs *sizing.ValidationError) float64 {
 // a sizing.ValidationError naming the field (or the log's line).
 // measure works out the figures of a test; lookup finds the library cell
 // a comparison names.
-func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
+func runMeasurement(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 	var errs sizing.ValidationError
 	method := in.get("method")
 	out := &measureOutcome{Method: method}
-	var log *sizing.MeasurementLog
+	var log *measure.Log
 	needLog := method != "timed"
 	if needLog {
 		if len(in.log) == 0 {
 			errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "required",
 				Message: "is required: upload the logged test (CSV with time_s, voltage_v and, when logged, current_a)"})
 		} else {
-			l, err := sizing.ParseMeasurementCSV(bytes.NewReader(in.log))
+			l, err := measure.ParseCSV(bytes.NewReader(in.log))
 			if err != nil {
 				errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "csv", Message: err.Error()})
 			}
 			log = l
 		}
 	}
-	var opts *sizing.DischargeOptions
+	var opts *measure.DischargeOptions
 	if s := in.number("start_s", form.UnitSecond, &errs); s != nil {
-		opts = &sizing.DischargeOptions{StartS: s}
+		opts = &measure.DischargeOptions{StartS: s}
 	}
 	var res any
 	var err error
@@ -107,15 +108,15 @@ func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 		rated := required("rated_v", in.number("rated_v", form.UnitVolt, &errs), &errs)
 		cur := in.number("current_a", form.UnitAmp, &errs)
 		if len(errs) == 0 {
-			var r sizing.ConstantCurrentResult
-			r, err = sizing.ConstantCurrentDischarge(log, rated, cur, opts)
+			var r measure.ConstantCurrentResult
+			r, err = measure.ConstantCurrentDischarge(log, rated, cur, opts)
 			res, out.figures = r, r.Figures()
 		}
 	case "resistor":
 		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
 		if len(errs) == 0 {
-			var r sizing.ResistorDischargeResult
-			r, err = sizing.ResistorDischargeLog(log, rl, opts)
+			var r measure.ResistorDischargeResult
+			r, err = measure.ResistorDischargeLog(log, rl, opts)
 			res, out.figures = r, r.Figures()
 		}
 	case "hold":
@@ -132,8 +133,8 @@ func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 			}
 		}
 		if len(errs) == 0 {
-			var r sizing.HoldResult
-			r, err = sizing.HoldLog(log, c, at)
+			var r measure.HoldResult
+			r, err = measure.HoldLog(log, c, at)
 			res, out.figures = r, r.Figures()
 		}
 	case "timed":
@@ -142,8 +143,8 @@ func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 		t := required("duration_s", in.number("duration_s", form.UnitSecond, &errs), &errs)
 		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
 		if len(errs) == 0 {
-			var r sizing.TimedDischarge
-			r, err = sizing.TimedResistorDischarge(v0, v1, t, rl)
+			var r measure.TimedDischarge
+			r, err = measure.TimedResistorDischarge(v0, v1, t, rl)
 			res, out.figures = r, r.Figures()
 		}
 	default:
@@ -163,12 +164,12 @@ func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 			return nil, sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not in the cell library", id)}}
 		}
 		out.CompareWith = id
-		out.Comparison = sizing.CompareWithDatasheet(out.figures, c)
+		out.Comparison = measure.CompareWithDatasheet(out.figures, c)
 		base := c
-		cell := sizing.MeasuredCell(&base, out.figures, summaryOf(res))
+		cell := measure.DraftCell(&base, out.figures, summaryOf(res))
 		out.Cell = &cell
 	} else if out.figures.CapacitanceF != nil && out.figures.ESROhm != nil && out.figures.RatedV != nil {
-		cell := sizing.MeasuredCell(nil, out.figures, summaryOf(res))
+		cell := measure.DraftCell(nil, out.figures, summaryOf(res))
 		out.Cell = &cell
 	}
 	return out, nil

@@ -15,6 +15,7 @@ import (
 
 	"capbank/components/figures"
 	"capbank/sizing"
+	"capbank/sizing/measure"
 )
 
 const measureUsage = `usage: capbank measure --method METHOD [flags] [LOG.csv]
@@ -134,13 +135,13 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 			atS = append(atS, x)
 		}
 	}
-	var opts *sizing.DischargeOptions
+	var opts *measure.DischargeOptions
 	if set["start-s"] {
-		opts = &sizing.DischargeOptions{StartS: startS}
+		opts = &measure.DischargeOptions{StartS: startS}
 	}
 
 	// The log.
-	var log *sizing.MeasurementLog
+	var log *measure.Log
 	logName := ""
 	if *method == "timed" {
 		if len(pos) > 0 {
@@ -173,25 +174,25 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 		if set["current-a"] {
 			cur = currentA
 		}
-		r, err := sizing.ConstantCurrentDischarge(log, *ratedV, cur, opts)
+		r, err := measure.ConstantCurrentDischarge(log, *ratedV, cur, opts)
 		if err != nil {
 			return measureProblem(err, logName)
 		}
 		result, text = r, func(w io.Writer) { writeConstantCurrentText(w, logName, r) }
 	case "resistor":
-		r, err := sizing.ResistorDischargeLog(log, *resistorOhm, opts)
+		r, err := measure.ResistorDischargeLog(log, *resistorOhm, opts)
 		if err != nil {
 			return measureProblem(err, logName)
 		}
 		result, text = r, func(w io.Writer) { writeResistorText(w, logName, r) }
 	case "hold":
-		r, err := sizing.HoldLog(log, *capacitanceF, atS)
+		r, err := measure.HoldLog(log, *capacitanceF, atS)
 		if err != nil {
 			return measureProblem(err, logName)
 		}
 		result, text = r, func(w io.Writer) { writeHoldText(w, logName, r) }
 	case "timed":
-		r, err := sizing.TimedResistorDischarge(*v0, *v1, *seconds, *resistorOhm)
+		r, err := measure.TimedResistorDischarge(*v0, *v1, *seconds, *resistorOhm)
 		if err != nil {
 			return measureProblem(err, logName)
 		}
@@ -216,9 +217,9 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 // readMeasurementLog reads and parses the named log ("-" for stdin). It
 // gives up when ctx is done, so an interrupt ends a command left waiting on
 // a terminal's standard input.
-func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLog, error) {
+func readMeasurementLog(ctx context.Context, name string) (*measure.Log, error) {
 	type outcome struct {
-		log *sizing.MeasurementLog
+		log *measure.Log
 		err error
 	}
 	done := make(chan outcome, 1)
@@ -238,7 +239,7 @@ func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLo
 			}
 			r = f
 		}
-		log, err := sizing.ParseMeasurementCSV(r)
+		log, err := measure.ParseCSV(r)
 		done <- outcome{log, err}
 	}()
 	select {
@@ -306,7 +307,7 @@ func optQuantityRow(label string, x *float64, unit string) measureRow {
 
 // writeMeasureText writes a titled table of figures, then the warnings and
 // the notes.
-func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []sizing.MeasurementWarning, notes []string, after func(io.Writer)) {
+func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []measure.Warning, notes []string, after func(io.Writer)) {
 	fmt.Fprintln(w, title)
 	fmt.Fprintln(w)
 	t := table{right: []bool{false, true, false}}
@@ -335,7 +336,7 @@ func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []s
 	}
 }
 
-func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurrentResult) {
+func writeConstantCurrentText(w io.Writer, logName string, r measure.ConstantCurrentResult) {
 	current := "discharge current I (given)"
 	if r.CurrentSource == "log" {
 		current = "discharge current I (logged mean, t1–t2)"
@@ -362,7 +363,7 @@ func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurr
 	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+quantity(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
 }
 
-func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeResult) {
+func writeResistorText(w io.Writer, logName string, r measure.ResistorDischargeResult) {
 	rows := []measureRow{
 		quantityRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
 		optQuantityRow("ESR from the step at switch-on", r.ESROhm, "Ω"),
@@ -381,7 +382,7 @@ func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeRe
 	writeMeasureText(w, "Resistor discharge, "+logName, rows, r.Warnings, r.Notes, nil)
 }
 
-func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
+func writeHoldText(w io.Writer, logName string, r measure.HoldResult) {
 	rows := []measureRow{
 		quantityRow("leakage current (latest point)", r.LeakageA, "A"),
 		optQuantityRow("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
@@ -418,7 +419,7 @@ func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
 	writeMeasureText(w, "Open-circuit hold, "+logName, rows, r.Warnings, r.Notes, points)
 }
 
-func writeTimedText(w io.Writer, r sizing.TimedDischarge) {
+func writeTimedText(w io.Writer, r measure.TimedDischarge) {
 	rows := []measureRow{
 		quantityRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
 		quantityRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),

@@ -1,22 +1,24 @@
-package sizing
+package measure
 
 import (
 	"io"
+
+	"capbank/sizing"
 )
 
-// MeasurementCSVMaxRows is the most data rows ParseMeasurementCSV reads: a
-// day of a hold logged once a tenth of a second is under 10^6 rows, and the
-// three columns then take 24 MB.
-const MeasurementCSVMaxRows = 1_000_000
+// MaxRows is the most data rows ParseCSV reads: a day of a hold logged
+// once a tenth of a second is under 10^6 rows, and the three columns then
+// take 24 MB.
+const MaxRows = 1_000_000
 
-// MeasurementLog is a logged test of one cell: samples of the terminal
-// voltage, and optionally the current, against time. ParseMeasurementCSV
-// reads one from CSV; the web may build one from an upload or JSON.
+// Log is a logged test of one cell: samples of the terminal voltage, and
+// optionally the current, against time. ParseCSV reads one from CSV; the
+// web may build one from an upload or JSON.
 //
 // The measurement functions check a log they are given: the slices must be
 // of equal length (CurrentA may be nil), every number finite and TimeS
 // strictly increasing.
-type MeasurementLog struct {
+type Log struct {
 	// TimeS, in s, is each sample's time; any origin.
 	TimeS []float64 `json:"time_s"`
 	// VoltageV, in V, is the cell's terminal voltage at each sample.
@@ -27,14 +29,19 @@ type MeasurementLog struct {
 	CurrentA []float64 `json:"current_a,omitempty"`
 }
 
-// Header names ParseMeasurementCSV looks for.
+// CSVError is the error ParseCSV returns: the one CSV error type of capbank
+// (sizing.CSVError, which the profile parser returns too), with the line,
+// the column and what is wrong.
+type CSVError = sizing.CSVError
+
+// Header names ParseCSV looks for.
 const (
-	measureTimeColumn    = "time_s"
-	measureVoltageColumn = "voltage_v"
-	measureCurrentColumn = "current_a"
+	timeColumn    = "time_s"
+	voltageColumn = "voltage_v"
+	currentColumn = "current_a"
 )
 
-// ParseMeasurementCSV reads a measurement log from CSV (RFC 4180).
+// ParseCSV reads a measurement log from CSV (RFC 4180).
 //
 // The first row is a header. It must name time_s (s) and voltage_v (V, the
 // cell's terminal voltage); current_a (A, positive for a discharge) is
@@ -47,29 +54,29 @@ const (
 // NaN, Inf, a number beyond ±1.8e308, a hexadecimal number or a decimal
 // comma is an error, never a guess.
 //
-// Accepted around the data, as in ParseProfileCSV: a UTF-8 byte-order mark,
-// CRLF or LF line ends, spaces around header names and values, blank lines,
-// and comment lines starting with # in the first character. At most
-// MeasurementCSVMaxRows data rows are read.
+// Accepted around the data, as in sizing.ParseProfileCSV (both read with
+// sizing.CSVReader): a UTF-8 byte-order mark, CRLF or LF line ends, spaces
+// around header names and values, blank lines, and comment lines starting
+// with # in the first character. At most MaxRows data rows are read.
 //
-// Every problem is returned as a *CSVError naming the line, and
-// the column for a bad cell:
+// Every problem is returned as a *CSVError naming the line, and the column
+// for a bad cell:
 //
 //	line 7, voltage_v: "abc" is not a number
 //
-// ParseMeasurementCSV checks that the file is a log; whether the log suits
-// a test method (reaches its voltage points, has a switch-on) is for the
-// method to say.
-func ParseMeasurementCSV(r io.Reader) (*MeasurementLog, error) {
-	p := NewCSVReader(r, MeasurementCSVMaxRows)
+// ParseCSV checks that the file is a log; whether the log suits a test
+// method (reaches its voltage points, has a switch-on) is for the method to
+// say.
+func ParseCSV(r io.Reader) (*Log, error) {
+	p := sizing.NewCSVReader(r, MaxRows)
 	timeCol, voltCol, currCol := -1, -1, -1
 	err := p.Header("time_s and voltage_v (and current_a when the current is logged)", func(i int, name string) error {
 		switch name {
-		case measureTimeColumn:
+		case timeColumn:
 			timeCol = i
-		case measureVoltageColumn:
+		case voltageColumn:
 			voltCol = i
-		case measureCurrentColumn:
+		case currentColumn:
 			currCol = i
 		}
 		return nil
@@ -84,7 +91,7 @@ func ParseMeasurementCSV(r io.Reader) (*MeasurementLog, error) {
 		return nil, p.MissingColumn("no voltage_v column; the header must name the cell's terminal voltage in V as voltage_v")
 	}
 
-	log := &MeasurementLog{}
+	log := &Log{}
 	if currCol >= 0 {
 		log.CurrentA = []float64{}
 	}
@@ -100,12 +107,12 @@ func ParseMeasurementCSV(r io.Reader) (*MeasurementLog, error) {
 		if err != nil {
 			return nil, err
 		}
-		v, _, err := p.Number(rec, voltCol, measureVoltageColumn)
+		v, _, err := p.Number(rec, voltCol, voltageColumn)
 		if err != nil {
 			return nil, err
 		}
 		if currCol >= 0 {
-			i, _, err := p.Number(rec, currCol, measureCurrentColumn)
+			i, _, err := p.Number(rec, currCol, currentColumn)
 			if err != nil {
 				return nil, err
 			}
