@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"iter"
 	"strconv"
 	"strings"
 )
@@ -45,8 +46,9 @@ func (e *CSVError) Unwrap() error { return e.err }
 // column for a bad cell.
 type CSVReader struct {
 	cr         *csv.Reader
-	line       int // line where the record last read starts
+	line       int // line where the record last read starts, a blank one too
 	headerLine int
+	rowLine    int    // line of the last data row
 	fields     int    // the header's field count
 	found      string // the header's names, quoted, for a message
 	rows       int    // data rows read
@@ -70,27 +72,35 @@ func NewCSVReader(r io.Reader, maxRows int) *CSVReader {
 	return &CSVReader{cr: cr, maxRows: maxRows}
 }
 
-// Line is the line the row last read starts on: the header's until the
-// first data row is read, the last data row's after the end.
-func (r *CSVReader) Line() int { return r.line }
+// Line is the line of the header until a data row is read, then of the
+// last data row read.
+func (r *CSVReader) Line() int {
+	if r.rows == 0 {
+		return r.headerLine
+	}
+	return r.rowLine
+}
 
-// Header reads the header row and calls each with every column's name,
-// trimmed of spaces, and its index; an unnamed column is skipped and a name
-// given twice is an error. An error from each stops the reading and is
-// returned. need says what the first row must name, for the message when
-// there is no header at all.
-func (r *CSVReader) Header(need string, each func(i int, name string) error) error {
+// Header reads the header row and returns the index of time_s, the column
+// every log has. It calls each with every other column's name, trimmed of
+// spaces, and its index; an unnamed column is skipped and a name given
+// twice is an error, and so is an error from each, which stops the
+// reading. need says what the header must name, time_s first ("time_s and
+// voltage_v"), for the messages when there is no header (with more added)
+// or no time_s.
+func (r *CSVReader) Header(need, more string, each func(i int, name string) error) (int, error) {
 	header, err := r.next()
 	if err == io.EOF {
-		return &CSVError{Line: 1, Message: "no header row: the file is empty or holds only comments and blank lines; " +
-			"the first row must name " + need}
+		return 0, &CSVError{Line: 1, Message: "no header row: the file is empty or holds only comments and blank lines; " +
+			"the first row must name " + need + more}
 	}
 	if err != nil {
-		return err
+		return 0, err
 	}
 	r.headerLine, r.fields = r.line, len(header)
 	seen := make(map[string]int, len(header))
 	names := make([]string, len(header))
+	timeCol := -1
 	for i, f := range header {
 		name := strings.TrimSpace(f)
 		names[i] = strconv.Quote(name)
@@ -98,16 +108,23 @@ func (r *CSVReader) Header(need string, each func(i int, name string) error) err
 			continue // an unnamed column, e.g. from a trailing comma, is ignored like any other
 		}
 		if j, dup := seen[name]; dup {
-			return &CSVError{Line: r.line, Message: fmt.Sprintf(
+			return 0, &CSVError{Line: r.line, Message: fmt.Sprintf(
 				"column %s appears twice (columns %d and %d); keep one", name, j+1, i+1)}
 		}
 		seen[name] = i
+		if name == "time_s" {
+			timeCol = i
+			continue
+		}
 		if err := each(i, name); err != nil {
-			return err
+			return 0, err
 		}
 	}
 	r.found = strings.Join(names, ", ")
-	return nil
+	if timeCol < 0 {
+		return 0, r.MissingColumn("no time_s column; the first row must be a header naming " + need)
+	}
+	return timeCol, nil
 }
 
 // MissingColumn is the error for a column the header lacks: msg, and the
@@ -116,9 +133,25 @@ func (r *CSVReader) MissingColumn(msg string) error {
 	return &CSVError{Line: r.headerLine, Message: fmt.Sprintf("%s (found %s)", msg, r.found)}
 }
 
-// Row returns the next data row, which has one field per header column, or
-// io.EOF after the last. The row is reused by the next call.
-func (r *CSVReader) Row() ([]string, error) {
+// Rows are the data rows after the header, each with one field per header
+// column; a problem ends them, as the one error given. A row is reused for
+// the next, so keep what it holds, not the row.
+func (r *CSVReader) Rows() iter.Seq2[[]string, error] {
+	return func(yield func([]string, error) bool) {
+		for {
+			rec, err := r.row()
+			if err == io.EOF {
+				return
+			}
+			if !yield(rec, err) || err != nil {
+				return
+			}
+		}
+	}
+}
+
+// row returns the next data row, or io.EOF after the last.
+func (r *CSVReader) row() ([]string, error) {
 	rec, err := r.next()
 	if err != nil {
 		return nil, err
@@ -135,6 +168,7 @@ func (r *CSVReader) Row() ([]string, error) {
 		return nil, &CSVError{Line: r.line, Message: fmt.Sprintf(
 			"more than %d data rows, the most capbank reads from one log; resample the log or split it", r.maxRows)}
 	}
+	r.rowLine = r.line
 	return rec, nil
 }
 
@@ -172,9 +206,9 @@ func (r *CSVReader) Time(rec []string, i int) (float64, string, error) {
 func (r *CSVReader) TwoRows(why string) error {
 	switch r.rows {
 	case 0:
-		return &CSVError{Line: r.line, Message: "no data rows after the header; " + why}
+		return &CSVError{Line: r.Line(), Message: "no data rows after the header; " + why}
 	case 1:
-		return &CSVError{Line: r.line, Message: "only one data row; " + why}
+		return &CSVError{Line: r.Line(), Message: "only one data row; " + why}
 	}
 	return nil
 }

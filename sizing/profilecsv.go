@@ -77,26 +77,21 @@ const (
 // by Validate.
 func ParseProfileCSV(r io.Reader) (*ProfileCSV, error) {
 	p := NewCSVReader(r, ProfileCSVMaxRows)
-	timeCol, valueCol := -1, -1
+	valueCol := -1
 	var column string
-	err := p.Header("time_s and power_w or current_a", func(i int, name string) error {
-		switch name {
-		case profileTimeColumn:
-			timeCol = i
-		case profilePowerColumn, profileCurrentColumn:
-			if valueCol >= 0 {
-				return &CSVError{Line: p.Line(), Message: "has both power_w and current_a; " +
-					"a profile is either power at the converter output or current at the bank terminals, so keep one column"}
-			}
-			valueCol, column = i, name
+	timeCol, err := p.Header("time_s and power_w or current_a", "", func(i int, name string) error {
+		if name != profilePowerColumn && name != profileCurrentColumn {
+			return nil
 		}
+		if valueCol >= 0 {
+			return &CSVError{Line: p.Line(), Message: "has both power_w and current_a; " +
+				"a profile is either power at the converter output or current at the bank terminals, so keep one column"}
+		}
+		valueCol, column = i, name
 		return nil
 	})
 	if err != nil {
 		return nil, err
-	}
-	if timeCol < 0 {
-		return nil, p.MissingColumn("no time_s column; the first row must be a header naming time_s and power_w or current_a")
 	}
 	if valueCol < 0 {
 		return nil, p.MissingColumn("no power_w or current_a column; the header must name one of them")
@@ -110,11 +105,7 @@ func ParseProfileCSV(r io.Reader) (*ProfileCSV, error) {
 	var rows int
 	var prevS, lastIntervalS float64
 	var prevText string
-	for {
-		rec, err := p.Row()
-		if err == io.EOF {
-			break
-		}
+	for rec, err := range p.Rows() {
 		if err != nil {
 			return nil, err
 		}

@@ -240,6 +240,10 @@ func TestParseProfileCSVErrors(t *testing.T) {
 		{"header after comments", "# bench log\n\ntime_s,voltage_v\n", 3, "", "no power_w or current_a column"},
 		{"header only", "time_s,power_w\n", 1, "", "no data rows after the header; need at least two rows to know the sample interval"},
 		{"one data row", "time_s,power_w\n# one sample\n0,5\n", 3, "", "need at least two rows to know the sample interval"},
+		// A line of spaces after the last row is not a row: the error names
+		// the row's line (hand counted).
+		{"header, then a line of spaces", "time_s,power_w\n   \n", 1, "", "no data rows after the header"},
+		{"one data row, then a line of spaces", "time_s,power_w\n0,5\n  \n", 2, "", "only one data row"},
 		{"too many fields", "time_s,power_w\n0,5\n1,5,7\n", 3, "", "has 3 fields but the header on line 1 has 2"},
 		{"too few fields", "time_s,power_w,voltage_v\n0,5,48\n1,5\n", 3, "", "has 2 fields but the header on line 1 has 3"},
 		{"indented comment", "time_s,power_w\n0,5\n  # note\n1,5\n", 3, "", "a # comment must start in the first character of its line"},

@@ -34,9 +34,8 @@ type Log struct {
 // the column and what is wrong.
 type CSVError = sizing.CSVError
 
-// Header names ParseCSV looks for.
+// Header names ParseCSV looks for, besides time_s.
 const (
-	timeColumn    = "time_s"
 	voltageColumn = "voltage_v"
 	currentColumn = "current_a"
 )
@@ -69,11 +68,9 @@ const (
 // say.
 func ParseCSV(r io.Reader) (*Log, error) {
 	p := sizing.NewCSVReader(r, MaxRows)
-	timeCol, voltCol, currCol := -1, -1, -1
-	err := p.Header("time_s and voltage_v (and current_a when the current is logged)", func(i int, name string) error {
+	voltCol, currCol := -1, -1
+	timeCol, err := p.Header("time_s and voltage_v", " (and current_a when the current is logged)", func(i int, name string) error {
 		switch name {
-		case timeColumn:
-			timeCol = i
 		case voltageColumn:
 			voltCol = i
 		case currentColumn:
@@ -84,9 +81,6 @@ func ParseCSV(r io.Reader) (*Log, error) {
 	if err != nil {
 		return nil, err
 	}
-	if timeCol < 0 {
-		return nil, p.MissingColumn("no time_s column; the first row must be a header naming time_s and voltage_v")
-	}
 	if voltCol < 0 {
 		return nil, p.MissingColumn("no voltage_v column; the header must name the cell's terminal voltage in V as voltage_v")
 	}
@@ -95,11 +89,7 @@ func ParseCSV(r io.Reader) (*Log, error) {
 	if currCol >= 0 {
 		log.CurrentA = []float64{}
 	}
-	for {
-		rec, err := p.Row()
-		if err == io.EOF {
-			break
-		}
+	for rec, err := range p.Rows() {
 		if err != nil {
 			return nil, err
 		}

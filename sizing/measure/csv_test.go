@@ -64,6 +64,9 @@ func TestParseCSVErrors(t *testing.T) {
 		{"header after comments", "# log\n\ntime_s,v\n", 3, "", "no voltage_v column"},
 		{"header only", "time_s,voltage_v\n", 1, "", "no data rows after the header"},
 		{"one row", "time_s,voltage_v\n# one\n0,2.7\n", 3, "", "only one data row"},
+		// A line of spaces after the last row is not a row (hand counted).
+		{"header, then a line of spaces", "time_s,voltage_v\n \n", 1, "", "no data rows after the header"},
+		{"one row, then a line of spaces", "time_s,voltage_v\n0,2.7\n \n", 2, "", "only one data row"},
 		{"too many fields", "time_s,voltage_v\n0,2.7\n1,2.6,9\n", 3, "", "has 3 fields but the header on line 1 has 2"},
 		{"indented comment", "time_s,voltage_v\n0,2.7\n  # note\n1,2.6\n", 3, "", "a # comment must start in the first character"},
 		{"bare quote", "time_s,voltage_v\n0,2.7\n1,2\"6\n", 3, "", `a " inside an unquoted value`},
