@@ -173,9 +173,9 @@ func Run(in Input) (Result, error) {
 			}
 		}
 	} else {
-		names := make([]string, 0, 4)
-		for _, m := range Methods() {
-			names = append(names, m.Name)
+		var names []string
+		for _, method := range Methods() {
+			names = append(names, method.Name)
 		}
 		problems = append(problems, sizing.FieldError{Field: "method", Rule: "oneof",
 			Message: "must be one of: " + strings.Join(names, ", ")})
