@@ -61,7 +61,9 @@ func (in measureInput) get(k string) string { return strings.TrimSpace(in.values
 func runMeasurement(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
 	r := form.FieldReader{Get: in.get}
 	mi := measure.Input{Method: in.get("method")}
-	if len(in.log) > 0 {
+	// A log is read for a method that takes one, or for none known (Run
+	// then asks for it anyway).
+	if m, known := measure.MethodNamed(mi.Method); len(in.log) > 0 && (m.Log || !known) {
 		log, err := measure.ParseCSV(bytes.NewReader(in.log))
 		if err != nil {
 			r.Bad("log", "csv", err.Error())
