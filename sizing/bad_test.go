@@ -9,7 +9,7 @@ import (
 )
 
 // TestBadProfileCorpus: every malformed profile CSV in testdata/bad/profiles
-// is refused with a ProfileCSVError naming its line, never a panic.
+// is refused with a CSVError naming its line, never a panic.
 func TestBadProfileCorpus(t *testing.T) {
 	t.Parallel()
 	files, _ := filepath.Glob("../testdata/bad/profiles/*.csv")
@@ -22,9 +22,9 @@ func TestBadProfileCorpus(t *testing.T) {
 			t.Fatal(err)
 		}
 		_, err = ParseProfileCSV(bytesReader(data))
-		var pe *ProfileCSVError
+		var pe *CSVError
 		if !errors.As(err, &pe) || pe.Line < 1 || pe.Message == "" {
-			t.Errorf("%s: %v, want a ProfileCSVError with a line", filepath.Base(f), err)
+			t.Errorf("%s: %v, want a CSVError with a line", filepath.Base(f), err)
 		}
 	}
 }

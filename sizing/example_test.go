@@ -2,6 +2,7 @@ package sizing_test
 
 import (
 	"fmt"
+	"strings"
 
 	"capbank/sizing"
 )
@@ -52,4 +53,41 @@ func ExampleValidate() {
 	// Output:
 	// load.steps[0].duration_s: must be greater than 0
 	// window.min_v: must be below window.max_v (21 V ≥ 20 V)
+}
+
+// Read a logged load profile: each row's power holds until the next row's
+// time, and the last row for the interval before it. Rows of the same value
+// join into one step and a zero is a rest.
+func ExampleParseProfileCSV() {
+	const logged = `# actuator, power at the converter output
+time_s,power_w
+0,150
+10,150
+20,0
+30,-50
+`
+	p, err := sizing.ParseProfileCSV(strings.NewReader(logged))
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("%d rows from %s, %g s in %d steps:\n", p.Rows, p.Column, p.DurationS, len(p.Steps))
+	for _, s := range p.Steps {
+		switch {
+		case s.Rest:
+			fmt.Printf("  rest for %g s\n", s.DurationS)
+		default:
+			fmt.Printf("  %g W for %g s\n", *s.PowerW, s.DurationS)
+		}
+	}
+
+	// A problem names the line and the column.
+	_, err = sizing.ParseProfileCSV(strings.NewReader("time_s,power_w\n0,150\n10,1,5\n"))
+	fmt.Println(err)
+	// Output:
+	// 4 rows from power_w, 40 s in 3 steps:
+	//   150 W for 20 s
+	//   rest for 10 s
+	//   -50 W for 10 s
+	// line 3: has 3 fields but the header on line 1 has 2; every row needs one field per header column
 }

@@ -3,6 +3,8 @@ package sizing
 import (
 	"errors"
 	"testing"
+
+	"capbank/sizing/internal/approx"
 )
 
 // extremeBase is a small invented design (one cell, one step) that each
@@ -114,7 +116,7 @@ func TestSizeExtremeButValid(t *testing.T) {
 			if err != nil {
 				t.Fatalf("Size: %v", err)
 			}
-			measureAllFinite(t, "report", r)
+			approx.AllFinite(t, "report", r)
 			if tc.check != nil {
 				tc.check(t, &r.Candidates[0])
 			}

@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"capbank/sizing/internal/approx"
 )
 
 // FuzzDesign feeds arbitrary bytes to the design decoder, the validator
@@ -58,7 +60,7 @@ func FuzzDesign(f *testing.F) {
 		if len(r.Candidates) != len(d.Cells) {
 			t.Fatalf("%d candidates for %d cells", len(r.Candidates), len(d.Cells))
 		}
-		measureAllFinite(t, "report", r)
+		approx.AllFinite(t, "report", r)
 	})
 }
 

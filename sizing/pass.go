@@ -107,7 +107,7 @@ func (m *bankModel) runtimeFrom(steps []compiledStep, period, minV, maxV float64
 }
 
 func (m *bankModel) within(t float64, end stopReason, estimated bool) runtimeResult {
-	if t > RuntimeLimitS || !finite(t) {
+	if t > RuntimeLimitS || !Finite(t) {
 		return runtimeResult{}
 	}
 	return runtimeResult{within: true, t: t, end: end, estimated: estimated}
@@ -144,7 +144,7 @@ func (m *bankModel) averagedRuntime(steps []compiledStep, period, v, t, minV, ma
 		return 1 / d
 	}
 	n := quad.Fixed(drop, vCrit, v, 16, quad.Legendre{}, 0)
-	if never || !finite(n) {
+	if never || !Finite(n) {
 		return runtimeResult{}
 	}
 	// The last, failing period starts somewhere in (f(vCrit), vCrit].

@@ -240,6 +240,10 @@ func TestParseProfileCSVErrors(t *testing.T) {
 		{"header after comments", "# bench log\n\ntime_s,voltage_v\n", 3, "", "no power_w or current_a column"},
 		{"header only", "time_s,power_w\n", 1, "", "no data rows after the header; need at least two rows to know the sample interval"},
 		{"one data row", "time_s,power_w\n# one sample\n0,5\n", 3, "", "need at least two rows to know the sample interval"},
+		// A line of spaces after the last row is not a row: the error names
+		// the row's line (hand counted).
+		{"header, then a line of spaces", "time_s,power_w\n   \n", 1, "", "no data rows after the header"},
+		{"one data row, then a line of spaces", "time_s,power_w\n0,5\n  \n", 2, "", "only one data row"},
 		{"too many fields", "time_s,power_w\n0,5\n1,5,7\n", 3, "", "has 3 fields but the header on line 1 has 2"},
 		{"too few fields", "time_s,power_w,voltage_v\n0,5,48\n1,5\n", 3, "", "has 2 fields but the header on line 1 has 3"},
 		{"indented comment", "time_s,power_w\n0,5\n  # note\n1,5\n", 3, "", "a # comment must start in the first character of its line"},
@@ -284,9 +288,9 @@ func TestParseProfileCSVErrors(t *testing.T) {
 			if got != nil {
 				t.Errorf("ParseProfileCSV returned a profile with the error %v", err)
 			}
-			var pe *ProfileCSVError
+			var pe *CSVError
 			if !errors.As(err, &pe) {
-				t.Fatalf("error %T %q, want a *ProfileCSVError", err, err)
+				t.Fatalf("error %T %q, want a *CSVError", err, err)
 			}
 			if pe.Line != tc.line {
 				t.Errorf("Line = %d, want %d (error %q)", pe.Line, tc.line, err)
@@ -333,9 +337,9 @@ func TestParseProfileCSVReadError(t *testing.T) {
 	diskErr := errors.New("device gone")
 	r := io.MultiReader(strings.NewReader("time_s,power_w\n0,5\n"), iotest.ErrReader(diskErr))
 	_, err := ParseProfileCSV(r)
-	var pe *ProfileCSVError
+	var pe *CSVError
 	if !errors.As(err, &pe) {
-		t.Fatalf("error %T %v, want a *ProfileCSVError", err, err)
+		t.Fatalf("error %T %v, want a *CSVError", err, err)
 	}
 	if pe.Line != 3 || !strings.Contains(pe.Message, "could not be read: device gone") {
 		t.Errorf("got line %d %q, want line 3 and the reader's message", pe.Line, pe.Message)
@@ -382,9 +386,9 @@ func TestParseProfileCSVRowLimit(t *testing.T) {
 	t.Run("one over", func(t *testing.T) {
 		t.Parallel()
 		_, err := ParseProfileCSV(bytes.NewReader(profileCSVLog(ProfileCSVMaxRows+1, false)))
-		var pe *ProfileCSVError
+		var pe *CSVError
 		if !errors.As(err, &pe) {
-			t.Fatalf("error %T %v, want a *ProfileCSVError", err, err)
+			t.Fatalf("error %T %v, want a *CSVError", err, err)
 		}
 		// Hand computed: data row 1,000,001 is on line 1,000,002 after the
 		// header; the message names the limit.
@@ -488,7 +492,7 @@ func TestParseProfileCSVTestdata(t *testing.T) {
 }
 
 // FuzzParseProfileCSV checks that any input gives either a well-formed
-// profile or a *ProfileCSVError, never a panic.
+// profile or a *CSVError, never a panic.
 func FuzzParseProfileCSV(f *testing.F) {
 	for _, s := range []string{
 		"time_s,power_w\n0,100\n1,100\n3,50\n4,0\n6,0\n7,-20\n",
@@ -503,9 +507,9 @@ func FuzzParseProfileCSV(f *testing.F) {
 	f.Fuzz(func(t *testing.T, in string) {
 		got, err := ParseProfileCSV(strings.NewReader(in))
 		if err != nil {
-			var pe *ProfileCSVError
+			var pe *CSVError
 			if !errors.As(err, &pe) || pe.Line < 1 || pe.Message == "" {
-				t.Fatalf("error %T %q, want a *ProfileCSVError with a line and a message", err, err)
+				t.Fatalf("error %T %q, want a *CSVError with a line and a message", err, err)
 			}
 			return
 		}

@@ -798,7 +798,7 @@ func checkFinite(r *Report) error {
 func nonFinite(v reflect.Value, path string) (string, bool) {
 	switch v.Kind() {
 	case reflect.Float64:
-		if !finite(v.Float()) {
+		if !Finite(v.Float()) {
 			return path, true
 		}
 	case reflect.Pointer, reflect.Interface:

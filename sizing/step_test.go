@@ -4,8 +4,9 @@ import (
 	"math"
 	"testing"
 
-	"gonum.org/v1/gonum/floats/scalar"
 	"gonum.org/v1/gonum/integrate/quad"
+
+	"capbank/sizing/internal/approx"
 )
 
 // The common bank of REFERENCES.md 10.1–10.5: 2500 F / 0.40 mΩ cells, 18 in
@@ -17,12 +18,8 @@ func (m *bankModel) stepOf(k stepKind, x, dur, v0, minV, maxV float64) stepOutco
 	return m.step(compiledStep{kind: k, x: x, dur: dur}, v0, minV, maxV)
 }
 
-func near(t *testing.T, name string, got, want, rel float64) {
-	t.Helper()
-	if !finite(got) || !scalar.EqualWithinAbsOrRel(got, want, 0, rel) {
-		t.Errorf("%s = %.12g, want %.12g (relative tolerance %g, off by %.3g)", name, got, want, rel, (got-want)/want)
-	}
-}
+// near is the domain tests' one tolerance check.
+var near = approx.Near
 
 // gl integrates f over [a, b] with an n-point Gauss–Legendre rule from
 // gonum's integrate/quad: the independent reference for the closed forms.
@@ -144,7 +141,7 @@ func TestConstantPowerCollapse(t *testing.T) {
 	near(t, "time to collapse", o.t, gl(f, 0, math.Acosh(120/v2), 64), 1e-9)
 	// Already below the maximum-power point: stops at once, no NaN.
 	o = m.stepOf(kindPower, p, 10, 80, 30, 120)
-	if o.stop != stopPower || o.t != 0 || !finite(o.uEnd) || !finite(o.iEnd) {
+	if o.stop != stopPower || o.t != 0 || !Finite(o.uEnd) || !Finite(o.iEnd) {
 		t.Errorf("below the limit: %+v, want an immediate power stop with finite figures", o)
 	}
 }

@@ -182,7 +182,9 @@ func dedupe(errs ValidationError) ValidationError {
 	return out
 }
 
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+// Finite reports whether x is a number: neither NaN nor an infinity. No
+// figure capbank works out may be anything else.
+func Finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // physicsRules are the cross-field rules the tags cannot say.
 func physicsRules(d *Design) ValidationError {
@@ -191,7 +193,7 @@ func physicsRules(d *Design) ValidationError {
 		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
 	}
 	w := d.Window
-	if finite(w.MaxV) && finite(w.MinV) && w.MinV > 0 && w.MinV >= w.MaxV {
+	if Finite(w.MaxV) && Finite(w.MinV) && w.MinV > 0 && w.MinV >= w.MaxV {
 		add("window.min_v", "below_max_v", "must be below window.max_v (%g V ≥ %g V)", w.MinV, w.MaxV)
 	}
 	for i, s := range d.Load.Steps {
@@ -267,7 +269,7 @@ func seriesTooMany(d *Design, c *Cell) (string, float64, bool) {
 	if d.CellMaxV != nil && *d.CellMaxV <= c.RatedV {
 		ceiling, field = *d.CellMaxV, "cell_max_v"
 	}
-	if !finite(maxV) || !finite(ceiling) || !(maxV >= 0.001) || !(ceiling >= 0.1) || SeriesCount(maxV, ceiling) != 0 {
+	if !Finite(maxV) || !Finite(ceiling) || !(maxV >= 0.001) || !(ceiling >= 0.1) || SeriesCount(maxV, ceiling) != 0 {
 		return "", 0, false
 	}
 	return field, ceiling, true
@@ -299,10 +301,10 @@ func cellRules(c *Cell, p string) ValidationError {
 	if rule, msg := idProblem(c.ID); msg != "" {
 		add("id", rule, "%s", msg)
 	}
-	if c.SurgeV != nil && finite(*c.SurgeV) && finite(c.RatedV) && *c.SurgeV < c.RatedV {
+	if c.SurgeV != nil && Finite(*c.SurgeV) && Finite(c.RatedV) && *c.SurgeV < c.RatedV {
 		add("surge_v", "gte_rated", "must be at least rated_v (%g V < %g V)", *c.SurgeV, c.RatedV)
 	}
-	if t := c.CapacitanceTolerancePct; len(t) == 2 && finite(t[0]) && finite(t[1]) {
+	if t := c.CapacitanceTolerancePct; len(t) == 2 && Finite(t[0]) && Finite(t[1]) {
 		if t[0] > 0 || t[0] <= -100 {
 			add("capacitance_tolerance_pct[0]", "tolerance_minus",
 				"the minus tolerance must be in (−100, 0] percent, e.g. -10 (got %g)", t[0])
@@ -329,7 +331,7 @@ func cellRules(c *Cell, p string) ValidationError {
 	if c.LeakageA != nil && tinyCurrent(*c.LeakageA) {
 		add("leakage_a", "min_current", "is %g A, below %g A (a picoampere), less than any cell leaks; give 0 for none, or check the unit (A)", *c.LeakageA, MinLeakageA)
 	}
-	if c.LeakageA != nil && finite(*c.LeakageA) && finite(c.RatedV) && finite(c.CapacitanceF) && *c.LeakageA > 0 &&
+	if c.LeakageA != nil && Finite(*c.LeakageA) && Finite(c.RatedV) && Finite(c.CapacitanceF) && *c.LeakageA > 0 &&
 		c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
 		add("leakage_a", "leakage_plausible",
 			"is so large that the cell would empty itself in under a second (R·C = %.3g s); check the unit (A, not mA)",

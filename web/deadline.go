@@ -170,11 +170,13 @@ func (s *Server) evaluateWithin(c echo.Context, f *form.Form) (*evaluation, erro
 }
 
 // measureWithin is measure under the compute deadline: a measurement log
-// may hold up to sizing.MeasurementCSVMaxRows rows, which takes seconds to
+// may hold up to measure.MaxRows rows, which takes seconds to
 // read and fit. A deadline error is marked as a measurement's, whose
 // message asks for a shorter log.
 func (s *Server) measureWithin(c echo.Context, in measureInput) (*measureOutcome, error) {
-	out, err := computeWithLookup(s, c, func(_ context.Context, find form.CellLookup) (*measureOutcome, error) { return measure(in, find) })
+	out, err := computeWithLookup(s, c, func(_ context.Context, find form.CellLookup) (*measureOutcome, error) {
+		return runMeasurement(in, find)
+	})
 	if fe := fault.As(err); fe != nil && fe.Type == typeDeadline {
 		return out, pastDeadline(s.computeTimeout, true)
 	}

@@ -26,7 +26,7 @@ func TestOneFieldReader(t *testing.T) {
 		return n
 	}
 
-	_, err := measure(measureInput{values: map[string]string{"method": "timed", "v0_v": "2.7", "v1_v": "2,1", "duration_s": "60", "resistor_ohm": "10"}}, store.DemoCell)
+	_, err := runMeasurement(measureInput{values: map[string]string{"method": "timed", "v0_v": "2.7", "v1_v": "2,1", "duration_s": "60", "resistor_ohm": "10"}}, store.DemoCell)
 	var fields []string
 	for _, fe := range validationErrors(err) {
 		fields = append(fields, fe.Field)

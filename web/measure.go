@@ -9,6 +9,7 @@ import (
 	"io"
 	"mime/multipart"
 	"net/http"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -18,11 +19,12 @@ import (
 	"capbank/components"
 	"capbank/components/figures"
 	"capbank/sizing"
+	"capbank/sizing/measure"
 	"capbank/web/store"
 )
 
 // The measurement page and API: a cell's capacitance, ESR and leakage from
-// bench data, by the methods of sizing/measure.go. Field names are the
+// bench data, by the methods of sizing/measure. Field names are the
 // flags of `capbank measure` with underscores: method, rated_v,
 // resistor_ohm, current_a, capacitance_f, start_s, at_s, v0_v, v1_v,
 // duration_s, compare_id, and the log file in log_csv.
@@ -36,14 +38,13 @@ var measureMethods = []components.Option{
 }
 
 // measureOutcome is what a measurement gives: the result struct of the
-// method, its figures, and the comparison with a datasheet cell if asked.
+// method, and the comparison with a datasheet cell if asked.
 type measureOutcome struct {
-	Method      string              `json:"method"`
-	Result      any                 `json:"result"`
-	Comparison  []sizing.Comparison `json:"comparison,omitempty"`
-	CompareWith string              `json:"compare_with,omitempty"`
-	Cell        *sizing.Cell        `json:"measured_cell,omitempty"`
-	figures     sizing.MeasuredFigures
+	Method      string               `json:"method"`
+	Result      any                  `json:"result"`
+	Comparison  []measure.Comparison `json:"comparison,omitempty"`
+	CompareWith string               `json:"compare_with,omitempty"`
+	Cell        *sizing.Cell         `json:"measured_cell,omitempty"`
 }
 
 // measureInput is the form (or API multipart body) of a measurement.
@@ -54,131 +55,83 @@ type measureInput struct {
 
 func (in measureInput) get(k string) string { return strings.TrimSpace(in.values[k]) }
 
-// number reads field k, a number in unit u (nil when empty), with the
-// form's one field reader; a problem goes to errs.
-func (in measureInput) number(k string, u form.UnitSpec, errs *sizing.ValidationError) *float64 {
-	r := form.FieldReader{Get: in.get, Problems: *errs}
-	v := r.Optional(k, u)
-	*errs = r.Problems
-	return v
-}
-
-// required is the number p read for field k, which the method needs: a
-// problem when the field was left empty (a number that did not parse has
-// its problem already and reads NaN).
-func required(k string, p *float64, errs *sizing.ValidationError) float64 {
-	if p == nil {
-		*errs = append(*errs, sizing.FieldError{Field: k, Rule: "required", Message: "is required for this method"})
-		return 0
+// runMeasurement reads the form into a measure.Input and runs it; lookup
+// finds the library cell compare_id names. Bad input comes back as a
+// sizing.ValidationError naming the form's field (or the log's line).
+func runMeasurement(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
+	r := form.FieldReader{Get: in.get}
+	mi := measure.Input{Method: in.get("method")}
+	// A log is read for a method that takes one, or for none known (Run
+	// then asks for it anyway).
+	if m, known := measure.MethodNamed(mi.Method); len(in.log) > 0 && (m.Log || !known) {
+		log, err := measure.ParseCSV(bytes.NewReader(in.log))
+		if err != nil {
+			r.Bad("log", "csv", err.Error())
+		}
+		mi.Log = log
 	}
-	return *p
-}
-
-// measure runs the measurement the input asks for. Bad input comes back as
-// a sizing.ValidationError naming the field (or the log's line).
-// measure works out the figures of a test; lookup finds the library cell
-// a comparison names.
-func measure(in measureInput, lookup form.CellLookup) (*measureOutcome, error) {
-	var errs sizing.ValidationError
-	method := in.get("method")
-	out := &measureOutcome{Method: method}
-	var log *sizing.MeasurementLog
-	needLog := method != "timed"
-	if needLog {
-		if len(in.log) == 0 {
-			errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "required",
-				Message: "is required: upload the logged test (CSV with time_s, voltage_v and, when logged, current_a)"})
-		} else {
-			l, err := sizing.ParseMeasurementCSV(bytes.NewReader(in.log))
+	mi.RatedV = r.Optional("rated_v", form.UnitVolt)
+	mi.CurrentA = r.Optional("current_a", form.UnitAmp)
+	mi.StartS = r.Optional("start_s", form.UnitSecond)
+	mi.ResistorOhm = r.Optional("resistor_ohm", form.UnitOhm)
+	mi.CapacitanceF = r.Optional("capacitance_f", form.UnitFarad)
+	mi.V0V = r.Optional("v0_v", form.UnitVolt)
+	mi.V1V = r.Optional("v1_v", form.UnitVolt)
+	mi.DurationS = r.Optional("duration_s", form.UnitSecond)
+	if v := in.get("at_s"); v != "" {
+		for i, part := range strings.Split(v, ",") {
+			x, err := form.ParseSI(strings.TrimSpace(part), form.UnitSecond)
 			if err != nil {
-				errs = append(errs, sizing.FieldError{Field: "log_csv", Rule: "csv", Message: err.Error()})
+				r.Bad(fmt.Sprintf("at_s[%d]", i), "number", err.Error())
+				continue
 			}
-			log = l
+			mi.AtS = append(mi.AtS, x)
 		}
 	}
-	var opts *sizing.DischargeOptions
-	if s := in.number("start_s", form.UnitSecond, &errs); s != nil {
-		opts = &sizing.DischargeOptions{StartS: s}
+	mi.Unread = r.Problems
+	// An unknown cell is named only when the measurement itself is sound.
+	var unknownCell error
+	id := in.get("compare_id")
+	if id != "" {
+		if c, ok := lookup(id); ok {
+			mi.Datasheet = &c
+		} else {
+			unknownCell = sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not in the cell library", id)}}
+		}
 	}
-	var res any
-	var err error
-	switch method {
-	case "constant-current":
-		rated := required("rated_v", in.number("rated_v", form.UnitVolt, &errs), &errs)
-		cur := in.number("current_a", form.UnitAmp, &errs)
-		if len(errs) == 0 {
-			var r sizing.ConstantCurrentResult
-			r, err = sizing.ConstantCurrentDischarge(log, rated, cur, opts)
-			res, out.figures = r, r.Figures()
-		}
-	case "resistor":
-		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
-		if len(errs) == 0 {
-			var r sizing.ResistorDischargeResult
-			r, err = sizing.ResistorDischargeLog(log, rl, opts)
-			res, out.figures = r, r.Figures()
-		}
-	case "hold":
-		c := required("capacitance_f", in.number("capacitance_f", form.UnitFarad, &errs), &errs)
-		var at []float64
-		if v := in.get("at_s"); v != "" {
-			for i, part := range strings.Split(v, ",") {
-				x, perr := form.ParseSI(strings.TrimSpace(part), form.UnitSecond)
-				if perr != nil {
-					errs = append(errs, sizing.FieldError{Field: fmt.Sprintf("at_s[%d]", i), Rule: "number", Message: perr.Error()})
-					continue
-				}
-				at = append(at, x)
-			}
-		}
-		if len(errs) == 0 {
-			var r sizing.HoldResult
-			r, err = sizing.HoldLog(log, c, at)
-			res, out.figures = r, r.Figures()
-		}
-	case "timed":
-		v0 := required("v0_v", in.number("v0_v", form.UnitVolt, &errs), &errs)
-		v1 := required("v1_v", in.number("v1_v", form.UnitVolt, &errs), &errs)
-		t := required("duration_s", in.number("duration_s", form.UnitSecond, &errs), &errs)
-		rl := required("resistor_ohm", in.number("resistor_ohm", form.UnitOhm, &errs), &errs)
-		if len(errs) == 0 {
-			var r sizing.TimedDischarge
-			r, err = sizing.TimedResistorDischarge(v0, v1, t, rl)
-			res, out.figures = r, r.Figures()
-		}
-	default:
-		errs = append(errs, sizing.FieldError{Field: "method", Rule: "oneof",
-			Message: "must be one of: constant-current, resistor, hold, timed"})
-	}
-	if len(errs) > 0 {
-		return nil, errs
-	}
+	res, err := measure.Run(mi)
 	if err != nil {
-		return nil, err
+		return nil, measureFormProblems(err)
 	}
-	out.Result = res
-	if id := in.get("compare_id"); id != "" {
-		c, ok := lookup(id)
-		if !ok {
-			return nil, sizing.ValidationError{{Field: "compare_id", Rule: "cell", Message: fmt.Sprintf("%q is not in the cell library", id)}}
-		}
+	if unknownCell != nil {
+		return nil, unknownCell
+	}
+	out := &measureOutcome{Method: res.Method, Result: res.Details(), Comparison: res.Comparison, Cell: res.Cell}
+	if mi.Datasheet != nil {
 		out.CompareWith = id
-		out.Comparison = sizing.CompareWithDatasheet(out.figures, c)
-		base := c
-		cell := sizing.MeasuredCell(&base, out.figures, summaryOf(res))
-		out.Cell = &cell
-	} else if out.figures.CapacitanceF != nil && out.figures.ESROhm != nil && out.figures.RatedV != nil {
-		cell := sizing.MeasuredCell(nil, out.figures, summaryOf(res))
-		out.Cell = &cell
 	}
 	return out, nil
 }
 
-func summaryOf(res any) string {
-	if s, ok := res.(interface{ Summary() string }); ok {
-		return s.Summary()
+// measureFormProblems names Run's problems by the form's fields: the log's
+// own (missing, not a CSV log) belong to the upload, log_csv; every other
+// field is named on the form as in Run.
+func measureFormProblems(err error) error {
+	var ve sizing.ValidationError
+	if !errors.As(err, &ve) {
+		return err
 	}
-	return ""
+	out := slices.Clone(ve)
+	for i, fe := range out {
+		switch {
+		case fe.Field == "log" && fe.Rule == "required":
+			out[i] = sizing.FieldError{Field: "log_csv", Rule: "required",
+				Message: "is required: upload the logged test (CSV with time_s, voltage_v and, when logged, current_a)"}
+		case fe.Field == "log" && fe.Rule == "csv":
+			out[i].Field = "log_csv"
+		}
+	}
+	return out
 }
 
 // readMeasureInput reads a multipart or url-encoded form.

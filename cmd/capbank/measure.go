@@ -15,6 +15,7 @@ import (
 
 	"capbank/components/figures"
 	"capbank/sizing"
+	"capbank/sizing/measure"
 )
 
 const measureUsage = `usage: capbank measure --method METHOD [flags] [LOG.csv]
@@ -46,24 +47,13 @@ exits with status 2.
 flags:
 `
 
-// measureMethodFlags are the flags each method takes, besides --method and
-// --format; the first ones listed are required, up to the count in
-// measureRequired.
-var measureMethodFlags = map[string][]string{
-	"constant-current": {"rated-v", "current-a", "start-s"},
-	"resistor":         {"resistor-ohm", "start-s"},
-	"hold":             {"capacitance-f", "at"},
-	"timed":            {"v0", "v1", "seconds", "resistor-ohm"},
-}
-
-var measureRequired = map[string]int{"constant-current": 1, "resistor": 1, "hold": 1, "timed": 4}
-
-// measureFlagFields maps the field names of sizing's measurement errors to
-// the flags that set them.
-var measureFlagFields = map[string]string{
-	"rated_v": "--rated-v", "current_a": "--current-a", "start_s": "--start-s",
-	"resistor_ohm": "--resistor-ohm", "capacitance_f": "--capacitance-f",
-	"v0_v": "--v0", "v1_v": "--v1", "duration_s": "--seconds", "inputs": "capbank measure",
+// measureFlags names the flag that sets each input of measure.Run, by the
+// input's field name; the problems of Run name the field, and the command
+// line says the flag.
+var measureFlags = map[string]string{
+	"rated_v": "rated-v", "current_a": "current-a", "start_s": "start-s",
+	"resistor_ohm": "resistor-ohm", "capacitance_f": "capacitance-f", "at_s": "at",
+	"v0_v": "v0", "v1_v": "v1", "duration_s": "seconds",
 }
 
 // measureMessageNames rewrites the input names inside sizing's messages
@@ -102,7 +92,7 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	set := map[string]bool{}
 	flags.Visit(func(f *flag.Flag) { set[f.Name] = true })
 
-	own, known := measureMethodFlags[*method]
+	m, known := measure.MethodNamed(*method)
 	switch {
 	case *method == "":
 		return usageFailure(stderr, usage, "capbank measure: give --method: constant-current, resistor, hold or timed")
@@ -110,6 +100,10 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 		return usageFailure(stderr, usage, "capbank measure: --method must be constant-current, resistor, hold or timed (got %q)", *method)
 	case *format != "text" && *format != "json":
 		return usageFailure(stderr, usage, "capbank measure: --format must be text or json (got %q)", *format)
+	}
+	var own []string // the method's flags, the required ones first
+	for _, field := range append(slices.Clone(m.Required), m.Optional...) {
+		own = append(own, measureFlags[field])
 	}
 	var names []string
 	flags.Visit(func(f *flag.Flag) { names = append(names, f.Name) })
@@ -119,30 +113,34 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 				name, *method, strings.Join(own, ", --"))
 		}
 	}
-	for _, name := range own[:measureRequired[*method]] {
+	for _, name := range own[:len(m.Required)] {
 		if !set[name] {
 			return usageFailure(stderr, usage, "capbank measure: --method %s needs --%s", *method, name)
 		}
 	}
-	var atS []float64
+	given := func(name string, x *float64) *float64 {
+		if set[name] {
+			return x
+		}
+		return nil
+	}
+	in := measure.Input{Method: *method, RatedV: given("rated-v", ratedV), CurrentA: given("current-a", currentA),
+		StartS: given("start-s", startS), ResistorOhm: given("resistor-ohm", resistorOhm),
+		CapacitanceF: given("capacitance-f", capacitanceF), V0V: given("v0", v0), V1V: given("v1", v1),
+		DurationS: given("seconds", seconds)}
 	if set["at"] {
 		for i, item := range strings.Split(*at, ",") {
 			x, err := strconv.ParseFloat(strings.TrimSpace(item), 64)
 			if err != nil {
 				return usageFailure(stderr, usage, "capbank measure: --at: item %d (%q) is not a number of seconds; give times as S,S,...", i+1, strings.TrimSpace(item))
 			}
-			atS = append(atS, x)
+			in.AtS = append(in.AtS, x)
 		}
-	}
-	var opts *sizing.DischargeOptions
-	if set["start-s"] {
-		opts = &sizing.DischargeOptions{StartS: startS}
 	}
 
 	// The log.
-	var log *sizing.MeasurementLog
 	logName := ""
-	if *method == "timed" {
+	if !m.Log {
 		if len(pos) > 0 {
 			return usageFailure(stderr, usage, "capbank measure: --method timed takes no log (got %q); give --v0, --v1, --seconds and --resistor-ohm", pos[0])
 		}
@@ -158,54 +156,33 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 		if logName == "-" {
 			logName = "standard input"
 		}
-		log, err = readMeasurementLog(ctx, pos[0])
+		in.Log, err = readMeasurementLog(ctx, pos[0])
 		if err != nil {
 			return measureProblem(err, logName)
 		}
 	}
 
-	// The method.
-	var result any
-	var text func(io.Writer)
-	switch *method {
-	case "constant-current":
-		var cur *float64
-		if set["current-a"] {
-			cur = currentA
-		}
-		r, err := sizing.ConstantCurrentDischarge(log, *ratedV, cur, opts)
-		if err != nil {
-			return measureProblem(err, logName)
-		}
-		result, text = r, func(w io.Writer) { writeConstantCurrentText(w, logName, r) }
-	case "resistor":
-		r, err := sizing.ResistorDischargeLog(log, *resistorOhm, opts)
-		if err != nil {
-			return measureProblem(err, logName)
-		}
-		result, text = r, func(w io.Writer) { writeResistorText(w, logName, r) }
-	case "hold":
-		r, err := sizing.HoldLog(log, *capacitanceF, atS)
-		if err != nil {
-			return measureProblem(err, logName)
-		}
-		result, text = r, func(w io.Writer) { writeHoldText(w, logName, r) }
-	case "timed":
-		r, err := sizing.TimedResistorDischarge(*v0, *v1, *seconds, *resistorOhm)
-		if err != nil {
-			return measureProblem(err, logName)
-		}
-		result, text = r, func(w io.Writer) { writeTimedText(w, r) }
+	r, err := measure.Run(in)
+	if err != nil {
+		return measureProblem(err, logName)
 	}
-
 	var buf bytes.Buffer
 	if *format == "text" {
-		text(&buf)
+		switch {
+		case r.ConstantCurrent != nil:
+			writeConstantCurrentText(&buf, logName, *r.ConstantCurrent)
+		case r.Resistor != nil:
+			writeResistorText(&buf, logName, *r.Resistor)
+		case r.Hold != nil:
+			writeHoldText(&buf, logName, *r.Hold)
+		case r.Timed != nil:
+			writeTimedText(&buf, *r.Timed)
+		}
 	} else {
 		enc := json.NewEncoder(&buf)
 		enc.SetIndent("", "  ")
 		enc.SetEscapeHTML(false)
-		if err := enc.Encode(result); err != nil {
+		if err := enc.Encode(r.Details()); err != nil {
 			return fmt.Errorf("cannot encode the result as JSON: %w", err)
 		}
 	}
@@ -216,9 +193,9 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 // readMeasurementLog reads and parses the named log ("-" for stdin). It
 // gives up when ctx is done, so an interrupt ends a command left waiting on
 // a terminal's standard input.
-func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLog, error) {
+func readMeasurementLog(ctx context.Context, name string) (*measure.Log, error) {
 	type outcome struct {
-		log *sizing.MeasurementLog
+		log *measure.Log
 		err error
 	}
 	done := make(chan outcome, 1)
@@ -238,7 +215,7 @@ func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLo
 			}
 			r = f
 		}
-		log, err := sizing.ParseMeasurementCSV(r)
+		log, err := measure.ParseCSV(r)
 		done <- outcome{log, err}
 	}()
 	select {
@@ -249,12 +226,13 @@ func readMeasurementLog(ctx context.Context, name string) (*sizing.MeasurementLo
 	}
 }
 
-// measureProblem turns sizing's errors into the command line's terms: a
-// ValidationError whose fields are the flags (--rated-v) or the log file,
-// so that main reports each on its own line and exits with status 2. Other
-// errors (a file that cannot be opened) pass through.
+// measureProblem turns the errors of reading the log and of measure.Run
+// into the command line's terms: a ValidationError whose fields are the
+// flags (--rated-v) or the log file, so that main reports each on its own
+// line and exits with status 2. Other errors (a file that cannot be opened)
+// pass through.
 func measureProblem(err error, logName string) error {
-	var ce *sizing.MeasurementCSVError
+	var ce *measure.CSVError
 	if errors.As(err, &ce) {
 		return sizing.ValidationError{{Field: logName, Rule: "csv", Message: ce.Error()}}
 	}
@@ -267,8 +245,10 @@ func measureProblem(err error, logName string) error {
 		out[i] = fe
 		out[i].Message = measureMessageNames.Replace(fe.Message)
 		switch field := fe.Field; {
-		case measureFlagFields[field] != "":
-			out[i].Field = measureFlagFields[field]
+		case measureFlags[field] != "":
+			out[i].Field = "--" + measureFlags[field]
+		case field == "inputs":
+			out[i].Field = "capbank measure"
 		case strings.HasPrefix(field, "at_s["):
 			n, _ := strconv.Atoi(strings.TrimSuffix(strings.TrimPrefix(field, "at_s["), "]"))
 			out[i].Field = fmt.Sprintf("--at (item %d)", n+1)
@@ -306,7 +286,7 @@ func optQuantityRow(label string, x *float64, unit string) measureRow {
 
 // writeMeasureText writes a titled table of figures, then the warnings and
 // the notes.
-func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []sizing.MeasurementWarning, notes []string, after func(io.Writer)) {
+func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []measure.Warning, notes []string, after func(io.Writer)) {
 	fmt.Fprintln(w, title)
 	fmt.Fprintln(w)
 	t := table{right: []bool{false, true, false}}
@@ -335,7 +315,7 @@ func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []s
 	}
 }
 
-func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurrentResult) {
+func writeConstantCurrentText(w io.Writer, logName string, r measure.ConstantCurrentResult) {
 	current := "discharge current I (given)"
 	if r.CurrentSource == "log" {
 		current = "discharge current I (logged mean, t1–t2)"
@@ -362,7 +342,7 @@ func writeConstantCurrentText(w io.Writer, logName string, r sizing.ConstantCurr
 	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+quantity(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
 }
 
-func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeResult) {
+func writeResistorText(w io.Writer, logName string, r measure.ResistorDischargeResult) {
 	rows := []measureRow{
 		quantityRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
 		optQuantityRow("ESR from the step at switch-on", r.ESROhm, "Ω"),
@@ -381,7 +361,7 @@ func writeResistorText(w io.Writer, logName string, r sizing.ResistorDischargeRe
 	writeMeasureText(w, "Resistor discharge, "+logName, rows, r.Warnings, r.Notes, nil)
 }
 
-func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
+func writeHoldText(w io.Writer, logName string, r measure.HoldResult) {
 	rows := []measureRow{
 		quantityRow("leakage current (latest point)", r.LeakageA, "A"),
 		optQuantityRow("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
@@ -418,7 +398,7 @@ func writeHoldText(w io.Writer, logName string, r sizing.HoldResult) {
 	writeMeasureText(w, "Open-circuit hold, "+logName, rows, r.Warnings, r.Notes, points)
 }
 
-func writeTimedText(w io.Writer, r sizing.TimedDischarge) {
+func writeTimedText(w io.Writer, r measure.TimedDischarge) {
 	rows := []measureRow{
 		quantityRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
 		quantityRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),

@@ -13,7 +13,7 @@ import (
 	"strings"
 	"testing"
 
-	"capbank/sizing"
+	"capbank/sizing/measure"
 )
 
 const (
@@ -69,7 +69,7 @@ func TestMeasureJSON(t *testing.T) {
 	t.Run("constant-current", func(t *testing.T) {
 		t.Parallel()
 		out := measureOK(t, "--method", "constant-current", "--rated-v", "2.7", "--format", "json", ccDemoLog)
-		var r sizing.ConstantCurrentResult
+		var r measure.ConstantCurrentResult
 		decodeStrict(t, out, &r)
 		hasKeys(t, out, "capacitance_f", "esr_ohm", "time_constant_s", "two_point_capacitance_f", "r_squared", "warnings")
 		// The log's model (its comment lines): 100 F, 25 mΩ; the issue's
@@ -83,7 +83,7 @@ func TestMeasureJSON(t *testing.T) {
 	t.Run("resistor", func(t *testing.T) {
 		t.Parallel()
 		out := measureOK(t, "--method=resistor", "--resistor-ohm=2", "--format=json", resistorDemoLog)
-		var r sizing.ResistorDischargeResult
+		var r measure.ResistorDischargeResult
 		decodeStrict(t, out, &r)
 		hasKeys(t, out, "capacitance_f", "esr_ohm", "time_constant_s")
 		// The log's model: 10 F, 0.1 Ω, τ = (2 + 0.1)·10 = 21 s.
@@ -94,7 +94,7 @@ func TestMeasureJSON(t *testing.T) {
 	t.Run("hold", func(t *testing.T) {
 		t.Parallel()
 		out := measureOK(t, "--method", "hold", "--capacitance-f", "10", "--at", "43200, 77760", "--format", "json", holdDemoLog)
-		var r sizing.HoldResult
+		var r measure.HoldResult
 		decodeStrict(t, out, &r)
 		hasKeys(t, out, "leakage_a", "parallel_resistance_ohm", "points")
 		// The log's model: 200 kΩ across 10 F; late in the day the
@@ -109,7 +109,7 @@ func TestMeasureJSON(t *testing.T) {
 	t.Run("timed", func(t *testing.T) {
 		t.Parallel()
 		out := measureOK(t, "--method", "timed", "--v0", "1.5", "--v1", "0.5", "--seconds", "68", "--resistor-ohm", "1000", "--format", "json")
-		var r sizing.TimedDischarge
+		var r measure.TimedDischarge
 		decodeStrict(t, out, &r)
 		// The issue: 68 mF quick (a bench fact), 68/(1000·ln 3) = 61.9 mF exact.
 		within(t, "quick_capacitance_f", r.QuickCapacitanceF, 0.068, 1e-12)
@@ -176,7 +176,7 @@ func TestMeasureFromStdin(t *testing.T) {
 	if status != 0 || stderr != "" {
 		t.Fatalf("exit status %d, stderr %s", status, stderr)
 	}
-	var r sizing.ResistorDischargeResult
+	var r measure.ResistorDischargeResult
 	decodeStrict(t, stdout, &r)
 	within(t, "capacitance_f", r.CapacitanceF, 10, 0.01) // the log's model
 }

@@ -103,7 +103,7 @@ func main() {
 	profile.addFiles("demo-", "testdata/profiles/*.csv", "string")
 	profile.addFiles("bad-", "testdata/bad/profiles/*.csv", "string")
 
-	measure := newTarget("sizing", "FuzzParseMeasurementCSV")
+	measure := newTarget("sizing/measure", "FuzzParseCSV")
 	measure.addFiles("demo-", "testdata/measure/*.csv", "string")
 	measure.addFiles("bad-", "testdata/bad/measure/*.csv", "string")
 

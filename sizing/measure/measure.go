@@ -1,4 +1,4 @@
-package sizing
+package measure
 
 import (
 	"fmt"
@@ -9,18 +9,9 @@ import (
 	"unicode/utf8"
 
 	"gonum.org/v1/gonum/stat"
-)
 
-// Measurement: turning bench tests of one cell into its figures
-// (capacitance, ESR, leakage), comparing them with a datasheet and making a
-// library cell of them.
-//
-// Every function here checks its inputs and returns a ValidationError whose
-// field names the input (resistor_ohm, rated_v, at_s[1], log.time_s[3], or
-// log for a log that does not suit the method), so the command line and the
-// web report them like a design's problems. No result holds a NaN or an
-// infinity: a figure the test cannot give is a nil pointer, with a warning
-// or a note saying why.
+	"capbank/sizing"
+)
 
 // Voltage points and limits of the constant-current method.
 const (
@@ -38,12 +29,12 @@ const (
 // Thresholds of the measurement warnings. Each is a judgement, explained
 // beside it.
 const (
-	// MeasureMinFitPoints: a fit over fewer samples warns "short_log". With
+	// MinFitPoints: a fit over fewer samples warns "short_log". With
 	// ten samples the scatter of the fitted slope is about √(12/n) ≈ 1.1
 	// times the noise-to-span ratio; fewer makes a single bad sample weigh
 	// too much.
-	MeasureMinFitPoints = 10
-	// MeasureMaxResidualFraction: the constant-current fit warns "noisy"
+	MinFitPoints = 10
+	// MaxResidualFraction: the constant-current fit warns "noisy"
 	// when its residual RMS exceeds 1 % of U1 − U2. For samples spread
 	// evenly along a straight line R² = 1 − 12·(RMS/(U1 − U2))², so this is
 	// R² below 0.9988. It is above the bow of a healthy cell's
@@ -51,21 +42,21 @@ const (
 	// 10.11, ±4.7 % across U2–U1 of a 2.7 V cell, bows the line by 0.35 %
 	// RMS of U1 − U2, by a numerical fit), and it is where the scatter of
 	// the fitted capacitance reaches about 1 % at ten samples.
-	MeasureMaxResidualFraction = 0.01
-	// MeasureMaxESRNoiseFraction: "esr_uncertain" when the noise (the fit's
+	MaxResidualFraction = 0.01
+	// MaxESRNoiseFraction: "esr_uncertain" when the noise (the fit's
 	// residual RMS) is more than 10 % of the voltage step the ESR is taken
 	// from; the single sample before the switch-on then moves the ESR by
 	// that much.
-	MeasureMaxESRNoiseFraction = 0.1
-	// MeasureMaxStartFraction: "coarse_start" when the extended line moves
+	MaxESRNoiseFraction = 0.1
+	// MaxStartFraction: "coarse_start" when the extended line moves
 	// by more than 10 % of the step over the sample interval at the
 	// switch-on: the switching instant lies somewhere in that interval, so
 	// the ESR may be overstated by up to that much.
-	MeasureMaxStartFraction = 0.1
-	// MeasureMaxCurrentVariation: "current_varies" when the logged current's
+	MaxStartFraction = 0.1
+	// MaxCurrentVariation: "current_varies" when the logged current's
 	// standard deviation over the fit window is more than 5 % of its mean;
 	// the constant-current method assumes a constant current.
-	MeasureMaxCurrentVariation = 0.05
+	MaxCurrentVariation = 0.05
 	// ResistorFloorFraction: the ln V fit of a resistor discharge uses the
 	// samples from the switch-on down to 10 % of the first voltage after it
 	// (2.3 time constants). Below that a logger's offset and resolution (a
@@ -93,9 +84,9 @@ const (
 	DefaultCapacitanceTolerancePct = 20.0
 )
 
-// MeasurementWarning is a reason to doubt a measured figure: a short or
+// Warning is a reason to doubt a measured figure: a short or
 // noisy log, a test outside the standard's conditions.
-type MeasurementWarning struct {
+type Warning struct {
 	// Code is a short machine name: short_log, noisy, esr_uncertain,
 	// coarse_start, large_drop, no_drop, current_varies, negative_current,
 	// short_decay, no_step, current_mismatch, rises.
@@ -139,9 +130,9 @@ type TimedDischarge struct {
 	//
 	// which is above 1 for every r > 1, so the quick estimate always reads
 	// high (about 4 % at r = 2, 10 % at r = 3).
-	QuickErrorPct float64              `json:"quick_error_pct"`
-	Warnings      []MeasurementWarning `json:"warnings"`
-	Notes         []string             `json:"notes"`
+	QuickErrorPct float64   `json:"quick_error_pct"`
+	Warnings      []Warning `json:"warnings"`
+	Notes         []string  `json:"notes"`
 }
 
 // TimedResistorDischarge works out the capacitance from a timed discharge
@@ -161,17 +152,17 @@ type TimedDischarge struct {
 // when the ESR is not small against R the figure is high by ESR/R (the
 // result says so in a note).
 //
-// Errors (a ValidationError) name the input: v0_v, v1_v, duration_s or
+// Errors (a sizing.ValidationError) name the input: v0_v, v1_v, duration_s or
 // resistor_ohm, for a value that is not finite, not positive, outside its
 // bench range (1 µV–100 kV, 1 µs–10⁹ s, 1 µΩ–1 TΩ), or a v1_v not below
 // v0_v.
 func TimedResistorDischarge(v0V, v1V, seconds, resistorOhm float64) (TimedDischarge, error) {
-	var c measureChecks
+	var c checks
 	c.positive("v0_v", v0V, benchVolts)
 	c.positive("v1_v", v1V, benchVolts)
 	c.positive("duration_s", seconds, benchSeconds)
 	c.positive("resistor_ohm", resistorOhm, benchOhms)
-	if measureFinite(v0V) && measureFinite(v1V) && v0V > 0 && v1V >= v0V {
+	if sizing.Finite(v0V) && sizing.Finite(v1V) && v0V > 0 && v1V >= v0V {
 		c.add("v1_v", "below_v0", "must be below the start voltage v0_v (%g V ≥ %g V): the cell discharges from v0_v down to v1_v", v1V, v0V)
 	}
 	if err := c.err(); err != nil {
@@ -183,14 +174,14 @@ func TimedResistorDischarge(v0V, v1V, seconds, resistorOhm float64) (TimedDischa
 	meanI := (v0V/2 + v1V/2) / resistorOhm
 	quick := seconds * meanI / (v0V - v1V)
 	errPct := (quick/exact - 1) * 100
-	if err := measureOutputs("the inputs", exact, tau, meanI, quick, errPct); err != nil {
+	if err := outputs("the inputs", exact, tau, meanI, quick, errPct); err != nil {
 		return TimedDischarge{}, err
 	}
 	return TimedDischarge{
 		Method: "timed", V0V: v0V, V1V: v1V, DurationS: seconds, ResistorOhm: resistorOhm,
 		CapacitanceF: exact, TimeConstantS: tau, MeanCurrentA: meanI,
 		QuickCapacitanceF: quick, QuickErrorPct: errPct,
-		Warnings: []MeasurementWarning{},
+		Warnings: []Warning{},
 		Notes: []string{
 			"C = t/(R·ln(V0/V1)) takes R as the whole resistance in the loop; the cell's ESR adds to it, so C is high by ESR/R when the ESR is not small against R",
 			fmt.Sprintf("the quick estimate t·I/ΔV with I = (V0+V1)/(2R) reads %.3g %% high; its error depends only on V0/V1 = %.4g", errPct, v0V/v1V),
@@ -244,11 +235,11 @@ type ConstantCurrentResult struct {
 	// FitPoints is the number of samples in [t1, t2]; RSquared the fit's
 	// coefficient of determination; ResidualRMSV, in V, the RMS of the
 	// samples about the line.
-	FitPoints    int                  `json:"fit_points"`
-	RSquared     float64              `json:"r_squared"`
-	ResidualRMSV float64              `json:"residual_rms_v"`
-	Warnings     []MeasurementWarning `json:"warnings"`
-	Notes        []string             `json:"notes"`
+	FitPoints    int       `json:"fit_points"`
+	RSquared     float64   `json:"r_squared"`
+	ResidualRMSV float64   `json:"residual_rms_v"`
+	Warnings     []Warning `json:"warnings"`
+	Notes        []string  `json:"notes"`
 }
 
 // ConstantCurrentDischarge measures capacitance and DC internal resistance
@@ -286,21 +277,21 @@ type ConstantCurrentResult struct {
 //     log must start at rest (at the charge voltage); if it starts with the
 //     discharge already on, give StartS.
 //
-// Warnings: short_log (fewer than MeasureMinFitPoints samples in [t1, t2]),
-// noisy (MeasureMaxResidualFraction), large_drop (ΔU3 above 5 % of UR),
+// Warnings: short_log (fewer than MinFitPoints samples in [t1, t2]),
+// noisy (MaxResidualFraction), large_drop (ΔU3 above 5 % of UR),
 // no_drop, esr_uncertain, coarse_start, current_varies and
 // negative_current; see the constants for each threshold. Errors: a
-// ValidationError naming rated_v, current_a, start_s, the log's bad sample,
+// sizing.ValidationError naming rated_v, current_a, start_s, the log's bad sample,
 // or log when the log does not reach U1 or U2 (the message gives the
 // voltages) or has fewer than 3 samples between them.
-func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *float64, opts *DischargeOptions) (ConstantCurrentResult, error) {
-	var c measureChecks
+func ConstantCurrentDischarge(log *Log, ratedV float64, currentA *float64, opts *DischargeOptions) (ConstantCurrentResult, error) {
+	var c checks
 	c.positive("rated_v", ratedV, benchVolts)
 	if currentA != nil {
 		c.positive("current_a", *currentA, benchAmps)
 	}
-	startS := measureStart(opts)
-	if startS != nil && !measureFinite(*startS) {
+	startS := startOf(opts)
+	if startS != nil && !sizing.Finite(*startS) {
 		c.add("start_s", "finite", "must be a finite number")
 	}
 	c.log(log, 2)
@@ -308,74 +299,74 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 		return ConstantCurrentResult{}, err
 	}
 	if log.CurrentA == nil && currentA == nil {
-		return ConstantCurrentResult{}, measureFieldError("current_a", "required",
+		return ConstantCurrentResult{}, fieldError("current_a", "required",
 			"is required: the log has no current_a column, so give the discharge current in A")
 	}
 	t, v := log.TimeS, log.VoltageV
 	n := len(t)
 	u1, u2 := IECU1Fraction*ratedV, IECU2Fraction*ratedV
 	r := ConstantCurrentResult{Method: "constant-current", RatedV: ratedV, U1V: u1, U2V: u2,
-		Warnings: []MeasurementWarning{}, Notes: []string{}}
+		Warnings: []Warning{}, Notes: []string{}}
 
 	from := 0
 	if startS != nil {
-		from = measureIndexAt(t, *startS)
+		from = indexAt(t, *startS)
 		if from == n {
-			return r, measureFieldError("start_s", "in_log", fmt.Sprintf(
+			return r, fieldError("start_s", "in_log", fmt.Sprintf(
 				"%g s is after the log's last sample (%g s)", *startS, t[n-1]))
 		}
 	}
-	if startS != nil && measureReached(v[from], u1) {
-		return r, measureFieldError("start_s", "before_t1", fmt.Sprintf(
+	if startS != nil && reached(v[from], u1) {
+		return r, fieldError("start_s", "before_t1", fmt.Sprintf(
 			"at %g s the voltage (%s) is already at or below U1 = %s (0.8 × rated_v %s); give the switch-on time of the discharge, before the voltage reaches U1",
-			*startS, measureVolts(v[from]), measureVolts(u1), measureVolts(ratedV)))
+			*startS, volts(v[from]), volts(u1), volts(ratedV)))
 	}
 	// t1: the first fall through U1 (a sample at or below it after one
 	// above it), so a log may begin with the charge.
 	i1 := -1
 	for i := from + 1; i < n; i++ {
-		if measureReached(v[i], u1) && !measureReached(v[i-1], u1) {
+		if reached(v[i], u1) && !reached(v[i-1], u1) {
 			i1 = i
 			break
 		}
 	}
 	if i1 < 0 {
-		lo, loAt := measureLowest(v, t, from)
+		lo, loAt := lowest(v, t, from)
 		if hi := slices.Max(v[from:]); hi <= u1 {
-			return r, measureFieldError("log", "above_u1", fmt.Sprintf(
+			return r, fieldError("log", "above_u1", fmt.Sprintf(
 				"never rises above U1 = %s (0.8 × rated_v %s); its highest is %s. The log must begin above U1, from the charge to the rated voltage; check rated_v",
-				measureVolts(u1), measureVolts(ratedV), measureVolts(hi)))
+				volts(u1), volts(ratedV), volts(hi)))
 		}
-		return r, measureFieldError("log", "reach_u1", fmt.Sprintf(
+		return r, fieldError("log", "reach_u1", fmt.Sprintf(
 			"the voltage never falls to U1 = %s (0.8 × rated_v %s); its lowest is %s at %s s. Log the discharge from the rated voltage down past U2 = %s (0.4 × rated_v)",
-			measureVolts(u1), measureVolts(ratedV), measureVolts(lo), measureNum(loAt), measureVolts(u2)))
+			volts(u1), volts(ratedV), volts(lo), num(loAt), volts(u2)))
 	}
 	i2 := -1
 	for i := i1; i < n; i++ {
-		if measureReached(v[i], u2) {
+		if reached(v[i], u2) {
 			i2 = i
 			break
 		}
 	}
-	r.T1S = measureCrossing(t, v, i1, u1)
+	r.T1S = crossing(t, v, i1, u1)
 	if i2 < 0 {
-		lo, loAt := measureLowest(v, t, i1)
-		return r, measureFieldError("log", "reach_u2", fmt.Sprintf(
+		lo, loAt := lowest(v, t, i1)
+		return r, fieldError("log", "reach_u2", fmt.Sprintf(
 			"the voltage falls to U1 = %s at %s s but never to U2 = %s (0.4 × rated_v %s); its lowest after U1 is %s at %s s. Log the discharge down past U2",
-			measureVolts(u1), measureNum(r.T1S), measureVolts(u2), measureVolts(ratedV), measureVolts(lo), measureNum(loAt)))
+			volts(u1), num(r.T1S), volts(u2), volts(ratedV), volts(lo), num(loAt)))
 	}
-	r.T2S = measureCrossing(t, v, i2, u2)
+	r.T2S = crossing(t, v, i2, u2)
 	// The fit window: the samples with t1 ≤ t ≤ t2, that is i1 … i2−1, and
 	// i2 itself when it sits on U2.
 	wLo, wHi := i1, i2
-	if measureOn(v[i2], u2) {
+	if onPoint(v[i2], u2) {
 		wHi = i2 + 1
 	}
 	r.FitPoints = wHi - wLo
 	if r.FitPoints < 3 {
-		return r, measureFieldError("log", "fit_points", fmt.Sprintf(
+		return r, fieldError("log", "fit_points", fmt.Sprintf(
 			"has only %d sample(s) between t1 = %s s (U1 = %s) and t2 = %s s (U2 = %s); the fit needs at least 3 and should have %d or more: log faster",
-			r.FitPoints, measureNum(r.T1S), measureVolts(u1), measureNum(r.T2S), measureVolts(u2), MeasureMinFitPoints))
+			r.FitPoints, num(r.T1S), volts(u1), num(r.T2S), volts(u2), MinFitPoints))
 	}
 
 	// The current.
@@ -383,30 +374,30 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 	sign := 1.0
 	if log.CurrentA != nil {
 		win := log.CurrentA[wLo:wHi]
-		median = measureMedian(win)
+		median = medianOf(win)
 		if median == 0 {
-			return r, measureFieldError("log.current_a", "zero", fmt.Sprintf(
-				"is zero between t1 = %s s and t2 = %s s, while the voltage falls: the logged current is not the discharge current", measureNum(r.T1S), measureNum(r.T2S)))
+			return r, fieldError("log.current_a", "zero", fmt.Sprintf(
+				"is zero between t1 = %s s and t2 = %s s, while the voltage falls: the logged current is not the discharge current", num(r.T1S), num(r.T2S)))
 		}
 		if median < 0 {
 			sign = -1
-			r.Warnings = append(r.Warnings, MeasurementWarning{"negative_current",
+			r.Warnings = append(r.Warnings, Warning{"negative_current",
 				"the logged current is negative while the voltage falls; capbank takes a discharge as positive current (as in a load profile) and used its magnitude. Check the logger's sign"})
 		}
 		mean, std := stat.MeanStdDev(win, nil)
 		r.CurrentA, r.CurrentSource = sign*mean, "log"
 		if !(r.CurrentA > 0) {
-			return r, measureFieldError("log.current_a", "mean", fmt.Sprintf(
-				"averages %s A between t1 and t2 against a median of %s A: too scattered to give the discharge current", measureNum(mean), measureNum(median)))
+			return r, fieldError("log.current_a", "mean", fmt.Sprintf(
+				"averages %s A between t1 and t2 against a median of %s A: too scattered to give the discharge current", num(mean), num(median)))
 		}
-		if len(win) > 1 && std > MeasureMaxCurrentVariation*r.CurrentA {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"current_varies", fmt.Sprintf(
+		if len(win) > 1 && std > MaxCurrentVariation*r.CurrentA {
+			r.Warnings = append(r.Warnings, Warning{"current_varies", fmt.Sprintf(
 				"the logged current varies by %.3g %% (standard deviation over mean) between t1 and t2, more than %g %%; the method assumes a constant current",
-				100*std/r.CurrentA, 100*MeasureMaxCurrentVariation)})
+				100*std/r.CurrentA, 100*MaxCurrentVariation)})
 		}
 		if currentA != nil {
 			r.Notes = append(r.Notes, fmt.Sprintf("current_a (%s A) is not used: the log has a current column, whose mean over the fit window is %s A",
-				measureNum(*currentA), measureNum(r.CurrentA)))
+				num(*currentA), num(r.CurrentA)))
 		}
 	} else {
 		r.CurrentA, r.CurrentSource = *currentA, "given"
@@ -417,11 +408,11 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 	switch {
 	case startS != nil:
 		if *startS >= r.T1S {
-			return r, measureFieldError("start_s", "before_t1", fmt.Sprintf(
-				"%g s is not before t1 = %s s, where the voltage reaches U1; give the switch-on time of the discharge", *startS, measureNum(r.T1S)))
+			return r, fieldError("start_s", "before_t1", fmt.Sprintf(
+				"%g s is not before t1 = %s s, where the voltage reaches U1; give the switch-on time of the discharge", *startS, num(r.T1S)))
 		}
 		i0, r.StartS, r.StartRule = from, *startS, "given"
-		r.Notes = append(r.Notes, fmt.Sprintf("discharge start t0 = %s s as given", measureNum(r.StartS)))
+		r.Notes = append(r.Notes, fmt.Sprintf("discharge start t0 = %s s as given", num(r.StartS)))
 	case log.CurrentA != nil:
 		half := 0.5 * math.Abs(median)
 		i0 = wLo
@@ -431,19 +422,19 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 		r.StartS, r.StartRule = t[i0], "current"
 		r.Notes = append(r.Notes, fmt.Sprintf(
 			"discharge start t0 = %s s: the first sample of the run with the current above half the median discharge current (%s A)",
-			measureNum(r.StartS), measureNum(half)))
+			num(r.StartS), num(half)))
 	default:
 		var delta float64
 		var single bool
-		i0, delta, single = measureVoltageStart(v, i1)
+		i0, delta, single = voltageStart(v, i1)
 		r.StartS, r.StartRule = t[i0], "voltage"
 		r.Notes = append(r.Notes, fmt.Sprintf(
 			"discharge start t0 = %s s: the first sample more than %s below the highest voltage before U1 (no current column)",
-			measureNum(r.StartS), measureVolts(delta)))
+			num(r.StartS), volts(delta)))
 		if single {
 			r.Notes = append(r.Notes, fmt.Sprintf(
 				"only the first sample (%s at %s s) is taken as the rest before the discharge; if the log starts with the discharge already on, give the start time",
-				measureVolts(v[0]), measureNum(t[0])))
+				volts(v[0]), num(t[0])))
 		}
 	}
 	if i0 > 0 {
@@ -451,7 +442,7 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 	} else {
 		r.VoltageBeforeV = ratedV
 		r.Notes = append(r.Notes, fmt.Sprintf(
-			"the log starts at the discharge start, with no sample before it: the voltage before the switch-on is taken as the rated voltage UR = %s", measureVolts(ratedV)))
+			"the log starts at the discharge start, with no sample before it: the voltage before the switch-on is taken as the rated voltage UR = %s", volts(ratedV)))
 	}
 
 	// The regression over [t1, t2], on time measured from t0 so the
@@ -463,24 +454,24 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 	}
 	a, b := stat.LinearRegression(x, y, nil, false)
 	if !(b < 0) {
-		return r, measureFieldError("log", "falls", fmt.Sprintf(
-			"the voltage does not fall between t1 = %s s and t2 = %s s (fitted slope %s V/s); is it a discharge?", measureNum(r.T1S), measureNum(r.T2S), measureNum(b)))
+		return r, fieldError("log", "falls", fmt.Sprintf(
+			"the voltage does not fall between t1 = %s s and t2 = %s s (fitted slope %s V/s); is it a discharge?", num(r.T1S), num(r.T2S), num(b)))
 	}
 	r.SlopeVPerS, r.LineAtStartV = b, a
 	r.RSquared = stat.RSquared(x, y, nil, a, b)
-	r.ResidualRMSV = measureResidualRMS(x, y, a, b)
+	r.ResidualRMSV = residualRMS(x, y, a, b)
 	r.CapacitanceF = r.CurrentA / -b
 	r.TwoPointCapacitanceF = r.CurrentA * (r.T2S - r.T1S) / (u1 - u2)
 	r.DropV = r.VoltageBeforeV - a
 	r.DropPct = 100 * r.DropV / ratedV
-	if err := measureOutputs("the log", r.T1S, r.T2S, a, b, r.RSquared, r.ResidualRMSV, r.CapacitanceF,
+	if err := outputs("the log", r.T1S, r.T2S, a, b, r.RSquared, r.ResidualRMSV, r.CapacitanceF,
 		r.TwoPointCapacitanceF, r.DropV, r.DropPct, r.CurrentA); err != nil {
 		return r, err
 	}
 	if r.DropV > 0 {
 		esr := r.DropV / r.CurrentA
 		tau := esr * r.CapacitanceF
-		if err := measureOutputs("the log", esr, tau); err != nil {
+		if err := outputs("the log", esr, tau); err != nil {
 			return r, err
 		}
 		r.ESROhm, r.TimeConstantS = &esr, &tau
@@ -488,38 +479,38 @@ func ConstantCurrentDischarge(log *MeasurementLog, ratedV float64, currentA *flo
 
 	// Warnings.
 	span := u1 - u2
-	if r.FitPoints < MeasureMinFitPoints {
-		r.Warnings = append(r.Warnings, MeasurementWarning{"short_log", fmt.Sprintf(
-			"only %d samples between U1 and U2, fewer than %d: log faster so the fit rests on more points", r.FitPoints, MeasureMinFitPoints)})
+	if r.FitPoints < MinFitPoints {
+		r.Warnings = append(r.Warnings, Warning{"short_log", fmt.Sprintf(
+			"only %d samples between U1 and U2, fewer than %d: log faster so the fit rests on more points", r.FitPoints, MinFitPoints)})
 	}
-	if r.ResidualRMSV > MeasureMaxResidualFraction*span {
-		r.Warnings = append(r.Warnings, MeasurementWarning{"noisy", fmt.Sprintf(
+	if r.ResidualRMSV > MaxResidualFraction*span {
+		r.Warnings = append(r.Warnings, Warning{"noisy", fmt.Sprintf(
 			"the samples scatter about the fitted line by %s RMS, %.3g %% of U1 − U2 (R² = %.5f), more than %g %%: the capacitance is uncertain by about %.2g %%; filter the voltage or check the current was constant",
-			measureVolts(r.ResidualRMSV), 100*r.ResidualRMSV/span, r.RSquared, 100*MeasureMaxResidualFraction,
+			volts(r.ResidualRMSV), 100*r.ResidualRMSV/span, r.RSquared, 100*MaxResidualFraction,
 			100*r.ResidualRMSV*math.Sqrt(12/float64(r.FitPoints))/span)})
 	}
 	switch {
 	case r.DropV <= 0:
-		r.Warnings = append(r.Warnings, MeasurementWarning{"no_drop", fmt.Sprintf(
+		r.Warnings = append(r.Warnings, Warning{"no_drop", fmt.Sprintf(
 			"no drop at the switch-on: the voltage before t0 (%s) is not above the line extended back to t0 (%s), so the ESR is not measured; log faster around the switch-on, or check the start time",
-			measureVolts(r.VoltageBeforeV), measureVolts(a))})
+			volts(r.VoltageBeforeV), volts(a))})
 	default:
 		if r.DropV > IECMaxDropFraction*ratedV {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"large_drop", fmt.Sprintf(
+			r.Warnings = append(r.Warnings, Warning{"large_drop", fmt.Sprintf(
 				"the drop at the discharge start ΔU3 = %s is %.3g %% of UR, more than 5 %%: IEC 62391-1 lets the current be cut to 1/2, 1/5 or 1/10; repeat the test at a lower current",
-				measureVolts(r.DropV), r.DropPct)})
+				volts(r.DropV), r.DropPct)})
 		}
-		if r.ResidualRMSV > MeasureMaxESRNoiseFraction*r.DropV {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"esr_uncertain", fmt.Sprintf(
+		if r.ResidualRMSV > MaxESRNoiseFraction*r.DropV {
+			r.Warnings = append(r.Warnings, Warning{"esr_uncertain", fmt.Sprintf(
 				"the noise (%s RMS) is %.3g %% of the drop ΔU3 = %s, more than %g %%: the ESR rests on one noisy sample before the switch-on",
-				measureVolts(r.ResidualRMSV), 100*r.ResidualRMSV/r.DropV, measureVolts(r.DropV), 100*MeasureMaxESRNoiseFraction)})
+				volts(r.ResidualRMSV), 100*r.ResidualRMSV/r.DropV, volts(r.DropV), 100*MaxESRNoiseFraction)})
 		}
 		if r.StartRule != "given" && i0 > 0 {
 			dt := t[i0] - t[i0-1]
-			if move := -b * dt; move > MeasureMaxStartFraction*r.DropV {
-				r.Warnings = append(r.Warnings, MeasurementWarning{"coarse_start", fmt.Sprintf(
+			if move := -b * dt; move > MaxStartFraction*r.DropV {
+				r.Warnings = append(r.Warnings, Warning{"coarse_start", fmt.Sprintf(
 					"the switch-on lies somewhere in the %s s between the samples at %s s and %s s; the line moves %s over that time, %.3g %% of ΔU3, so the ESR may be overstated by up to that much. Log faster around the switch-on",
-					measureNum(dt), measureNum(t[i0-1]), measureNum(t[i0]), measureVolts(move), 100*move/r.DropV)})
+					num(dt), num(t[i0-1]), num(t[i0]), volts(move), 100*move/r.DropV)})
 			}
 		}
 	}
@@ -559,11 +550,11 @@ type ResistorDischargeResult struct {
 	// FitPoints is the number of samples fitted; RSquared the fit's
 	// coefficient of determination for ln V; ResidualRMSLn the RMS of the
 	// residuals of ln V (a relative voltage: 0.01 is about 1 %).
-	FitPoints     int                  `json:"fit_points"`
-	RSquared      float64              `json:"r_squared"`
-	ResidualRMSLn float64              `json:"residual_rms_ln"`
-	Warnings      []MeasurementWarning `json:"warnings"`
-	Notes         []string             `json:"notes"`
+	FitPoints     int       `json:"fit_points"`
+	RSquared      float64   `json:"r_squared"`
+	ResidualRMSLn float64   `json:"residual_rms_ln"`
+	Warnings      []Warning `json:"warnings"`
+	Notes         []string  `json:"notes"`
 }
 
 // ResistorDischargeLog measures capacitance, and ESR where the switch-on is
@@ -591,13 +582,13 @@ type ResistorDischargeResult struct {
 // Warnings: short_log, noisy (ResistorMaxResidualLn), short_decay,
 // esr_uncertain, coarse_start, no_step and, with a current column,
 // current_mismatch (the median of V/I over the fit differs from R by more
-// than 5 %). Errors: a ValidationError naming resistor_ohm, start_s, the
+// than 5 %). Errors: a sizing.ValidationError naming resistor_ohm, start_s, the
 // log's bad sample, or log when it has no decay to fit.
-func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *DischargeOptions) (ResistorDischargeResult, error) {
-	var c measureChecks
+func ResistorDischargeLog(log *Log, resistorOhm float64, opts *DischargeOptions) (ResistorDischargeResult, error) {
+	var c checks
 	c.positive("resistor_ohm", resistorOhm, benchOhms)
-	startS := measureStart(opts)
-	if startS != nil && !measureFinite(*startS) {
+	startS := startOf(opts)
+	if startS != nil && !sizing.Finite(*startS) {
 		c.add("start_s", "finite", "must be a finite number")
 	}
 	c.log(log, 3)
@@ -607,7 +598,7 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 	t, v := log.TimeS, log.VoltageV
 	n := len(t)
 	r := ResistorDischargeResult{Method: "resistor", ResistorOhm: resistorOhm,
-		Warnings: []MeasurementWarning{}, Notes: []string{}}
+		Warnings: []Warning{}, Notes: []string{}}
 
 	// The switch-on.
 	i0 := -1
@@ -631,38 +622,38 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 			}
 			r.StartS, r.StartRule = t[i0], "current"
 			r.Notes = append(r.Notes, fmt.Sprintf(
-				"switch-on t0 = %s s: the first sample with the current at least half its largest logged value (%s A)", measureNum(r.StartS), measureNum(math.Abs(peak)/2)))
+				"switch-on t0 = %s s: the first sample with the current at least half its largest logged value (%s A)", num(r.StartS), num(math.Abs(peak)/2)))
 		}
 	}
 	switch {
 	case startS != nil:
-		i0 = measureIndexAt(t, *startS)
+		i0 = indexAt(t, *startS)
 		if i0 == n {
-			return r, measureFieldError("start_s", "in_log", fmt.Sprintf(
+			return r, fieldError("start_s", "in_log", fmt.Sprintf(
 				"%g s is after the log's last sample (%g s)", *startS, t[n-1]))
 		}
 		r.StartS, r.StartRule = *startS, "given"
-		r.Notes = append(r.Notes, fmt.Sprintf("switch-on t0 = %s s as given", measureNum(r.StartS)))
+		r.Notes = append(r.Notes, fmt.Sprintf("switch-on t0 = %s s as given", num(r.StartS)))
 	case i0 < 0:
 		var delta float64
 		var single bool
-		i0, delta, single = measureVoltageStart(v, n)
+		i0, delta, single = voltageStart(v, n)
 		if i0 == n {
-			return r, measureFieldError("log", "decay", fmt.Sprintf(
-				"the voltage never falls below its highest value (%s) by more than %s: no discharge found", measureVolts(slices.Max(v)), measureVolts(delta)))
+			return r, fieldError("log", "decay", fmt.Sprintf(
+				"the voltage never falls below its highest value (%s) by more than %s: no discharge found", volts(slices.Max(v)), volts(delta)))
 		}
 		r.StartS, r.StartRule = t[i0], "voltage"
 		r.Notes = append(r.Notes, fmt.Sprintf(
-			"switch-on t0 = %s s: the first sample more than %s below the log's highest voltage (no current column)", measureNum(r.StartS), measureVolts(delta)))
+			"switch-on t0 = %s s: the first sample more than %s below the log's highest voltage (no current column)", num(r.StartS), volts(delta)))
 		if single {
 			r.Notes = append(r.Notes, fmt.Sprintf(
 				"only the first sample (%s at %s s) is taken as the rest before the discharge; if the log starts with the discharge already on, give the start time",
-				measureVolts(v[0]), measureNum(t[0])))
+				volts(v[0]), num(t[0])))
 		}
 	}
 	if !(v[i0] > 0) {
-		return r, measureFieldError("log", "positive", fmt.Sprintf(
-			"the voltage at the switch-on (%s at %s s) is not positive; a resistor discharge starts from a charged cell", measureVolts(v[i0]), measureNum(t[i0])))
+		return r, fieldError("log", "positive", fmt.Sprintf(
+			"the voltage at the switch-on (%s at %s s) is not positive; a resistor discharge starts from a charged cell", volts(v[i0]), num(t[i0])))
 	}
 	r.FloorV = ResistorFloorFraction * v[i0]
 	end := i0
@@ -671,9 +662,9 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 	}
 	r.FitPoints = end - i0
 	if r.FitPoints < 3 {
-		return r, measureFieldError("log", "fit_points", fmt.Sprintf(
+		return r, fieldError("log", "fit_points", fmt.Sprintf(
 			"has only %d sample(s) from the switch-on at %s s down to the floor %s; the fit needs at least 3 and should have %d or more: log faster",
-			r.FitPoints, measureNum(t[i0]), measureVolts(r.FloorV), MeasureMinFitPoints))
+			r.FitPoints, num(t[i0]), volts(r.FloorV), MinFitPoints))
 	}
 	r.FitFromS, r.FitToS = t[i0], t[end-1]
 	x := make([]float64, r.FitPoints)
@@ -684,14 +675,14 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 	}
 	a, b := stat.LinearRegression(x, y, nil, false)
 	if !(b < 0) {
-		return r, measureFieldError("log", "decay", fmt.Sprintf(
-			"the voltage does not decay after the switch-on at %s s (fitted ln V slope %s per s); is it a resistor discharge?", measureNum(r.StartS), measureNum(b)))
+		return r, fieldError("log", "decay", fmt.Sprintf(
+			"the voltage does not decay after the switch-on at %s s (fitted ln V slope %s per s); is it a resistor discharge?", num(r.StartS), num(b)))
 	}
 	r.LnSlopePerS = b
 	r.TimeConstantS = -1 / b
 	r.LineAtStartV = math.Exp(a)
 	r.RSquared = stat.RSquared(x, y, nil, a, b)
-	r.ResidualRMSLn = measureResidualRMS(x, y, a, b)
+	r.ResidualRMSLn = residualRMS(x, y, a, b)
 	esr := 0.0
 	var step float64
 	if i0 > 0 {
@@ -702,9 +693,9 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 			esr = resistorOhm * step / r.LineAtStartV
 			r.ESROhm = &esr
 		} else {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"no_step", fmt.Sprintf(
+			r.Warnings = append(r.Warnings, Warning{"no_step", fmt.Sprintf(
 				"no step at the switch-on: the voltage before it (%s) is not above the decay extended back to t0 (%s), so the ESR is not measured",
-				measureVolts(vb), measureVolts(r.LineAtStartV))})
+				volts(vb), volts(r.LineAtStartV))})
 		}
 	} else {
 		r.Notes = append(r.Notes, "no sample before the switch-on, so the ESR is not measured")
@@ -713,43 +704,43 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 		r.Notes = append(r.Notes, "C = τ/R without the ESR: it is high by ESR/R")
 	}
 	r.CapacitanceF = r.TimeConstantS / (resistorOhm + esr)
-	if err := measureOutputs("the log", r.LnSlopePerS, r.TimeConstantS, r.LineAtStartV, r.RSquared,
+	if err := outputs("the log", r.LnSlopePerS, r.TimeConstantS, r.LineAtStartV, r.RSquared,
 		r.ResidualRMSLn, r.CapacitanceF, esr); err != nil {
 		return r, err
 	}
 	if !(r.CapacitanceF > 0) {
-		return r, measureFieldError("log", "overflow", "gives a capacitance that rounds to zero; check the units of time_s (s) and resistor_ohm (Ω)")
+		return r, fieldError("log", "overflow", "gives a capacitance that rounds to zero; check the units of time_s (s) and resistor_ohm (Ω)")
 	}
 
 	// Warnings.
-	if r.FitPoints < MeasureMinFitPoints {
-		r.Warnings = append(r.Warnings, MeasurementWarning{"short_log", fmt.Sprintf(
-			"only %d samples in the decay, fewer than %d: log faster so the fit rests on more points", r.FitPoints, MeasureMinFitPoints)})
+	if r.FitPoints < MinFitPoints {
+		r.Warnings = append(r.Warnings, Warning{"short_log", fmt.Sprintf(
+			"only %d samples in the decay, fewer than %d: log faster so the fit rests on more points", r.FitPoints, MinFitPoints)})
 	}
 	if r.ResidualRMSLn > ResistorMaxResidualLn {
-		r.Warnings = append(r.Warnings, MeasurementWarning{"noisy", fmt.Sprintf(
+		r.Warnings = append(r.Warnings, Warning{"noisy", fmt.Sprintf(
 			"the samples leave the fitted exponential by %.3g %% RMS (R² = %.5f), more than %g %%: check the resistor stayed connected and the logger's offset",
 			100*r.ResidualRMSLn, r.RSquared, 100*ResistorMaxResidualLn)})
 	}
 	if decay := (r.FitToS - r.FitFromS) / r.TimeConstantS; decay < ResistorMinDecayLn {
-		r.Warnings = append(r.Warnings, MeasurementWarning{"short_decay", fmt.Sprintf(
+		r.Warnings = append(r.Warnings, Warning{"short_decay", fmt.Sprintf(
 			"the fit spans %.3g of a time constant, less than %g: log the discharge for longer so the time constant is well fixed", decay, ResistorMinDecayLn)})
 	}
 	if r.ESROhm != nil {
 		// The noise in volts near the switch-on: the relative residual at
 		// the start voltage.
 		noise := r.ResidualRMSLn * r.LineAtStartV
-		if noise > MeasureMaxESRNoiseFraction*step {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"esr_uncertain", fmt.Sprintf(
+		if noise > MaxESRNoiseFraction*step {
+			r.Warnings = append(r.Warnings, Warning{"esr_uncertain", fmt.Sprintf(
 				"the noise (about %s RMS near the switch-on) is %.3g %% of the step %s, more than %g %%: the ESR rests on one noisy sample before the switch-on",
-				measureVolts(noise), 100*noise/step, measureVolts(step), 100*MeasureMaxESRNoiseFraction)})
+				volts(noise), 100*noise/step, volts(step), 100*MaxESRNoiseFraction)})
 		}
 		if r.StartRule != "given" {
 			dt := t[i0] - t[i0-1]
-			if move := r.LineAtStartV * -math.Expm1(-dt/r.TimeConstantS); move > MeasureMaxStartFraction*step {
-				r.Warnings = append(r.Warnings, MeasurementWarning{"coarse_start", fmt.Sprintf(
+			if move := r.LineAtStartV * -math.Expm1(-dt/r.TimeConstantS); move > MaxStartFraction*step {
+				r.Warnings = append(r.Warnings, Warning{"coarse_start", fmt.Sprintf(
 					"the switch-on lies somewhere in the %s s between the samples at %s s and %s s; the decay moves %s over that time, %.3g %% of the step, so the ESR may be overstated by up to that much. Log faster around the switch-on",
-					measureNum(dt), measureNum(t[i0-1]), measureNum(t[i0]), measureVolts(move), 100*move/step)})
+					num(dt), num(t[i0-1]), num(t[i0]), volts(move), 100*move/step)})
 			}
 		}
 	}
@@ -761,10 +752,10 @@ func ResistorDischargeLog(log *MeasurementLog, resistorOhm float64, opts *Discha
 			}
 		}
 		if len(ratio) > 0 {
-			if m := measureMedian(ratio); math.Abs(m-resistorOhm) > 0.05*resistorOhm && measureFinite(m) {
-				r.Warnings = append(r.Warnings, MeasurementWarning{"current_mismatch", fmt.Sprintf(
+			if m := medianOf(ratio); math.Abs(m-resistorOhm) > 0.05*resistorOhm && sizing.Finite(m) {
+				r.Warnings = append(r.Warnings, Warning{"current_mismatch", fmt.Sprintf(
 					"the logged voltage over the logged current is %s Ω (median over the fit), not the %s Ω given: check resistor_ohm, or whether the voltage is logged across the resistor",
-					measureNum(m), measureNum(resistorOhm))})
+					num(m), num(resistorOhm))})
 			}
 		}
 	}
@@ -810,11 +801,11 @@ type HoldResult struct {
 	// LeakageA, in A, and ParallelResistanceOhm, in Ω, are the figures at the
 	// latest point, the closest to the steady leakage; LeakageAtV, in V, is
 	// the voltage there.
-	LeakageA              float64              `json:"leakage_a"`
-	LeakageAtV            float64              `json:"leakage_at_v"`
-	ParallelResistanceOhm *float64             `json:"parallel_resistance_ohm,omitempty"`
-	Warnings              []MeasurementWarning `json:"warnings"`
-	Notes                 []string             `json:"notes"`
+	LeakageA              float64   `json:"leakage_a"`
+	LeakageAtV            float64   `json:"leakage_at_v"`
+	ParallelResistanceOhm *float64  `json:"parallel_resistance_ohm,omitempty"`
+	Warnings              []Warning `json:"warnings"`
+	Notes                 []string  `json:"notes"`
 }
 
 // HoldLog works out the leakage from an open-circuit hold after charging:
@@ -833,14 +824,14 @@ type HoldResult struct {
 //
 // Warnings: rises (the voltage does not fall at a point), noisy (the local
 // slope's standard error above HoldMaxSlopeError of it), short_log (fewer
-// than MeasureMinFitPoints samples in a window). Errors: a ValidationError
+// than MinFitPoints samples in a window). Errors: a sizing.ValidationError
 // naming capacitance_f, at_s[i] (outside the log, or fewer than 3 samples
 // around it), the log's bad sample, or log.
-func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResult, error) {
-	var c measureChecks
+func HoldLog(log *Log, capacitanceF float64, atS []float64) (HoldResult, error) {
+	var c checks
 	c.positive("capacitance_f", capacitanceF, benchFarads)
 	for i, at := range atS {
-		if !measureFinite(at) {
+		if !sizing.Finite(at) {
 			c.add(fmt.Sprintf("at_s[%d]", i), "finite", "must be a finite number")
 		}
 	}
@@ -852,10 +843,10 @@ func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResu
 	n := len(t)
 	r := HoldResult{Method: "hold", CapacitanceF: capacitanceF,
 		StartS: t[0], EndS: t[n-1], StartV: v[0], EndV: v[n-1],
-		Warnings: []MeasurementWarning{}, Notes: []string{}}
+		Warnings: []Warning{}, Notes: []string{}}
 	if !(v[0] > 0) {
-		return r, measureFieldError("log", "positive", fmt.Sprintf(
-			"starts at %s; a hold starts from a charged cell", measureVolts(v[0])))
+		return r, fieldError("log", "positive", fmt.Sprintf(
+			"starts at %s; a hold starts from a charged cell", volts(v[0])))
 	}
 	span := t[n-1] - t[0]
 	half := HoldWindowFraction / 2 * span
@@ -864,21 +855,21 @@ func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResu
 	if len(atS) == 0 {
 		atS = []float64{t[0] + 0.1*span, t[0] + 0.5*span, t[0] + 0.9*span}
 		r.Notes = append(r.Notes, fmt.Sprintf("no times given: the leakage is worked out at 10 %%, 50 %% and 90 %% of the hold (%s s, %s s, %s s)",
-			measureNum(atS[0]), measureNum(atS[1]), measureNum(atS[2])))
+			num(atS[0]), num(atS[1]), num(atS[2])))
 	}
 	latest := -1
 	for i, at := range atS {
 		field := fmt.Sprintf("at_s[%d]", i)
 		if at < t[0] || at > t[n-1] {
-			return r, measureFieldError(field, "in_log", fmt.Sprintf(
-				"%g s is outside the log, which runs from %s s to %s s", at, measureNum(t[0]), measureNum(t[n-1])))
+			return r, fieldError(field, "in_log", fmt.Sprintf(
+				"%g s is outside the log, which runs from %s s to %s s", at, num(t[0]), num(t[n-1])))
 		}
-		lo := measureIndexAt(t, at-half)
-		hi := measureIndexAt(t, math.Nextafter(at+half, math.Inf(1)))
+		lo := indexAt(t, at-half)
+		hi := indexAt(t, math.Nextafter(at+half, math.Inf(1)))
 		p := HoldPoint{AtS: at, FromS: max(at-half, t[0]), ToS: min(at+half, t[n-1]), Points: hi - lo}
 		if p.Points < 3 {
-			return r, measureFieldError(field, "window", fmt.Sprintf(
-				"has only %d sample(s) within ±%s s of %g s; the local fit needs at least 3: log more often", p.Points, measureNum(half), at))
+			return r, fieldError(field, "window", fmt.Sprintf(
+				"has only %d sample(s) within ±%s s of %g s; the local fit needs at least 3: log more often", p.Points, num(half), at))
 		}
 		x := make([]float64, p.Points)
 		y := v[lo:hi]
@@ -894,12 +885,12 @@ func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResu
 				p.ParallelResistanceOhm = &rp
 			}
 		} else {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"rises", fmt.Sprintf(
-				"the voltage does not fall around %s s (dV/dt = %s V/s): no leakage there. Is the log the open-circuit hold after the charge?", measureNum(at), measureNum(b))})
+			r.Warnings = append(r.Warnings, Warning{"rises", fmt.Sprintf(
+				"the voltage does not fall around %s s (dV/dt = %s V/s): no leakage there. Is the log the open-circuit hold after the charge?", num(at), num(b))})
 		}
-		if p.Points < MeasureMinFitPoints {
-			r.Warnings = append(r.Warnings, MeasurementWarning{"short_log", fmt.Sprintf(
-				"only %d samples within ±%s s of %s s, fewer than %d: log more often", p.Points, measureNum(half), measureNum(at), MeasureMinFitPoints)})
+		if p.Points < MinFitPoints {
+			r.Warnings = append(r.Warnings, Warning{"short_log", fmt.Sprintf(
+				"only %d samples within ±%s s of %s s, fewer than %d: log more often", p.Points, num(half), num(at), MinFitPoints)})
 		}
 		if b != 0 {
 			var sxx float64
@@ -907,17 +898,17 @@ func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResu
 			for _, xi := range x {
 				sxx += (xi - mx) * (xi - mx)
 			}
-			se := measureResidualRMS(x, y, a, b) * math.Sqrt(float64(p.Points)/float64(p.Points-2)/sxx)
+			se := residualRMS(x, y, a, b) * math.Sqrt(float64(p.Points)/float64(p.Points-2)/sxx)
 			if se > HoldMaxSlopeError*math.Abs(b) {
-				r.Warnings = append(r.Warnings, MeasurementWarning{"noisy", fmt.Sprintf(
+				r.Warnings = append(r.Warnings, Warning{"noisy", fmt.Sprintf(
 					"around %s s the slope is uncertain by %.3g %% (standard error), more than %g %%: log longer, more often or with finer resolution",
-					measureNum(at), 100*se/math.Abs(b), 100*HoldMaxSlopeError)})
+					num(at), 100*se/math.Abs(b), 100*HoldMaxSlopeError)})
 			}
 		}
-		if err := measureOutputs("the log", p.VoltageV, p.SlopeVPerS, p.LeakageA); err != nil {
+		if err := outputs("the log", p.VoltageV, p.SlopeVPerS, p.LeakageA); err != nil {
 			return r, err
 		}
-		if p.ParallelResistanceOhm != nil && !measureFinite(*p.ParallelResistanceOhm) {
+		if p.ParallelResistanceOhm != nil && !sizing.Finite(*p.ParallelResistanceOhm) {
 			p.ParallelResistanceOhm = nil
 		}
 		r.Points = append(r.Points, p)
@@ -925,7 +916,7 @@ func HoldLog(log *MeasurementLog, capacitanceF float64, atS []float64) (HoldResu
 			latest = len(r.Points) - 1
 		}
 	}
-	if err := measureOutputs("the log", r.DropPct, r.WindowS); err != nil {
+	if err := outputs("the log", r.DropPct, r.WindowS); err != nil {
 		return r, err
 	}
 	lp := r.Points[latest]
@@ -969,12 +960,12 @@ type SymmetricCellResult struct {
 // C_cell/M = C_sp/4; say which convention when quoting. These two figures
 // are in g and cm², the units the field publishes in, not SI.
 //
-// nil mass or area leaves that figure nil. Errors (a ValidationError) name
+// nil mass or area leaves that figure nil. Errors (a sizing.ValidationError) name
 // capacitance_f, electrode_mass_g or electrode_area_cm2 when one is not
 // finite and positive, or outside its bench range (1 µF–1 MF, 1 µg–1 t,
 // 10⁻⁶–10⁶ cm²).
 func SymmetricCell(cellF float64, electrodeMassG, electrodeAreaCm2 *float64) (SymmetricCellResult, error) {
-	var c measureChecks
+	var c checks
 	c.positive("capacitance_f", cellF, benchFarads)
 	if electrodeMassG != nil {
 		c.positive("electrode_mass_g", *electrodeMassG, benchGrams)
@@ -1002,16 +993,16 @@ func SymmetricCell(cellF float64, electrodeMassG, electrodeAreaCm2 *float64) (Sy
 	if r.ArealCapacitanceFPerCm2 != nil {
 		outs = append(outs, *r.ArealCapacitanceFPerCm2)
 	}
-	if err := measureOutputs("the inputs", outs...); err != nil {
+	if err := outputs("the inputs", outs...); err != nil {
 		return SymmetricCellResult{}, err
 	}
 	return r, nil
 }
 
-// MeasuredFigures are a cell's figures from one or more tests; nil is not
+// Figures are a cell's figures from one or more tests; nil is not
 // measured. The results' Figures methods give them; the web may merge those
 // of several tests.
-type MeasuredFigures struct {
+type Figures struct {
 	// CapacitanceF, in F.
 	CapacitanceF *float64 `json:"capacitance_f,omitempty"`
 	// ESROhm, in Ω, the DC ESR.
@@ -1020,75 +1011,75 @@ type MeasuredFigures struct {
 	// rated voltage.
 	LeakageA   *float64 `json:"leakage_a,omitempty"`
 	LeakageAtV *float64 `json:"leakage_at_v,omitempty"`
-	// RatedV, in V, is the rated voltage the test assumed; MeasuredCell takes
+	// RatedV, in V, is the rated voltage the test assumed; DraftCell takes
 	// it for a cell with no base.
 	RatedV *float64 `json:"rated_v,omitempty"`
 }
 
 // Figures are the timed discharge's figures: the exact capacitance.
-func (r TimedDischarge) Figures() MeasuredFigures {
-	return MeasuredFigures{CapacitanceF: measurePtr(r.CapacitanceF)}
+func (r TimedDischarge) Figures() Figures {
+	return Figures{CapacitanceF: ptr(r.CapacitanceF)}
 }
 
 // Figures are the constant-current discharge's figures: the regression
 // capacitance, the ESR when measured, and the rated voltage.
-func (r ConstantCurrentResult) Figures() MeasuredFigures {
-	return MeasuredFigures{CapacitanceF: measurePtr(r.CapacitanceF), ESROhm: measureClone(r.ESROhm), RatedV: measurePtr(r.RatedV)}
+func (r ConstantCurrentResult) Figures() Figures {
+	return Figures{CapacitanceF: ptr(r.CapacitanceF), ESROhm: clone(r.ESROhm), RatedV: ptr(r.RatedV)}
 }
 
 // Figures are the resistor discharge's figures: the capacitance, and the
 // ESR when measured.
-func (r ResistorDischargeResult) Figures() MeasuredFigures {
-	return MeasuredFigures{CapacitanceF: measurePtr(r.CapacitanceF), ESROhm: measureClone(r.ESROhm)}
+func (r ResistorDischargeResult) Figures() Figures {
+	return Figures{CapacitanceF: ptr(r.CapacitanceF), ESROhm: clone(r.ESROhm)}
 }
 
 // Figures are the hold's figures: the latest point's leakage and the voltage
 // it was found at.
-func (r HoldResult) Figures() MeasuredFigures {
-	return MeasuredFigures{LeakageA: measurePtr(r.LeakageA), LeakageAtV: measurePtr(r.LeakageAtV)}
+func (r HoldResult) Figures() Figures {
+	return Figures{LeakageA: ptr(r.LeakageA), LeakageAtV: ptr(r.LeakageAtV)}
 }
 
 // Summary is a one-line account of the test for a measured cell's notes.
 func (r TimedDischarge) Summary() string {
 	return fmt.Sprintf("timed discharge through %s Ω from %s to %s in %s s: C = %s F (exact; the quick estimate reads %.3g %% high)",
-		measureNum(r.ResistorOhm), measureVolts(r.V0V), measureVolts(r.V1V), measureNum(r.DurationS), measureNum(r.CapacitanceF), r.QuickErrorPct)
+		num(r.ResistorOhm), volts(r.V0V), volts(r.V1V), num(r.DurationS), num(r.CapacitanceF), r.QuickErrorPct)
 }
 
 // Summary is a one-line account of the test for a measured cell's notes.
 func (r ConstantCurrentResult) Summary() string {
 	esr := "not measured"
 	if r.ESROhm != nil {
-		esr = measureNum(*r.ESROhm) + " Ω"
+		esr = num(*r.ESROhm) + " Ω"
 	}
 	return fmt.Sprintf("constant-current discharge (IEC 62391-1) at %s A from UR %s: U1 %s at %s s, U2 %s at %s s, %d points, R² %.5f, residual %s RMS; C = %s F (two-point %s F), ESR %s (ΔU3 %s)%s",
-		measureNum(r.CurrentA), measureVolts(r.RatedV), measureVolts(r.U1V), measureNum(r.T1S), measureVolts(r.U2V), measureNum(r.T2S), r.FitPoints, r.RSquared,
-		measureVolts(r.ResidualRMSV), measureNum(r.CapacitanceF), measureNum(r.TwoPointCapacitanceF), esr, measureVolts(r.DropV), measureWarningCodes(r.Warnings))
+		num(r.CurrentA), volts(r.RatedV), volts(r.U1V), num(r.T1S), volts(r.U2V), num(r.T2S), r.FitPoints, r.RSquared,
+		volts(r.ResidualRMSV), num(r.CapacitanceF), num(r.TwoPointCapacitanceF), esr, volts(r.DropV), warningCodes(r.Warnings))
 }
 
 // Summary is a one-line account of the test for a measured cell's notes.
 func (r ResistorDischargeResult) Summary() string {
 	esr := "not measured"
 	if r.ESROhm != nil {
-		esr = measureNum(*r.ESROhm) + " Ω"
+		esr = num(*r.ESROhm) + " Ω"
 	}
 	return fmt.Sprintf("resistor discharge through %s Ω: ln V fit from %s s to %s s, %d points, R² %.5f, residual %.3g %% RMS; τ = %s s, C = %s F, ESR %s%s",
-		measureNum(r.ResistorOhm), measureNum(r.FitFromS), measureNum(r.FitToS), r.FitPoints, r.RSquared, 100*r.ResidualRMSLn,
-		measureNum(r.TimeConstantS), measureNum(r.CapacitanceF), esr, measureWarningCodes(r.Warnings))
+		num(r.ResistorOhm), num(r.FitFromS), num(r.FitToS), r.FitPoints, r.RSquared, 100*r.ResidualRMSLn,
+		num(r.TimeConstantS), num(r.CapacitanceF), esr, warningCodes(r.Warnings))
 }
 
 // Summary is a one-line account of the test for a measured cell's notes.
 func (r HoldResult) Summary() string {
 	parts := make([]string, len(r.Points))
 	for i, p := range r.Points {
-		parts[i] = fmt.Sprintf("%s A at %s s", measureNum(p.LeakageA), measureNum(p.AtS))
+		parts[i] = fmt.Sprintf("%s A at %s s", num(p.LeakageA), num(p.AtS))
 	}
 	return fmt.Sprintf("open-circuit hold from %s to %s over %s s (drop %.3g %%), C %s F: leakage %s%s",
-		measureVolts(r.StartV), measureVolts(r.EndV), measureNum(r.EndS-r.StartS), r.DropPct, measureNum(r.CapacitanceF), strings.Join(parts, ", "), measureWarningCodes(r.Warnings))
+		volts(r.StartV), volts(r.EndV), num(r.EndS-r.StartS), r.DropPct, num(r.CapacitanceF), strings.Join(parts, ", "), warningCodes(r.Warnings))
 }
 
-// MeasurementSummary joins test summaries into one note for MeasuredCell,
+// Summary joins test summaries into one note for DraftCell,
 // with the test date first when one is given: "measured 2025-03-14: …; …".
-func MeasurementSummary(date string, summaries ...string) string {
+func Summary(date string, summaries ...string) string {
 	s := strings.Join(summaries, "; ")
 	if date = strings.TrimSpace(date); date != "" {
 		return "measured " + date + ": " + s
@@ -1126,44 +1117,44 @@ type Comparison struct {
 //   - esr_ohm and leakage_a at most the stated value, which a datasheet
 //     gives as a maximum. A leakage measured at another voltage is scaled
 //     to the rated voltage by the parallel-resistance model capbank sizes
-//     with (I·UR/V, as Cell.LeakageA).
+//     with (I·UR/V, as sizing.Cell.LeakageA).
 //
 // A figure not measured, or not stated (a nil leakage_a, a stated value
 // that is not finite, or not positive; a stated leakage of 0 is kept, with
 // no deviation), is left out.
-func CompareWithDatasheet(measured MeasuredFigures, stated Cell) []Comparison {
+func CompareWithDatasheet(measured Figures, stated sizing.Cell) []Comparison {
 	out := []Comparison{}
-	if m := measured.CapacitanceF; m != nil && measureFinite(*m) && measureFinite(stated.CapacitanceF) && stated.CapacitanceF > 0 {
+	if m := measured.CapacitanceF; m != nil && sizing.Finite(*m) && sizing.Finite(stated.CapacitanceF) && stated.CapacitanceF > 0 {
 		minus, plus := -DefaultCapacitanceTolerancePct, DefaultCapacitanceTolerancePct
 		limit := fmt.Sprintf("±%g %% assumed: the cell states no capacitance tolerance", DefaultCapacitanceTolerancePct)
-		if tol := stated.CapacitanceTolerancePct; len(tol) == 2 && measureFinite(tol[0]) && measureFinite(tol[1]) {
+		if tol := stated.CapacitanceTolerancePct; len(tol) == 2 && sizing.Finite(tol[0]) && sizing.Finite(tol[1]) {
 			minus, plus = tol[0], tol[1]
 			limit = fmt.Sprintf("%+g %% to %+g %%, the cell's capacitance tolerance", minus, plus)
 		}
 		lo, hi := stated.CapacitanceF*(1+minus/100), stated.CapacitanceF*(1+plus/100)
 		out = append(out, Comparison{Quantity: "capacitance_f", Unit: "F", Measured: *m, Stated: stated.CapacitanceF,
-			DeviationPct: measureDeviation(*m, stated.CapacitanceF), AllowedMin: &lo, AllowedMax: &hi,
+			DeviationPct: deviation(*m, stated.CapacitanceF), AllowedMin: &lo, AllowedMax: &hi,
 			Within: *m >= lo && *m <= hi, Limit: limit})
 	}
-	if m := measured.ESROhm; m != nil && measureFinite(*m) && measureFinite(stated.ESROhm) && stated.ESROhm > 0 {
+	if m := measured.ESROhm; m != nil && sizing.Finite(*m) && sizing.Finite(stated.ESROhm) && stated.ESROhm > 0 {
 		hi := stated.ESROhm
 		out = append(out, Comparison{Quantity: "esr_ohm", Unit: "Ω", Measured: *m, Stated: stated.ESROhm,
-			DeviationPct: measureDeviation(*m, stated.ESROhm), AllowedMax: &hi, Within: *m <= hi,
+			DeviationPct: deviation(*m, stated.ESROhm), AllowedMax: &hi, Within: *m <= hi,
 			Limit: "at most the stated ESR, a datasheet maximum"})
 	}
-	if m := measured.LeakageA; m != nil && measureFinite(*m) && stated.LeakageA != nil && measureFinite(*stated.LeakageA) && *stated.LeakageA >= 0 {
-		leak, note := measureLeakageAtRated(*m, measured.LeakageAtV, stated.RatedV)
+	if m := measured.LeakageA; m != nil && sizing.Finite(*m) && stated.LeakageA != nil && sizing.Finite(*stated.LeakageA) && *stated.LeakageA >= 0 {
+		leak, note := leakageAtRated(*m, measured.LeakageAtV, stated.RatedV)
 		hi := *stated.LeakageA
 		out = append(out, Comparison{Quantity: "leakage_a", Unit: "A", Measured: leak, Stated: hi,
-			DeviationPct: measureDeviation(leak, hi), AllowedMax: &hi, Within: leak <= hi,
+			DeviationPct: deviation(leak, hi), AllowedMax: &hi, Within: leak <= hi,
 			Limit: "at most the stated leakage current, a datasheet maximum", Note: note})
 	}
 	return out
 }
 
-// MeasuredCell makes a library cell of measured figures: a copy of base
+// DraftCell makes a library cell of measured figures: a copy of base
 // (nil: a new cell) with every measured figure in place of the stated one,
-// Source "measured" and Notes holding summary (see MeasurementSummary; cut
+// Source "measured" and Notes holding summary (see Summary; cut
 // to the 2000 characters Notes holds).
 //
 // The ID is base's with "-measured" added ("measured" with no base) and the
@@ -1173,18 +1164,18 @@ func CompareWithDatasheet(measured MeasuredFigures, stated Cell) []Comparison {
 // keep base's values; with no base they stay zero, and Validate names them
 // (cells[0].esr_ohm: must be greater than 0), so call Validate before
 // sizing with the cell, as for any cell.
-func MeasuredCell(base *Cell, figures MeasuredFigures, summary string) Cell {
-	var c Cell
+func DraftCell(base *sizing.Cell, figures Figures, summary string) sizing.Cell {
+	var c sizing.Cell
 	if base != nil {
-		c = measureCloneCell(*base)
+		c = cloneCell(*base)
 		if !strings.HasSuffix(c.ID, "-measured") {
-			c.ID = measureCut(c.ID, 100-len("-measured")) + "-measured"
+			c.ID = cut(c.ID, 100-len("-measured")) + "-measured"
 		}
 		if c.Name == "" {
 			c.Name = base.ID
 		}
 		if !strings.HasSuffix(c.Name, " (measured)") {
-			c.Name = measureCut(c.Name, 200-len(" (measured)")) + " (measured)"
+			c.Name = cut(c.Name, 200-len(" (measured)")) + " (measured)"
 		}
 	} else {
 		c.ID, c.Name = "measured", "measured cell"
@@ -1193,7 +1184,7 @@ func MeasuredCell(base *Cell, figures MeasuredFigures, summary string) Cell {
 		}
 	}
 	c.Source = "measured"
-	c.Notes = measureCut(summary, 2000)
+	c.Notes = cut(summary, 2000)
 	if figures.CapacitanceF != nil {
 		c.CapacitanceF = *figures.CapacitanceF
 	}
@@ -1201,39 +1192,39 @@ func MeasuredCell(base *Cell, figures MeasuredFigures, summary string) Cell {
 		c.ESROhm = *figures.ESROhm
 	}
 	if figures.LeakageA != nil {
-		leak, _ := measureLeakageAtRated(*figures.LeakageA, figures.LeakageAtV, c.RatedV)
+		leak, _ := leakageAtRated(*figures.LeakageA, figures.LeakageAtV, c.RatedV)
 		c.LeakageA = &leak
 	}
 	return c
 }
 
-// measureLeakageAtRated scales a leakage I measured at atV to the rated
+// leakageAtRated scales a leakage I measured at atV to the rated
 // voltage by the parallel-resistance model: I·UR/V.
-func measureLeakageAtRated(i float64, atV *float64, ratedV float64) (float64, string) {
-	if atV == nil || !(*atV > 0) || !measureFinite(*atV) || !(ratedV > 0) || !measureFinite(ratedV) || *atV == ratedV {
+func leakageAtRated(i float64, atV *float64, ratedV float64) (float64, string) {
+	if atV == nil || !(*atV > 0) || !sizing.Finite(*atV) || !(ratedV > 0) || !sizing.Finite(ratedV) || *atV == ratedV {
 		return i, ""
 	}
 	scaled := i * ratedV / *atV
-	if !measureFinite(scaled) {
+	if !sizing.Finite(scaled) {
 		return i, ""
 	}
-	return scaled, fmt.Sprintf("measured %s A at %s, scaled to the rated %s as I·UR/V (a parallel resistance)", measureNum(i), measureVolts(*atV), measureVolts(ratedV))
+	return scaled, fmt.Sprintf("measured %s A at %s, scaled to the rated %s as I·UR/V (a parallel resistance)", num(i), volts(*atV), volts(ratedV))
 }
 
-func measureDeviation(measured, stated float64) *float64 {
+func deviation(measured, stated float64) *float64 {
 	if stated == 0 {
 		return nil
 	}
 	d := (measured - stated) / stated * 100
-	if !measureFinite(d) {
+	if !sizing.Finite(d) {
 		return nil
 	}
 	return &d
 }
 
-// measureCloneCell copies a cell with its own copies of every pointer and
+// cloneCell copies a cell with its own copies of every pointer and
 // slice, so the measured cell and its base never share a value.
-func measureCloneCell(c Cell) Cell {
+func cloneCell(c sizing.Cell) sizing.Cell {
 	out := c
 	rv := reflect.ValueOf(&out).Elem()
 	for i := range rv.NumField() {
@@ -1256,9 +1247,9 @@ func measureCloneCell(c Cell) Cell {
 	return out
 }
 
-// measureCut cuts s to at most n characters (runes), ending it with "…"
+// cut cuts s to at most n characters (runes), ending it with "…"
 // when it was cut.
-func measureCut(s string, n int) string {
+func cut(s string, n int) string {
 	if utf8.RuneCountInString(s) <= n {
 		return s
 	}
@@ -1266,7 +1257,7 @@ func measureCut(s string, n int) string {
 	return string(r[:n-1]) + "…"
 }
 
-func measureWarningCodes(ws []MeasurementWarning) string {
+func warningCodes(ws []Warning) string {
 	if len(ws) == 0 {
 		return ""
 	}
@@ -1277,11 +1268,11 @@ func measureWarningCodes(ws []MeasurementWarning) string {
 	return " (warnings: " + strings.Join(codes, ", ") + ")"
 }
 
-// measureChecks collects the input problems of a measurement call.
-type measureChecks struct{ errs ValidationError }
+// checks collects the input problems of a measurement call.
+type checks struct{ errs sizing.ValidationError }
 
-func (c *measureChecks) add(field, rule, format string, a ...any) {
-	c.errs = append(c.errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+func (c *checks) add(field, rule, format string, a ...any) {
+	c.errs = append(c.errs, sizing.FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
 }
 
 // benchRange is the range of a measurement input: wider than any bench
@@ -1306,9 +1297,9 @@ var (
 
 // positive checks that x is a finite number greater than zero, within the
 // bench range r.
-func (c *measureChecks) positive(field string, x float64, r benchRange) {
+func (c *checks) positive(field string, x float64, r benchRange) {
 	switch {
-	case !measureFinite(x):
+	case !sizing.Finite(x):
 		c.add(field, "finite", "must be a finite number (got %g)", x)
 	case !(x > 0):
 		c.add(field, "gt", "must be greater than 0 %s (got %g)", r.unit, x)
@@ -1321,7 +1312,7 @@ func (c *measureChecks) positive(field string, x float64, r benchRange) {
 
 // log checks a log's shape: at least min samples, equal lengths, finite
 // numbers, strictly increasing time. It stops at the first bad sample.
-func (c *measureChecks) log(log *MeasurementLog, min int) {
+func (c *checks) log(log *Log, min int) {
 	if log == nil {
 		c.add("log", "required", "is required: give the logged samples")
 		return
@@ -1339,7 +1330,7 @@ func (c *measureChecks) log(log *MeasurementLog, min int) {
 		return
 	}
 	for i := range n {
-		if !measureFinite(log.TimeS[i]) {
+		if !sizing.Finite(log.TimeS[i]) {
 			c.add(fmt.Sprintf("log.time_s[%d]", i), "finite", "must be a finite number")
 			return
 		}
@@ -1348,57 +1339,55 @@ func (c *measureChecks) log(log *MeasurementLog, min int) {
 				log.TimeS[i], log.TimeS[i-1])
 			return
 		}
-		if !measureFinite(log.VoltageV[i]) {
+		if !sizing.Finite(log.VoltageV[i]) {
 			c.add(fmt.Sprintf("log.voltage_v[%d]", i), "finite", "must be a finite number")
 			return
 		}
-		if log.CurrentA != nil && !measureFinite(log.CurrentA[i]) {
+		if log.CurrentA != nil && !sizing.Finite(log.CurrentA[i]) {
 			c.add(fmt.Sprintf("log.current_a[%d]", i), "finite", "must be a finite number")
 			return
 		}
 	}
 }
 
-func (c *measureChecks) err() error {
+func (c *checks) err() error {
 	if len(c.errs) == 0 {
 		return nil
 	}
 	return c.errs
 }
 
-func measureFieldError(field, rule, msg string) error {
-	return ValidationError{{Field: field, Rule: rule, Message: msg}}
+func fieldError(field, rule, msg string) error {
+	return sizing.ValidationError{{Field: field, Rule: rule, Message: msg}}
 }
 
-// measureOutputs reports an error when a computed figure is not finite:
+// outputs reports an error when a computed figure is not finite:
 // extreme inputs (times of 1e300 s, a resistor of 1e-300 Ω) can overflow,
 // and no NaN or infinity may leave the package.
-func measureOutputs(from string, xs ...float64) error {
+func outputs(from string, xs ...float64) error {
 	for _, x := range xs {
-		if !measureFinite(x) {
+		if !sizing.Finite(x) {
 			field := "log"
 			if from == "the inputs" {
 				field = "inputs"
 			}
-			return measureFieldError(field, "overflow", fmt.Sprintf(
+			return fieldError(field, "overflow", fmt.Sprintf(
 				"%s give figures too large or too small to compute; check their units (s, V, A, Ω, F)", from))
 		}
 	}
 	return nil
 }
 
-func measureFinite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
-
-func measureStart(opts *DischargeOptions) *float64 {
+func startOf(opts *DischargeOptions) *float64 {
 	if opts == nil {
 		return nil
 	}
 	return opts.StartS
 }
 
-func measurePtr(x float64) *float64 { return &x }
+func ptr(x float64) *float64 { return &x }
 
-func measureClone(p *float64) *float64 {
+func clone(p *float64) *float64 {
 	if p == nil {
 		return nil
 	}
@@ -1406,35 +1395,35 @@ func measureClone(p *float64) *float64 {
 	return &x
 }
 
-// measureIndexAt returns the index of the first of the
+// indexAt returns the index of the first of the
 // increasing times at or after s, or len(t) when there is none.
-func measureIndexAt(t []float64, s float64) int {
+func indexAt(t []float64, s float64) int {
 	i, _ := slices.BinarySearch(t, s)
 	return i
 }
 
-// measureOn reports whether a sample's voltage is on the voltage point u:
+// onPoint reports whether a sample's voltage is on the voltage point u:
 // within 1e-12 of it (relative), so that a sample the rounding of its
 // arithmetic puts a hair above or below the point still counts as on it.
-func measureOn(x, u float64) bool { return math.Abs(x-u) <= 1e-12*math.Abs(u) }
+func onPoint(x, u float64) bool { return math.Abs(x-u) <= 1e-12*math.Abs(u) }
 
-// measureReached reports whether a falling voltage x has reached u: below it
+// reached reports whether a falling voltage x has reached u: below it
 // or on it.
-func measureReached(x, u float64) bool { return x < u || measureOn(x, u) }
+func reached(x, u float64) bool { return x < u || onPoint(x, u) }
 
-// measureCrossing is the time the voltage reaches u between samples i−1
+// crossing is the time the voltage reaches u between samples i−1
 // (above u) and i (at or below it), by linear interpolation; a sample on u
 // gives its own time.
-func measureCrossing(t, v []float64, i int, u float64) float64 {
-	if measureOn(v[i], u) || i == 0 {
+func crossing(t, v []float64, i int, u float64) float64 {
+	if onPoint(v[i], u) || i == 0 {
 		return t[i]
 	}
 	f := min(max((v[i-1]-u)/(v[i-1]-v[i]), 0), 1)
 	return t[i-1] + f*(t[i]-t[i-1])
 }
 
-// measureLowest is the lowest voltage from sample from on, and its time.
-func measureLowest(v, t []float64, from int) (float64, float64) {
+// lowest is the lowest voltage from sample from on, and its time.
+func lowest(v, t []float64, from int) (float64, float64) {
 	j := from
 	for i := from; i < len(v); i++ {
 		if v[i] < v[j] {
@@ -1444,19 +1433,19 @@ func measureLowest(v, t []float64, from int) (float64, float64) {
 	return v[j], t[j]
 }
 
-// measureVoltageStart finds the discharge start from the voltage alone: the
+// voltageStart finds the discharge start from the voltage alone: the
 // first sample after the highest voltage in v[:end] that lies below it by
-// more than δ = max(10σ, 0.1 % of it), with σ from measureNoise. It returns
+// more than δ = max(10σ, 0.1 % of it), with σ from noiseRMS. It returns
 // the index (end when there is none before it, or len(v)), δ, and whether
 // the rest before it is only the log's first sample.
-func measureVoltageStart(v []float64, end int) (int, float64, bool) {
+func voltageStart(v []float64, end int) (int, float64, bool) {
 	m := 0
 	for i := 1; i < end; i++ {
 		if v[i] > v[m] {
 			m = i
 		}
 	}
-	delta := max(10*measureNoise(v), 1e-3*math.Abs(v[m]))
+	delta := max(10*noiseRMS(v), 1e-3*math.Abs(v[m]))
 	for i := m + 1; i < len(v) && i <= end; i++ {
 		if v[i] < v[m]-delta {
 			return i, delta, m == 0 && i == 1
@@ -1465,12 +1454,12 @@ func measureVoltageStart(v []float64, end int) (int, float64, bool) {
 	return min(end, len(v)), delta, false
 }
 
-// measureNoise estimates the RMS noise of a voltage log from its second
+// noiseRMS estimates the RMS noise of a voltage log from its second
 // differences d = v[i+1] − 2v[i] + v[i−1]: for white noise of RMS σ they
 // have RMS σ√6, a smooth curve adds little to them, and their median
 // ignores a step. σ = 1.4826·median|d|/√6 (1.4826 turns a median absolute
 // deviation into an RMS for normal noise).
-func measureNoise(v []float64) float64 {
+func noiseRMS(v []float64) float64 {
 	if len(v) < 3 {
 		return 0
 	}
@@ -1478,15 +1467,15 @@ func measureNoise(v []float64) float64 {
 	for i := 1; i < len(v)-1; i++ {
 		d[i-1] = math.Abs(v[i+1] - 2*v[i] + v[i-1])
 	}
-	s := 1.4826 * measureMedian(d) / math.Sqrt(6)
-	if !measureFinite(s) {
+	s := 1.4826 * medianOf(d) / math.Sqrt(6)
+	if !sizing.Finite(s) {
 		return 0
 	}
 	return s
 }
 
-// measureMedian is the median of xs (not changed).
-func measureMedian(xs []float64) float64 {
+// medianOf is the median of xs (not changed).
+func medianOf(xs []float64) float64 {
 	s := slices.Clone(xs)
 	slices.Sort(s)
 	n := len(s)
@@ -1496,8 +1485,8 @@ func measureMedian(xs []float64) float64 {
 	return s[n/2-1]/2 + s[n/2]/2
 }
 
-// measureResidualRMS is the RMS of y about the line a + b·x.
-func measureResidualRMS(x, y []float64, a, b float64) float64 {
+// residualRMS is the RMS of y about the line a + b·x.
+func residualRMS(x, y []float64, a, b float64) float64 {
 	var ss float64
 	for i := range x {
 		d := y[i] - (a + b*x[i])
@@ -1507,10 +1496,10 @@ func measureResidualRMS(x, y []float64, a, b float64) float64 {
 }
 
 // num formats a figure for a message: up to 6 significant figures.
-func measureNum(x float64) string { return fmt.Sprintf("%.6g", x) }
+func num(x float64) string { return fmt.Sprintf("%.6g", x) }
 
 // volts formats a voltage for a message, in V or mV.
-func measureVolts(x float64) string {
+func volts(x float64) string {
 	if x != 0 && math.Abs(x) < 0.1 {
 		return fmt.Sprintf("%.4g mV", x*1000)
 	}

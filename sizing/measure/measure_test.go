@@ -1,71 +1,35 @@
-package sizing
+package measure
 
 import (
 	"errors"
 	"math"
 	"math/rand/v2"
-	"reflect"
-	"strconv"
 	"strings"
 	"testing"
 
-	"gonum.org/v1/gonum/floats/scalar"
 	"gonum.org/v1/gonum/stat"
+
+	"capbank/sizing"
+	"capbank/sizing/internal/approx"
 )
 
-// measureNear fails the test when got is not within rel (relative) of want.
-func measureNear(t *testing.T, name string, got, want, rel float64) {
+// fieldOf returns the field and rule of a one-problem sizing.ValidationError.
+func fieldOf(t *testing.T, err error) (string, string, string) {
 	t.Helper()
-	if !scalar.EqualWithinRel(got, want, rel) {
-		t.Errorf("%s = %.12g, want %.12g (relative tolerance %g, off by %.3g)", name, got, want, rel, (got-want)/want)
-	}
-}
-
-// measureFieldOf returns the field and rule of a one-problem ValidationError.
-func measureFieldOf(t *testing.T, err error) (string, string, string) {
-	t.Helper()
-	var ve ValidationError
+	var ve sizing.ValidationError
 	if !errors.As(err, &ve) || len(ve) == 0 {
-		t.Fatalf("error %T %v, want a ValidationError", err, err)
+		t.Fatalf("error %T %v, want a sizing.ValidationError", err, err)
 	}
 	return ve[0].Field, ve[0].Rule, ve[0].Message
 }
 
-func measureHasWarning(ws []MeasurementWarning, code string) bool {
+func hasWarning(ws []Warning, code string) bool {
 	for _, w := range ws {
 		if w.Code == code {
 			return true
 		}
 	}
 	return false
-}
-
-// measureAllFinite walks a result and fails on any NaN or infinity in a
-// float64, a *float64 or a slice of either.
-func measureAllFinite(t *testing.T, name string, v any) {
-	t.Helper()
-	var walk func(path string, rv reflect.Value)
-	walk = func(path string, rv reflect.Value) {
-		switch rv.Kind() {
-		case reflect.Float64:
-			if x := rv.Float(); math.IsNaN(x) || math.IsInf(x, 0) {
-				t.Errorf("%s%s = %g, want a finite number", name, path, x)
-			}
-		case reflect.Pointer:
-			if !rv.IsNil() {
-				walk(path, rv.Elem())
-			}
-		case reflect.Slice:
-			for i := range rv.Len() {
-				walk(path+"["+strconv.Itoa(i)+"]", rv.Index(i))
-			}
-		case reflect.Struct:
-			for i := range rv.NumField() {
-				walk(path+"."+rv.Type().Field(i).Name, rv.Field(i))
-			}
-		}
-	}
-	walk("", reflect.ValueOf(v))
 }
 
 func TestTimedResistorDischarge(t *testing.T) {
@@ -99,12 +63,12 @@ func TestTimedResistorDischarge(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			measureNear(t, "CapacitanceF", got.CapacitanceF, tc.exact, 1e-12)
-			measureNear(t, "QuickCapacitanceF", got.QuickCapacitanceF, tc.quick, 1e-12)
-			measureNear(t, "QuickErrorPct", got.QuickErrorPct, tc.errPct, 1e-9)
+			approx.Near(t, "CapacitanceF", got.CapacitanceF, tc.exact, 1e-12)
+			approx.Near(t, "QuickCapacitanceF", got.QuickCapacitanceF, tc.quick, 1e-12)
+			approx.Near(t, "QuickErrorPct", got.QuickErrorPct, tc.errPct, 1e-9)
 			// τ = R·C by definition.
-			measureNear(t, "TimeConstantS", got.TimeConstantS, tc.ohm*tc.exact, 1e-12)
-			measureNear(t, "MeanCurrentA", got.MeanCurrentA, (tc.v0+tc.v1)/(2*tc.ohm), 1e-12)
+			approx.Near(t, "TimeConstantS", got.TimeConstantS, tc.ohm*tc.exact, 1e-12)
+			approx.Near(t, "MeanCurrentA", got.MeanCurrentA, (tc.v0+tc.v1)/(2*tc.ohm), 1e-12)
 		})
 	}
 	t.Run("issue figures as the issue states them", func(t *testing.T) {
@@ -122,7 +86,7 @@ func TestTimedResistorDischarge(t *testing.T) {
 		// voltages, the time or the resistor leaves the error alone.
 		a, _ := TimedResistorDischarge(1.5, 0.5, 68, 1000)
 		b, _ := TimedResistorDischarge(15, 5, 3, 47)
-		measureNear(t, "QuickErrorPct scaled", b.QuickErrorPct, a.QuickErrorPct, 1e-12)
+		approx.Near(t, "QuickErrorPct scaled", b.QuickErrorPct, a.QuickErrorPct, 1e-12)
 	})
 }
 
@@ -154,7 +118,7 @@ func TestTimedResistorDischargeErrors(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			_, err := TimedResistorDischarge(tc.v0, tc.v1, tc.seconds, tc.ohm)
-			field, rule, msg := measureFieldOf(t, err)
+			field, rule, msg := fieldOf(t, err)
 			if field != tc.field || rule != tc.rule {
 				t.Errorf("got %s (%s): %s; want field %s, rule %s", field, rule, msg, tc.field, tc.rule)
 			}
@@ -169,9 +133,9 @@ func TestTimedResistorDischargeErrors(t *testing.T) {
 // first, down to 0.3·ur. noise (V RMS) is added from a fixed seed; with
 // withCurrent the log carries current_a (0 before the switch-on, i after,
 // with 0.2 % RMS noise when noise is not 0).
-func ccLog(c, r, i, ur, first, dt, noise float64, seed uint64, withCurrent bool) *MeasurementLog {
+func ccLog(c, r, i, ur, first, dt, noise float64, seed uint64, withCurrent bool) *Log {
 	rng := rand.New(rand.NewPCG(seed, 0x5eed))
-	log := &MeasurementLog{}
+	log := &Log{}
 	if withCurrent {
 		log.CurrentA = []float64{}
 	}
@@ -205,29 +169,29 @@ func ccLog(c, r, i, ur, first, dt, noise float64, seed uint64, withCurrent bool)
 func TestConstantCurrentReferenceRecord(t *testing.T) {
 	t.Parallel()
 	log := ccLog(2500, 0.0004, 27, 2.7, -3, 2, 0, 1, false)
-	got, err := ConstantCurrentDischarge(log, 2.7, measurePtr(27), &DischargeOptions{StartS: measurePtr(0)})
+	got, err := ConstantCurrentDischarge(log, 2.7, ptr(27), &DischargeOptions{StartS: ptr(0)})
 	if err != nil {
 		t.Fatal(err)
 	}
 	const tol = 1e-9 // exact arithmetic on a straight line (REFERENCES.md notes for test authors)
-	measureNear(t, "T1S", got.T1S, 49, tol)
-	measureNear(t, "T2S", got.T2S, 149, tol)
+	approx.Near(t, "T1S", got.T1S, 49, tol)
+	approx.Near(t, "T2S", got.T2S, 149, tol)
 	if got.FitPoints != 51 {
 		t.Errorf("FitPoints = %d, want 51 (REFERENCES.md 10.6)", got.FitPoints)
 	}
-	measureNear(t, "SlopeVPerS", got.SlopeVPerS, -0.0108, tol)
-	measureNear(t, "LineAtStartV", got.LineAtStartV, 2.6892, tol)
-	measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, tol)
-	measureNear(t, "TwoPointCapacitanceF", got.TwoPointCapacitanceF, 2500, tol)
-	measureNear(t, "DropV", got.DropV, 0.0108, 1e-6) // 2.7 − 2.6892, with the rounding of 2.6892
-	measureNear(t, "DropPct", got.DropPct, 0.4, 1e-6)
+	approx.Near(t, "SlopeVPerS", got.SlopeVPerS, -0.0108, tol)
+	approx.Near(t, "LineAtStartV", got.LineAtStartV, 2.6892, tol)
+	approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, tol)
+	approx.Near(t, "TwoPointCapacitanceF", got.TwoPointCapacitanceF, 2500, tol)
+	approx.Near(t, "DropV", got.DropV, 0.0108, 1e-6) // 2.7 − 2.6892, with the rounding of 2.6892
+	approx.Near(t, "DropPct", got.DropPct, 0.4, 1e-6)
 	if got.ESROhm == nil {
 		t.Fatal("ESROhm = nil, want 0.4 mΩ")
 	}
-	measureNear(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
+	approx.Near(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
 	// τ of the cell = R·C = 0.4 mΩ × 2500 F = 1 s (REFERENCES.md 10).
-	measureNear(t, "TimeConstantS", *got.TimeConstantS, 1, 1e-6)
-	measureNear(t, "RSquared", got.RSquared, 1, 1e-12)
+	approx.Near(t, "TimeConstantS", *got.TimeConstantS, 1, 1e-6)
+	approx.Near(t, "RSquared", got.RSquared, 1, 1e-12)
 	if len(got.Warnings) != 0 {
 		t.Errorf("warnings %v, want none (ΔU3/UR = 0.4 %% < 5 %%, REFERENCES.md 10.6)", got.Warnings)
 	}
@@ -255,28 +219,28 @@ func TestConstantCurrentRecoversCAndR(t *testing.T) {
 			t.Parallel()
 			for seed := uint64(1); seed <= 5; seed++ {
 				log := ccLog(2500, 0.0004, 27, 2.7, -2, 0.05, 1e-4, seed, tc.withCurrent)
-				got, err := ConstantCurrentDischarge(log, 2.7, measurePtr(27), nil)
+				got, err := ConstantCurrentDischarge(log, 2.7, ptr(27), nil)
 				if err != nil {
 					t.Fatal(err)
 				}
-				measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, 0.01)
-				measureNear(t, "TwoPointCapacitanceF", got.TwoPointCapacitanceF, 2500, 0.01)
+				approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, 0.01)
+				approx.Near(t, "TwoPointCapacitanceF", got.TwoPointCapacitanceF, 2500, 0.01)
 				if got.ESROhm == nil {
 					t.Fatalf("seed %d: ESROhm nil", seed)
 				}
-				measureNear(t, "ESROhm", *got.ESROhm, 0.0004, 0.05)
+				approx.Near(t, "ESROhm", *got.ESROhm, 0.0004, 0.05)
 				// The switch-on is the sample at t = 0 (the generator's).
 				if got.StartS != 0 || got.StartRule != tc.rule {
 					t.Errorf("seed %d: start %g s by %q, want 0 s by %q", seed, got.StartS, got.StartRule, tc.rule)
 				}
 				// 0.1 mV of noise in a 1.08 V span: R² = 1 − 12·(1e-4/1.08)²
-				// ≈ 0.9999999 (MeasureMaxResidualFraction doc).
+				// ≈ 0.9999999 (MaxResidualFraction doc).
 				if got.RSquared < 0.99999 || len(got.Warnings) != 0 {
 					t.Errorf("seed %d: R² %.7f, warnings %v; want ≥ 0.99999 and none", seed, got.RSquared, got.Warnings)
 				}
-				measureNear(t, "ResidualRMSV", got.ResidualRMSV, 1e-4, 0.2)
+				approx.Near(t, "ResidualRMSV", got.ResidualRMSV, 1e-4, 0.2)
 				if tc.withCurrent {
-					measureNear(t, "CurrentA", got.CurrentA, 27, 0.001)
+					approx.Near(t, "CurrentA", got.CurrentA, 27, 0.001)
 				}
 			}
 		})
@@ -294,7 +258,7 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		measureNear(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
+		approx.Near(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
 		if got.VoltageBeforeV != 2.7 || !strings.Contains(strings.Join(got.Notes, "\n"), "taken as the rated voltage") {
 			t.Errorf("VoltageBeforeV %g, notes %q; want UR with a note", got.VoltageBeforeV, got.Notes)
 		}
@@ -310,8 +274,8 @@ func TestConstantCurrentCases(t *testing.T) {
 			t.Fatal(err)
 		}
 		// Same cell, so the same 2500 F (REFERENCES.md 10.6), by magnitude.
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, 0.005)
-		if !measureHasWarning(got.Warnings, "negative_current") {
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, 0.005)
+		if !hasWarning(got.Warnings, "negative_current") {
 			t.Errorf("warnings %v, want negative_current", got.Warnings)
 		}
 	})
@@ -324,8 +288,8 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		measureNear(t, "ESROhm", *got.ESROhm, 0.006, 1e-6)
-		if !measureHasWarning(got.Warnings, "large_drop") {
+		approx.Near(t, "ESROhm", *got.ESROhm, 0.006, 1e-6)
+		if !hasWarning(got.Warnings, "large_drop") {
 			t.Errorf("warnings %v, want large_drop", got.Warnings)
 		}
 	})
@@ -337,12 +301,12 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !measureHasWarning(got.Warnings, "noisy") || !measureHasWarning(got.Warnings, "esr_uncertain") {
+		if !hasWarning(got.Warnings, "noisy") || !hasWarning(got.Warnings, "esr_uncertain") {
 			t.Errorf("warnings %v, want noisy and esr_uncertain", got.Warnings)
 		}
 		// Still near 2500 F: 200 points of 25 mV noise give a slope error
-		// of about 2.3 %·√(12/200) = 0.6 % (MeasureMaxResidualFraction doc).
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, 0.03)
+		// of about 2.3 %·√(12/200) = 0.6 % (MaxResidualFraction doc).
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, 0.03)
 	})
 	t.Run("short log", func(t *testing.T) {
 		t.Parallel()
@@ -353,11 +317,11 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got.FitPoints != 6 || !measureHasWarning(got.Warnings, "short_log") {
+		if got.FitPoints != 6 || !hasWarning(got.Warnings, "short_log") {
 			t.Errorf("FitPoints %d, warnings %v; want 6 and short_log", got.FitPoints, got.Warnings)
 		}
 		// The straight line still gives the exact capacitance (10.6).
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, 1e-9)
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, 1e-9)
 	})
 	t.Run("coarse start", func(t *testing.T) {
 		t.Parallel()
@@ -367,7 +331,7 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !measureHasWarning(got.Warnings, "coarse_start") {
+		if !hasWarning(got.Warnings, "coarse_start") {
 			t.Errorf("warnings %v, want coarse_start", got.Warnings)
 		}
 	})
@@ -383,19 +347,19 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !measureHasWarning(got.Warnings, "current_varies") {
+		if !hasWarning(got.Warnings, "current_varies") {
 			t.Errorf("warnings %v, want current_varies", got.Warnings)
 		}
 	})
 	t.Run("logged current wins over the given one", func(t *testing.T) {
 		t.Parallel()
 		log := ccLog(2500, 0.0004, 27, 2.7, -1, 0.5, 0, 1, true)
-		got, err := ConstantCurrentDischarge(log, 2.7, measurePtr(30), nil)
+		got, err := ConstantCurrentDischarge(log, 2.7, ptr(30), nil)
 		if err != nil {
 			t.Fatal(err)
 		}
 		// The current the generator logged, 27 A ± 0.2 % noise averaged.
-		measureNear(t, "CurrentA", got.CurrentA, 27, 0.001)
+		approx.Near(t, "CurrentA", got.CurrentA, 27, 0.001)
 		if got.CurrentSource != "log" || !strings.Contains(strings.Join(got.Notes, "\n"), "current_a (30 A) is not used") {
 			t.Errorf("source %q, notes %q", got.CurrentSource, got.Notes)
 		}
@@ -405,7 +369,7 @@ func TestConstantCurrentCases(t *testing.T) {
 		// A log that starts with a charge from 0.5 V up to UR: the first
 		// fall through U1 is the discharge's.
 		d := ccLog(2500, 0.0004, 27, 2.7, -1, 0.5, 0, 1, true)
-		log := &MeasurementLog{}
+		log := &Log{}
 		for k := 0; k < 20; k++ {
 			log.TimeS = append(log.TimeS, -30+float64(k))
 			log.VoltageV = append(log.VoltageV, 0.5+0.11*float64(k))
@@ -418,16 +382,16 @@ func TestConstantCurrentCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 2500, 1e-6)
-		measureNear(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 2500, 1e-6)
+		approx.Near(t, "ESROhm", *got.ESROhm, 0.0004, 1e-6)
 	})
 }
 
 func TestConstantCurrentErrors(t *testing.T) {
 	t.Parallel()
 	full := ccLog(2500, 0.0004, 27, 2.7, -1, 0.5, 0, 1, true)
-	cut := func(minV float64) *MeasurementLog {
-		l := &MeasurementLog{}
+	cut := func(minV float64) *Log {
+		l := &Log{}
 		for i, v := range full.VoltageV {
 			if full.TimeS[i] > 0 && v < minV {
 				break
@@ -438,10 +402,10 @@ func TestConstantCurrentErrors(t *testing.T) {
 		}
 		return l
 	}
-	noCurrent := &MeasurementLog{TimeS: full.TimeS, VoltageV: full.VoltageV}
+	noCurrent := &Log{TimeS: full.TimeS, VoltageV: full.VoltageV}
 	tests := []struct {
 		name    string
-		log     *MeasurementLog
+		log     *Log
 		ratedV  float64
 		current *float64
 		opts    *DischargeOptions
@@ -456,23 +420,23 @@ func TestConstantCurrentErrors(t *testing.T) {
 		{"never above U1", full, 5, nil, nil, "log", "above_u1", "never rises above U1 = 4 V"},
 		{"no current at all", noCurrent, 2.7, nil, nil, "current_a", "required", "the log has no current_a column"},
 		{"zero rated voltage", full, 0, nil, nil, "rated_v", "gt", "greater than 0"},
-		{"NaN current", noCurrent, 2.7, measurePtr(math.NaN()), nil, "current_a", "finite", "finite"},
-		{"start after t1", full, 2.7, nil, &DischargeOptions{StartS: measurePtr(60)}, "start_s", "before_t1", "already at or below U1 = 2.16 V"},
-		{"start after the log", full, 2.7, nil, &DischargeOptions{StartS: measurePtr(1e6)}, "start_s", "in_log", "after the log's last sample"},
+		{"NaN current", noCurrent, 2.7, ptr(math.NaN()), nil, "current_a", "finite", "finite"},
+		{"start after t1", full, 2.7, nil, &DischargeOptions{StartS: ptr(60)}, "start_s", "before_t1", "already at or below U1 = 2.16 V"},
+		{"start after the log", full, 2.7, nil, &DischargeOptions{StartS: ptr(1e6)}, "start_s", "in_log", "after the log's last sample"},
 		{"too few points", ccLog(2500, 0.0004, 27, 2.7, -50, 50, 0, 1, true), 2.7, nil, nil, "log", "fit_points", "at least 3"},
 		{"nil log", nil, 2.7, nil, nil, "log", "required", "is required"},
-		{"time goes back", &MeasurementLog{TimeS: []float64{0, 2, 1}, VoltageV: []float64{2.7, 2, 1}}, 2.7, measurePtr(1), nil,
+		{"time goes back", &Log{TimeS: []float64{0, 2, 1}, VoltageV: []float64{2.7, 2, 1}}, 2.7, ptr(1), nil,
 			"log.time_s[2]", "increasing", "must strictly increase"},
-		{"NaN voltage", &MeasurementLog{TimeS: []float64{0, 1, 2}, VoltageV: []float64{2.7, math.NaN(), 1}}, 2.7, measurePtr(1), nil,
+		{"NaN voltage", &Log{TimeS: []float64{0, 1, 2}, VoltageV: []float64{2.7, math.NaN(), 1}}, 2.7, ptr(1), nil,
 			"log.voltage_v[1]", "finite", "finite"},
-		{"lengths differ", &MeasurementLog{TimeS: []float64{0, 1, 2}, VoltageV: []float64{2.7, 1}}, 2.7, measurePtr(1), nil,
+		{"lengths differ", &Log{TimeS: []float64{0, 1, 2}, VoltageV: []float64{2.7, 1}}, 2.7, ptr(1), nil,
 			"log.voltage_v", "len", "has 2 samples but time_s has 3"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			_, err := ConstantCurrentDischarge(tc.log, tc.ratedV, tc.current, tc.opts)
-			field, rule, msg := measureFieldOf(t, err)
+			field, rule, msg := fieldOf(t, err)
 			if field != tc.field || rule != tc.rule || !strings.Contains(msg, tc.msg) {
 				t.Errorf("got %s (%s): %s\nwant %s (%s) containing %q", field, rule, msg, tc.field, tc.rule, tc.msg)
 			}
@@ -485,10 +449,10 @@ func TestConstantCurrentErrors(t *testing.T) {
 // voltage v0 for t < 0, then v0·R/(R + ESR)·e^(−t/τ), τ = (R + ESR)·C,
 // sampled every dt s from first to end, with noise (V RMS) from a fixed
 // seed and, with withCurrent, the current u/R.
-func rLog(c, esr, r, v0, first, dt, end, noise float64, seed uint64, withCurrent bool) *MeasurementLog {
+func rLog(c, esr, r, v0, first, dt, end, noise float64, seed uint64, withCurrent bool) *Log {
 	rng := rand.New(rand.NewPCG(seed, 0xdec))
 	tau := (r + esr) * c
-	log := &MeasurementLog{}
+	log := &Log{}
 	if withCurrent {
 		log.CurrentA = []float64{}
 	}
@@ -531,12 +495,12 @@ func TestResistorDischargeNoiseless(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			measureNear(t, "CapacitanceF", got.CapacitanceF, 10, 1e-6)
+			approx.Near(t, "CapacitanceF", got.CapacitanceF, 10, 1e-6)
 			if got.ESROhm == nil {
 				t.Fatal("ESROhm nil, want 0.05 Ω")
 			}
-			measureNear(t, "ESROhm", *got.ESROhm, 0.05, 1e-6)
-			measureNear(t, "TimeConstantS", got.TimeConstantS, 20.5, 1e-6)
+			approx.Near(t, "ESROhm", *got.ESROhm, 0.05, 1e-6)
+			approx.Near(t, "TimeConstantS", got.TimeConstantS, 20.5, 1e-6)
 			if got.StartS != 0 || got.StartRule != tc.rule {
 				t.Errorf("start %g s by %q, want 0 s by %q", got.StartS, got.StartRule, tc.rule)
 			}
@@ -582,12 +546,12 @@ func TestResistorDischargeLnSlope(t *testing.T) {
 	if got.FitPoints != len(x) {
 		t.Errorf("FitPoints = %d, want %d", got.FitPoints, len(x))
 	}
-	measureNear(t, "LnSlopePerS", got.LnSlopePerS, b, 1e-12)
-	measureNear(t, "LineAtStartV", got.LineAtStartV, math.Exp(a), 1e-12)
-	measureNear(t, "RSquared", got.RSquared, stat.RSquared(x, y, nil, a, b), 1e-12)
+	approx.Near(t, "LnSlopePerS", got.LnSlopePerS, b, 1e-12)
+	approx.Near(t, "LineAtStartV", got.LineAtStartV, math.Exp(a), 1e-12)
+	approx.Near(t, "RSquared", got.RSquared, stat.RSquared(x, y, nil, a, b), 1e-12)
 	// And the physics: −1/τ = −1/20.5 s within the noise (0.2 mV on ≥ 0.24 V).
-	measureNear(t, "LnSlopePerS vs −1/τ", got.LnSlopePerS, -1/20.5, 0.005)
-	measureNear(t, "CapacitanceF", got.CapacitanceF, 10, 0.01)
+	approx.Near(t, "LnSlopePerS vs −1/τ", got.LnSlopePerS, -1/20.5, 0.005)
+	approx.Near(t, "CapacitanceF", got.CapacitanceF, 10, 0.01)
 }
 
 func TestResistorDischargeCases(t *testing.T) {
@@ -598,11 +562,11 @@ func TestResistorDischargeCases(t *testing.T) {
 		// 68 s (REFERENCES.md 3.6; the issue's exact figure, 61.9 mF).
 		c := 68 / (1000 * math.Log(3))
 		log := rLog(c, 0, 1000, 1.5, 0, 1, 68, 0, 1, false)
-		got, err := ResistorDischargeLog(log, 1000, &DischargeOptions{StartS: measurePtr(0)})
+		got, err := ResistorDischargeLog(log, 1000, &DischargeOptions{StartS: ptr(0)})
 		if err != nil {
 			t.Fatal(err)
 		}
-		measureNear(t, "CapacitanceF", got.CapacitanceF, c, 1e-9)
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, c, 1e-9)
 		if got.ESROhm != nil || got.VoltageBeforeV != nil {
 			t.Errorf("ESROhm %v, VoltageBeforeV %v; want nil with no sample before the switch-on", got.ESROhm, got.VoltageBeforeV)
 		}
@@ -615,7 +579,7 @@ func TestResistorDischargeCases(t *testing.T) {
 			t.Fatal(err)
 		}
 		// V/I = 2 Ω in the log against 2.5 Ω given: 20 % off.
-		if !measureHasWarning(got.Warnings, "current_mismatch") {
+		if !hasWarning(got.Warnings, "current_mismatch") {
 			t.Errorf("warnings %v, want current_mismatch", got.Warnings)
 		}
 	})
@@ -628,17 +592,17 @@ func TestResistorDischargeCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !measureHasWarning(got.Warnings, "coarse_start") {
+		if !hasWarning(got.Warnings, "coarse_start") {
 			t.Errorf("warnings %v, want coarse_start", got.Warnings)
 		}
 	})
 	t.Run("errors", func(t *testing.T) {
 		t.Parallel()
-		flat := &MeasurementLog{TimeS: []float64{0, 1, 2, 3}, VoltageV: []float64{2, 2, 2, 2}}
-		rising := &MeasurementLog{TimeS: []float64{0, 1, 2, 3, 4}, VoltageV: []float64{1, 1, 1.5, 1.6, 1.7}, CurrentA: []float64{0, 0, 1, 1, 1}}
+		flat := &Log{TimeS: []float64{0, 1, 2, 3}, VoltageV: []float64{2, 2, 2, 2}}
+		rising := &Log{TimeS: []float64{0, 1, 2, 3, 4}, VoltageV: []float64{1, 1, 1.5, 1.6, 1.7}, CurrentA: []float64{0, 0, 1, 1, 1}}
 		for _, tc := range []struct {
 			name  string
-			log   *MeasurementLog
+			log   *Log
 			ohm   float64
 			field string
 			rule  string
@@ -646,10 +610,10 @@ func TestResistorDischargeCases(t *testing.T) {
 			{"zero resistor", flat, 0, "resistor_ohm", "gt"},
 			{"no fall", flat, 2, "log", "decay"},
 			{"rises", rising, 2, "log", "decay"},
-			{"two samples", &MeasurementLog{TimeS: []float64{0, 1}, VoltageV: []float64{2, 1}}, 2, "log", "samples"},
+			{"two samples", &Log{TimeS: []float64{0, 1}, VoltageV: []float64{2, 1}}, 2, "log", "samples"},
 		} {
 			_, err := ResistorDischargeLog(tc.log, tc.ohm, nil)
-			field, rule, msg := measureFieldOf(t, err)
+			field, rule, msg := fieldOf(t, err)
 			if field != tc.field || rule != tc.rule {
 				t.Errorf("%s: got %s (%s): %s; want %s (%s)", tc.name, field, rule, msg, tc.field, tc.rule)
 			}
@@ -661,9 +625,9 @@ func TestResistorDischargeCases(t *testing.T) {
 // resistance rp Ω from v0 V: v = v0·e^(−t/(rp·c)) (REFERENCES.md 3.6 with
 // the leakage resistance as the load), sampled every dt s for span s, with
 // noise (V RMS) from a fixed seed.
-func holdLog(c, rp, v0, dt, span, noise float64, seed uint64) *MeasurementLog {
+func holdLog(c, rp, v0, dt, span, noise float64, seed uint64) *Log {
 	rng := rand.New(rand.NewPCG(seed, 0x401d))
-	log := &MeasurementLog{}
+	log := &Log{}
 	for k := 0; float64(k)*dt <= span; k++ {
 		tt := float64(k) * dt
 		log.TimeS = append(log.TimeS, tt)
@@ -689,23 +653,23 @@ func TestHoldLog(t *testing.T) {
 		t.Fatalf("%d points, want 3", len(got.Points))
 	}
 	for i, p := range got.Points {
-		measureNear(t, "AtS", p.AtS, wantAt[i], 1e-12)
+		approx.Near(t, "AtS", p.AtS, wantAt[i], 1e-12)
 		v := v0 * math.Exp(-p.AtS/(rp*c))
-		measureNear(t, "VoltageV", p.VoltageV, v, 1e-4)
-		measureNear(t, "LeakageA", p.LeakageA, v/rp, 0.01)
+		approx.Near(t, "VoltageV", p.VoltageV, v, 1e-4)
+		approx.Near(t, "LeakageA", p.LeakageA, v/rp, 0.01)
 		if p.ParallelResistanceOhm == nil {
 			t.Fatalf("point %d: no parallel resistance", i)
 		}
-		measureNear(t, "ParallelResistanceOhm", *p.ParallelResistanceOhm, rp, 0.01)
+		approx.Near(t, "ParallelResistanceOhm", *p.ParallelResistanceOhm, rp, 0.01)
 		// The window is 10 % of the hold, 8640 s, at 10 s: 865 samples.
 		if p.Points != 865 {
 			t.Errorf("point %d: %d samples in the window, want 865", i, p.Points)
 		}
 	}
 	// Total drop: 1 − e^(−86400/10^6) = 8.277 % (REFERENCES.md 3.6).
-	measureNear(t, "DropPct", got.DropPct, 8.277273307458533, 1e-3)
-	measureNear(t, "LeakageA", got.LeakageA, got.Points[2].LeakageA, 0)
-	measureNear(t, "ParallelResistanceOhm", *got.ParallelResistanceOhm, rp, 0.01)
+	approx.Near(t, "DropPct", got.DropPct, 8.277273307458533, 1e-3)
+	approx.Near(t, "LeakageA", got.LeakageA, got.Points[2].LeakageA, 0)
+	approx.Near(t, "ParallelResistanceOhm", *got.ParallelResistanceOhm, rp, 0.01)
 	if len(got.Warnings) != 0 {
 		t.Errorf("warnings %v, want none", got.Warnings)
 	}
@@ -720,19 +684,19 @@ func TestHoldLog(t *testing.T) {
 		if got.Points[0].FromS != 0 || got.Points[0].ToS != 4320 || got.Points[1].FromS != 82080 {
 			t.Errorf("windows %+v", got.Points)
 		}
-		measureNear(t, "LeakageA at 0 s", got.Points[0].LeakageA, v0/rp, 0.01)
+		approx.Near(t, "LeakageA at 0 s", got.Points[0].LeakageA, v0/rp, 0.01)
 		_, err = HoldLog(log, c, []float64{100, 90000})
-		if field, rule, _ := measureFieldOf(t, err); field != "at_s[1]" || rule != "in_log" {
+		if field, rule, _ := fieldOf(t, err); field != "at_s[1]" || rule != "in_log" {
 			t.Errorf("got %s (%s), want at_s[1] (in_log)", field, rule)
 		}
 		_, err = HoldLog(log, 0, nil)
-		if field, _, _ := measureFieldOf(t, err); field != "capacitance_f" {
+		if field, _, _ := fieldOf(t, err); field != "capacitance_f" {
 			t.Errorf("got %s, want capacitance_f", field)
 		}
 	})
 	t.Run("rising voltage", func(t *testing.T) {
 		t.Parallel()
-		up := &MeasurementLog{}
+		up := &Log{}
 		for k := range 100 {
 			up.TimeS = append(up.TimeS, float64(k))
 			up.VoltageV = append(up.VoltageV, 2+0.001*float64(k))
@@ -741,7 +705,7 @@ func TestHoldLog(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got.Points[0].LeakageA != 0 || got.Points[0].ParallelResistanceOhm != nil || !measureHasWarning(got.Warnings, "rises") {
+		if got.Points[0].LeakageA != 0 || got.Points[0].ParallelResistanceOhm != nil || !hasWarning(got.Warnings, "rises") {
 			t.Errorf("point %+v, warnings %v; want no leakage and the rises warning", got.Points[0], got.Warnings)
 		}
 	})
@@ -753,7 +717,7 @@ func TestHoldLog(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !measureHasWarning(got.Warnings, "noisy") {
+		if !hasWarning(got.Warnings, "noisy") {
 			t.Errorf("warnings %v, want noisy", got.Warnings)
 		}
 	})
@@ -766,29 +730,29 @@ func TestSymmetricCell(t *testing.T) {
 	// C_e = 0.5 F; 1.5 mg = 0.0015 g per electrode gives 0.5/0.0015
 	// = 333.33 F/g; a 12 mm disc, π·0.6² = 1.131 cm², gives 0.4421 F/cm².
 	area := math.Pi * 0.6 * 0.6
-	got, err := SymmetricCell(0.25, measurePtr(0.0015), &area)
+	got, err := SymmetricCell(0.25, ptr(0.0015), &area)
 	if err != nil {
 		t.Fatal(err)
 	}
-	measureNear(t, "ElectrodeCapacitanceF", got.ElectrodeCapacitanceF, 0.5, 1e-15)
-	measureNear(t, "SpecificCapacitanceFPerG", *got.SpecificCapacitanceFPerG, 0.5/0.0015, 1e-15)
-	measureNear(t, "ArealCapacitanceFPerCm2", *got.ArealCapacitanceFPerCm2, 0.5/area, 1e-15)
-	measureNear(t, "ArealCapacitanceFPerCm2 (hand)", *got.ArealCapacitanceFPerCm2, 0.4421, 1e-4)
+	approx.Near(t, "ElectrodeCapacitanceF", got.ElectrodeCapacitanceF, 0.5, 1e-15)
+	approx.Near(t, "SpecificCapacitanceFPerG", *got.SpecificCapacitanceFPerG, 0.5/0.0015, 1e-15)
+	approx.Near(t, "ArealCapacitanceFPerCm2", *got.ArealCapacitanceFPerCm2, 0.5/area, 1e-15)
+	approx.Near(t, "ArealCapacitanceFPerCm2 (hand)", *got.ArealCapacitanceFPerCm2, 0.4421, 1e-4)
 
 	only, err := SymmetricCell(0.25, nil, nil)
 	if err != nil || only.SpecificCapacitanceFPerG != nil || only.ArealCapacitanceFPerCm2 != nil {
 		t.Errorf("no mass or area: %+v, %v; want only the electrode capacitance", only, err)
 	}
-	_, err = SymmetricCell(0.25, measurePtr(-1), nil)
-	if field, _, _ := measureFieldOf(t, err); field != "electrode_mass_g" {
+	_, err = SymmetricCell(0.25, ptr(-1), nil)
+	if field, _, _ := fieldOf(t, err); field != "electrode_mass_g" {
 		t.Errorf("field %s, want electrode_mass_g", field)
 	}
-	_, err = SymmetricCell(0.25, measurePtr(5e-324), nil)
-	if field, rule, _ := measureFieldOf(t, err); field != "electrode_mass_g" || rule != "range" {
+	_, err = SymmetricCell(0.25, ptr(5e-324), nil)
+	if field, rule, _ := fieldOf(t, err); field != "electrode_mass_g" || rule != "range" {
 		t.Errorf("denormal mass: field %s (%s), want electrode_mass_g (range)", field, rule)
 	}
 	_, err = SymmetricCell(math.Inf(1), nil, nil)
-	if field, rule, _ := measureFieldOf(t, err); field != "capacitance_f" || rule != "finite" {
+	if field, rule, _ := fieldOf(t, err); field != "capacitance_f" || rule != "finite" {
 		t.Errorf("field %s (%s), want capacitance_f (finite)", field, rule)
 	}
 }
@@ -796,10 +760,10 @@ func TestSymmetricCell(t *testing.T) {
 func TestCompareWithDatasheet(t *testing.T) {
 	t.Parallel()
 	// An invented datasheet: 100 F −10 %/+20 %, 12 mΩ, 5 µA at 2.7 V.
-	stated := Cell{ID: "demo-100f", RatedV: 2.7, CapacitanceF: 100, CapacitanceTolerancePct: []float64{-10, 20},
-		ESROhm: 0.012, LeakageA: measurePtr(5e-6)}
-	measured := MeasuredFigures{CapacitanceF: measurePtr(85), ESROhm: measurePtr(0.015),
-		LeakageA: measurePtr(3e-6), LeakageAtV: measurePtr(2.4)}
+	stated := sizing.Cell{ID: "demo-100f", RatedV: 2.7, CapacitanceF: 100, CapacitanceTolerancePct: []float64{-10, 20},
+		ESROhm: 0.012, LeakageA: ptr(5e-6)}
+	measured := Figures{CapacitanceF: ptr(85), ESROhm: ptr(0.015),
+		LeakageA: ptr(3e-6), LeakageAtV: ptr(2.4)}
 	got := CompareWithDatasheet(measured, stated)
 	if len(got) != 3 {
 		t.Fatalf("%d comparisons, want 3: %+v", len(got), got)
@@ -809,17 +773,17 @@ func TestCompareWithDatasheet(t *testing.T) {
 	if c.Quantity != "capacitance_f" || c.Within || *c.AllowedMin != 90 || *c.AllowedMax != 120 {
 		t.Errorf("capacitance %+v, want out of [90, 120] F", c)
 	}
-	measureNear(t, "capacitance deviation", *c.DeviationPct, -15, 1e-12)
+	approx.Near(t, "capacitance deviation", *c.DeviationPct, -15, 1e-12)
 	// 15 mΩ against a 12 mΩ maximum: +25 %, too high.
 	e := got[1]
 	if e.Quantity != "esr_ohm" || e.Within {
 		t.Errorf("ESR %+v, want flagged", e)
 	}
-	measureNear(t, "ESR deviation", *e.DeviationPct, 25, 1e-12)
+	approx.Near(t, "ESR deviation", *e.DeviationPct, 25, 1e-12)
 	// 3 µA at 2.4 V is 3·2.7/2.4 = 3.375 µA at 2.7 V (parallel resistance),
 	// within 5 µA.
 	l := got[2]
-	measureNear(t, "leakage at rated", l.Measured, 3.375e-6, 1e-12)
+	approx.Near(t, "leakage at rated", l.Measured, 3.375e-6, 1e-12)
 	if !l.Within || l.Note == "" {
 		t.Errorf("leakage %+v, want within with a scaling note", l)
 	}
@@ -828,7 +792,7 @@ func TestCompareWithDatasheet(t *testing.T) {
 		t.Parallel()
 		bare := stated
 		bare.CapacitanceTolerancePct = nil
-		got := CompareWithDatasheet(MeasuredFigures{CapacitanceF: measurePtr(85)}, bare)
+		got := CompareWithDatasheet(Figures{CapacitanceF: ptr(85)}, bare)
 		// ±20 % assumed (DefaultCapacitanceTolerancePct): 85 F is within.
 		if len(got) != 1 || !got[0].Within || !strings.Contains(got[0].Limit, "assumed") {
 			t.Errorf("got %+v, want within ±20 %% assumed", got)
@@ -838,7 +802,7 @@ func TestCompareWithDatasheet(t *testing.T) {
 		t.Parallel()
 		bare := stated
 		bare.LeakageA = nil
-		got := CompareWithDatasheet(MeasuredFigures{LeakageA: measurePtr(1e-6)}, bare)
+		got := CompareWithDatasheet(Figures{LeakageA: ptr(1e-6)}, bare)
 		if len(got) != 0 {
 			t.Errorf("got %+v, want nothing: the datasheet states no leakage", got)
 		}
@@ -847,8 +811,8 @@ func TestCompareWithDatasheet(t *testing.T) {
 
 func TestMeasuredCell(t *testing.T) {
 	t.Parallel()
-	base := Cell{ID: "demo-100f", Name: "demo 100 F", Source: "datasheet", RatedV: 2.7, CapacitanceF: 100,
-		CapacitanceTolerancePct: []float64{-10, 20}, ESROhm: 0.012, LeakageA: measurePtr(5e-6), MassKg: measurePtr(0.02)}
+	base := sizing.Cell{ID: "demo-100f", Name: "demo 100 F", Source: "datasheet", RatedV: 2.7, CapacitanceF: 100,
+		CapacitanceTolerancePct: []float64{-10, 20}, ESROhm: 0.012, LeakageA: ptr(5e-6), MassKg: ptr(0.02)}
 	cc, err := ConstantCurrentDischarge(ccLog(96, 0.014, 1, 2.7, -1, 0.1, 0, 1, true), 2.7, nil, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -859,8 +823,8 @@ func TestMeasuredCell(t *testing.T) {
 	}
 	figs := cc.Figures()
 	figs.LeakageA, figs.LeakageAtV = hold.Figures().LeakageA, hold.Figures().LeakageAtV
-	summary := MeasurementSummary("2025-03-14", cc.Summary(), hold.Summary())
-	got := MeasuredCell(&base, figs, summary)
+	summary := Summary("2025-03-14", cc.Summary(), hold.Summary())
+	got := DraftCell(&base, figs, summary)
 
 	if got.ID != "demo-100f-measured" || got.Name != "demo 100 F (measured)" || got.Source != "measured" {
 		t.Errorf("ID %q, Name %q, Source %q", got.ID, got.Name, got.Source)
@@ -871,10 +835,10 @@ func TestMeasuredCell(t *testing.T) {
 	}
 	// The generator's 96 F and 14 mΩ (ccLog), and the leakage at 2.7 V of a
 	// 500 kΩ parallel resistance, 2.7/5e5 = 5.4 µA (the model of
-	// Cell.LeakageA).
-	measureNear(t, "CapacitanceF", got.CapacitanceF, 96, 1e-6)
-	measureNear(t, "ESROhm", got.ESROhm, 0.014, 1e-6)
-	measureNear(t, "LeakageA", *got.LeakageA, 2.7/5e5, 0.01)
+	// sizing.Cell.LeakageA).
+	approx.Near(t, "CapacitanceF", got.CapacitanceF, 96, 1e-6)
+	approx.Near(t, "ESROhm", got.ESROhm, 0.014, 1e-6)
+	approx.Near(t, "LeakageA", *got.LeakageA, 2.7/5e5, 0.01)
 	// The base is not changed and shares nothing with the copy.
 	*got.MassKg = 1
 	got.CapacitanceTolerancePct[0] = -50
@@ -885,12 +849,12 @@ func TestMeasuredCell(t *testing.T) {
 
 	// The measured cell sizes: Validate passes inside a small design, and
 	// Size gives a feasible bank.
-	d := &Design{Name: "measured cell check", Window: Window{MaxV: 5, MinV: 2.5},
-		Load: Load{Steps: []Step{{PowerW: measurePtr(5), DurationS: 10}}}, Cells: []Cell{got}}
-	if err := Validate(d); err != nil {
+	d := &sizing.Design{Name: "measured cell check", Window: sizing.Window{MaxV: 5, MinV: 2.5},
+		Load: sizing.Load{Steps: []sizing.Step{{PowerW: ptr(5), DurationS: 10}}}, Cells: []sizing.Cell{got}}
+	if err := sizing.Validate(d); err != nil {
 		t.Fatalf("Validate: %v", err)
 	}
-	rep, err := Size(d)
+	rep, err := sizing.Size(d)
 	if err != nil {
 		t.Fatalf("Size: %v", err)
 	}
@@ -900,26 +864,26 @@ func TestMeasuredCell(t *testing.T) {
 
 	t.Run("no base", func(t *testing.T) {
 		t.Parallel()
-		c := MeasuredCell(nil, cc.Figures(), MeasurementSummary("", cc.Summary()))
+		c := DraftCell(nil, cc.Figures(), Summary("", cc.Summary()))
 		if c.RatedV != 2.7 || c.ID != "measured" || c.Source != "measured" {
 			t.Errorf("cell %+v", c)
 		}
-		d := &Design{Window: Window{MaxV: 5, MinV: 2.5}, Load: Load{Steps: []Step{{PowerW: measurePtr(5), DurationS: 10}}}, Cells: []Cell{c}}
-		if err := Validate(d); err != nil {
+		d := &sizing.Design{Window: sizing.Window{MaxV: 5, MinV: 2.5}, Load: sizing.Load{Steps: []sizing.Step{{PowerW: ptr(5), DurationS: 10}}}, Cells: []sizing.Cell{c}}
+		if err := sizing.Validate(d); err != nil {
 			t.Errorf("Validate: %v", err)
 		}
 		// Without a capacitance or an ESR the cell does not validate, and
 		// Validate names the field.
-		empty := MeasuredCell(nil, MeasuredFigures{RatedV: measurePtr(2.7)}, "")
-		d.Cells = []Cell{empty}
-		err := Validate(d)
+		empty := DraftCell(nil, Figures{RatedV: ptr(2.7)}, "")
+		d.Cells = []sizing.Cell{empty}
+		err := sizing.Validate(d)
 		if err == nil || !strings.Contains(err.Error(), "cells[0].esr_ohm") {
 			t.Errorf("Validate: %v, want cells[0].esr_ohm named", err)
 		}
 	})
 	t.Run("long notes are cut", func(t *testing.T) {
 		t.Parallel()
-		c := MeasuredCell(&base, MeasuredFigures{}, strings.Repeat("é", 3000))
+		c := DraftCell(&base, Figures{}, strings.Repeat("é", 3000))
 		if n := len([]rune(c.Notes)); n != 2000 {
 			t.Errorf("notes of %d characters, want 2000 (the validate max)", n)
 		}
@@ -930,7 +894,7 @@ func TestMeasuredCell(t *testing.T) {
 // gives an error or figures that are all finite.
 func TestMeasureNeverNaN(t *testing.T) {
 	t.Parallel()
-	logs := map[string]*MeasurementLog{
+	logs := map[string]*Log{
 		"huge times":    {TimeS: []float64{-1e308, 0, 1e308}, VoltageV: []float64{2.7, 1, 0.1}, CurrentA: []float64{0, 1, 1}},
 		"huge voltages": {TimeS: []float64{0, 1, 2, 3}, VoltageV: []float64{1e308, -1e308, 1e308, -1e308}},
 		"tiny":          {TimeS: []float64{0, 1e-300, 2e-300, 3e-300}, VoltageV: []float64{1e-300, 5e-301, 2e-301, 1e-301}},
@@ -938,17 +902,17 @@ func TestMeasureNeverNaN(t *testing.T) {
 		"steps":         {TimeS: []float64{0, 1, 2, 3, 4, 5}, VoltageV: []float64{2.7, 2.7, 2.1, 2.1, 1, 1}, CurrentA: []float64{0, 5, 5, 5, 5, 5}},
 	}
 	for name, log := range logs {
-		if r, err := ConstantCurrentDischarge(log, 2.7, measurePtr(1), nil); err == nil {
-			measureAllFinite(t, name+" constant-current", r)
+		if r, err := ConstantCurrentDischarge(log, 2.7, ptr(1), nil); err == nil {
+			approx.AllFinite(t, name+" constant-current", r)
 		}
 		if r, err := ResistorDischargeLog(log, 1, nil); err == nil {
-			measureAllFinite(t, name+" resistor", r)
+			approx.AllFinite(t, name+" resistor", r)
 		}
 		if r, err := HoldLog(log, 1, nil); err == nil {
-			measureAllFinite(t, name+" hold", r)
+			approx.AllFinite(t, name+" hold", r)
 		}
 	}
 	if r, err := TimedResistorDischarge(1e308, 1e-308, 1e-308, 1e308); err == nil {
-		measureAllFinite(t, "timed", r)
+		approx.AllFinite(t, "timed", r)
 	}
 }

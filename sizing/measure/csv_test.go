@@ -1,4 +1,4 @@
-package sizing
+package measure
 
 import (
 	"bytes"
@@ -11,9 +11,11 @@ import (
 	"strings"
 	"testing"
 	"testing/iotest"
+
+	"capbank/sizing/internal/approx"
 )
 
-func TestParseMeasurementCSV(t *testing.T) {
+func TestParseCSV(t *testing.T) {
 	t.Parallel()
 	tests := []struct {
 		name    string
@@ -33,7 +35,7 @@ func TestParseMeasurementCSV(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			got, err := ParseMeasurementCSV(strings.NewReader(tc.in))
+			got, err := ParseCSV(strings.NewReader(tc.in))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -45,7 +47,7 @@ func TestParseMeasurementCSV(t *testing.T) {
 	}
 }
 
-func TestParseMeasurementCSVErrors(t *testing.T) {
+func TestParseCSVErrors(t *testing.T) {
 	t.Parallel()
 	// Line numbers hand counted from 1, as an editor counts them.
 	tests := []struct {
@@ -62,6 +64,9 @@ func TestParseMeasurementCSVErrors(t *testing.T) {
 		{"header after comments", "# log\n\ntime_s,v\n", 3, "", "no voltage_v column"},
 		{"header only", "time_s,voltage_v\n", 1, "", "no data rows after the header"},
 		{"one row", "time_s,voltage_v\n# one\n0,2.7\n", 3, "", "only one data row"},
+		// A line of spaces after the last row is not a row (hand counted).
+		{"header, then a line of spaces", "time_s,voltage_v\n \n", 1, "", "no data rows after the header"},
+		{"one row, then a line of spaces", "time_s,voltage_v\n0,2.7\n \n", 2, "", "only one data row"},
 		{"too many fields", "time_s,voltage_v\n0,2.7\n1,2.6,9\n", 3, "", "has 3 fields but the header on line 1 has 2"},
 		{"indented comment", "time_s,voltage_v\n0,2.7\n  # note\n1,2.6\n", 3, "", "a # comment must start in the first character"},
 		{"bare quote", "time_s,voltage_v\n0,2.7\n1,2\"6\n", 3, "", `a " inside an unquoted value`},
@@ -77,13 +82,13 @@ func TestParseMeasurementCSVErrors(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			got, err := ParseMeasurementCSV(strings.NewReader(tc.in))
+			got, err := ParseCSV(strings.NewReader(tc.in))
 			if got != nil {
 				t.Errorf("a log %+v with the error %v", got, err)
 			}
-			var me *MeasurementCSVError
+			var me *CSVError
 			if !errors.As(err, &me) {
-				t.Fatalf("error %T %v, want a *MeasurementCSVError", err, err)
+				t.Fatalf("error %T %v, want a *CSVError", err, err)
 			}
 			if me.Line != tc.line || me.Column != tc.column || !strings.Contains(me.Message, tc.msg) {
 				t.Errorf("got line %d, column %q, %q; want line %d, column %q, containing %q", me.Line, me.Column, me.Message, tc.line, tc.column, tc.msg)
@@ -92,27 +97,27 @@ func TestParseMeasurementCSVErrors(t *testing.T) {
 	}
 }
 
-func TestParseMeasurementCSVErrorString(t *testing.T) {
+func TestParseCSVErrorString(t *testing.T) {
 	t.Parallel()
-	// The format in ParseMeasurementCSV's doc: header on line 1, the bad
+	// The format in ParseCSV's doc: header on line 1, the bad
 	// cell on line 7.
-	_, err := ParseMeasurementCSV(strings.NewReader("time_s,voltage_v\n0,1\n1,1\n2,1\n3,1\n4,1\n5,abc\n"))
+	_, err := ParseCSV(strings.NewReader("time_s,voltage_v\n0,1\n1,1\n2,1\n3,1\n4,1\n5,abc\n"))
 	if want := `line 7, voltage_v: "abc" is not a number`; err == nil || err.Error() != want {
 		t.Errorf("error %v, want %q", err, want)
 	}
 }
 
-func TestParseMeasurementCSVReadError(t *testing.T) {
+func TestParseCSVReadError(t *testing.T) {
 	t.Parallel()
 	diskErr := errors.New("device gone")
-	_, err := ParseMeasurementCSV(io.MultiReader(strings.NewReader("time_s,voltage_v\n0,5\n"), iotest.ErrReader(diskErr)))
-	var me *MeasurementCSVError
+	_, err := ParseCSV(io.MultiReader(strings.NewReader("time_s,voltage_v\n0,5\n"), iotest.ErrReader(diskErr)))
+	var me *CSVError
 	if !errors.As(err, &me) || me.Line != 3 || !errors.Is(err, diskErr) {
 		t.Errorf("error %v, want line 3 and the reader's error kept", err)
 	}
 }
 
-func TestParseMeasurementCSVRowLimit(t *testing.T) {
+func TestParseCSVRowLimit(t *testing.T) {
 	t.Parallel()
 	build := func(n int) []byte {
 		b := []byte("time_s,voltage_v\n")
@@ -122,31 +127,31 @@ func TestParseMeasurementCSVRowLimit(t *testing.T) {
 		}
 		return b
 	}
-	got, err := ParseMeasurementCSV(bytes.NewReader(build(MeasurementCSVMaxRows)))
-	if err != nil || len(got.TimeS) != MeasurementCSVMaxRows {
+	got, err := ParseCSV(bytes.NewReader(build(MaxRows)))
+	if err != nil || len(got.TimeS) != MaxRows {
 		t.Fatalf("at the limit: %v", err)
 	}
-	_, err = ParseMeasurementCSV(bytes.NewReader(build(MeasurementCSVMaxRows + 1)))
-	var me *MeasurementCSVError
+	_, err = ParseCSV(bytes.NewReader(build(MaxRows + 1)))
+	var me *CSVError
 	// Data row 1,000,001 is on line 1,000,002 (the header is line 1).
-	if !errors.As(err, &me) || me.Line != MeasurementCSVMaxRows+2 || !strings.Contains(me.Message, "more than 1000000 data rows") {
+	if !errors.As(err, &me) || me.Line != MaxRows+2 || !strings.Contains(me.Message, "more than 1000000 data rows") {
 		t.Errorf("one over: %v", err)
 	}
 }
 
-// TestMeasurementDemoLogs reads the invented demo logs in
+// TestDemoLogs reads the invented demo logs in
 // testdata/measure/ and checks their figures against the models written in
 // each file's comment lines.
-func TestMeasurementDemoLogs(t *testing.T) {
+func TestDemoLogs(t *testing.T) {
 	t.Parallel()
-	read := func(t *testing.T, name string) *MeasurementLog {
+	read := func(t *testing.T, name string) *Log {
 		t.Helper()
-		f, err := os.Open(filepath.Join("..", "testdata", "measure", name))
+		f, err := os.Open(filepath.Join("..", "..", "testdata", "measure", name))
 		if err != nil {
 			t.Fatal(err)
 		}
 		defer f.Close()
-		log, err := ParseMeasurementCSV(f)
+		log, err := ParseCSV(f)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -165,11 +170,11 @@ func TestMeasurementDemoLogs(t *testing.T) {
 			t.Fatal(err)
 		}
 		// The file's model: 100 F, 25 mΩ; the issue's tolerances, 1 % and 5 %.
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 100, 0.01)
-		measureNear(t, "ESROhm", *got.ESROhm, 0.025, 0.05)
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 100, 0.01)
+		approx.Near(t, "ESROhm", *got.ESROhm, 0.025, 0.05)
 		// t1, t2: 2.675 − 0.01·t = 2.16 V, 1.08 V at 51.5 s and 159.5 s.
-		measureNear(t, "T1S", got.T1S, 51.5, 0.002)
-		measureNear(t, "T2S", got.T2S, 159.5, 0.002)
+		approx.Near(t, "T1S", got.T1S, 51.5, 0.002)
+		approx.Near(t, "T2S", got.T2S, 159.5, 0.002)
 		if got.StartS != 0 || len(got.Warnings) != 0 {
 			t.Errorf("start %g s, warnings %v; want 0 s and none", got.StartS, got.Warnings)
 		}
@@ -182,9 +187,9 @@ func TestMeasurementDemoLogs(t *testing.T) {
 			t.Fatal(err)
 		}
 		// The file's model: 10 F, 0.1 Ω, τ = 2.1·10 = 21 s.
-		measureNear(t, "CapacitanceF", got.CapacitanceF, 10, 0.01)
-		measureNear(t, "ESROhm", *got.ESROhm, 0.1, 0.05)
-		measureNear(t, "TimeConstantS", got.TimeConstantS, 21, 0.01)
+		approx.Near(t, "CapacitanceF", got.CapacitanceF, 10, 0.01)
+		approx.Near(t, "ESROhm", *got.ESROhm, 0.1, 0.05)
+		approx.Near(t, "TimeConstantS", got.TimeConstantS, 21, 0.01)
 		if got.StartS != 0 || got.StartRule != "voltage" || len(got.Warnings) != 0 {
 			t.Errorf("start %g s by %q, warnings %v; want 0 s by voltage and none", got.StartS, got.StartRule, got.Warnings)
 		}
@@ -200,16 +205,16 @@ func TestMeasurementDemoLogs(t *testing.T) {
 		// redistribution has died away (e^(−77760/7200) = 2e-5), so the
 		// parallel resistance is the model's within 1 %. At 10 % it has not:
 		// the early point reads a lower resistance (HoldLog doc).
-		measureNear(t, "ParallelResistanceOhm", *got.ParallelResistanceOhm, 2e5, 0.01)
+		approx.Near(t, "ParallelResistanceOhm", *got.ParallelResistanceOhm, 2e5, 0.01)
 		if early := *got.Points[0].ParallelResistanceOhm; early > 0.9*2e5 {
 			t.Errorf("early parallel resistance %g Ω, want well below 200 kΩ (redistribution)", early)
 		}
 	})
 }
 
-// FuzzParseMeasurementCSV checks that any input gives either a well-formed
-// log or a *MeasurementCSVError, never a panic.
-func FuzzParseMeasurementCSV(f *testing.F) {
+// FuzzParseCSV checks that any input gives either a well-formed
+// log or a *CSVError, never a panic.
+func FuzzParseCSV(f *testing.F) {
 	for _, s := range []string{
 		"time_s,voltage_v\n0,2.7\n1,2.6\n",
 		"\ufefftime_s,voltage_v,current_a\r\n0,2.7,0\r\n1,2.6,1\r\n",
@@ -220,11 +225,11 @@ func FuzzParseMeasurementCSV(f *testing.F) {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, in string) {
-		got, err := ParseMeasurementCSV(strings.NewReader(in))
+		got, err := ParseCSV(strings.NewReader(in))
 		if err != nil {
-			var me *MeasurementCSVError
+			var me *CSVError
 			if !errors.As(err, &me) || me.Line < 1 || me.Message == "" {
-				t.Fatalf("error %T %q, want a *MeasurementCSVError with a line and a message", err, err)
+				t.Fatalf("error %T %q, want a *CSVError with a line and a message", err, err)
 			}
 			return
 		}
@@ -232,7 +237,7 @@ func FuzzParseMeasurementCSV(f *testing.F) {
 		if n < 2 || len(got.VoltageV) != n || (got.CurrentA != nil && len(got.CurrentA) != n) {
 			t.Fatalf("lengths %d, %d, %d", n, len(got.VoltageV), len(got.CurrentA))
 		}
-		var c measureChecks
+		var c checks
 		c.log(got, 2)
 		if err := c.err(); err != nil {
 			t.Fatalf("the parsed log fails the methods' own check: %v", err)
