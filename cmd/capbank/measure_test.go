@@ -204,7 +204,7 @@ func TestMeasureExitStatus2(t *testing.T) {
 		{"timed with a log", []string{"--method", "timed", "--v0", "1.5", "--v1", "0.5", "--seconds", "68", "--resistor-ohm", "1000", holdDemoLog}, "takes no log"},
 		// Line 5 of the file, hand counted (a comment, the header, three rows).
 		{"bad CSV line", []string{"--method", "resistor", "--resistor-ohm", "2", badCSV}, badCSV + `: line 5, voltage_v: "abc" is not a number`},
-		// U2 = 0.4 × 2.7 V = 1.08 V (REFERENCES.md 1.6): the log stops at 1.5 V.
+		// U2 = 0.4 × 2.7 V = 1.08 V (sizing/REFERENCES.md 1.6): the log stops at 1.5 V.
 		{"log short of U2", []string{"--method", "constant-current", "--rated-v", "2.7", short}, short + ": the voltage falls to U1 = 2.16 V"},
 		{"log short of U2 names U2", []string{"--method", "constant-current", "--rated-v", "2.7", short}, "never to U2 = 1.08 V (0.4 × --rated-v 2.7 V)"},
 		{"value named by its flag", []string{"--method", "timed", "--v0", "0.5", "--v1", "1.5", "--seconds", "68", "--resistor-ohm", "1000"},
