@@ -129,19 +129,13 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	duration := flags.Duration("duration", 20*time.Second, "how long to drive the server, as 20s or 1m")
 	designFile := flags.String("design", "", "size the design in `FILE` instead of the built-in demo design")
 	timeout := flags.Duration("timeout", 10*time.Second, "count a request as an error after this long")
-	usage := func(w io.Writer) {
-		fmt.Fprint(w, loadtestUsage)
-		flags.PrintDefaults()
+	cl, err := parseCommand(flags, args, loadtestUsage)
+	if err != nil {
+		return err
 	}
-	flags.Usage = func() { usage(flags.Output()) }
-	if err := flags.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return err
-		}
-		return usageError{err.Error()} // the flag package has printed it and the usage
-	}
-	if flags.NArg() > 0 {
-		return usageFailure(stderr, usage, "capbank loadtest: takes no arguments (got %q); the server goes in --url", flags.Arg(0))
+	usage := cl.usage
+	if len(cl.pos) > 0 {
+		return usageFailure(stderr, usage, "capbank loadtest: takes no arguments (got %q); the server goes in --url", cl.pos[0])
 	}
 	u, err := url.Parse(*target)
 	switch {

@@ -76,21 +76,11 @@ func runMeasure(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	v0 := flags.Float64("v0", 0, "start voltage in `V` (timed)")
 	v1 := flags.Float64("v1", 0, "end voltage in `V` (timed)")
 	seconds := flags.Float64("seconds", 0, "time from --v0 to --v1 in `S` (timed)")
-	usage := func(w io.Writer) {
-		fmt.Fprint(w, measureUsage)
-		flags.PrintDefaults()
-	}
-	flags.Usage = func() { usage(flags.Output()) }
-
-	pos, err := parseInterspersed(flags, args)
-	if errors.Is(err, flag.ErrHelp) {
+	cl, err := parseCommand(flags, args, measureUsage)
+	if err != nil {
 		return err
 	}
-	if err != nil {
-		return usageError{err.Error()} // the flag package has printed it and the usage
-	}
-	set := map[string]bool{}
-	flags.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	pos, set, usage := cl.pos, cl.set, cl.usage
 
 	m, known := measure.MethodNamed(*method)
 	switch {

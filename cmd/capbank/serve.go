@@ -54,19 +54,13 @@ func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	addr := flags.String("addr", "127.0.0.1:8080", "listen on `HOST:PORT` (port 0 picks a free one)")
 	data := flags.String("data", "capbank-data", "the data `DIR`ectory, created when missing")
 	guard := addGuardFlags(flags)
-	usage := func(w io.Writer) {
-		fmt.Fprint(w, serveUsage)
-		flags.PrintDefaults()
+	cl, err := parseCommand(flags, args, serveUsage)
+	if err != nil {
+		return err
 	}
-	flags.Usage = func() { usage(flags.Output()) }
-	if err := flags.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return err
-		}
-		return usageError{err.Error()} // the flag package has printed it and the usage
-	}
-	if flags.NArg() > 0 {
-		return usageFailure(stderr, usage, "capbank serve: takes no arguments (got %q)", flags.Arg(0))
+	usage := cl.usage
+	if len(cl.pos) > 0 {
+		return usageFailure(stderr, usage, "capbank serve: takes no arguments (got %q)", cl.pos[0])
 	}
 	opts, err := guard.options()
 	if err != nil {

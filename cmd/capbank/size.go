@@ -51,21 +51,11 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	cellID := flags.String("cell", "", "export the bank of cell `ID` instead of the recommended one (boq-* and pdf)")
 	paper := flags.String("paper", "a4", "`SIZE` of the pdf's pages: a4 or letter")
 	data := flags.String("data", "capbank-data", "the data `DIR`ectory whose cell library resolves cells named by id; without a database there, the built-in demo cells")
-	usage := func(w io.Writer) {
-		fmt.Fprint(w, sizeUsage)
-		flags.PrintDefaults()
-	}
-	flags.Usage = func() { usage(flags.Output()) }
-
-	pos, err := parseInterspersed(flags, args)
-	if errors.Is(err, flag.ErrHelp) {
+	cl, err := parseCommand(flags, args, sizeUsage)
+	if err != nil {
 		return err
 	}
-	if err != nil {
-		return usageError{err.Error()} // the flag package has printed it and the usage
-	}
-	set := map[string]bool{}
-	flags.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	pos, set, usage := cl.pos, cl.set, cl.usage
 	exp, isExport := export.LookupFormat(*format)
 	if *format != "json" && *format != "text" && !isExport {
 		return usageFailure(stderr, usage, "capbank size: --format must be json, text, boq-csv, boq-xlsx, boq-json or pdf (got %q)", *format)
@@ -128,6 +118,36 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		return fmt.Errorf("cannot write the report: %w", err)
 	}
 	return nil
+}
+
+// parsed is a subcommand's command line once its flags are read.
+type parsed struct {
+	pos   []string        // the arguments that are not flags, in order
+	set   map[string]bool // the flags given
+	usage func(io.Writer) // writes the usage text and the flags
+}
+
+// parseCommand reads a subcommand's flags wherever they stand in args
+// (parseInterspersed), with usageText before the flags' defaults as its
+// usage. A help request is flag.ErrHelp; a flag mistake a usageError, the
+// flag package having printed it and the usage.
+func parseCommand(flags *flag.FlagSet, args []string, usageText string) (parsed, error) {
+	p := parsed{set: map[string]bool{}}
+	p.usage = func(w io.Writer) {
+		fmt.Fprint(w, usageText)
+		flags.PrintDefaults()
+	}
+	flags.Usage = func() { p.usage(flags.Output()) }
+	pos, err := parseInterspersed(flags, args)
+	if errors.Is(err, flag.ErrHelp) {
+		return p, err
+	}
+	if err != nil {
+		return p, usageError{err.Error()}
+	}
+	p.pos = pos
+	flags.Visit(func(f *flag.Flag) { p.set[f.Name] = true })
+	return p, nil
 }
 
 // parseInterspersed parses the flags in args wherever they stand, so that
