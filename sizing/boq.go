@@ -219,28 +219,18 @@ func preferredCeil(x float64, series []float64) float64 {
 	}
 	exp := math.Floor(math.Log10(f))
 	for i, v := range series {
-		if roundSig(v*math.Pow(10, exp)) == f {
+		if roundTo12Digits(v*math.Pow(10, exp)) == f {
 			if i+1 < len(series) {
-				return roundSig(series[i+1] * math.Pow(10, exp))
+				return roundTo12Digits(series[i+1] * math.Pow(10, exp))
 			}
-			return roundSig(series[0] * math.Pow(10, exp+1))
+			return roundTo12Digits(series[0] * math.Pow(10, exp+1))
 		}
 	}
 	return x
 }
 
-// ohms formats a resistance with an SI prefix for a description.
-func ohms(r float64) string {
-	switch {
-	case r >= 1e6:
-		return fmt.Sprintf("%.3g MΩ", r/1e6)
-	case r >= 1e3:
-		return fmt.Sprintf("%.3g kΩ", r/1e3)
-	case r < 1:
-		return fmt.Sprintf("%.3g mΩ", r*1e3)
-	}
-	return fmt.Sprintf("%.3g Ω", r)
-}
+// ohms writes a resistance for a description.
+func ohms(r float64) string { return Quantity(r, "Ω", 3) }
 
 // duration formats seconds for a description.
 func duration(s float64) string {

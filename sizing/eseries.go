@@ -49,16 +49,16 @@ func PreferredFloor(x float64, series []float64) float64 {
 			v := series[i] * scale
 			// Compare with a relative tolerance of 1e-9 so 470 counts as 4.7·10².
 			if v <= x*(1+1e-9) {
-				return roundSig(v)
+				return roundTo12Digits(v)
 			}
 		}
 	}
 	return 0
 }
 
-// roundSig rounds to 12 significant figures, removing the binary noise of
+// roundTo12Digits rounds to 12 significant figures, removing the binary noise of
 // mantissa × power of ten (4.7 × 100 = 470.00000000000006).
-func roundSig(v float64) float64 {
+func roundTo12Digits(v float64) float64 {
 	if v == 0 {
 		return 0
 	}

@@ -91,3 +91,11 @@ time_s,power_w
 	//   -50 W for 10 s
 	// line 3: has 3 fields but the header on line 1 has 2; every row needs one field per header column
 }
+
+// Without a formatter installed (sizing on its own), a figure in a message
+// is written plainly in its base unit; a program that links
+// components/figures writes it with the one SI formatter ("117.6 kJ").
+func ExampleQuantity() {
+	fmt.Println(sizing.Quantity(117600, "J", 4))
+	// Output: 1.176e+05 J
+}

@@ -84,16 +84,8 @@ func hazardFlags(h Hazards) []Flag {
 	return f
 }
 
-// joules formats an energy for a message.
-func joules(j float64) string {
-	switch {
-	case j >= 1e6:
-		return fmt.Sprintf("%.4g MJ", j/1e6)
-	case j >= 1e3:
-		return fmt.Sprintf("%.4g kJ", j/1e3)
-	}
-	return fmt.Sprintf("%.4g J", j)
-}
+// joules writes an energy for a message.
+func joules(j float64) string { return Quantity(j, "J", 4) }
 
 // thermalFlags judges the hot spot against the cell's limit, and the fire
 // risk of its electrolyte.

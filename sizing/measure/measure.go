@@ -1498,10 +1498,5 @@ func residualRMS(x, y []float64, a, b float64) float64 {
 // num formats a figure for a message: up to 6 significant figures.
 func num(x float64) string { return fmt.Sprintf("%.6g", x) }
 
-// volts formats a voltage for a message, in V or mV.
-func volts(x float64) string {
-	if x != 0 && math.Abs(x) < 0.1 {
-		return fmt.Sprintf("%.4g mV", x*1000)
-	}
-	return fmt.Sprintf("%.5g V", x)
-}
+// volts writes a voltage for a message.
+func volts(x float64) string { return sizing.Quantity(x, "V", 5) }
