@@ -168,7 +168,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 
 	// bankRow is a figure of the feasible banks; an infeasible one reads
 	// "not feasible" in the first bank row and "—" in the others.
-	bankRow := func(label, better string, val func(*sizing.Candidate) (float64, bool), text func(float64) string) components.CompareFigureRow {
+	bankRow := func(label, better string, val func(*sizing.Candidate) (float64, bool), text rowText) components.CompareFigureRow {
 		vals := make([]*float64, len(cands))
 		texts := make([]string, len(cands))
 		for i, cd := range cands {
@@ -178,19 +178,27 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			}
 			if v, ok := val(cd); ok {
 				vals[i] = &v
-				texts[i] = text(v)
+			}
+		}
+		write := text(vals)
+		for i, v := range vals {
+			if v != nil {
+				texts[i] = write(*v)
 			}
 		}
 		return figureRow(label, better, vals, texts)
 	}
-	cellRow := func(label, better string, val func(sizing.Cell) *float64, text func(float64) string, none string) components.CompareFigureRow {
+	cellRow := func(label, better string, val func(sizing.Cell) *float64, text rowText, none string) components.CompareFigureRow {
 		vals := make([]*float64, len(d.Cells))
 		texts := make([]string, len(d.Cells))
 		for i, cell := range d.Cells {
 			texts[i] = none
-			if v := val(cell); v != nil {
-				vals[i] = v
-				texts[i] = text(*v)
+			vals[i] = val(cell)
+		}
+		write := text(vals)
+		for i, v := range vals {
+			if v != nil {
+				texts[i] = write(*v)
 			}
 		}
 		return figureRow(label, better, vals, texts)
@@ -201,11 +209,23 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		}
 		return *v, true
 	}
-	q := func(unit string, sig int) func(float64) string {
-		return func(v float64) string { return figures.SI(v, unit, sig) }
+	// q writes a quantity row with one SI prefix for the whole row
+	// (figures.Column), so the banks read side by side: 750 µΩ beside
+	// 1.7 mΩ reads 0.75 mΩ.
+	q := func(unit string, sig int) rowText {
+		return func(vals []*float64) func(float64) string {
+			var xs []float64
+			for _, v := range vals {
+				if v != nil {
+					xs = append(xs, *v)
+				}
+			}
+			scale, prefixed := figures.Column(xs, unit, sig)
+			return func(v float64) string { return figures.Number(v/scale, sig) + "\u00a0" + prefixed }
+		}
 	}
-	num := func(unit string) func(float64) string {
-		return func(v float64) string { return figures.Number(v, 3) + "\u00a0" + unit }
+	num := func(unit string) rowText {
+		return each(func(v float64) string { return figures.Number(v, 3) + "\u00a0" + unit })
 	}
 
 	bankRows := []components.CompareFigureRow{
@@ -222,27 +242,27 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			}
 			return row
 		}(),
-		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, func(v float64) string { return figures.Number(v, 6) }),
-		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, func(v float64) string { return figures.SI(v, "kg", 3) }),
+		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, each(func(v float64) string { return figures.Number(v, 6) })),
+		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, each(func(v float64) string { return figures.SI(v, "kg", 3) })),
 		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
-		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, figures.Money),
-		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, func(v float64) string { return figures.Duration(v, 3) }),
+		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, each(figures.Money)),
+		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, each(func(v float64) string { return figures.Duration(v, 3) })),
 		bankRow("Usable energy at end of life", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
-		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, figures.Money),
+		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, each(figures.Money)),
 		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
 		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
 			if c.Thermal == nil {
 				return 0, false
 			}
 			return c.Thermal.PeakRiseK, true
-		}, figures.Kelvin),
+		}, each(figures.Kelvin)),
 		bankRow("Lowest terminal voltage", "higher", func(c *sizing.Candidate) (float64, bool) { return c.MinTerminalV, true }, q("V", 4)),
 		bankRow("Expected life", "longer", func(c *sizing.Candidate) (float64, bool) {
 			if c.Life == nil {
 				return 0, false
 			}
 			return c.Life.ExpectedYears, true
-		}, func(v float64) string { return figures.Number(v, 3) + "\u00a0years" }),
+		}, each(func(v float64) string { return figures.Number(v, 3) + "\u00a0years" })),
 	}
 	flags := components.CompareFigureRow{Label: "Findings"}
 	for _, cd := range cands {
@@ -270,7 +290,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		cellRow("Energy per volume", "higher", m(func(x sizing.CellMerit) *float64 { return x.EnergyWhPerL }), num("Wh/L"), "no volume given"),
 		cellRow("Matched-load power per mass V²/(4·ESR·m)", "higher", m(func(x sizing.CellMerit) *float64 { return x.MatchedPowerWPerKg }), num("W/kg"), "no mass given"),
 		cellRow("Time constant ESR·C", "", m(func(x sizing.CellMerit) *float64 { return val(x.TimeConstantS) }), q("s", 3), "—"),
-		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), figures.Money, "no price given"),
+		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), each(figures.Money), "no price given"),
 	}
 	p.Groups = []components.CompareGroup{
 		{Title: "The bank for this design", Rows: bankRows},
@@ -291,6 +311,14 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 	p.Chart = components.LogLogChart("energy-power", "Usable energy against power capability, each feasible bank",
 		"Log-log chart: usable energy at end of life (Wh) against the bank's matched-load power at the window top, max_v²/(4·ESR) at worst-case ESR (W).",
 		"Matched-load power of the bank (log scale)", "Usable energy (log scale)", pts, "W", "Wh")
+}
+
+// rowText makes the writer of a row's figures from all of them (to give
+// the row one unit); each is a writer that needs none of them.
+type rowText func(vals []*float64) func(float64) string
+
+func each(f func(float64) string) rowText {
+	return func([]*float64) func(float64) string { return f }
 }
 
 // figureRow builds a row and marks its best value: the lowest or the

@@ -8,6 +8,7 @@ import (
 	"net/http"
 	"net/http/httptest"
 	"net/url"
+	"slices"
 	"strings"
 	"testing"
 
@@ -601,5 +602,25 @@ func TestLibraryPageImport(t *testing.T) {
 	wantStatus(t, rec, http.StatusUnprocessableEntity)
 	if got := text(parse(t, rec), "[data-testid=import-report]"); !strings.Contains(got, "no file was chosen") {
 		t.Errorf("no file: %q", got)
+	}
+}
+
+// A quantity row of the comparison writes every bank in one unit, so the
+// figures read side by side: the ESRs of the 650 F, 500 F and 1200 F demo
+// cells (1.7, 2.2 and 0.75 mΩ, as the demo library gives them) are all in
+// mΩ, where each on its own would take its own prefix (750 µΩ).
+func TestCompareRowsShareAUnit(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	doc := parse(t, get(t, s, "/compare?cell=demo-2v7-650f&cell=demo-3v0-500f&cell=demo-2v7-1200f"))
+	var esr []string
+	doc.Find("[data-testid=compare-row]").Each(func(_ int, row *goquery.Selection) {
+		if strings.HasPrefix(strings.TrimSpace(row.Find("th").First().Text()), "ESR (DC)") {
+			row.Find("td").Each(func(_ int, td *goquery.Selection) { esr = append(esr, strings.TrimSpace(td.Contents().Not(".sr-only").Text())) })
+		}
+	})
+	want := []string{"1.7\u00a0mΩ", "2.2\u00a0mΩ", "0.75\u00a0mΩ"}
+	if !slices.Equal(esr, want) {
+		t.Errorf("ESR row %q, want %q", esr, want)
 	}
 }
