@@ -1,6 +1,6 @@
 // Package web is capbank's web server: the echo server and its handlers,
-// the design form (its fields are the design file's JSON paths, its numbers
-// take SI prefixes), live results for htmx, the JSON API with its OpenAPI
+// the design page (its form read by web/form), live results for htmx, the
+// compute deadline and slots, the JSON API with its OpenAPI
 // document, and problemFor, which writes any error as an RFC 9457 problem
 // document with the status of its code in the one error table (web/fault).
 //
