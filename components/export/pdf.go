@@ -721,7 +721,7 @@ func (p *pdf) candidates(r *sizing.Report) {
 	}
 	p.table(table{cols: []column{
 		{"cell", 2.4, "L"}, {"feasible", 1.1, "L"}, {"bank", 1.6, "L"}, {"cells", 0.7, "R"}, {"runtime (s)", 1.1, "R"},
-		{"min terminal (V)", 1.2, "R"}, {"usable (kJ)", 1.1, "R"}, {"peak I (A)", 1.0, "R"}, {priceHead, 1.2, "R"},
+		{"lowest terminal (V)", 1.2, "R"}, {"usable energy (kJ)", 1.1, "R"}, {"peak current (A)", 1.0, "R"}, {priceHead, 1.2, "R"},
 		{"mass (kg)", 1.0, "R"}, {"string count set by / reason", 3.0, "L"},
 	}, rows: rows, pt: 7.5, heading: "Candidates (rank order: feasible first, best first)"})
 }

@@ -565,7 +565,7 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 	x.str(s, 1, row, "All candidates (rank order)", x.bold)
 	row++
 	// The brief table is below the flags so that column widths above fit.
-	heads := []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "min terminal (V)", "usable energy (J)", "peak current (A)", "total price", "mass (kg)", "reason"}
+	heads := []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)", "usable energy (J)", "peak current (A)", "total price", "mass (kg)", "reason"}
 	for i, h := range heads {
 		x.str(s, i+1, row, h, x.header)
 	}
