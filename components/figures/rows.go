@@ -121,7 +121,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	groups = append(groups, Group{Title: "Safety figures", Rows: []Row{
 		quantity("Bank voltage", h.MaxV, "V", 4, "at the window top"),
 		quantity("Stored energy", h.StoredEnergyJ, "J", 4, ""),
-		quantity("Short-circuit current", h.ShortCircuitCurrentA, "A", 3, "window top ÷ bank ESR"),
+		quantity("Short-circuit current", h.ShortCircuitCurrentA, "A", 3, "window top ÷ bank ESR at beginning of life"),
 		quantity("Energy per cell", h.CellEnergyWh, "Wh", 3, "as transport rules count it"),
 	}})
 	return append(groups, Group{Title: "Price, mass and volume", Rows: []Row{

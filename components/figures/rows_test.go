@@ -59,7 +59,7 @@ func TestCandidate(t *testing.T) {
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
 		"Stored energy | 89.6 | kJ | ",
-		"Short-circuit current | 6.67 | kA | window top ÷ bank ESR",
+		"Short-circuit current | 6.67 | kA | window top ÷ bank ESR at beginning of life",
 		"Energy per cell | 354 | mWh | as transport rules count it",
 		"# Price, mass and volume",
 		"Price | 468.00 |  | cells only, in the currency of the unit price",
