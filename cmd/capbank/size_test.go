@@ -111,8 +111,8 @@ func TestSizeCheckDesignText(t *testing.T) {
 	for _, want := range []string{
 		"Design: check: 100 A from one 18-cell string, 48 V to 24 V\n",
 		"Recommended: check-2500f, 18 s × 1 p, 18 cells\n",
-		"usable (kJ)", // 120 000 J (sizing/REFERENCES.md 10.1) reads in kJ
-		"peak I (A)",
+		"usable energy (kJ)", // 120 000 J (sizing/REFERENCES.md 10.1) reads in kJ
+		"peak current (A)",
 		"Flags for check-2500f",
 	} {
 		if !strings.Contains(out, want) {

@@ -121,8 +121,8 @@ func candidateTable(cs []sizing.Candidate) table {
 	t := table{
 		right: []bool{false, false, true, true, true, true, true, true, true, true, true, true, false},
 		rows: [][]string{{
-			"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "min terminal (V)",
-			"usable (" + eUnit + ")", "peak I (" + pUnit + ")", "rms I (" + rUnit + ")",
+			"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)",
+			"usable energy (" + eUnit + ")", "peak current (" + pUnit + ")", "RMS current (" + rUnit + ")",
 			"price", "mass (kg)", "reason",
 		}},
 	}
@@ -170,8 +170,8 @@ func safetyTable(cs []sizing.Candidate) table {
 	t := table{
 		right: []bool{false, true, true, true, true, false, true, true, true, true},
 		rows: [][]string{{
-			"cell", "hot spot (°C)", "peak rise (K)", "loss/cell (" + lUnit + ")", "spread cell (V)",
-			"balancing", "standing loss (" + sUnit + ")", "shelf hold (h)", "static cell (V)", "life (years)",
+			"cell", "hot spot (°C)", "peak rise (K)", "ESR loss/cell (" + lUnit + ")", "cell before balancing (V)",
+			"balancing", "standing loss/bank (" + sUnit + ")", "shelf hold (h)", "cell after long hold (V)", "expected life (years)",
 		}},
 	}
 	opt := func(p *float64) string {

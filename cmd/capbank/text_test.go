@@ -68,8 +68,8 @@ func TestWriteText(t *testing.T) {
 		}
 	}
 	header, rows := lines[4], lines[5:7]
-	for _, col := range []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "min terminal (V)",
-		"usable (MJ)", "peak I (kA)", "rms I (A)", "price", "mass (kg)", "reason"} {
+	for _, col := range []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)",
+		"usable energy (MJ)", "peak current (kA)", "RMS current (A)", "price", "mass (kg)", "reason"} {
 		if !strings.Contains(header, col) {
 			t.Errorf("header has no column %q: %q", col, header)
 		}
@@ -94,8 +94,8 @@ func TestWriteText(t *testing.T) {
 	// number column ends where its header ends.
 	for _, col := range []struct{ header, v0, v1 string }{
 		{"cells", "72", "18000"},
-		{"min terminal (V)", "25.68", "12.5"},
-		{"usable (MJ)", "0.05376", "1.536"},
+		{"lowest terminal (V)", "25.68", "12.5"},
+		{"usable energy (MJ)", "0.05376", "1.536"},
 		{"mass (kg)", "4.536", "—"}, // the last — in the row
 	} {
 		end := runeEnd(t, header, col.header)
@@ -186,7 +186,7 @@ func TestWriteTextNoFlags(t *testing.T) {
 // The heat table's columns in W take one SI prefix each, chosen by the
 // column's largest figure, as the candidate table's do (README: "SI
 // prefixes chosen per column"): a logger's 6.78 µW per cell reads 6.78
-// under "loss/cell (µW)", not 0.00000678 or 6.78e-6.
+// under "ESR loss/cell (µW)", not 0.00000678 or 6.78e-6.
 func TestSafetyTableColumnPrefixes(t *testing.T) {
 	t.Parallel()
 	cs := []sizing.Candidate{
@@ -197,7 +197,7 @@ func TestSafetyTableColumnPrefixes(t *testing.T) {
 	}
 	tb := safetyTable(cs)
 	header := strings.Join(tb.rows[0], "|")
-	for _, want := range []string{"loss/cell (µW)", "standing loss (mW)"} {
+	for _, want := range []string{"ESR loss/cell (µW)", "standing loss/bank (mW)"} {
 		if !strings.Contains(header, want) {
 			t.Errorf("header %q has no %q", header, want)
 		}

@@ -635,84 +635,41 @@ func (p *pdf) bankFigures(d *sizing.Design, r *sizing.Report, c *sizing.Candidat
 		title = "Bank " + c.CellID + " and its figures"
 	}
 	p.heading(title, 40)
-	p.para("Worst case is end of life (and cold when the design gives a cold temperature); figures marked BOL are at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
+	p.para("Worst case is end of life (and cold when the design gives a cold temperature); a note says where a figure is at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
 	p.f.Ln(1)
 	var rows [][]string
-	add := func(group, label, value, note string) { rows = append(rows, []string{group, label, value, note}) }
-	add("Arrangement", "series × parallel", fmt.Sprintf("%d s × %d p = %d cells", c.Series, c.Parallel, c.Cells), "set by "+limitText(c.Limit))
-	add("", "cell voltage at the window top", quantity(c.CellV, "V"), "ceiling "+quantity(c.CellCeilingV, "V"))
-	add("Bank", "capacitance (BOL / worst)", quantity(c.CapacitanceF, "F")+" / "+quantity(c.WorstCapacitanceF, "F"), "")
-	add("", "ESR (BOL / worst)", quantity(c.ESROhm, "Ω")+" / "+quantity(c.WorstESROhm, "Ω"), "cold factor ×"+figures.Number(c.ColdESRFactor, 3))
-	add("", "leakage and balancing drain", optQuantity(c.LeakageOhm, "Ω"), "as one resistance")
-	runtime := "not within 10^7 s"
-	if c.RuntimeS != nil {
-		runtime = figures.Estimated(figures.Duration(*c.RuntimeS, sigFigs), c.RuntimeEstimated)
-	}
-	end := ""
-	if c.RuntimeEnd != "" {
-		end = "ended by the " + c.RuntimeEnd + " limit"
-	}
-	add("Runtime", "worst-case runtime", runtime, end)
-	add("", "lowest terminal voltage", quantity(c.MinTerminalV, "V"), "cut-off "+quantity(r.MinV, "V"))
-	add("", "capacitor voltage at the end of the pass", quantity(c.EndCapacitorV, "V"), "")
-	add("Energy", "stored at the window top (BOL)", quantity(c.StoredEnergyJ, "J"), "½·C·max_v²")
-	add("", "usable (worst)", quantity(c.UsableEnergyJ, "J"), "½·C_eol·(max_v² − min_v²)")
-	add("", "delivered / ESR loss / leakage loss", quantity(c.DeliveredEnergyJ, "J")+" / "+quantity(c.ESRLossJ, "J")+" / "+quantity(c.LeakageLossJ, "J"), "over the sizing pass")
-	add("Current", "bank peak / RMS", quantity(c.PeakCurrentA, "A")+" / "+quantity(c.RMSCurrentA, "A"), "")
-	add("", "cell peak / RMS", quantity(c.CellPeakCurrentA, "A")+" / "+quantity(c.CellRMSCurrentA, "A"), p.cellRatings(d, c.CellID))
-	if th := c.Thermal; th != nil {
-		add("Thermal", "hot spot", quantity(th.HotSpotC, "°C"), "peak rise "+quantity(math.Max(th.PeakRiseK, ptr(th.DutyPeakRiseK)), "K"))
-		add("", "loss per cell / bank", quantity(th.CellLossW, "W")+" / "+quantity(th.BankLossW, "W"), "I_rms²·ESR, worst case")
-	} else {
-		add("Thermal", "ESR heating", "not checked", "the cell gives no thermal resistance")
-	}
-	if sp := c.Spread; sp != nil {
-		add("Balancing", "worst cell at the window top", quantity(sp.WorstCellV, "V"), fmt.Sprintf("tolerance %s %% / +%s %%, before balancing acts", figures.Number(sp.MinusPct, 3), figures.Number(sp.PlusPct, 3)))
-	}
-	if bl := c.Balancing; bl != nil {
-		desc := bl.Kind
-		if bl.ResistorOhm != nil {
-			desc += " " + quantity(*bl.ResistorOhm, "Ω")
-			if bl.ResistorPowerW != nil {
-				desc += ", " + figures.Number(*bl.ResistorPowerW, 3) + " W"
+	for _, g := range figures.Candidate(c, r) {
+		for i, row := range g.Rows {
+			title := ""
+			if i == 0 {
+				title = g.Title
 			}
-			desc += " " + bl.Series
+			rows = append(rows, []string{title, row.Label, rowValue(row, b.Currency), row.Note})
 		}
-		if bl.QuiescentA != nil {
-			desc += " " + quantity(*bl.QuiescentA, "A")
-		}
-		g := ""
-		if c.Spread == nil {
-			g = "Balancing"
-		}
-		add(g, "balancing per cell", desc, fmt.Sprintf("%d per string, standing loss %s per string", bl.Count, quantity(bl.LossW, "W")))
-		add("", "shelf hold to the cut-off", optQuantity(bl.ShelfHoldH, "h"), "worst-case capacitance, no load")
-		add("", "worst cell after a long hold", optQuantity(bl.WorstStaticCellV, "V"), "leakage spread "+quantity(bl.LeakageSpreadA, "A"))
 	}
-	if l := c.Life; l != nil {
-		note := fmt.Sprintf("at %s and %s per cell", quantity(l.TemperatureC, "°C"), quantity(l.CellV, "V"))
-		if l.DesignYears != nil {
-			note += "; asked " + quantity(*l.DesignYears, "years")
-		}
-		add("Life", "expected life", quantity(l.ExpectedYears, "years")+" ("+figures.Number(l.ExpectedH, 4)+" h)", note)
-	} else {
-		add("Life", "expected life", "not checked", "the cell gives no rated life")
+	p.table(table{cols: []column{{"", 1.6, "L"}, {"figure", 2.9, "L"}, {"value", 2.0, "L"}, {"note", 3.5, "L"}}, rows: rows, pt: smallPt})
+	var more []string
+	if rating := p.cellRatings(d, c.CellID); rating != "" {
+		more = append(more, "The cell's current ratings, against the per-cell currents above: "+rating+".")
 	}
-	add("Hazards", "prospective short-circuit current", quantity(c.Hazards.ShortCircuitCurrentA, "A"), "max_v / bank ESR, BOL")
-	add("", "energy per cell", figures.Number(c.Hazards.CellEnergyWh, 4)+" Wh", "½·C·U_R², as UN SP 361 counts it")
-	price := none
-	if c.TotalPrice != nil {
-		price = money(*c.TotalPrice, b.Currency)
+	if c.Thermal == nil {
+		more = append(more, "ESR heating not checked: the cell gives no thermal resistance.")
 	}
-	add("Totals", "cells' price / mass / volume", price+" / "+optQuantity(c.MassKg, "kg")+" / "+optQuantity(c.VolumeL, "L"), "the bill of quantities adds the other parts")
-	p.table(table{cols: []column{{"", 1.1, "L"}, {"figure", 2.9, "L"}, {"value", 2.7, "L"}, {"note", 3.3, "L"}}, rows: rows, pt: smallPt})
+	if c.Life == nil {
+		more = append(more, "Life not checked: the cell gives no rated life.")
+	}
+	more = append(more, "The price, mass and volume are the cells'; the bill of quantities adds the other parts.")
+	p.f.Ln(1)
+	p.para(strings.Join(more, " "), "", smallPt, smallLine)
 }
 
-func ptr(p *float64) float64 {
-	if p == nil {
-		return 0
+// rowValue is a row's value with its unit; a price (a number with no
+// unit, figures.Row) takes the design's currency after it.
+func rowValue(row figures.Row, currency string) string {
+	if row.HasNum && row.Base == "" && currency != "" {
+		return row.Text() + " " + currency
 	}
-	return *p
+	return row.Text()
 }
 
 // cellRatings gives the cell's current ratings for comparison.
@@ -721,7 +678,7 @@ func (p *pdf) cellRatings(d *sizing.Design, id string) string {
 	if cell == nil || (cell.MaxCurrentA == nil && cell.PeakCurrentA == nil) {
 		return ""
 	}
-	return "cell rating: peak " + optQuantity(cell.PeakCurrentA, "A") + ", continuous " + optQuantity(cell.MaxCurrentA, "A")
+	return "peak " + optQuantity(cell.PeakCurrentA, "A") + ", continuous " + optQuantity(cell.MaxCurrentA, "A")
 }
 
 // candidates writes every candidate in rank order.
@@ -764,7 +721,7 @@ func (p *pdf) candidates(r *sizing.Report) {
 	}
 	p.table(table{cols: []column{
 		{"cell", 2.4, "L"}, {"feasible", 1.1, "L"}, {"bank", 1.6, "L"}, {"cells", 0.7, "R"}, {"runtime (s)", 1.1, "R"},
-		{"min terminal (V)", 1.2, "R"}, {"usable (kJ)", 1.1, "R"}, {"peak I (A)", 1.0, "R"}, {priceHead, 1.2, "R"},
+		{"lowest terminal (V)", 1.2, "R"}, {"usable energy (kJ)", 1.1, "R"}, {"peak current (A)", 1.0, "R"}, {priceHead, 1.2, "R"},
 		{"mass (kg)", 1.0, "R"}, {"string count set by / reason", 3.0, "L"},
 	}, rows: rows, pt: 7.5, heading: "Candidates (rank order: feasible first, best first)"})
 }

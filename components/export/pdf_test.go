@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 )
 
@@ -83,8 +84,10 @@ func TestReportPDFText(t *testing.T) {
 		fmt.Sprintf("Worst-case runtime %.4g s", *c.RuntimeS),
 		fmt.Sprintf("lowest terminal voltage %.4g V against the 21 V cut-off", c.MinTerminalV),
 		fmt.Sprintf("usable energy %.4g kJ", c.UsableEnergyJ/1e3),
-		fmt.Sprintf("%.4g °C", c.Thermal.HotSpotC),
-		fmt.Sprintf("%.4g years", c.Life.ExpectedYears),
+		// The hot spot to 0.1 K and the life to 3 figures, as the page's
+		// rows (figures.Candidate) state them.
+		fmt.Sprintf("%.1f °C", c.Thermal.HotSpotC),
+		fmt.Sprintf("%.3g years", c.Life.ExpectedYears),
 		fmt.Sprintf("%.4g kA", c.Hazards.ShortCircuitCurrentA/1e3),
 		// Inputs from testdata/ups-ride-through.json.
 		"42 V at the top (fully charged) to 21 V, the cut-off",
@@ -127,6 +130,31 @@ func TestReportPDFText(t *testing.T) {
 	if strings.Contains(text, "?") {
 		i := strings.Index(text, "?")
 		t.Errorf("PDF text has a '?' (a character the helper did not map): ...%s...", text[max(0, i-60):min(len(text), i+20)])
+	}
+}
+
+// TestReportPDFBankFigures: the bank-figures table is the page's rows,
+// figures.Candidate: every group title, label, value with its unit and
+// note of the demo's recommended bank is in the PDF's text. Before the
+// table rendered these rows it had its own labels ("balancing per cell",
+// counted "per string"; "not within 10^7 s").
+func TestReportPDFBankFigures(t *testing.T) {
+	t.Parallel()
+	s := mustSize(t, upsDesign, nil, "")
+	text := pdfTextOf(t, writePDF(t, s, s.b, A4))
+	for _, g := range figures.Candidate(s.c, s.r) {
+		want := []string{g.Title}
+		for _, row := range g.Rows {
+			want = append(want, row.Label+" "+rowValue(row, s.b.Currency))
+			if row.Note != "" {
+				want = append(want, row.Note)
+			}
+		}
+		for _, w := range want {
+			if w := pdfTextPlain(w); !strings.Contains(text, w) {
+				t.Errorf("%s: PDF text has no %q", g.Title, w)
+			}
+		}
 	}
 }
 

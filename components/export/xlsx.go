@@ -39,8 +39,10 @@ const defaultAmbientC = 25.0
 //     temperatures, options, every candidate cell's datasheet figures, and
 //     every load step (a profile too long for one sheet is cut at the
 //     sheet's row limit, with a note);
-//   - sheet "Results": the candidate's figures with units, its flags with
-//     severity, message and caution, and every candidate in brief.
+//   - sheet "Results": the candidate's figures, the design page's rows
+//     (figures.Candidate) with a number cell for each number in its unit
+//     without prefix, its flags with severity, message and caution, and
+//     every candidate in brief.
 //
 // Formulas carry their value as computed by capbank too, and the workbook
 // asks to be recalculated on opening. Text cells are set as strings and go
@@ -513,106 +515,34 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 	put("series (cells per string)", c.Series, "", "")
 	put("parallel (strings)", c.Parallel, "", "")
 	put("cells", c.Cells, "", "")
-	put("per-cell ceiling", c.CellCeilingV, "V", "")
-	put("cell voltage at the window top", c.CellV, "V", "max_v / series")
-	put("what set the string count", limitText(c.Limit), "", "")
 
-	section("Bank")
-	put("capacitance", c.CapacitanceF, "F", "beginning of life")
-	put("ESR", c.ESROhm, "Ω", "beginning of life")
-	put("capacitance, worst case", c.WorstCapacitanceF, "F", "")
-	put("ESR, worst case", c.WorstESROhm, "Ω", "")
-	put("cold ESR factor applied", c.ColdESRFactor, "", "")
-	put("leakage and balancing drain", c.LeakageOhm, "Ω", "as one resistance across the capacitor")
-
-	section("Runtime and voltage (worst case)")
-	runtimeNote := "steps repeated back to back until min_v or the power limit"
-	if c.RuntimeS == nil {
-		runtimeNote = "not within 10^7 s"
-	} else if c.RuntimeEstimated {
-		runtimeNote += "; " + figures.EstimatedNote
-	}
-	put("runtime", c.RuntimeS, "s", runtimeNote)
-	if c.RuntimeEnd != "" {
-		put("runtime ended by", c.RuntimeEnd, "", "")
-	}
-	put("minimum terminal voltage", c.MinTerminalV, "V", fmt.Sprintf("cut-off min_v = %s V", figures.ASCII(figures.Number(r.MinV, 6))))
-	put("capacitor voltage at the end of the pass", c.EndCapacitorV, "V", "")
-
-	section("Energies")
-	put("stored energy at max_v", c.StoredEnergyJ, "J", "½·C·max_v², beginning of life")
-	put("usable energy", c.UsableEnergyJ, "J", "½·C_eol·(max_v² − min_v²)")
-	put("delivered to the load", c.DeliveredEnergyJ, "J", "over the sizing pass, worst case")
-	put("lost in the ESR", c.ESRLossJ, "J", "")
-	put("lost in the leakage", c.LeakageLossJ, "J", "")
-	put("rejected at the window top", c.RejectedEnergyJ, "J", "offered by charging steps, not absorbed")
-
-	section("Currents (worst case)")
-	put("bank peak current", c.PeakCurrentA, "A", "")
-	put("bank RMS current", c.RMSCurrentA, "A", "")
-	put("cell peak current", c.CellPeakCurrentA, "A", "")
-	put("cell RMS current", c.CellRMSCurrentA, "A", "")
-
-	section("Thermal (hottest cell, worst case)")
-	if th := c.Thermal; th != nil {
-		put("cell loss", th.CellLossW, "W", "I_rms²·ESR")
-		put("bank loss", th.BankLossW, "W", "")
-		put("steady rise", th.SteadyRiseK, "K", "")
-		put("peak rise", th.PeakRiseK, "K", "")
-		put("duty-cycle peak rise", th.DutyPeakRiseK, "K", "periodic steady state of the repeats")
-		put("hot spot", th.HotSpotC, "°C", "ambient + the larger peak rise")
-		put("thermal time constant", th.TimeConstantS, "s", "")
-		note := ""
-		if th.SpecificHeatDefault {
-			note = "default"
+	// The figures are the page's rows (figures.Candidate), a number cell
+	// holding the unrounded figure in its unit without prefix.
+	for _, g := range figures.Candidate(c, r) {
+		section(g.Title)
+		for _, fr := range g.Rows {
+			label, note := figures.ASCII(fr.Label), figures.ASCII(fr.Note)
+			switch {
+			case fr.HasNum && fr.Base == "": // a price, in the design's currency
+				put(label, fr.Num, b.Currency, note)
+			case fr.HasNum:
+				put(label, fr.Num, fr.Base, note)
+			default:
+				put(label, figures.ASCII(fr.Value), fr.Unit, note)
+			}
 		}
-		put("specific heat used", th.SpecificHeatJPerKgK, "J/(kg·K)", note)
-	} else {
-		put("thermal", "not checked", "", "the cell gives no thermal resistance")
 	}
-
-	section("Voltage spread and balancing")
-	if sp := c.Spread; sp != nil {
-		put("worst cell voltage before balancing", sp.WorstCellV, "V", fmt.Sprintf("capacitance tolerance %s %% / +%s %%", figures.ASCII(figures.Number(sp.MinusPct, 4)), figures.ASCII(figures.Number(sp.PlusPct, 4))))
+	if c.Thermal == nil || c.Life == nil {
+		section("Not checked")
 	}
-	if bl := c.Balancing; bl != nil {
-		put("balancing", bl.Kind, "", bl.Series)
-		put("resistor across each cell", bl.ResistorOhm, "Ω", "")
-		put("resistor power rating", bl.ResistorPowerW, "W", "")
-		put("resistor dissipation at the window top", bl.DissipationW, "W", "")
-		if bl.QuiescentA != nil {
-			put("quiescent current per circuit", bl.QuiescentA, "A", "")
-		}
-		put("count per string", bl.Count, "", "one per cell")
-		put("standing loss per string", bl.LossW, "W", "at the window top")
-		put("equalisation time constant", bl.TimeConstantS, "s", "")
-		put("shelf hold to min_v", bl.ShelfHoldH, "h", "worst-case capacitance, no load")
-		put("leakage spread sized for", bl.LeakageSpreadA, "A", "")
-		put("worst static cell voltage", bl.WorstStaticCellV, "V", "after a long hold at the window top")
+	if c.Thermal == nil {
+		put("ESR heating", "not checked", "", "the cell gives no thermal resistance")
 	}
-
-	section("Life")
-	if l := c.Life; l != nil {
-		put("expected life", l.ExpectedH, "h", "")
-		put("expected life", l.ExpectedYears, "years", "")
-		put("at cell temperature", l.TemperatureC, "°C", "")
-		put("at cell voltage", l.CellV, "V", "")
-		put("life asked", l.DesignYears, "years", "the design's life_years")
-	} else {
-		put("life", "not checked", "", "the cell gives no rated life")
+	if c.Life == nil {
+		put("Expected life", "not checked", "", "the cell gives no rated life")
 	}
-
-	section("Hazards")
-	put("bank voltage at the window top", c.Hazards.MaxV, "V", "")
-	put("stored energy at the window top", c.Hazards.StoredEnergyJ, "J", "")
-	put("prospective short-circuit current", c.Hazards.ShortCircuitCurrentA, "A", "max_v / bank ESR, beginning of life")
-	put("energy per cell", c.Hazards.CellEnergyWh, "Wh", "½·C·U_R², as UN SP 361 counts it")
-
-	section("Totals")
-	put("price of the cells", c.TotalPrice, b.Currency, "")
-	put("bill of quantities total", b.Total, b.Currency, completeness(b))
-	put("mass of the cells", c.MassKg, "kg", "")
-	put("volume of the cells", c.VolumeL, "L", "")
+	section("Bill of quantities")
+	put("Bill of quantities total", b.Total, b.Currency, completeness(b))
 
 	row++
 	x.str(s, 1, row, fmt.Sprintf("Flags (%d), most severe first", len(c.Flags)), x.bold)
@@ -635,7 +565,7 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 	x.str(s, 1, row, "All candidates (rank order)", x.bold)
 	row++
 	// The brief table is below the flags so that column widths above fit.
-	heads := []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "min terminal (V)", "usable energy (J)", "peak current (A)", "total price", "mass (kg)", "reason"}
+	heads := []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)", "usable energy (J)", "peak current (A)", "total price", "mass (kg)", "reason"}
 	for i, h := range heads {
 		x.str(s, i+1, row, h, x.header)
 	}

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 
+	"capbank/components/figures"
 	"capbank/sizing"
 
 	"github.com/xuri/excelize/v2"
@@ -252,18 +253,18 @@ func TestBOQXLSXInputsAndResults(t *testing.T) {
 	res := rowsByLabel(t, f, "Results")
 	c := s.c
 	for label, want := range map[string]float64{
-		"series (cells per string)":         float64(c.Series), // 15, as capbank size --format text prints it
-		"parallel (strings)":                float64(c.Parallel),
-		"cells":                             float64(c.Cells),
-		"runtime":                           *c.RuntimeS,
-		"minimum terminal voltage":          c.MinTerminalV,
-		"usable energy":                     c.UsableEnergyJ,
-		"stored energy at max_v":            c.StoredEnergyJ,
-		"bank peak current":                 c.PeakCurrentA,
-		"hot spot":                          c.Thermal.HotSpotC,
-		"expected life":                     c.Life.ExpectedH,
-		"prospective short-circuit current": c.Hazards.ShortCircuitCurrentA,
-		"bill of quantities total":          s.b.Total,
+		"series (cells per string)":       float64(c.Series), // 15, as capbank size --format text prints it
+		"parallel (strings)":              float64(c.Parallel),
+		"cells":                           float64(c.Cells),
+		"Runtime":                         *c.RuntimeS,
+		"Lowest terminal voltage":         c.MinTerminalV,
+		"Usable energy in the window":     c.UsableEnergyJ,
+		"Stored energy at the window top": c.StoredEnergyJ,
+		"Peak current":                    c.PeakCurrentA,
+		"Hot spot":                        c.Thermal.HotSpotC,
+		"Expected life":                   c.Life.ExpectedYears,
+		"Short-circuit current":           c.Hazards.ShortCircuitCurrentA,
+		"Bill of quantities total":        s.b.Total,
 	} {
 		r := res[label]
 		if len(r) < 2 {
@@ -277,7 +278,7 @@ func TestBOQXLSXInputsAndResults(t *testing.T) {
 	if c.Series != 15 || c.Parallel != 5 {
 		t.Errorf("bank %d s × %d p, want 15 s × 5 p (capbank size --format text on the demo)", c.Series, c.Parallel)
 	}
-	for label, unit := range map[string]string{"runtime": "s", "minimum terminal voltage": "V", "usable energy": "J", "hot spot": "°C"} {
+	for label, unit := range map[string]string{"Runtime": "s", "Lowest terminal voltage": "V", "Usable energy in the window": "J", "Hot spot": "°C", "Expected life": "years", "Price": "EUR"} {
 		if r := res[label]; len(r) < 3 || r[2] != unit {
 			t.Errorf("Results %q unit %q, want %q", label, r, unit)
 		}
@@ -299,6 +300,72 @@ func TestBOQXLSXInputsAndResults(t *testing.T) {
 		if !found {
 			t.Errorf("no row for flag %s (%s): %s", fl.Code, fl.Severity, fl.Message)
 		}
+	}
+}
+
+// TestBOQXLSXResultsRows: the Results sheet's figures are the page's rows,
+// figures.Candidate: for the demo's recommended bank every group title
+// and row label is there, in the page's order, with the row's note, a
+// number cell holding the row's unrounded number in its unit without
+// prefix, and words as the page writes them. Before the sheet rendered
+// these rows it had its own labels ("count per string",
+// "runtime" noted "not within 10^7 s").
+func TestBOQXLSXResultsRows(t *testing.T) {
+	t.Parallel()
+	s := mustSize(t, upsDesign, nil, "")
+	f := openXLSX(t, s)
+	all, err := f.GetRows(SheetResults, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cell := func(r []string, i int) string {
+		if i < len(r) {
+			return r[i]
+		}
+		return ""
+	}
+	at := 0 // the sheet row to search from: the rows come in the page's order
+	find := func(label string) []string {
+		for i := at; i < len(all); i++ {
+			if cell(all[i], 0) == label {
+				at = i + 1
+				return all[i]
+			}
+		}
+		t.Errorf("Results has no %q after row %d", label, at)
+		return nil
+	}
+	n := 0
+	for _, g := range figures.Candidate(s.c, s.r) {
+		find(g.Title)
+		for _, fr := range g.Rows {
+			n++
+			r := find(figures.ASCII(fr.Label))
+			if r == nil {
+				continue
+			}
+			if got, want := cell(r, 3), figures.ASCII(fr.Note); got != want {
+				t.Errorf("%s: note %q, want %q", fr.Label, got, want)
+			}
+			if !fr.HasNum {
+				if got, want := cell(r, 1)+"|"+cell(r, 2), figures.ASCII(fr.Value)+"|"+fr.Unit; got != want {
+					t.Errorf("%s: value|unit %q, want %q", fr.Label, got, want)
+				}
+				continue
+			}
+			unit := fr.Base
+			if unit == "" {
+				unit = s.b.Currency // a price
+			}
+			// A cell keeps 15 significant figures, as Excel does.
+			if got := parseNum(t, cell(r, 1), fr.Label); !closeTo(got, fr.Num, 1e-12) || cell(r, 2) != unit {
+				t.Errorf("%s: %v %q, want %v %q", fr.Label, got, cell(r, 2), fr.Num, unit)
+			}
+		}
+	}
+	// The demo's bank has every group: heat, balancing and life too.
+	if n < 35 {
+		t.Errorf("only %d rows checked; the demo's bank has heat, balancing and life figures", n)
 	}
 }
 

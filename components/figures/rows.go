@@ -12,7 +12,27 @@ import (
 // (how it was judged, or the per-cell value). Value is the number as text
 // ("117.6"), words ("15 s × 5 p, 75 cells") or None; Unit carries its
 // prefix ("kJ") and is empty for words and plain counts.
-type Row struct{ Label, Value, Unit, Note string }
+//
+// A row of a number also keeps it unrounded: Num in Base, the unit
+// without prefix (117600 in J for 117.6 kJ, a time in s, a price in the
+// design's currency with Base empty), so that a spreadsheet holds a
+// number cell rather than text. HasNum says whether it has one: words and
+// None have none.
+type Row struct {
+	Label, Value, Unit, Note string
+
+	Num    float64
+	Base   string
+	HasNum bool
+}
+
+// text is a row of words, with no number behind it.
+func text(label, value, note string) Row { return Row{Label: label, Value: value, Note: note} }
+
+// plain is a row of a number in unit, written by format (Fixed, Number).
+func plain(label string, v float64, value, unit, note string) Row {
+	return Row{Label: label, Value: value, Unit: unit, Note: note, Num: v, Base: unit, HasNum: finite(v)}
+}
 
 // Text is the value with its unit, joined by a no-break space, as a page
 // shows it in one cell: "117.6 kJ".
@@ -27,13 +47,13 @@ type Group struct {
 // quantity is a row of v in unit through SI.
 func quantity(label string, v float64, unit string, sig int, note string) Row {
 	n, u := siParts(v, unit, sig)
-	return Row{label, n, u, note}
+	return Row{Label: label, Value: n, Unit: u, Note: note, Num: v, Base: unit, HasNum: finite(v)}
 }
 
 // optQuantity is quantity for an optional figure: None when nil.
 func optQuantity(label string, v *float64, unit string, sig int, note string) Row {
 	if v == nil {
-		return Row{label, None, "", note}
+		return text(label, None, note)
 	}
 	return quantity(label, *v, unit, sig, note)
 }
@@ -41,10 +61,10 @@ func optQuantity(label string, v *float64, unit string, sig int, note string) Ro
 // duration is a row of a time through Duration, None when nil.
 func duration(label string, s *float64, sig int, note string) Row {
 	if s == nil {
-		return Row{label, None, "", note}
+		return text(label, None, note)
 	}
 	n, u := durationParts(*s, sig)
-	return Row{label, n, u, note}
+	return Row{Label: label, Value: n, Unit: u, Note: note, Num: *s, Base: "s", HasNum: finite(*s)}
 }
 
 // Candidate lays a candidate bank out for reading: the bank, energy and
@@ -58,7 +78,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		worst += ", " + SI(*r.ColdC, "°C", 3)
 	}
 	bank := Group{Title: "Bank", Rows: []Row{
-		{"Arrangement", BankText(*c), "", limitNote(c.Limit)},
+		text("Arrangement", BankText(*c), limitNote(c.Limit)),
 		quantity("Cell voltage at the window top", c.CellV, "V", 4, "ceiling "+SI(c.CellCeilingV, "V", 4)),
 		quantity("Capacitance", c.CapacitanceF, "F", 4, "worst case "+SI(c.WorstCapacitanceF, "F", 4)+" ("+worst+")"),
 		quantity("ESR", c.ESROhm, "Ω", 3, "worst case "+SI(c.WorstESROhm, "Ω", 3)+coldNote(c.ColdESRFactor)),
@@ -90,10 +110,10 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	}
 	if l := c.Life; l != nil {
 		g := Group{Title: "Life", Rows: []Row{
-			{"Expected life", Number(l.ExpectedYears, 3), "years", Number(l.ExpectedH, 3) + nbsp + "h at " + Celsius(l.TemperatureC) + " and " + SI(l.CellV, "V", 3) + " per cell"},
+			plain("Expected life", l.ExpectedYears, Number(l.ExpectedYears, 3), "years", Number(l.ExpectedH, 3)+nbsp+"h at "+Celsius(l.TemperatureC)+" and "+SI(l.CellV, "V", 3)+" per cell"),
 		}}
 		if l.DesignYears != nil {
-			g.Rows = append(g.Rows, Row{"Required", Number(*l.DesignYears, 3), "years", ""})
+			g.Rows = append(g.Rows, plain("Required", *l.DesignYears, Number(*l.DesignYears, 3), "years", ""))
 		}
 		groups = append(groups, g)
 	}
@@ -101,11 +121,11 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	groups = append(groups, Group{Title: "Safety figures", Rows: []Row{
 		quantity("Bank voltage", h.MaxV, "V", 4, "at the window top"),
 		quantity("Stored energy", h.StoredEnergyJ, "J", 4, ""),
-		quantity("Short-circuit current", h.ShortCircuitCurrentA, "A", 3, "window top ÷ bank ESR"),
+		quantity("Short-circuit current", h.ShortCircuitCurrentA, "A", 3, "window top ÷ bank ESR at beginning of life"),
 		quantity("Energy per cell", h.CellEnergyWh, "Wh", 3, "as transport rules count it"),
 	}})
 	return append(groups, Group{Title: "Price, mass and volume", Rows: []Row{
-		{"Price", Opt(c.TotalPrice, Money), "", "cells only, in the currency of the unit price"},
+		price(c.TotalPrice),
 		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
 		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
 	}})
@@ -124,11 +144,25 @@ func runtimeRow(c *sizing.Candidate) Row {
 	}
 	note += ", repeating the steps"
 	if c.RuntimeS == nil {
-		n, u := durationParts(sizing.RuntimeLimitS, 3)
-		return Row{"Runtime", "beyond " + n, u, note}
+		// Not rounded: 10⁷ s is 115.74 days, and "beyond 116 days" would
+		// claim more than sizing followed.
+		return Row{Label: "Runtime", Value: "beyond " + runtimeLimit, Unit: "s", Note: note}
 	}
 	n, u := durationParts(*c.RuntimeS, 3)
-	return Row{"Runtime", Estimated(n, c.RuntimeEstimated), u, note}
+	return Row{Label: "Runtime", Value: Estimated(n, c.RuntimeEstimated), Unit: u, Note: note, Num: *c.RuntimeS, Base: "s", HasNum: true}
+}
+
+// runtimeLimit is sizing.RuntimeLimitS, in s, as the README states it
+// (TestRuntimeLimit holds the two together).
+const runtimeLimit = "10⁷"
+
+// price is the cells' price row, in the design's currency.
+func price(p *float64) Row {
+	const note = "cells only, in the currency of the unit price"
+	if p == nil {
+		return text("Price", None, note)
+	}
+	return Row{Label: "Price", Value: Money(*p), Note: note, Num: *p, HasNum: finite(*p)}
 }
 
 // Runtime is a candidate's worst-case runtime as the page states it: a
@@ -139,13 +173,13 @@ func Runtime(c *sizing.Candidate) string { return runtimeRow(c).Text() }
 func heat(t *sizing.Thermal) Group {
 	g := Group{Title: "Heat in the hottest cell", Rows: []Row{
 		quantity("ESR loss", t.CellLossW, "W", 3, "bank "+SI(t.BankLossW, "W", 3)),
-		{"Steady temperature rise", Fixed(t.SteadyRiseK, 1), "K", "at the pass's RMS loss"},
-		{"Peak rise over the pass", Fixed(t.PeakRiseK, 1), "K", "from ambient"},
+		plain("Steady temperature rise", t.SteadyRiseK, Fixed(t.SteadyRiseK, 1), "K", "at the pass's RMS loss"),
+		plain("Peak rise over the pass", t.PeakRiseK, Fixed(t.PeakRiseK, 1), "K", "from ambient"),
 	}}
 	if t.DutyPeakRiseK != nil {
-		g.Rows = append(g.Rows, Row{"Peak rise, repeating", Fixed(*t.DutyPeakRiseK, 1), "K", "once the repeats settle"})
+		g.Rows = append(g.Rows, plain("Peak rise, repeating", *t.DutyPeakRiseK, Fixed(*t.DutyPeakRiseK, 1), "K", "once the repeats settle"))
 	}
-	g.Rows = append(g.Rows, Row{"Hot spot", Fixed(t.HotSpotC, 1), "°C", ""})
+	g.Rows = append(g.Rows, plain("Hot spot", t.HotSpotC, Fixed(t.HotSpotC, 1), "°C", ""))
 	tc := duration("Thermal time constant", t.TimeConstantS, 3, "")
 	if t.TimeConstantS == nil {
 		tc.Note = "no mass given: the steady rise is used"
@@ -154,7 +188,7 @@ func heat(t *sizing.Thermal) Group {
 	if t.SpecificHeatDefault {
 		note = "default"
 	}
-	g.Rows = append(g.Rows, tc, Row{"Specific heat", Number(t.SpecificHeatJPerKgK, 4), "J/(kg·K)", note})
+	g.Rows = append(g.Rows, tc, plain("Specific heat", t.SpecificHeatJPerKgK, Number(t.SpecificHeatJPerKgK, 4), "J/(kg·K)", note))
 	return g
 }
 
@@ -167,7 +201,9 @@ func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	if b == nil {
 		return g
 	}
-	g.Rows = append(g.Rows, Row{"Kind", b.Kind, "", strconv.Itoa(b.Count) + " per bank, one per cell"})
+	// Count and LossW are of one string (sizing.BalancingResult): every
+	// string has the same circuits.
+	g.Rows = append(g.Rows, text("Kind", b.Kind, strconv.Itoa(b.Count)+" per string, one per cell"))
 	if b.ResistorOhm != nil {
 		g.Rows = append(g.Rows, quantity("Resistor across each cell", *b.ResistorOhm, "Ω", 3, b.Series+" value"))
 	}
@@ -184,7 +220,7 @@ func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 		shelfS = &s
 	}
 	g.Rows = append(g.Rows,
-		quantity("Standing loss", b.LossW, "W", 3, "at the window top"),
+		quantity("Standing loss per string", b.LossW, "W", 3, "at the window top"),
 		duration("Equalisation time constant", b.TimeConstantS, 3, "R·C of one cell"),
 		duration("Shelf hold to the window bottom", shelfS, 3, "no load, no charger"),
 		optQuantity("Worst cell after a long hold", b.WorstStaticCellV, "V", 4, "leakage spread "+SI(b.LeakageSpreadA, "A", 3)),

@@ -59,7 +59,7 @@ func TestCandidate(t *testing.T) {
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
 		"Stored energy | 89.6 | kJ | ",
-		"Short-circuit current | 6.67 | kA | window top ÷ bank ESR",
+		"Short-circuit current | 6.67 | kA | window top ÷ bank ESR at beginning of life",
 		"Energy per cell | 354 | mWh | as transport rules count it",
 		"# Price, mass and volume",
 		"Price | 468.00 |  | cells only, in the currency of the unit price",
@@ -90,8 +90,12 @@ func TestCandidateEdges(t *testing.T) {
 			rows[row.Label] = row
 		}
 	}
-	// sizing.RuntimeLimitS is 10⁷ s: 115.74 days, 116 to 3 figures.
-	if got, want := rows["Runtime"].Text(), "beyond 116"+nbsp+"days"; got != want {
+	// sizing.RuntimeLimitS is 10⁷ s: 115.74 days, which "116 days" would
+	// overstate; the README says "not within 10⁷ s".
+	if sizing.RuntimeLimitS != 1e7 {
+		t.Fatalf("sizing.RuntimeLimitS is %g s; runtimeLimit says 10⁷ s", sizing.RuntimeLimitS)
+	}
+	if got, want := rows["Runtime"].Text(), "beyond 10⁷"+nbsp+"s"; got != want {
 		t.Errorf("runtime %q, want %q", got, want)
 	}
 	if got, want := rows["Runtime"].Note, "not reached within the time followed, repeating the steps"; got != want {
@@ -102,6 +106,44 @@ func TestCandidateEdges(t *testing.T) {
 	}
 	if got, want := rows["Mass"].Text(), "62"+nbsp+"g"; got != want { // 0.062 kg
 		t.Errorf("mass %q, want %q", got, want)
+	}
+	if r := rows["Runtime"]; r.HasNum {
+		t.Errorf("runtime beyond the limit has a number %v %s", r.Num, r.Base)
+	}
+}
+
+// TestCandidateNumbers: a row of a number keeps it unrounded in its unit
+// without prefix, for a spreadsheet's number cell; words keep none.
+func TestCandidateNumbers(t *testing.T) {
+	t.Parallel()
+	c, r := busHoldUp()
+	rows := map[string]Row{}
+	for _, g := range Candidate(c, r) {
+		for _, row := range g.Rows {
+			rows[row.Label] = row
+		}
+	}
+	for label, want := range map[string]struct {
+		v    float64
+		base string
+	}{
+		"Stored energy at the window top": {89600, "J"},                       // shown 89.6 kJ
+		"ESR":                             {0.0072, "Ω"},                      // shown 7.2 mΩ
+		"Runtime":                         {23.3068528, "s"},                  // shown ≈23.3 s
+		"Peak current":                    {141.67, "A"},                      // shown 142 A
+		"Energy per cell":                 {350 * 2.7 * 2.7 / 2 / 3600, "Wh"}, // shown 354 mWh
+		"Price":                           {468, ""},                          // the design's currency
+		"Mass":                            {4.536, "kg"},                      // shown 4.54 kg
+	} {
+		got := rows[label]
+		if !got.HasNum || got.Num != want.v || got.Base != want.base {
+			t.Errorf("%s: number %v %q (has %v), want %v %q", label, got.Num, got.Base, got.HasNum, want.v, want.base)
+		}
+	}
+	for _, label := range []string{"Arrangement", "Leakage and balancing drain"} { // words; None
+		if rows[label].HasNum {
+			t.Errorf("%s has a number %v", label, rows[label].Num)
+		}
 	}
 }
 
@@ -121,5 +163,26 @@ func TestSortedFlags(t *testing.T) {
 	}
 	if flags[0].Code != "a" {
 		t.Error("SortedFlags reordered its argument")
+	}
+}
+
+// TestCandidateBalancingPerString: sizing counts the balancing circuits
+// and their standing loss for one string (Count is the series count), so
+// an 18 s × 4 p bank has 18 per string, 72 in all.
+func TestCandidateBalancingPerString(t *testing.T) {
+	t.Parallel()
+	c, r := busHoldUp()
+	c.Balancing = &sizing.BalancingResult{Kind: "passive", Count: 18, LossW: 0.0504}
+	rows := map[string]Row{}
+	for _, g := range Candidate(c, r) {
+		for _, row := range g.Rows {
+			rows[row.Label] = row
+		}
+	}
+	if got, want := rows["Kind"].Note, "18 per string, one per cell"; got != want {
+		t.Errorf("kind note %q, want %q", got, want)
+	}
+	if got, want := rows["Standing loss per string"].Text(), "50.4"+nbsp+"mW"; got != want {
+		t.Errorf("standing loss per string %q, want %q", got, want)
 	}
 }
