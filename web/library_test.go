@@ -616,7 +616,9 @@ func TestCompareRowsShareAUnit(t *testing.T) {
 	var esr []string
 	doc.Find("[data-testid=compare-row]").Each(func(_ int, row *goquery.Selection) {
 		if strings.HasPrefix(strings.TrimSpace(row.Find("th").First().Text()), "ESR (DC)") {
-			row.Find("td").Each(func(_ int, td *goquery.Selection) { esr = append(esr, strings.TrimSpace(td.Contents().Not(".sr-only").Text())) })
+			row.Find("td").Each(func(_ int, td *goquery.Selection) {
+				esr = append(esr, strings.TrimSpace(td.Contents().Not(".sr-only").Text()))
+			})
 		}
 	})
 	want := []string{"1.7\u00a0mΩ", "2.2\u00a0mΩ", "0.75\u00a0mΩ"}
