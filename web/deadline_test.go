@@ -46,29 +46,12 @@ func newServerWith(t testing.TB, cfg Config) (*Server, *syncBuffer) {
 // 1 ms deadline.
 func heavyDesign(t testing.TB, n, repeat int) []byte {
 	t.Helper()
-	data, err := os.ReadFile("../testdata/ups-ride-through.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := sizing.DecodeDesign(bytes.NewReader(data))
-	if err != nil {
-		t.Fatal(err)
-	}
-	steps := make([]sizing.Step, n)
-	vals := make([]float64, len(steps))
-	for i := range steps {
-		vals[i] = 300 + float64(i%7)*10
+	return demoWithLoad(t, n, repeat, 1, func(i int) float64 {
 		if i%2 == 1 {
-			vals[i] = -200 - float64(i%5)*10
+			return -200 - float64(i%5)*10
 		}
-		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 1}
-	}
-	d.Load.Steps, d.Load.Repeat = steps, &repeat
-	out, err := json.Marshal(d)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return out
+		return 300 + float64(i%7)*10
+	})
 }
 
 // feasibleHeavyDesign is the invented demo design with its load replaced
@@ -82,6 +65,19 @@ func feasibleHeavyDesign(t testing.TB) []byte { return feasibleHeavyDesignOf(t, 
 // repeat times.
 func feasibleHeavyDesignOf(t testing.TB, n, repeat int) []byte {
 	t.Helper()
+	return demoWithLoad(t, n, repeat, 0.001, func(i int) float64 {
+		if i%2 == 1 {
+			return -100
+		}
+		return 100
+	})
+}
+
+// demoWithLoad is the invented demo design of testdata/ups-ride-through.json
+// with its load replaced by n power steps of durationS each, step i drawing
+// powerW(i) (negative: charging), repeated repeat times.
+func demoWithLoad(t testing.TB, n, repeat int, durationS float64, powerW func(i int) float64) []byte {
+	t.Helper()
 	data, err := os.ReadFile("../testdata/ups-ride-through.json")
 	if err != nil {
 		t.Fatal(err)
@@ -91,13 +87,10 @@ func feasibleHeavyDesignOf(t testing.TB, n, repeat int) []byte {
 		t.Fatal(err)
 	}
 	steps := make([]sizing.Step, n)
-	vals := make([]float64, len(steps))
+	vals := make([]float64, n)
 	for i := range steps {
-		vals[i] = 100
-		if i%2 == 1 {
-			vals[i] = -100
-		}
-		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: 0.001}
+		vals[i] = powerW(i)
+		steps[i] = sizing.Step{PowerW: &vals[i], DurationS: durationS}
 	}
 	d.Load.Steps, d.Load.Repeat = steps, &repeat
 	out, err := json.Marshal(d)
