@@ -23,6 +23,7 @@ type passStats struct {
 	peakI    float64    // largest |i|, A
 	i2dt     float64    // ∫ i² dt, A²·s
 	eLoad    float64    // energy delivered at the terminals, J
+	eOut     float64    // energy delivered to the load, after the converter, J
 	reject   float64    // charging energy not absorbed, J
 	stop     stopReason // why the run ended early, if it did
 	stopStep int        // index of the step that stopped it
@@ -48,6 +49,7 @@ func (m *bankModel) run(steps []compiledStep, repeat int, v0, minV, maxV float64
 			s.peakI = max(s.peakI, o.iPeak)
 			s.i2dt += o.i2dt
 			s.eLoad += o.eLoad
+			s.eOut += o.eLoad * steps[j].toLoad
 			s.reject += o.reject
 			s.steps++
 			if o.stop != stopNone {

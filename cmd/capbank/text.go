@@ -162,7 +162,7 @@ func safetyTable(cs []sizing.Candidate) table {
 			losses = append(losses, c.Thermal.CellLossW)
 		}
 		if b := c.Balancing; b != nil && b.Count > 0 {
-			standings = append(standings, b.LossW*float64(c.Parallel))
+			standings = append(standings, b.BankLossW)
 		}
 	}
 	lScale, lUnit := figures.Column(losses, "W", sigFigs)
@@ -209,8 +209,8 @@ func safetyTable(cs []sizing.Candidate) table {
 				bal += " " + quantity(*b.QuiescentA, "A")
 			}
 			if b.Count > 0 {
-				bal += fmt.Sprintf(" ×%d", b.Count)
-				standing = number(b.LossW*float64(c.Parallel)/sScale, 3)
+				bal += fmt.Sprintf(" ×%d/string", b.Count)
+				standing = number(b.BankLossW/sScale, 3)
 			}
 			shelf = opt(b.ShelfHoldH)
 			static = opt(b.WorstStaticCellV)
@@ -218,6 +218,9 @@ func safetyTable(cs []sizing.Candidate) table {
 		life := none
 		if c.Life != nil {
 			life = number(c.Life.ExpectedYears, 3)
+			if c.Life.AtLeast {
+				life = ">= " + life
+			}
 		}
 		t.rows = append(t.rows, []string{c.CellID, hot, rise, loss, spread, bal, standing, shelf, static, life})
 	}

@@ -21,7 +21,7 @@ func busHoldUp() (*sizing.Candidate, *sizing.Report) {
 		StoredEnergyJ: 89600, UsableEnergyJ: 53760,
 		RuntimeS: ptr(23.3068528), RuntimeEnd: "voltage", RuntimeEstimated: true,
 		MinTerminalV: 25.6789, EndCapacitorV: 26.1,
-		DeliveredEnergyJ: 48000, ESRLossJ: 512.3, LeakageLossJ: 0.4,
+		BankEnergyJ: 48000, ESRLossJ: 512.3, LeakageLossJ: 0.4,
 		PeakCurrentA: 141.67, CellPeakCurrentA: 35.42, RMSCurrentA: 98.2, CellRMSCurrentA: 24.5,
 		Hazards:    sizing.Hazards{MaxV: 48, StoredEnergyJ: 89600, ShortCircuitCurrentA: 48 / 0.0072, CellEnergyWh: 350 * 2.7 * 2.7 / 2 / 3600},
 		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6),
