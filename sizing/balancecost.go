@@ -131,12 +131,12 @@ func (p *plan) worstCaseText(c *Cell, l *cellLimits) string {
 	case len(t) != 2 || t[0] == 0:
 		parts = append(parts, "no minus tolerance given")
 	case !p.tolOn:
-		parts = append(parts, fmt.Sprintf("tolerance %g %% not applied (eol.apply_tolerance is false)", t[0]))
+		parts = append(parts, fmt.Sprintf("tolerance −%g %% not applied (eol.apply_tolerance is false)", -t[0]))
 	default:
-		parts = append(parts, fmt.Sprintf("tolerance %g %%", t[0]))
+		parts = append(parts, fmt.Sprintf("tolerance −%g %%", -t[0]))
 	}
 	if cold := p.d.ColdC; cold != nil && *cold < roomC {
-		s := fmt.Sprintf("at %g °C: ", *cold)
+		s := "at " + strings.Replace(fmt.Sprintf("%g", *cold), "-", "−", 1) + " °C: "
 		if c.ColdESRFactor != nil {
 			s += fmt.Sprintf("ESR ×%.3g", l.coldK)
 		} else {

@@ -2,6 +2,7 @@ package figures
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 
@@ -75,12 +76,14 @@ func duration(label string, s *float64, sig int, note string) Row {
 func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	bank := Group{Title: "Bank", Rows: []Row{
 		text("Arrangement", BankText(*c), limitNote(c.Limit)),
-		text("Worst case", c.WorstCase, "what the worst-case figures apply"),
 		quantity("Cell voltage at the window top", c.CellV, "V", 4, "ceiling "+SI(c.CellCeilingV, "V", 4)),
 		quantity("Capacitance", c.CapacitanceF, "F", 4, "worst case "+SI(c.WorstCapacitanceF, "F", 4)),
 		quantity("ESR", c.ESROhm, "Ω", 3, "worst case "+SI(c.WorstESROhm, "Ω", 3)+coldNote(c.ColdESRFactor)),
 		optQuantity("Leakage and balancing drain", c.LeakageOhm, "Ω", 3, "as one resistance across the bank"),
 	}}
+	if c.WorstCase != "" {
+		bank.Rows = slices.Insert(bank.Rows, 1, text("Worst case", c.WorstCase, "what the worst-case figures apply"))
+	}
 	energy := Group{Title: "Energy and runtime, worst case", Rows: []Row{
 		quantity("Stored energy at the window top", c.StoredEnergyJ, "J", 4, SI(c.StoredEnergyJ/3600, "Wh", 3)+", beginning of life"),
 		quantity("Usable energy in the window", c.UsableEnergyJ, "J", 4, SI(c.UsableEnergyJ/3600, "Wh", 3)),
