@@ -79,7 +79,14 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 	}
 	msg += " " + alternativeText(how+")", alt)
 
-	cand.Flags = append(cand.Flags, Flag{Code: "balancing-loss", Severity: Warning, Message: msg + " Thresholds: balancing.max_loss_share and balancing.min_time_constant_h (common practice, no source)."})
+	// Drawing a share of the load's power costs runtime and heat: a
+	// warning. A fast self-discharge alone matters off the charger (the
+	// self-discharge flag judges it against standby_h): a note.
+	sev := Info
+	if lossy {
+		sev = Warning
+	}
+	cand.Flags = append(cand.Flags, Flag{Code: "balancing-loss", Severity: sev, Message: msg + " Thresholds: balancing.max_loss_share and balancing.min_time_constant_h (common practice, no source)."})
 }
 
 // alternativeOf is the summary of a candidate sized as an alternative.

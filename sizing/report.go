@@ -18,13 +18,13 @@ type Report struct {
 	ColdC                *float64 `json:"cold_c"`
 	// ProfileDurationS, in s, is one pass of the steps; PassDurationS is the
 	// sizing pass, steps × repeat.
-	ProfileDurationS float64     `json:"profile_duration_s"`
-	PassDurationS    float64     `json:"pass_duration_s"`
-	Repeat           int         `json:"repeat"`
+	ProfileDurationS float64 `json:"profile_duration_s"`
+	PassDurationS    float64 `json:"pass_duration_s"`
+	Repeat           int     `json:"repeat"`
 	// PeriodS is the design's load.period_s: the time from the start of one
 	// event to the start of the next; nil: the pass repeats back to back.
-	PeriodS *float64 `json:"period_s"`
-	Candidates       []Candidate `json:"candidates"`
+	PeriodS    *float64    `json:"period_s"`
+	Candidates []Candidate `json:"candidates"`
 	// Curve is the worst-case pass of the recommended bank, for charts;
 	// nil when nothing is recommended.
 	Curve *Curve `json:"curve,omitempty"`
@@ -117,11 +117,11 @@ type Candidate struct {
 	// and an efficiency of 1), lost in the ESR, lost in the leakage, and
 	// offered by charging steps but not absorbed because the bank was held
 	// at the window top.
-	BankEnergyJ      float64 `json:"bank_energy_j"`
-	LoadEnergyJ      float64 `json:"load_energy_j"`
-	ESRLossJ         float64 `json:"esr_loss_j"`
-	LeakageLossJ     float64 `json:"leakage_loss_j"`
-	RejectedEnergyJ  float64 `json:"rejected_energy_j"`
+	BankEnergyJ     float64 `json:"bank_energy_j"`
+	LoadEnergyJ     float64 `json:"load_energy_j"`
+	ESRLossJ        float64 `json:"esr_loss_j"`
+	LeakageLossJ    float64 `json:"leakage_loss_j"`
+	RejectedEnergyJ float64 `json:"rejected_energy_j"`
 	// Totals for the whole bank; nil when the cell does not give the figure.
 	TotalPrice *float64 `json:"total_price"`
 	MassKg     *float64 `json:"mass_kg"`

@@ -225,16 +225,21 @@ func TestBalancingLoss(t *testing.T) {
 		name       string
 		share, tcH float64
 		want       bool
+
+		sev        Severity
 	}{
-		{"both just passed", share * 1.001, tcH * 0.999, false},
-		{"loss share just under the bank's", share * 0.999, tcH * 0.999, true},
-		{"time constant just over the bank's", share * 1.001, tcH * 1.001, true},
+		{"both just passed", share * 1.001, tcH * 0.999, false, ""},
+		{"loss share just under the bank's", share * 0.999, tcH * 0.999, true, Warning},
+		// A fast self-discharge alone is a note: it matters off the charger.
+		{"time constant just over the bank's", share * 1.001, tcH * 1.001, true, Info},
 	} {
 		d := balancingBank()
 		d.Balancing = &Balancing{MaxLossShare: fp(k.share), MinTimeConstantH: fp(k.tcH)}
 		cc := rulesCand(t, d, "c3000")
 		if got := flagOf(cc, "balancing-loss") != nil; got != k.want {
 			t.Errorf("%s: balancing-loss %v, want %v", k.name, got, k.want)
+		} else if got && flagOf(cc, "balancing-loss").Severity != k.sev {
+			t.Errorf("%s: severity %q, want %q", k.name, flagOf(cc, "balancing-loss").Severity, k.sev)
 		}
 		if !k.want && len(cc.Balancing.Alternatives) != 0 {
 			t.Errorf("%s: alternatives without the warning", k.name)
@@ -471,3 +476,51 @@ func TestTemperatureLimit(t *testing.T) {
 }
 
 func fpInt(n int) *int { return &n }
+
+// The capacitance spread only matters on a charge from empty: within the
+// window every cell of a string gives and takes back the same charge
+// (charge conservation, REFERENCES.md 5.1), so a string balanced at the top
+// comes back to the same cell voltages. Two cells of 900 F and 1200 F at
+// 2.5 V each give Q = 1000 C: 900 F falls by 1.111 V, 1200 F by 0.833 V;
+// the same Q back restores 2.5 V on both. The first-charge bound is
+// therefore a warning past the surge voltage, a note past the rating, never
+// a danger on every bank.
+func TestSpreadIsAFirstChargeMatter(t *testing.T) {
+	t.Parallel()
+	caps := []float64{900, 1200}
+	v := []float64{2.5, 2.5}
+	const q = 1000.0
+	for i, c := range caps {
+		v[i] -= q / c
+	}
+	near(t, "900 F after the discharge", v[0], 2.5-1000.0/900, 1e-12)
+	for i, c := range caps {
+		v[i] += q / c
+	}
+	near(t, "900 F after the recharge", v[0], 2.5, 1e-12)
+	near(t, "1200 F after the recharge", v[1], 2.5, 1e-12)
+
+	// 20 cells of −10 %/+20 % at 2.4 V each: the worst lot's first charge
+	// takes one to 48/(1 + 19·0.9/1.2) = 3.148 V (5.2), past a 2.85 V surge.
+	d := &Design{Window: Window{MaxV: 48, MinV: 24}, Load: Load{Steps: []Step{{PowerW: fp(400), DurationS: 20}}},
+		Cells: []Cell{{ID: "c", RatedV: 2.7, SurgeV: fp(2.85), CapacitanceF: 650, ESROhm: 1e-3, CapacitanceTolerancePct: []float64{-10, 20}}}}
+	d.CellMaxV = fp(2.4)
+	c := rulesCand(t, d, "c")
+	f := flagOf(c, "cell-overvoltage")
+	near(t, "worst cell on the first charge", c.Spread.WorstCellV, 48/(1+19*0.9/1.2), 1e-12)
+	if f == nil || f.Severity != Warning || !strings.Contains(f.Message, "first charge from empty") {
+		t.Errorf("flag %+v, want a warning about the first charge", f)
+	}
+	// ±8 %: 48/(1 + 19·0.92/1.08) = 2.793 V, past the 2.7 V rating, within
+	// the surge: a note. ±2 %: 2.492 V, within the rating: no flag.
+	d.Cells[0].CapacitanceTolerancePct = []float64{-8, 8}
+	c = rulesCand(t, d, "c")
+	near(t, "worst cell at ±8 %", c.Spread.WorstCellV, 48/(1+19*0.92/1.08), 1e-12)
+	if f := flagOf(c, "cell-overvoltage"); f == nil || f.Severity != Info {
+		t.Errorf("±8 %%: flag %+v, want a note", f)
+	}
+	d.Cells[0].CapacitanceTolerancePct = []float64{-2, 2}
+	if c := rulesCand(t, d, "c"); flagOf(c, "cell-overvoltage") != nil {
+		t.Errorf("worst cell %v V within the rating, flags %v", c.Spread.WorstCellV, c.Flags)
+	}
+}

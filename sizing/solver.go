@@ -1016,18 +1016,25 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 		sp.MinusPct = 0 // not −0
 	}
 	cand.Spread = sp
-	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top"
+	// Charge sharing only spreads the cells on a charge from empty: within
+	// the window every cell gives and takes back the same charge, so a
+	// string balanced at the top returns to the same cell voltages each
+	// cycle (charge conservation, REFERENCES.md 5.1). The worst lot on the
+	// first charge (or after a service discharge) is a commissioning
+	// matter, and its bound is a Warning past the surge voltage, a note
+	// past the rating.
+	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top; cycling within the window does not add to it, since every cell gives and takes back the same charge"
 	switch {
 	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Danger, Message: fmt.Sprintf(
-			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
-			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
-			Caution: "A cell past its surge voltage can vent or rupture. Limit the charge current so the balancing keeps up, use active balancing, or add a cell in series. " + cautionCodes})
-	case l.s > 1 && sp.WorstCellV > c.RatedV*(1+1e-9):
 		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
-			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, above its %g V rating (%s).",
-			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
-			Caution: "Charge slowly enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
+			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
+			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
+			Caution: "A cell past its surge voltage can vent or rupture. Make the first charge slow enough for the balancing to act (hours, about the balancing's R·C), charge with per-cell voltage limits, or sort the cells by measured capacitance. " + cautionCodes})
+	case l.s > 1 && sp.WorstCellV > c.RatedV*(1+1e-9):
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Info, Message: fmt.Sprintf(
+			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, above its %g V rating but within its surge voltage (%s).",
+			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
+			Caution: "Make the first charge slow enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
 	}
 	if b := cand.Balancing; b.WorstStaticCellV != nil && *b.WorstStaticCellV > c.RatedV*(1+1e-9) {
 		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
@@ -1145,4 +1152,12 @@ func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankMo
 		cand.Flags = append(cand.Flags, Flag{Code: "eol-stricter", Severity: Info, Message: fmt.Sprintf(
 			"The design's end-of-life factors (capacitance ×%g, ESR ×%g) are stricter than the usual criteria (×0.8, ×2; common practice, no source) a rated life refers to, so the bank reaches them sooner than the expected life says.", p.capF, p.esrF)})
 	}
+}
+
+// minusText writes a minus tolerance in percent with a true minus sign.
+func minusText(pct float64) string {
+	if pct == 0 {
+		return "0"
+	}
+	return "−" + fmt.Sprintf("%g", -pct)
 }

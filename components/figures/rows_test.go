@@ -22,7 +22,7 @@ func busHoldUp() (*sizing.Candidate, *sizing.Report) {
 		RuntimeS: ptr(23.3068528), RuntimeEnd: "voltage", RuntimeEstimated: true,
 		MinTerminalV: 25.6789, MinCellV: 25.6789 / 18, MinV: 24, EndCapacitorV: 26.1,
 		BankEnergyJ: 48000, LoadEnergyJ: 45600, ESRLossJ: 512.3, LeakageLossJ: 0.4,
-		WorstCase: "end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor)",
+		WorstCase:    "end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor)",
 		PeakCurrentA: 141.67, CellPeakCurrentA: 35.42, RMSCurrentA: 98.2, CellRMSCurrentA: 24.5,
 		Hazards:    sizing.Hazards{MaxV: 48, StoredEnergyJ: 89600, ShortCircuitCurrentA: 48 / 0.0072, CellEnergyWh: 350 * 2.7 * 2.7 / 2 / 3600},
 		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6),
