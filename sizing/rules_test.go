@@ -226,7 +226,7 @@ func TestBalancingLoss(t *testing.T) {
 		share, tcH float64
 		want       bool
 
-		sev        Severity
+		sev Severity
 	}{
 		{"both just passed", share * 1.001, tcH * 0.999, false, ""},
 		{"loss share just under the bank's", share * 0.999, tcH * 0.999, true, Warning},
