@@ -1021,12 +1021,20 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	// string balanced at the top returns to the same cell voltages each
 	// cycle (charge conservation, REFERENCES.md 5.1). The worst lot on the
 	// first charge (or after a service discharge) is a commissioning
-	// matter, and its bound is a Warning past the surge voltage, a note
-	// past the rating.
+	// matter: past the surge voltage a warning for an unbalanced string
+	// and a note for a balanced one (a slow first charge lets the
+	// balancing act); past the rating only, a note.
 	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top; cycling within the window does not add to it, since every cell gives and takes back the same charge"
+	balanced := cand.Balancing != nil && (cand.Balancing.Kind == "passive" || cand.Balancing.Kind == "active")
 	switch {
 	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
+		// With balancing in place a slow first charge lets it act: a note
+		// of the commissioning procedure. With none, nothing does.
+		sev := Warning
+		if balanced {
+			sev = Info
+		}
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: sev, Message: fmt.Sprintf(
 			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
 			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
 			Caution: "A cell past its surge voltage can vent or rupture. Make the first charge slow enough for the balancing to act (hours, about the balancing's R·C), charge with per-cell voltage limits, or sort the cells by measured capacitance. " + cautionCodes})

@@ -247,7 +247,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
 		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, each(figures.Money)),
 		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, each(func(v float64) string { return figures.Duration(v, 3) })),
-		bankRow("Usable energy at end of life", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
+		bankRow("Usable energy at worst case", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
 		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, each(figures.Money)),
 		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
 		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
