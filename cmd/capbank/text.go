@@ -94,8 +94,18 @@ func assumptions(r *sizing.Report) string {
 	if r.Repeat > 1 {
 		fmt.Fprintf(&b, " (%d × %s s)", r.Repeat, number(r.ProfileDurationS, sigFigs))
 	}
+	if r.PeriodS != nil {
+		fmt.Fprintf(&b, ", one event every %s s", number(*r.PeriodS, sigFigs))
+	}
 	if r.RankBy != "" {
 		fmt.Fprintf(&b, "; ranked by %s", r.RankBy)
+	}
+	// Each cell's worst case applies its own tolerance and cold factors:
+	// the recommended one's in words.
+	for _, c := range r.Candidates {
+		if r.Recommended != nil && c.CellID == *r.Recommended && c.WorstCase != "" {
+			fmt.Fprintf(&b, "\nWorst case of %s: %s", c.CellID, c.WorstCase)
+		}
 	}
 	return b.String()
 }
