@@ -57,7 +57,7 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 		Quantity(b.LossW, "W", 3), strings.Join(why, "; and "), hold)
 
 	// One more cell in series, passive: more headroom, larger resistors.
-	more := p.sizeCellWith(c, limitOptions{series: cand.Series + 1})
+	more := p.forSeries(c, cand.Series+1).sizeCellWith(c, limitOptions{series: cand.Series + 1})
 	alt := alternativeOf("passive", &more)
 	b.Alternatives = append(b.Alternatives, alt)
 	msg += " " + alternativeText(fmt.Sprintf("With %d cells in series", more.Series), alt)

@@ -36,8 +36,9 @@ type plan struct {
 	work     *atomic.Int64 // steps solved, for the benchmarks
 	bound    boundSums     // the cell-independent parts of stringBound
 	halt     *atomic.Bool  // set when the sizing is cancelled (SizeContext)
-	floors   map[float64]*plan
+	floors   map[float64]*plan // the plans of raised window bottoms (forSeries)
 	floorsMu sync.Mutex
+	root     *plan // the plan this one raised the bottom of; nil for the root
 }
 
 func newPlan(d *Design) *plan {
@@ -77,34 +78,42 @@ func newPlan(d *Design) *plan {
 	return p
 }
 
-// forCell returns the plan cell c is sized on: p itself, or, for a cell
-// whose own floor (min_v, a hybrid cell's lowest voltage) times its series
-// count lies above the window bottom, a copy of p with the bottom raised
-// to it. The copies share p's cancel flag and step count, and are made
-// once per floor.
+// forCell returns the plan cell c is sized on at its own series count.
 func (p *plan) forCell(c *Cell) *plan {
-	if c.MinV == nil {
-		return p
-	}
 	var flags []Flag
-	s := p.limits(c, &flags).s
-	floor := float64(s) * *c.MinV
-	if !(floor > p.minV) {
-		return p
+	return p.forSeries(c, p.limits(c, &flags).s)
+}
+
+// forSeries returns the plan cell c is sized on with s in series: the root
+// plan itself, or, for a cell whose own floor (min_v, a hybrid cell's
+// lowest voltage) times s lies above the window bottom, a copy of it with
+// the bottom raised to that. The copies share the root's cancel flag and
+// step count, and are made once per floor.
+func (p *plan) forSeries(c *Cell, s int) *plan {
+	root := p
+	if p.root != nil {
+		root = p.root
 	}
-	p.floorsMu.Lock()
-	defer p.floorsMu.Unlock()
-	if q, ok := p.floors[floor]; ok {
+	if c.MinV == nil {
+		return root
+	}
+	floor := float64(s) * *c.MinV
+	if !(floor > root.minV) {
+		return root
+	}
+	root.floorsMu.Lock()
+	defer root.floorsMu.Unlock()
+	if q, ok := root.floors[floor]; ok {
 		return q
 	}
-	q := &plan{d: p.d, steps: p.steps, repeat: p.repeat, period: p.period, maxV: p.maxV, minV: floor,
-		capF: p.capF, esrF: p.esrF, tolOn: p.tolOn, periodS: p.periodS, rankBy: p.rankBy, ambientC: p.ambientC,
-		work: p.work, halt: p.halt}
+	q := &plan{d: root.d, steps: root.steps, repeat: root.repeat, period: root.period, maxV: root.maxV, minV: floor,
+		capF: root.capF, esrF: root.esrF, tolOn: root.tolOn, periodS: root.periodS, rankBy: root.rankBy, ambientC: root.ambientC,
+		work: root.work, halt: root.halt, root: root}
 	q.gatherBound()
-	if p.floors == nil {
-		p.floors = map[float64]*plan{}
+	if root.floors == nil {
+		root.floors = map[float64]*plan{}
 	}
-	p.floors[floor] = q
+	root.floors[floor] = q
 	return q
 }
 
