@@ -431,6 +431,14 @@ func (p *plan) try(l *cellLimits, par int) trial {
 	case l.contA > 0 && math.Sqrt(s.i2dt/l.rmsTime)/float64(par) > l.contA:
 		tr.ok, tr.limit = false, "rms_current"
 	case l.heat != nil && !math.IsNaN(l.maxTempC):
+		// Each step heats at its mean loss, so the rise never passes the
+		// steady rise of the lossiest step, R_th·R_cell·max(i²)/p²: only a
+		// bank that could pass the limit by that bound is run through the
+		// thermal model.
+		bound := l.ambientC + l.heat.rth*l.heat.rCell*s.maxI2/float64(par*par)
+		if bound <= l.maxTempC {
+			break
+		}
 		if _, hot := p.hotSpot(l, &m, par); hot > l.maxTempC {
 			tr.ok, tr.limit = false, "temperature"
 		}

@@ -5,6 +5,10 @@ import (
 	"net/url"
 	"strings"
 	"testing"
+
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/sizing"
 )
 
 // An implausible leakage (a self-discharge time constant C·U_R/I under an
@@ -46,4 +50,53 @@ func TestImplausibleLeakageRefusedEverywhere(t *testing.T) {
 	}
 	hy.Set("min_v", "2.2")
 	wantStatus(t, postForm(t, s, "/library", hy, false), http.StatusSeeOther)
+}
+
+// The example design opens with findings a reviewer signs: no danger on
+// the recommended bank, the capacitance-spread bound of the first charge
+// as a note (the string is balanced), and the worst case said in words.
+func TestExampleFindingsAreSober(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	doc := parse(t, get(t, s, "/"))
+	flags := doc.Find(`[data-testid=flags] [data-testid=flag]`)
+	if flags.Length() == 0 {
+		t.Fatal("no findings listed for the recommended bank")
+	}
+	flags.Each(func(_ int, f *goquery.Selection) {
+		code, _ := f.Attr("data-code")
+		cls, _ := f.Attr("class")
+		if strings.Contains(cls, "sev-danger") {
+			t.Errorf("the example's recommended bank shows a danger: %s", code)
+		}
+		if code == "cell-overvoltage" && !strings.Contains(cls, "sev-info") {
+			t.Errorf("the first-charge spread of a balanced string is %q, want a note", cls)
+		}
+	})
+	if wc := text(doc, "[data-testid=worst-case]"); !strings.Contains(wc, "tolerance −10 %") || !strings.Contains(wc, "−20 °C") {
+		t.Errorf("worst case %q, want the tolerance and the cold temperature", wc)
+	}
+}
+
+// A life past the calendar ceiling is "≥ 15 years" and never marked best;
+// where none is capped the longest is.
+func TestCompareLifeCeiling(t *testing.T) {
+	t.Parallel()
+	feasible := func(int) bool { return true }
+	capped := &sizing.Candidate{Feasible: true, Life: &sizing.Life{ExpectedYears: 15, AtLeast: true, CeilingYears: 15, TemperatureC: 25, CellV: 2.4}}
+	short := &sizing.Candidate{Feasible: true, Life: &sizing.Life{ExpectedYears: 8.2, CeilingYears: 15, TemperatureC: 25, CellV: 2.4}}
+	longer := &sizing.Candidate{Feasible: true, Life: &sizing.Life{ExpectedYears: 12, CeilingYears: 15, TemperatureC: 25, CellV: 2.4}}
+	row := lifeRow([]*sizing.Candidate{capped, short}, feasible)
+	for i, c := range row.Cells {
+		if c.Best {
+			t.Errorf("cell %d (%q) marked best beside a capped life", i, c.Text)
+		}
+	}
+	if !strings.HasPrefix(row.Cells[0].Text, "≥") {
+		t.Errorf("capped life reads %q", row.Cells[0].Text)
+	}
+	row = lifeRow([]*sizing.Candidate{short, longer}, feasible)
+	if row.Cells[0].Best || !row.Cells[1].Best {
+		t.Errorf("uncapped lives: best marks %v, %v; want the 12 years", row.Cells[0].Best, row.Cells[1].Best)
+	}
 }
