@@ -33,9 +33,9 @@ type plan struct {
 	periodS  float64 // load.period_s; 0: the pass repeats back to back
 	rankBy   string
 	ambientC float64
-	work     *atomic.Int64 // steps solved, for the benchmarks
-	bound    boundSums     // the cell-independent parts of stringBound
-	halt     *atomic.Bool  // set when the sizing is cancelled (SizeContext)
+	work     *atomic.Int64     // steps solved, for the benchmarks
+	bound    boundSums         // the cell-independent parts of stringBound
+	halt     *atomic.Bool      // set when the sizing is cancelled (SizeContext)
 	floors   map[float64]*plan // the plans of raised window bottoms (forSeries)
 	floorsMu sync.Mutex
 	root     *plan // the plan this one raised the bottom of; nil for the root
