@@ -228,7 +228,7 @@ func heat(t *sizing.Thermal) Group {
 func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	g := Group{Title: "Balancing"}
 	if s != nil {
-		g.Rows = append(g.Rows, quantity("Worst cell before balancing acts", s.WorstCellV, "V", 4,
+		g.Rows = append(g.Rows, quantity("Worst cell on a first charge from empty", s.WorstCellV, "V", 4,
 			fmt.Sprintf("tolerance %s %% / +%s %%", Number(s.MinusPct, 3), Number(s.PlusPct, 3))))
 	}
 	if b == nil {
@@ -273,7 +273,11 @@ func alternativeRow(a sizing.BalancingAlternative) Row {
 	if !a.Feasible {
 		return text(label, "cannot carry the load", "")
 	}
-	v := fmt.Sprintf("%d in series × %d strings, %d cells; drain %s", a.Series, a.Parallel, a.Cells, SI(a.BankLossW, "W", 3))
+	strs := "strings"
+	if a.Parallel == 1 {
+		strs = "string"
+	}
+	v := fmt.Sprintf("%d in series × %d %s, %d cells; drain %s", a.Series, a.Parallel, strs, a.Cells, SI(a.BankLossW, "W", 3))
 	if a.ResistorOhm != nil {
 		v += ", resistors " + SI(*a.ResistorOhm, "Ω", 3)
 	}
