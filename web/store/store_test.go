@@ -404,3 +404,60 @@ func TestReplaceDesign(t *testing.T) {
 		t.Errorf("replacing a missing design: %v, want ErrNotFound", err)
 	}
 }
+
+// TestDuplicateCellName checks that a copy's name says it is a copy and
+// not a demo cell, and that two copies never share a name, so that pick
+// lists show no two identical names.
+func TestDuplicateCellName(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	demos := DemoCells()
+	if err := s.SeedDemo(ctx, demos); err != nil {
+		t.Fatal(err)
+	}
+	demo := demos[0]
+	base := strings.TrimSuffix(demo.Name, DemoMark)
+	if base == demo.Name {
+		t.Fatalf("demo cell name %q does not end in the demo mark %q", demo.Name, DemoMark)
+	}
+	long := testCell("long-name", 300)
+	long.Name = strings.Repeat("é", 200) // the most a name may have
+	if err := s.CreateCell(ctx, long); err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name, id, want string
+	}{
+		{"first copy of a demo cell", demo.ID, base + " (copy)"},
+		{"second copy of a demo cell", demo.ID, base + " (copy 2)"},
+		{"copy of the copy", demo.ID + "-copy", base + " (copy) (copy)"},
+		{"copy of a full-length name", "long-name", strings.Repeat("é", 193) + " (copy)"},
+	}
+	for _, tt := range tests {
+		dup, err := s.DuplicateCell(ctx, tt.id, "")
+		if err != nil {
+			t.Fatalf("%s: %v", tt.name, err)
+		}
+		if dup.Cell.Name != tt.want || dup.Cell.Source == "demo" {
+			t.Errorf("%s: name %q, source %q; want %q, not demo", tt.name, dup.Cell.Name, dup.Cell.Source, tt.want)
+		}
+		if strings.Contains(dup.Cell.Name, "demo, invented") {
+			t.Errorf("%s: the copy %q still calls itself a demo", tt.name, dup.Cell.Name)
+		}
+	}
+	all, err := s.ListCells(ctx, CellFilter{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	names := map[string]string{}
+	for _, r := range all {
+		if other, seen := names[r.Cell.Name]; seen {
+			t.Errorf("cells %s and %s share the name %q", other, r.Cell.ID, r.Cell.Name)
+		}
+		names[r.Cell.Name] = r.Cell.ID
+		if r.ReadOnly != strings.HasSuffix(r.Cell.Name, DemoMark) {
+			t.Errorf("cell %s %q: read-only %v, but its name says otherwise", r.Cell.ID, r.Cell.Name, r.ReadOnly)
+		}
+	}
+}
