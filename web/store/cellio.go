@@ -31,12 +31,51 @@ var cellColumns = []string{
 
 var requiredColumns = []string{"id", "rated_v", "capacitance_f", "esr_ohm"}
 
+// ImportMode says what an import does with a cell whose id is already in
+// the library.
+type ImportMode string
+
+const (
+	// ImportAdd adds new cells only: a row whose id is in the library is
+	// rejected. The default.
+	ImportAdd ImportMode = "add"
+	// ImportUpsert adds new cells and replaces the user cells of the same
+	// id, so that a library exported as CSV or JSON imports back. A
+	// built-in demo cell stays read-only: a row that changes one is
+	// rejected; a row equal to it (as the export writes it) is left as it
+	// is.
+	ImportUpsert ImportMode = "upsert"
+)
+
+// ParseImportMode reads the mode of an import: "add" (or empty) or
+// "upsert".
+func ParseImportMode(s string) (ImportMode, error) {
+	switch ImportMode(s) {
+	case "", ImportAdd:
+		return ImportAdd, nil
+	case ImportUpsert:
+		return ImportUpsert, nil
+	}
+	return "", fmt.Errorf("%w: import mode %q: must be add (new cells only) or upsert (add new cells, update your cells of the same id)", ErrInvalid, s)
+}
+
+// Row actions of an import report.
+const (
+	ActionAdded     = "added"
+	ActionUpdated   = "updated"
+	ActionUnchanged = "unchanged"
+)
+
 // ImportRow is the fate of one row (CSV line, or JSON list item) of an import.
 type ImportRow struct {
 	Line     int    `json:"line"`
 	ID       string `json:"id"`
 	Accepted bool   `json:"accepted"`
-	Reason   string `json:"reason,omitempty"`
+	// Action is what an accepted row did: ActionAdded, ActionUpdated
+	// (upsert, a user cell of that id replaced) or ActionUnchanged (upsert,
+	// a demo cell's row equal to it).
+	Action string `json:"action,omitempty"`
+	Reason string `json:"reason,omitempty"`
 }
 
 // ImportReport tells row by row what an import did. Imported is true only
@@ -46,33 +85,39 @@ type ImportReport struct {
 	Imported bool        `json:"imported"`
 	Accepted int         `json:"accepted"`
 	Rejected int         `json:"rejected"`
+	// Added and Updated count the accepted rows by what they did
+	// (Updated only in ImportUpsert mode).
+	Added   int         `json:"added"`
+	Updated int         `json:"updated"`
 	Rows     []ImportRow `json:"rows"`
 	// Error is a problem with the file as a whole (header, encoding).
 	Error string `json:"error,omitempty"`
 }
 
 type parsedCell struct {
-	line int
-	cell sizing.Cell
-	err  string
+	line   int
+	cell   sizing.Cell
+	err    string
+	action string
 }
 
 // ImportCellsCSV reads cells from CSV (RFC 4180, a header row of the
 // cellColumns names; id, rated_v, capacitance_f and esr_ohm required, the
 // others optional; numbers plain, in the unit the column names) and adds
-// them to the library — all of them, or, if any row is bad, none.
-func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader) (ImportReport, error) {
+// them to the library — all of them, or, if any row is bad, none. mode
+// says what a row whose id is already in the library does (ImportMode).
+func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	rows, fileErr := parseCellsCSV(r)
 	if fileErr != "" {
 		return ImportReport{Error: fileErr}, nil
 	}
-	return s.importRows(ctx, rows)
+	return s.importRows(ctx, rows, mode)
 }
 
 // ImportCellsJSON reads cells as a JSON list of design-file cells (or an
 // object {"cells": [...]}) and imports them as ImportCellsCSV does; the
 // report's Line is the item's position in the list, from 1.
-func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport, error) {
+func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
 		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
@@ -93,14 +138,17 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 			rows[i].err = err.Error()
 		}
 	}
-	return s.importRows(ctx, rows)
+	return s.importRows(ctx, rows, mode)
 }
 
 // importRows checks every row and inserts them all, or none if any row is
 // bad. Whether an id is already in the library is checked in the write
 // transaction itself, so a cell added by someone else meanwhile is a
 // rejected row, never a failed insert.
-func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport, error) {
+func (s *Store) importRows(ctx context.Context, rows []parsedCell, mode ImportMode) (ImportReport, error) {
+	if mode == "" {
+		mode = ImportAdd
+	}
 	if len(rows) == 0 {
 		return ImportReport{Rows: []ImportRow{}, Error: "holds no cells"}, nil
 	}
@@ -128,12 +176,22 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 				rejected = true
 				continue
 			}
-			var n int
-			if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, p.cell.ID).Scan(&n); err != nil {
+			old, err := scanCell(tx.QueryRowContext(ctx, `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE id = ?`, p.cell.ID))
+			switch {
+			case errors.Is(err, sql.ErrNoRows):
+				p.action = ActionAdded
+			case err != nil:
 				return err
+			case mode != ImportUpsert:
+				p.err = fmt.Sprintf("id %q is already in the library; give the cell another id, edit the existing one, or import in the mode that updates your cells (upsert)", p.cell.ID)
+			case old.ReadOnly && sameCell(old.Cell, p.cell):
+				p.action = ActionUnchanged
+			case old.ReadOnly:
+				p.err = fmt.Sprintf("id %q is a built-in demo cell, which is read-only and is not updated by an import; give the cell another id (duplicate the demo cell in the library to get a copy you can edit)", p.cell.ID)
+			default:
+				p.action = ActionUpdated
 			}
-			if n > 0 {
-				p.err = fmt.Sprintf("id %q is already in the library; give the cell another id or edit the existing one", p.cell.ID)
+			if p.err != "" {
 				rejected = true
 			}
 		}
@@ -141,7 +199,14 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 			return errNotImported
 		}
 		for i := range rows {
-			if err := insertCell(ctx, tx, &rows[i].cell, false); err != nil {
+			var err error
+			switch rows[i].action {
+			case ActionAdded:
+				err = insertCell(ctx, tx, &rows[i].cell, false)
+			case ActionUpdated:
+				err = updateCell(ctx, tx, &rows[i].cell)
+			}
+			if err != nil {
 				return err
 			}
 		}
@@ -154,12 +219,26 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 	for i, p := range rows {
 		rep.Rows[i] = ImportRow{Line: p.line, ID: p.cell.ID, Accepted: p.err == "", Reason: p.err}
 		if p.err == "" {
+			rep.Rows[i].Action = p.action
 			rep.Accepted++
+			switch p.action {
+			case ActionAdded:
+				rep.Added++
+			case ActionUpdated:
+				rep.Updated++
+			}
 		} else {
 			rep.Rejected++
 		}
 	}
 	return rep, nil
+}
+
+// sameCell reports whether a and b are the same cell, figure for figure.
+func sameCell(a, b sizing.Cell) bool {
+	ja, errA := json.Marshal(a)
+	jb, errB := json.Marshal(b)
+	return errA == nil && errB == nil && bytes.Equal(ja, jb)
 }
 
 // errNotImported rolls back an import with a rejected row.
