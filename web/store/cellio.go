@@ -82,14 +82,14 @@ type ImportRow struct {
 // when every row was accepted: a file with any bad row leaves the library
 // as it was.
 type ImportReport struct {
-	Imported bool        `json:"imported"`
-	Accepted int         `json:"accepted"`
-	Rejected int         `json:"rejected"`
+	Imported bool `json:"imported"`
+	Accepted int  `json:"accepted"`
+	Rejected int  `json:"rejected"`
 	// Added and Updated count the accepted rows by what they did
 	// (Updated only in ImportUpsert mode).
 	Added   int         `json:"added"`
 	Updated int         `json:"updated"`
-	Rows     []ImportRow `json:"rows"`
+	Rows    []ImportRow `json:"rows"`
 	// Error is a problem with the file as a whole (header, encoding).
 	Error string `json:"error,omitempty"`
 }
