@@ -91,9 +91,9 @@ func TestReportPDFText(t *testing.T) {
 		fmt.Sprintf("%.4g kA", c.Hazards.ShortCircuitCurrentA/1e3),
 		// Inputs from testdata/ups-ride-through.json.
 		"42 V at the top (fully charged) to 21 V, the cut-off",
-		"cold -30 °C",
+		"cold −30 °C",
 		"3.5 kW",
-		"2.2 Ohm", // Ω spelt out: the core font's code page has no Ω
+		"2.2 Ω", // the embedded UTF-8 font has Ω
 		// Every candidate of the report.
 		"demo-c1200-2v7", "demo-c3000-3v0", "demo-c100-2v5",
 		// The charts: titles, axes, the window marked and labelled.
@@ -158,10 +158,10 @@ func TestReportPDFBankFigures(t *testing.T) {
 	}
 }
 
-// pdfTextPlain is what pdftotext gives back for s: pdfText's spelling of
-// characters beyond the code page, with white space made single.
+// pdfTextPlain is what pdftotext gives back for s: the text as it is,
+// with white space made single.
 func pdfTextPlain(s string) string {
-	return strings.Join(strings.Fields(beyondCP1252.Replace(s)), " ")
+	return strings.Join(strings.Fields(pdfText(s)), " ")
 }
 
 // A4 is 210 mm × 297 mm (ISO 216) = 595.28 pt × 841.89 pt; Letter is
@@ -313,7 +313,7 @@ func TestReportPDFHostileText(t *testing.T) {
 	}, "")
 	text := pdfTextOf(t, writePDF(t, s, s.b, A4))
 	for _, w := range []string{
-		`Bank (rev. 2) \ "a)b(" Ohm µ² sqrt -> >= × - ?? ? bell tab nul end`,
+		`Bank (rev. 2) \ "a)b(" Ω µ² √ → ≥ × − 漢字 � bell tab nul end`,
 		`=cmd|' /C calc'!A0`,
 		`unit price ("\€)`, // the currency, in the BOQ headers
 		"Recommended bank: 15 s × 5 p",
@@ -386,21 +386,16 @@ func TestReportPDFRefusals(t *testing.T) {
 func TestPDFText(t *testing.T) {
 	t.Parallel()
 	tests := []struct{ in, want string }{
-		// Windows-1252 bytes: × 0xD7, ² 0xB2, µ 0xB5, ° 0xB0, – 0x96, · 0xB7.
-		{"15 s × 5 p", "15 s \xd7 5 p"},
-		{"m² µF 25 °C 1–2 ½·C", "m\xb2 \xb5F 25 \xb0C 1\x962 \xbd\xb7C"},
-		// Beyond the code page, spelt out in one place.
-		{"2.8 mΩ", "2.8 mOhm"},
-		{"2·√(P·R)", "2\xb7sqrt(P\xb7R)"},
-		{"42 V → 2 V", "42 V -> 2 V"},
-		{"a ≥ b ≤ c", "a >= b <= c"},
-		{"−30 °C", "-30 \xb0C"},
-		{"10⁷ s", "10^7 s"},
-		{"10⁻⁶", "10^-6"},
-		// Control characters become spaces; what has no spelling becomes ?.
+		// The UTF-8 font writes every character as it is.
+		{"15 s × 5 p", "15 s × 5 p"},
+		{"2.8 mΩ, 42 V → 2 V, −30 °C, 10⁷ s, 2·√(P·R) ≈ 3", "2.8 mΩ, 42 V → 2 V, −30 °C, 10⁷ s, 2·√(P·R) ≈ 3"},
+		// Beyond the Basic Multilingual Plane fpdf's UTF-8 fonts hold
+		// nothing: the replacement character.
+		{"漢🙂", "漢\uFFFD"},
+		// Control characters become spaces; bytes that are not UTF-8 the
+		// replacement character.
 		{"a\tb\nc\x00d", "a b c d"},
-		{"漢🙂", "??"},
-		{"bad \xff byte", "bad ? byte"},
+		{"bad \xff byte", "bad \uFFFD byte"},
 		// PDF delimiters pass through: fpdf escapes them when it writes.
 		{`(a) \ b`, `(a) \ b`},
 	}
