@@ -66,20 +66,40 @@ func ReportPDF(w io.Writer, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, o
 			return fmt.Errorf("export: cell %q of the bill of quantities is not a candidate of the report", b.CellID)
 		}
 	}
-	p := newPDF(size, d, r, opt.Date)
-	p.titleBlock(c, b)
-	p.inputs(d, r)
+	var curve *sizing.Curve
+	var note string
 	if c != nil {
-		p.bankFigures(d, r, c, b)
+		curve, note = curveFor(d, r, c)
 	}
-	p.candidates(r)
-	if c != nil {
-		curve, note := curveFor(d, r, c)
-		p.charts(d, r, c, curve, note)
-		p.flags(c)
-		p.boq(b)
+	layout := func(boqOnNewPage bool) *pdf {
+		p := newPDF(size, d, r, opt.Date)
+		p.titleBlock(c, b)
+		p.inputs(d, r)
+		if c != nil {
+			p.bankFigures(d, r, c, b)
+		}
+		p.candidates(r)
+		if c != nil {
+			p.charts(d, r, c, curve, note)
+			p.flags(c)
+			if boqOnNewPage && p.f.GetY() > marginMM+headingMM {
+				p.f.AddPage()
+			}
+			p.boq(b)
+		}
+		p.safety()
+		return p
 	}
-	p.safety()
+	// A report whose last page would hold little more than the end of the
+	// bill of quantities and the safety note is laid out again with the
+	// bill of quantities starting a page, so that the last page carries it
+	// whole with the note.
+	p := layout(false)
+	if c != nil && p.f.Error() == nil && p.lastPageFill() < minLastPageFill {
+		if q := layout(true); q.f.Error() == nil && q.f.PageNo() == p.f.PageNo() && q.lastPageFill() > p.lastPageFill() {
+			p = q
+		}
+	}
 	if err := p.f.Error(); err != nil {
 		return fmt.Errorf("cannot write the PDF report: %w", err)
 	}
@@ -87,6 +107,17 @@ func ReportPDF(w io.Writer, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, o
 		return fmt.Errorf("cannot write the PDF report: %w", err)
 	}
 	return nil
+}
+
+// minLastPageFill is the least share of the last page's text area a report
+// should fill: below it the last page holds little more than the closing
+// safety note (about a fifth of a page) and the tail of what came before.
+const minLastPageFill = 0.35
+
+// lastPageFill is the share of the current (last) page's text area that is
+// used, from the top margin down to where the text ends.
+func (p *pdf) lastPageFill() float64 {
+	return (p.f.GetY() - marginMM) / (p.bottom() - marginMM)
 }
 
 // curveFor returns the worst-case curve of candidate c: the report's when

@@ -436,3 +436,72 @@ func TestFormatsAndNames(t *testing.T) {
 		t.Error("ParsePaper(legal) succeeded")
 	}
 }
+
+// TestReportPDFUnicodeAndLastPage: every demo design's report, on A4 and
+// Letter, prints Ω and → in the embedded UTF-8 font (not the "mOhm" and
+// "->" of the core fonts' code page), cites no file of capbank's
+// repository, numbers its pages "page n of N" with N its page count, and
+// fills at least minLastPageFill of its last page's text area, rather
+// than ending on a page with little more than the safety note.
+func TestReportPDFUnicodeAndLastPage(t *testing.T) {
+	t.Parallel()
+	pdftotext := requireTool(t, "pdftotext")
+	pdfinfo := requireTool(t, "pdfinfo")
+	words := regexp.MustCompile(`<word xMin="[0-9.]+" yMin="[0-9.]+" xMax="[0-9.]+" yMax="([0-9.]+)">([^<]*)</word>`)
+	pageBox := regexp.MustCompile(`<page width="[0-9.]+" height="([0-9.]+)">`)
+	pagesRe := regexp.MustCompile(`(?m)^Pages:\s+(\d+)$`)
+	const ptPerMM = 72 / 25.4 // 1 in = 25.4 mm = 72 pt
+	for _, design := range []string{"ups-ride-through", "actuator-pulses", "logger-hold-up", "check-constant-current"} {
+		for _, paper := range []Paper{A4, Letter} {
+			t.Run(design+"/"+string(paper), func(t *testing.T) {
+				t.Parallel()
+				s := mustSize(t, "../../testdata/"+design+".json", nil, "")
+				path := writePDF(t, s, s.b, paper)
+				text := pdfTextOf(t, path)
+				for _, w := range []string{"Ω", "→"} {
+					if !strings.Contains(text, w) {
+						t.Errorf("the report has no %s", w)
+					}
+				}
+				for _, w := range []string{"mOhm", "->", " Ohm", "kOhm", ".md", "README", "REFERENCES", "sizing/", "testdata/", ".go "} {
+					if i := strings.Index(text, w); i >= 0 {
+						t.Errorf("the report has %q: ...%s...", w, text[max(0, i-50):min(len(text), i+30)])
+					}
+				}
+				info, err := exec.Command(pdfinfo, path).Output()
+				if err != nil {
+					t.Fatal(err)
+				}
+				m := pagesRe.FindSubmatch(info)
+				if m == nil {
+					t.Fatalf("pdfinfo gives no page count:\n%s", info)
+				}
+				n, _ := strconv.Atoi(string(m[1]))
+				if !strings.Contains(text, fmt.Sprintf("page %d of %d", n, n)) || strings.Contains(text, "{nb}") {
+					t.Errorf("the last page is not numbered \"page %d of %d\"", n, n)
+				}
+				// The lowest word above the footer on the last page.
+				out, err := exec.Command(pdftotext, "-bbox", "-f", strconv.Itoa(n), "-l", strconv.Itoa(n), path, "-").Output()
+				if err != nil {
+					t.Fatal(err)
+				}
+				pm := pageBox.FindSubmatch(out)
+				if pm == nil {
+					t.Fatal("pdftotext -bbox gives no page box")
+				}
+				pageH, _ := strconv.ParseFloat(string(pm[1]), 64)
+				bottom := pageH - bottomMM*ptPerMM // the footer is below it
+				lowest := 0.0
+				for _, w := range words.FindAllSubmatch(out, -1) {
+					if y, _ := strconv.ParseFloat(string(w[1]), 64); y <= bottom {
+						lowest = max(lowest, y)
+					}
+				}
+				fill := (lowest - marginMM*ptPerMM) / (bottom - marginMM*ptPerMM)
+				if fill < minLastPageFill {
+					t.Errorf("the last page (%d of %d) is %.0f %% full, less than %.0f %%", n, n, 100*fill, 100*minLastPageFill)
+				}
+			})
+		}
+	}
+}
