@@ -15,14 +15,14 @@ type CompareRow struct {
 
 // MeasureProps feeds the measurement page.
 type MeasureProps struct {
-	CSS        string
-	Methods    []Option
-	Cells      []Option
-	Values     map[string]string // what was typed
-	Messages   map[string]string // field → message
-	Problems   []string
-	Done       bool
-	Rows       []MeasureRow
+	CSS      string
+	Methods  []Option
+	Cells    []Option
+	Values   map[string]string // what was typed
+	Messages map[string]string // field → message
+	Problems []string
+	Done     bool
+	Rows     []MeasureRow
 	// HoldPoints are a hold's points: time, voltage, dV/dt, leakage,
 	// parallel resistance, samples; empty for the other methods.
 	HoldPoints [][]string
