@@ -11,6 +11,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -20,13 +22,53 @@ import (
 // MaxImportRows bounds a cell import.
 const MaxImportRows = 100_000
 
-// cellColumns are the cell CSV's columns, in order: the design-file keys,
-// units in the names, with the capacitance tolerance split in two.
-var cellColumns = []string{
-	"id", "name", "source", "rated_v", "surge_v", "capacitance_f", "capacitance_minus_pct", "capacitance_plus_pct",
-	"esr_ohm", "cold_esr_factor", "cold_esr_temp_c", "leakage_a", "max_current_a", "peak_current_a",
-	"thermal_resistance_k_per_w", "specific_heat_j_per_kg_k", "min_temp_c", "max_temp_c", "mass_kg", "volume_l",
-	"unit_price", "rated_life_h", "rated_life_temp_c", "electrolyte", "notes",
+// cellColumns are the cell CSV's columns, in order: id, name and source,
+// then every number key of the design file's cell (sizing.Cell) in its
+// order, units in the names, the capacitance tolerance split in two
+// (capacitance_minus_pct, capacitance_plus_pct), then electrolyte and
+// notes. They come from sizing.Cell's JSON keys, so that a key added to
+// the cell is exported and imported back without a change here.
+var cellColumns, numberColumns = cellCSVColumns()
+
+// textColumns are the cell's text keys: first the ones before the
+// numbers, then the ones after.
+var (
+	textFirst = []string{"id", "name", "source"}
+	textLast  = []string{"electrolyte", "notes"}
+)
+
+// numberColumn is a number column of the cell CSV: the index of its
+// sizing.Cell field and, for the capacitance tolerance, which of its two
+// values (-1 for a plain number).
+type numberColumn struct {
+	name  string
+	field int
+	part  int
+}
+
+// toleranceKey is the cell key whose two values are two CSV columns.
+const toleranceKey = "capacitance_tolerance_pct"
+
+func cellCSVColumns() ([]string, map[string]numberColumn) {
+	cols := slices.Clone(textFirst)
+	nums := map[string]numberColumn{}
+	t := reflect.TypeFor[sizing.Cell]()
+	floatPtr := reflect.TypeFor[*float64]()
+	for i := range t.NumField() {
+		f := t.Field(i)
+		key, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+		switch {
+		case key == toleranceKey:
+			for part, name := range []string{"capacitance_minus_pct", "capacitance_plus_pct"} {
+				cols = append(cols, name)
+				nums[name] = numberColumn{name, i, part}
+			}
+		case key != "" && key != "-" && (f.Type.Kind() == reflect.Float64 || f.Type == floatPtr):
+			cols = append(cols, key)
+			nums[key] = numberColumn{key, i, -1}
+		}
+	}
+	return append(cols, textLast...), nums
 }
 
 var requiredColumns = []string{"id", "rated_v", "capacitance_f", "esr_ohm"}
@@ -358,31 +400,31 @@ func cellFromRecord(rec []string, col map[string]int, line int) parsedCell {
 	if c.ID == "" {
 		problems = append(problems, "id: is required")
 	}
-	c.RatedV = req("rated_v")
-	c.CapacitanceF = req("capacitance_f")
-	c.ESROhm = req("esr_ohm")
-	c.SurgeV = num("surge_v")
-	minus, plus := num("capacitance_minus_pct"), num("capacitance_plus_pct")
-	switch {
+	cv := reflect.ValueOf(&c).Elem()
+	var tolerance [2]*float64
+	for _, name := range cellColumns {
+		nc, ok := numberColumns[name]
+		if !ok {
+			continue
+		}
+		field := cv.Field(nc.field)
+		switch {
+		case nc.part >= 0:
+			tolerance[nc.part] = num(name)
+		case field.Kind() == reflect.Float64:
+			field.SetFloat(req(name))
+		default:
+			if x := num(name); x != nil {
+				field.Set(reflect.ValueOf(x))
+			}
+		}
+	}
+	switch minus, plus := tolerance[0], tolerance[1]; {
 	case minus != nil && plus != nil:
 		c.CapacitanceTolerancePct = []float64{*minus, *plus}
 	case minus != nil || plus != nil:
 		problems = append(problems, "capacitance_minus_pct and capacitance_plus_pct go together: give both or neither")
 	}
-	c.ColdESRFactor = num("cold_esr_factor")
-	c.ColdESRTempC = num("cold_esr_temp_c")
-	c.LeakageA = num("leakage_a")
-	c.MaxCurrentA = num("max_current_a")
-	c.PeakCurrentA = num("peak_current_a")
-	c.ThermalResistanceKPerW = num("thermal_resistance_k_per_w")
-	c.SpecificHeatJPerKgK = num("specific_heat_j_per_kg_k")
-	c.MinTempC = num("min_temp_c")
-	c.MaxTempC = num("max_temp_c")
-	c.MassKg = num("mass_kg")
-	c.VolumeL = num("volume_l")
-	c.UnitPrice = num("unit_price")
-	c.RatedLifeH = num("rated_life_h")
-	c.RatedLifeTempC = num("rated_life_temp_c")
 	p.cell = c
 	if len(problems) > 0 {
 		p.err = strings.Join(problems, "; ")
@@ -405,15 +447,40 @@ func ExportCellsCSV(w io.Writer, cells []sizing.Cell) error {
 		return strconv.FormatFloat(*p, 'g', -1, 64)
 	}
 	for i := range cells {
-		c := &cells[i]
-		var minus, plus string
-		if len(c.CapacitanceTolerancePct) == 2 {
-			minus, plus = f(&c.CapacitanceTolerancePct[0]), f(&c.CapacitanceTolerancePct[1])
+		cv := reflect.ValueOf(&cells[i]).Elem()
+		rec := make([]string, len(cellColumns))
+		for j, name := range cellColumns {
+			nc, isNumber := numberColumns[name]
+			if !isNumber {
+				continue
+			}
+			field := cv.Field(nc.field)
+			switch {
+			case nc.part >= 0:
+				if field.Len() == 2 {
+					rec[j] = f(new(field.Index(nc.part).Float()))
+				}
+			case field.Kind() == reflect.Float64:
+				rec[j] = f(new(field.Float()))
+			default:
+				rec[j] = f(field.Interface().(*float64))
+			}
 		}
-		rec := []string{Neutralise(c.ID), Neutralise(c.Name), Neutralise(c.Source), f(&c.RatedV), f(c.SurgeV), f(&c.CapacitanceF),
-			minus, plus, f(&c.ESROhm), f(c.ColdESRFactor), f(c.ColdESRTempC), f(c.LeakageA), f(c.MaxCurrentA), f(c.PeakCurrentA),
-			f(c.ThermalResistanceKPerW), f(c.SpecificHeatJPerKgK), f(c.MinTempC), f(c.MaxTempC), f(c.MassKg), f(c.VolumeL),
-			f(c.UnitPrice), f(c.RatedLifeH), f(c.RatedLifeTempC), Neutralise(c.Electrolyte), Neutralise(c.Notes)}
+		c := &cells[i]
+		for j, name := range cellColumns {
+			switch name {
+			case "id":
+				rec[j] = Neutralise(c.ID)
+			case "name":
+				rec[j] = Neutralise(c.Name)
+			case "source":
+				rec[j] = Neutralise(c.Source)
+			case "electrolyte":
+				rec[j] = Neutralise(c.Electrolyte)
+			case "notes":
+				rec[j] = Neutralise(c.Notes)
+			}
+		}
 		if err := cw.Write(rec); err != nil {
 			return err
 		}
