@@ -30,8 +30,8 @@ const MaxImportRows = 100_000
 // the cell is exported and imported back without a change here.
 var cellColumns, numberColumns = cellCSVColumns()
 
-// textColumns are the cell's text keys: first the ones before the
-// numbers, then the ones after.
+// textFirst and textLast are the cell's text keys: the ones before the
+// numbers and the ones after them.
 var (
 	textFirst = []string{"id", "name", "source"}
 	textLast  = []string{"electrolyte", "notes"}
