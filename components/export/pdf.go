@@ -287,7 +287,7 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 	f.MultiCell(p.body, 6, pdfText(p.designName), "", "L", false)
 	p.font("", bodyPt)
 	p.color(grey)
-	f.MultiCell(p.body, lineMM, pdfText("Date: "+p.date+". A supercapacitor (EDLC) bank sized by capbank at worst case: end of life, and cold when the design gives a cold temperature."), "", "L", false)
+	f.MultiCell(p.body, lineMM, pdfText("Date: "+p.date+". A supercapacitor (EDLC) bank sized by capbank at worst case: end of life with each cell's minus capacitance tolerance, and cold when the design gives a cold temperature."), "", "L", false)
 	p.color(black)
 	f.Ln(2)
 
@@ -494,8 +494,13 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		ceiling = quantity(*d.CellMaxV, "V") + " (cell_max_v; a cell's rating applies when lower)"
 	}
 	worst := fmt.Sprintf("end of life: capacitance × %s, ESR × %s", figures.Number(r.EOLCapacitanceFactor, sigFigs), figures.Number(r.EOLESRFactor, sigFigs))
+	if d.EOL == nil || d.EOL.ApplyTolerance == nil || *d.EOL.ApplyTolerance {
+		worst += "; each cell's minus capacitance tolerance on top"
+	} else {
+		worst += "; capacitance tolerance left out (eol.apply_tolerance false)"
+	}
 	if r.ColdC != nil {
-		worst += fmt.Sprintf("; cold %s °C (ESR raised by each cell's cold factor)", figures.Number(*r.ColdC, sigFigs))
+		worst += fmt.Sprintf("; cold %s °C (ESR and capacitance by each cell's cold factors)", figures.Number(*r.ColdC, sigFigs))
 	}
 	ambient := quantity(defaultAmbientC, "°C") + " (default)"
 	if d.AmbientC != nil {
@@ -508,6 +513,11 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.Steps), figures.Duration(r.ProfileDurationS, sigFigs))
 	if r.Repeat > 1 {
 		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, figures.Duration(r.PassDurationS, sigFigs))
+	}
+	if r.PeriodS != nil {
+		pass += "; one event every " + figures.Duration(*r.PeriodS, sigFigs) + " (RMS current and heat taken over it)"
+	} else {
+		pass += "; no period given: RMS current and heat as if back to back"
 	}
 	rows := [][]string{
 		{"Voltage window", fmt.Sprintf("%s at the top (fully charged) to %s, the cut-off, at the bank terminals", quantity(d.Window.MaxV, "V"), quantity(d.Window.MinV, "V"))},
@@ -672,7 +682,7 @@ func (p *pdf) bankFigures(d *sizing.Design, r *sizing.Report, c *sizing.Candidat
 		title = "Bank " + c.CellID + " and its figures"
 	}
 	p.heading(title, 40)
-	p.para("Worst case is end of life (and cold when the design gives a cold temperature); a note says where a figure is at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
+	p.para("Worst case is end of life with the cell's minus capacitance tolerance (and cold when the design gives a cold temperature), as its row says; a note says where a figure is at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
 	p.f.Ln(1)
 	// Each group's title is a bold row of its own, so that it reads on one
 	// line above its figures.
@@ -849,7 +859,7 @@ func (p *pdf) boq(b *sizing.BOQ) {
 		note += " Cells' volume " + quantity(*b.CellVolumeL, "L") + "."
 	}
 	bl := b.Bleeder
-	note += fmt.Sprintf(" Service bleeder %s, %s rating (peak %s at the window top): the bank falls to %s in %s at beginning-of-life capacitance",
+	note += fmt.Sprintf(" Service bleeder %s, %s rating (peak %s at the window top): the bank falls to %s in %s at the top of the capacitance tolerance, the slowest case",
 		quantity(bl.ResistorOhm, "Ω"), figures.Number(bl.PowerW, 3)+" W", quantity(bl.PeakW, "W"), quantity(bl.TargetV, "V"), figures.Duration(bl.TimeS, sigFigs))
 	if bl.TargetV > 2 {
 		note += ", and to 2 V in " + figures.Duration(bl.TimeTo2VS, sigFigs)
