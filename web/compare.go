@@ -230,7 +230,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 
 	bankRows := []components.CompareFigureRow{
 		func() components.CompareFigureRow {
-			row := components.CompareFigureRow{Label: "Bank (series × strings)"}
+			row := components.CompareFigureRow{Label: "Arrangement"}
 			for i, cd := range cands {
 				t := "not feasible"
 				if feasible(i) {

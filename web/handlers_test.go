@@ -138,8 +138,8 @@ func TestGetPageShowsTheExample(t *testing.T) {
 		t.Errorf("Content-Type %q", ct)
 	}
 	doc := parse(t, rec)
-	if bank := text(doc, `[data-testid=bank]`); !strings.Contains(bank, " s × ") || !strings.Contains(bank, "cells") {
-		t.Errorf("headline %q, want a bank like 20 s × 1 p, 20 cells", bank)
+	if bank := text(doc, `[data-testid=bank]`); !strings.Contains(bank, " in series × ") || !strings.Contains(bank, "cells") {
+		t.Errorf("headline %q, want a bank like 20 in series × 1 string, 20 cells", bank)
 	}
 	if v, _ := doc.Find(`input[name="window.max_v"]`).Attr("value"); v != "48" {
 		t.Errorf("window.max_v shows %q", v)

@@ -37,7 +37,7 @@ func writeText(w io.Writer, r *sizing.Report) {
 		if rec.CellName != "" {
 			label += " (" + rec.CellName + ")"
 		}
-		fmt.Fprintf(w, "Recommended: %s, %d s × %d p, %d cells\n", label, rec.Series, rec.Parallel, rec.Cells)
+		fmt.Fprintf(w, "Recommended: %s, %s\n", label, figures.ASCII(figures.BankText(*rec)))
 	} else {
 		fmt.Fprintln(w, "Recommended: none; no candidate carries the load at worst case (see the reasons below)")
 	}

@@ -58,7 +58,7 @@ func TestWriteText(t *testing.T) {
 
 	wantLines := []string{
 		"Design: bus hold-up",
-		"Recommended: c350 (350 F cell), 18 s × 4 p, 72 cells",
+		"Recommended: c350 (350 F cell), 18 in series × 4 strings, 72 cells",
 		"Window 48 V → 24 V; worst case: capacitance × 0.8, ESR × 2, cold -20 °C; sizing pass 60 s (3 × 20 s); ranked by price",
 		"",
 	}

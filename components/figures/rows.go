@@ -10,7 +10,7 @@ import (
 
 // Row is one figure: what it is (Label), its value, its unit and a note
 // (how it was judged, or the per-cell value). Value is the number as text
-// ("117.6"), words ("15 s × 5 p, 75 cells") or None; Unit carries its
+// ("117.6"), words ("15 in series × 5 strings, 75 cells") or None; Unit carries its
 // prefix ("kJ") and is empty for words and plain counts.
 //
 // A row of a number also keeps it unrounded: Num in Base, the unit
@@ -228,13 +228,28 @@ func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	return g
 }
 
-// BankText is the arrangement as engineers write it: "15 s × 4 p, 60 cells".
-func BankText(c sizing.Candidate) string {
-	cells := "cells"
-	if c.Cells == 1 {
-		cells = "cell"
+// BankText is a candidate's arrangement with its cell count, in words
+// that cannot be read as a time or a unit: "15 in series × 4 strings,
+// 60 cells" (Arrangement).
+func BankText(c sizing.Candidate) string { return Arrangement(c.Series, c.Parallel, c.Cells) }
+
+// Arrangement is the one way every output writes a bank's arrangement:
+// cells in series per string × strings in parallel, and the cell count
+// when cells > 0 ("23 in series × 1 string, 23 cells"). The short "s × p"
+// shorthand is not used: its "s" reads as seconds beside a runtime.
+func Arrangement(series, strings, cells int) string {
+	s := fmt.Sprintf("%d in series × %d %s", series, strings, plural(strings, "string", "strings"))
+	if cells > 0 {
+		s += fmt.Sprintf(", %d %s", cells, plural(cells, "cell", "cells"))
 	}
-	return fmt.Sprintf("%d s × %d p, %d %s", c.Series, c.Parallel, c.Cells, cells)
+	return s
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func limitNote(limit string) string {
