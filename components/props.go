@@ -144,6 +144,9 @@ type ResultsProps struct {
 	Report *sizing.Report
 	// Recommended is the recommended candidate, nil when none is feasible.
 	Recommended *sizing.Candidate
+	// BOQ is the recommended bank's bill of quantities, whose total the
+	// headline gives; nil when there is none.
+	BOQ *sizing.BOQ
 	// Candidates are the report's candidates in the order to show.
 	Candidates []sizing.Candidate
 	// Sort is the candidates table's order: "" (rank), "price", "cells",

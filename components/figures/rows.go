@@ -15,8 +15,8 @@ import (
 //
 // A row of a number also keeps it unrounded: Num in Base, the unit
 // without prefix (117600 in J for 117.6 kJ, a time in s, a price in the
-// design's currency with Base empty), so that a spreadsheet holds a
-// number cell rather than text. HasNum says whether it has one: words and
+// design's currency: Unit and Base are the currency, empty when the design
+// gives none), so that a spreadsheet holds a number cell rather than text. HasNum says whether it has one: words and
 // None have none.
 type Row struct {
 	Label, Value, Unit, Note string
@@ -125,7 +125,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		quantity("Energy per cell", h.CellEnergyWh, "Wh", 3, "as transport rules count it"),
 	}})
 	return append(groups, Group{Title: "Price, mass and volume", Rows: []Row{
-		price(c.TotalPrice),
+		price(c.TotalPrice, r.Currency),
 		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
 		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
 	}})
@@ -157,12 +157,25 @@ func runtimeRow(c *sizing.Candidate) Row {
 const runtimeLimit = "10⁷"
 
 // price is the cells' price row, in the design's currency.
-func price(p *float64) Row {
-	const note = "cells only, in the currency of the unit price"
+func price(p *float64, currency string) Row {
+	note := "cells only"
+	if currency == "" {
+		note += ", in the currency of the unit price"
+	}
 	if p == nil {
 		return text("Price", None, note)
 	}
-	return Row{Label: "Price", Value: Money(*p), Note: note, Num: *p, HasNum: finite(*p)}
+	return Row{Label: "Price", Value: Money(*p), Unit: currency, Note: note, Num: *p, Base: currency, HasNum: finite(*p)}
+}
+
+// Price is an amount with the design's currency after it ("683.50 EUR",
+// Money), None when there is none; the currency is left out when the
+// design gives none.
+func Price(v *float64, currency string) string {
+	if v == nil || !finite(*v) {
+		return None
+	}
+	return join(Money(*v), currency)
 }
 
 // Runtime is a candidate's worst-case runtime as the page states it: a

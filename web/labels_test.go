@@ -1,0 +1,68 @@
+package web
+
+import (
+	"net/http"
+	"strings"
+	"testing"
+
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/components/figures"
+	"capbank/sizing"
+)
+
+// TestPagePricesCarryTheCurrency: every price on the page says the design's
+// boq.currency, and the headline gives the bank's total price (the bill of
+// quantities' total, sizing.BillOfQuantities), mass and volume (issue 17).
+func TestPagePricesCarryTheCurrency(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v.Set("boq.currency", "EUR")
+	v.Set("boq.link_unit_price", "0.35")
+	v.Set("boq.resistor_unit_price", "0.04")
+	v.Set("boq.balancer_unit_price", "4.2")
+	v.Set("boq.bleeder_unit_price", "6.5")
+	rec := postForm(t, s, "/", v, false)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+
+	d := wantDesign(t)
+	d.BOQ = &sizing.BOQOptions{Currency: "EUR", LinkUnitPrice: fp(0.35), ResistorUnitPrice: fp(0.04), BalancerUnitPrice: fp(4.2), BleederUnitPrice: fp(6.5)}
+	rep, err := sizing.Size(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := sizing.BillOfQuantities(d, rep, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec0 := rep.Candidates[0]
+	// The total of every priced line, not the cells' price alone
+	// (sizing.BillOfQuantities adds links, resistors and the bleeder).
+	if b.Total <= *rec0.TotalPrice {
+		t.Fatalf("test design: BOQ total %v not above the cells' %v", b.Total, *rec0.TotalPrice)
+	}
+	for sel, want := range map[string]string{
+		"[data-testid=total-price]":  figures.Money(b.Total) + " EUR",
+		"[data-testid=total-mass]":   figures.SI(*rec0.MassKg, "kg", 3),
+		"[data-testid=total-volume]": figures.SI(*rec0.VolumeL, "L", 3),
+	} {
+		if got := text(doc, sel); got != strings.ReplaceAll(want, "\u00a0", " ") {
+			t.Errorf("%s reads %q, want %q", sel, got, want)
+		}
+	}
+	// The candidates table and the figures' price row.
+	for i := range doc.Find("[data-testid=candidate]").Nodes {
+		row := doc.Find("[data-testid=candidate]").Eq(i)
+		if c := rep.Candidates[i]; c.TotalPrice != nil && !strings.Contains(row.Text(), figures.Money(*c.TotalPrice)+"\u00a0EUR") {
+			t.Errorf("candidate row %q has no price in EUR", row.Text())
+		}
+	}
+	price := doc.Find("[data-testid=figures] tr").FilterFunction(func(_ int, s *goquery.Selection) bool {
+		return strings.TrimSpace(s.Find("th").Text()) == "Price"
+	})
+	if got, want := price.Find("td").First().Text(), figures.Money(*rec0.TotalPrice)+"\u00a0EUR"; got != want {
+		t.Errorf("figures' Price row reads %q, want %q", got, want)
+	}
+}
