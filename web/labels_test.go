@@ -2,6 +2,7 @@ package web
 
 import (
 	"net/http"
+	"net/url"
 	"strings"
 	"testing"
 
@@ -64,5 +65,26 @@ func TestPagePricesCarryTheCurrency(t *testing.T) {
 	})
 	if got, want := price.Find("td").First().Text(), figures.Money(*rec0.TotalPrice)+"\u00a0EUR"; got != want {
 		t.Errorf("figures' Price row reads %q, want %q", got, want)
+	}
+}
+
+// TestCellFormMessagesUseLabels: the library's cell form says "the rated
+// voltage", the cells API keeps the key rated_v (issue 17).
+func TestCellFormMessagesUseLabels(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	vals := url.Values{"id": {"low-surge"}, "rated_v": {"2.7"}, "surge_v": {"2.5"}, "capacitance_f": {"100"}, "esr_ohm": {"12m"}}
+	rec := postForm(t, s, "/library", vals, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	// sizing.cellRules: surge below rated, both figures quoted.
+	if got, want := text(parse(t, rec), "#msg-surge_v"), "must be at least the rated voltage (2.5 V < 2.7 V)"; got != want {
+		t.Errorf("surge voltage says %q, want %q", got, want)
+	}
+	body := `{"id":"low-surge","rated_v":2.7,"surge_v":2.5,"capacitance_f":100,"esr_ohm":0.012}`
+	p := wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", body), http.StatusUnprocessableEntity, "surge_v")
+	for _, e := range p.Errors {
+		if e.Field == "surge_v" && !strings.Contains(e.Message, "rated_v") {
+			t.Errorf("API problem %q, want the key rated_v", e.Message)
+		}
 	}
 }

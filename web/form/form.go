@@ -585,15 +585,22 @@ var (
 // MergeProblems translates sizing's field paths into the form's inputs: a
 // step's power_w, current_a or resistance_ohm is its value input, a typed
 // cell's keys are inline.*, a demo cell's problem goes to the cell picker
-// naming the cell. Problems on a field that already failed to decode are
-// dropped: the decoding message says what to fix first.
+// naming the cell. The keys a message names become the fields' labels
+// (PageMessage), with their values from the design. Problems on a field
+// that already failed to decode are dropped: the decoding message says
+// what to fix first.
 func MergeProblems(dec Decoded, validation sizing.ValidationError) sizing.ValidationError {
 	out := slices.Clone(dec.Problems)
 	seen := map[string]bool{}
 	for _, p := range dec.Problems {
 		seen[p.Field] = true
 	}
+	var values Values
+	if dec.Design != nil {
+		values = ValuesOf(dec.Design)
+	}
 	for _, e := range validation {
+		e.Message = PageMessage(e.Field, e.Message, values)
 		e.Field, e.Message = formPath(e.Field, e.Message, dec.Sources, dec.ExtraIndex)
 		if seen[e.Field] {
 			continue
@@ -625,7 +632,11 @@ func formPath(path, msg string, sources []string, extraIndex []int) (string, str
 		if k < len(sources) {
 			id = sources[k]
 		}
-		return "cells.pick", id + m[2] + ": " + msg
+		part := m[2]
+		if f, ok := cellKeys[strings.TrimPrefix(part, ".")]; ok {
+			part = ", " + sentenceCase(f.Label)
+		}
+		return "cells.pick", id + part + ": " + msg
 	}
 	switch {
 	case path == "cells" && strings.HasPrefix(msg, "must have at least"):
