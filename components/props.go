@@ -1,6 +1,10 @@
 package components
 
-import "capbank/sizing"
+import (
+	"strings"
+
+	"capbank/sizing"
+)
 
 // PageProps is everything the design page shows.
 type PageProps struct {
@@ -46,7 +50,10 @@ type StepProps struct {
 	RowMessage            string
 	Kind, Value, Duration FieldProps
 	// UnitID names the unit beside the value, which follows the kind.
-	UnitID      string
+	UnitID string
+	// KindNote says why the value was cleared (its kind changed); "" for
+	// none.
+	KindNote    string
 	First, Last bool
 }
 
@@ -174,3 +181,7 @@ type ResultsProps struct {
 	SavedID, SavedName string
 	CanSave            bool
 }
+
+// KindWasName is the hidden input that carries the kind the row was shown
+// with, so that the server can tell when the kind changes.
+func (s StepProps) KindWasName() string { return strings.TrimSuffix(s.Kind.Name, "kind") + "kind_was" }

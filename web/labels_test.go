@@ -88,3 +88,40 @@ func TestCellFormMessagesUseLabels(t *testing.T) {
 		}
 	}
 }
+
+// TestKindChangeWithoutJavaScript: the page posted whole (no htmx) with a
+// step's kind changed from power to current: the value typed in W is
+// cleared, not read as 350 A, a note beside it says why, the value is then
+// asked for, and no bank is sized from it (issue 17).
+func TestKindChangeWithoutJavaScript(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v.Set("load.steps[0].kind", "current")
+	v.Set("load.steps[0].kind_was", "power")
+	v.Set("load.steps[0].value", "350")
+	rec := postForm(t, s, "/", v, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc := parse(t, rec)
+	if got, _ := doc.Find(`input[name="load.steps[0].value"]`).Attr("value"); got != "" {
+		t.Errorf("step 1 value reads %q, want it cleared", got)
+	}
+	if note := text(doc, "#row-load-steps-0 [data-testid=kind-note]"); !strings.Contains(note, "from power (W) to current (A)") {
+		t.Errorf("note %q, want it to say the kind changed from power to current", note)
+	}
+	if got, _ := doc.Find(`input[name="load.steps[0].kind_was"]`).Attr("value"); got != "current" {
+		t.Errorf("kind_was %q, want current for the next post", got)
+	}
+	if msg := text(doc, "#msg-load-steps-0-value"); !strings.Contains(msg, "is required") {
+		t.Errorf("value message %q, want it asked for", msg)
+	}
+	if doc.Find("[data-testid=candidate]").Length() != 0 {
+		t.Error("a bank was sized from a value typed for another kind")
+	}
+	// The same kind posted again keeps the value.
+	v.Set("load.steps[0].kind_was", "current")
+	doc = parse(t, postForm(t, s, "/", v, false))
+	if got, _ := doc.Find(`input[name="load.steps[0].value"]`).Attr("value"); got != "350" {
+		t.Errorf("with the kind unchanged the value reads %q, want 350", got)
+	}
+}

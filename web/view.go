@@ -183,7 +183,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		dur := fieldProps(form.Field{Name: base + ".duration_s", Label: "Duration", Units: form.UnitSecond}, r.Duration, msg[base+".duration_s"])
 		p.Steps = append(p.Steps, components.StepProps{
 			Number: i + 1, Index: i, RowID: "row-" + id, RowMessageID: "msg-" + id, RowMessage: msg[base],
-			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value",
+			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value", KindNote: r.KindNote,
 			First: i == 0, Last: i == len(f.Steps)-1,
 		})
 	}
