@@ -1,6 +1,7 @@
 package web
 
 import (
+	"encoding/json"
 	"net/http"
 	"net/url"
 	"strings"
@@ -123,5 +124,42 @@ func TestKindChangeWithoutJavaScript(t *testing.T) {
 	doc = parse(t, postForm(t, s, "/", v, false))
 	if got, _ := doc.Find(`input[name="load.steps[0].value"]`).Attr("value"); got != "350" {
 		t.Errorf("with the kind unchanged the value reads %q, want 350", got)
+	}
+}
+
+// TestSavedDesignsSummary: the saved designs page gives each design's
+// recommended bank, worst-case runtime and total price (with its
+// currency), as the design page's headline does (issue 17).
+func TestSavedDesignsSummary(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	d := wantDesign(t)
+	d.Name = "bus hold-up"
+	d.BOQ = &sizing.BOQOptions{Currency: "EUR", LinkUnitPrice: fp(0.35), ResistorUnitPrice: fp(0.04), BalancerUnitPrice: fp(4.2), BleederUnitPrice: fp(6.5)}
+	body, err := json.Marshal(map[string]any{"name": "bus hold-up", "design": d})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantStatus(t, do(t, s, http.MethodPost, "/api/v1/designs", "application/json", string(body)), http.StatusCreated)
+
+	rep, err := sizing.Size(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := sizing.BillOfQuantities(d, rep, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := rep.Candidates[0]
+	doc := parse(t, get(t, s, "/designs"))
+	nb := func(s string) string { return strings.ReplaceAll(s, "\u00a0", " ") }
+	for sel, want := range map[string]string{
+		"[data-testid=summary-bank]":    figures.BankText(c) + " of " + c.CellID,
+		"[data-testid=summary-runtime]": nb(figures.Runtime(&c)),
+		"[data-testid=summary-price]":   nb(figures.Money(b.Total) + " EUR"),
+	} {
+		if got := text(doc, sel); got != want {
+			t.Errorf("%s reads %q, want %q", sel, got, want)
+		}
 	}
 }
