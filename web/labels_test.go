@@ -11,6 +11,7 @@ import (
 
 	"capbank/components/figures"
 	"capbank/sizing"
+	"capbank/web/share"
 )
 
 // TestPagePricesCarryTheCurrency: every price on the page says the design's
@@ -160,6 +161,40 @@ func TestSavedDesignsSummary(t *testing.T) {
 	} {
 		if got := text(doc, sel); got != want {
 			t.Errorf("%s reads %q, want %q", sel, got, want)
+		}
+	}
+}
+
+// TestComparePricesCarryTheCurrency: the comparison's price rows say the
+// design's currency (issue 17).
+func TestComparePricesCarryTheCurrency(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	d := wantDesign(t)
+	d.BOQ = &sizing.BOQOptions{Currency: "EUR"}
+	data, err := json.Marshal(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tok, err := share.Encode(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := get(t, s, "/compare?d="+url.QueryEscape(tok)+"&cell=demo-2v7-650f&cell=demo-3v0-500f")
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	rep, err := sizing.Size(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, id := range []string{"demo-2v7-650f", "demo-3v0-500f"} {
+		for _, c := range rep.Candidates {
+			if c.CellID == id && c.TotalPrice != nil {
+				want := figures.Money(*c.TotalPrice) + "\u00a0EUR"
+				if got := rowNamed(doc, "Price").Find("td").Eq(i).Text(); !strings.Contains(got, want) {
+					t.Errorf("%s: price %q, want %q", id, got, want)
+				}
+			}
 		}
 	}
 }
