@@ -352,7 +352,11 @@ func readCellForm(vals url.Values) (sizing.Cell, sizing.ValidationError) {
 	cell, _ := form.TypedCell(vals.Get, "", r.Required, r.Optional)
 	if len(r.Problems) == 0 {
 		if err := sizing.ValidateCell(&cell); err != nil {
-			r.Problems = append(r.Problems, validationErrors(err)...)
+			values := form.ValuesOf(cell)
+			for _, p := range validationErrors(err) {
+				p.Message = form.PageMessage(p.Field, p.Message, values)
+				r.Problems = append(r.Problems, p)
+			}
 		}
 	}
 	return cell, r.Problems

@@ -470,6 +470,11 @@ func TestCompare(t *testing.T) {
 	if _, ok := best.Attr("data-best"); !ok || !strings.Contains(best.Text(), fmt.Sprint(fewest)) {
 		t.Errorf("Cells row: column %d (%d cells) not marked best: %s", fewestCol, fewest, row.Text())
 	}
+	// The arrangement in the rows' words (figures.Arrangement), never the
+	// "s × p" shorthand whose "s" reads as seconds (issue 17).
+	if got := rowNamed(doc, "Arrangement").Find("td").Eq(fewestCol).Text(); !strings.Contains(got, " in series × ") || strings.Contains(got, " s × ") {
+		t.Errorf("Arrangement row reads %q, want \"N in series × M strings, K cells\"", got)
+	}
 	// Energy per mass of demo-3v0-500f from sizing.Merit.
 	c, _ := store.DemoCell("demo-3v0-500f")
 	want := fmt.Sprintf("%.3g", *sizing.Merit(c).EnergyWhPerKg)

@@ -301,9 +301,9 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 		if c.CellName != "" {
 			label += " (" + c.CellName + ")"
 		}
-		head = fmt.Sprintf("Recommended bank: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, label)
+		head = fmt.Sprintf("Recommended bank: %s of %s", figures.Arrangement(c.Series, c.Parallel, c.Cells), label)
 		if b.CellID != p.recommendedID() {
-			head = fmt.Sprintf("Bank in this report: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, label)
+			head = fmt.Sprintf("Bank in this report: %s of %s", figures.Arrangement(c.Series, c.Parallel, c.Cells), label)
 			lines = append(lines, "Chosen by the user; capbank recommends "+p.recommendedOr("no cell")+" (see the candidates).")
 		}
 		runtime := "not within 10^7 s"
@@ -755,7 +755,7 @@ func (p *pdf) candidates(r *sizing.Report) {
 		}
 		bank := none
 		if c.Series > 0 {
-			bank = fmt.Sprintf("%d s × %d p", c.Series, c.Parallel)
+			bank = figures.Arrangement(c.Series, c.Parallel, 0)
 		}
 		rows = append(rows, []string{
 			id, feasible, bank, strconv.Itoa(c.Cells), runtime, figures.Number(c.MinTerminalV, sigFigs),
@@ -851,7 +851,7 @@ func (p *pdf) boq(b *sizing.BOQ) {
 	if !b.Complete {
 		note = "The total is incomplete: " + strings.TrimPrefix(completeness(b), "no: ") + "."
 	}
-	note += fmt.Sprintf(" Bank: %d s × %d p of %s.", b.Series, b.Parallel, b.CellID)
+	note += fmt.Sprintf(" Bank: %s of %s.", figures.Arrangement(b.Series, b.Parallel, 0), b.CellID)
 	if b.CellMassKg != nil {
 		note += " Cells' mass " + quantity(*b.CellMassKg, "kg") + "."
 	}

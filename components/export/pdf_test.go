@@ -76,10 +76,10 @@ func TestReportPDFText(t *testing.T) {
 		// The design's name and the date passed in.
 		s.d.Name,
 		"2026-03-14",
-		// The headline: the engine's bank, in the s × p form of
-		// capbank size --format text ("15 s × 5 p").
-		fmt.Sprintf("Recommended bank: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, c.CellID),
-		"Recommended bank: 15 s × 5 p = 75 cells of demo-c400-2v8",
+		// The headline: the engine's bank, in the words of
+		// capbank size --format text ("15 in series × 5 strings").
+		fmt.Sprintf("Recommended bank: %d in series × %d strings, %d cells of %s", c.Series, c.Parallel, c.Cells, c.CellID),
+		"Recommended bank: 15 in series × 5 strings, 75 cells of demo-c400-2v8",
 		// Key figures, to 4 significant figures by fmt's %.4g.
 		fmt.Sprintf("Worst-case runtime %.4g s", *c.RuntimeS),
 		fmt.Sprintf("lowest terminal voltage %.4g V against the 21 V cut-off", c.MinTerminalV),
@@ -260,10 +260,10 @@ func TestReportPDFChosenCell(t *testing.T) {
 	s := mustSize(t, upsDesign, nil, "demo-c3000-3v0")
 	text := pdfTextOf(t, writePDF(t, s, s.b, Letter))
 	for _, w := range []string{
-		// 15 s × 1 p: capbank size --format text on the demo.
-		"Bank in this report: 15 s × 1 p = 15 cells of demo-c3000-3v0",
+		// 15 in series × 1 string: capbank size --format text on the demo.
+		"Bank in this report: 15 in series × 1 string, 15 cells of demo-c3000-3v0",
 		"capbank recommends demo-c400-2v8",
-		"Worst-case pass of the bank: 15 s × 1 p of demo-c3000-3v0",
+		"Worst-case pass of the bank: 15 in series × 1 string of demo-c3000-3v0",
 		"Voltage at the bank terminals",
 	} {
 		if !strings.Contains(text, w) {
@@ -316,7 +316,7 @@ func TestReportPDFHostileText(t *testing.T) {
 		`Bank (rev. 2) \ "a)b(" Ω µ² √ → ≥ × − 漢字 � bell tab nul end`,
 		`=cmd|' /C calc'!A0`,
 		`unit price ("\€)`, // the currency, in the BOQ headers
-		"Recommended bank: 15 s × 5 p",
+		"Recommended bank: 15 in series × 5 strings",
 	} {
 		if !strings.Contains(text, w) {
 			t.Errorf("PDF text has no %q", w)
