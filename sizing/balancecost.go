@@ -60,7 +60,7 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 	more := p.forSeries(c, cand.Series+1).sizeCellWith(c, limitOptions{series: cand.Series + 1})
 	alt := alternativeOf("passive", &more)
 	b.Alternatives = append(b.Alternatives, alt)
-	msg += " " + alternativeText(fmt.Sprintf("With %d cells in series", more.Series), alt)
+	msg += " " + alternativeText(fmt.Sprintf("%d in series", more.Series), alt)
 
 	// Active balancing at the candidate's series count.
 	act := Balancing{Kind: "active"}
@@ -73,9 +73,9 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 	alt = alternativeOf("active", &active)
 	alt.QuiescentAssumed = assumed
 	b.Alternatives = append(b.Alternatives, alt)
-	how := fmt.Sprintf("With active balancing (%s per cell", Quantity(q, "A", 3))
+	how := fmt.Sprintf("Active balancing (%s per cell", Quantity(q, "A", 3))
 	if assumed {
-		how += ", a typical figure assumed: give balancing.quiescent_a"
+		how += ", assumed; set balancing.quiescent_a"
 	}
 	msg += " " + alternativeText(how+")", alt)
 
@@ -110,13 +110,13 @@ func alternativeText(head string, a BalancingAlternative) string {
 	}
 	parts := []string{fmt.Sprintf("%d %s, %d cells", a.Parallel, strs, a.Cells)}
 	if a.ResistorOhm != nil {
-		parts = append(parts, "resistors of "+Quantity(*a.ResistorOhm, "Ω", 3))
+		parts = append(parts, Quantity(*a.ResistorOhm, "Ω", 3)+" resistors")
 	}
-	parts = append(parts, "a standing drain of "+Quantity(a.BankLossW, "W", 3))
+	parts = append(parts, "drain "+Quantity(a.BankLossW, "W", 3))
 	if a.ShelfHoldH != nil {
 		parts = append(parts, "shelf hold "+hoursText(*a.ShelfHoldH))
 	} else {
-		parts = append(parts, "a shelf hold above the window bottom for good")
+		parts = append(parts, "holds above the window bottom for good")
 	}
 	if a.RuntimeS != nil {
 		parts = append(parts, "runtime "+Quantity(*a.RuntimeS, "s", 3))

@@ -209,7 +209,7 @@ func TestBalancingLoss(t *testing.T) {
 		t.Fatalf("active: %+v", act)
 	}
 	near(t, "active drain", act.BankLossW, 10e-6*48.0/18*float64(18*act.Parallel), 1e-12)
-	for _, want := range []string{"With 19 cells in series", "With active balancing", "balancing.max_loss_share"} {
+	for _, want := range []string{"19 in series: ", "Active balancing (", "per cell, assumed", "balancing.max_loss_share"} {
 		if !strings.Contains(f.Message, want) {
 			t.Errorf("message lacks %q: %s", want, f.Message)
 		}

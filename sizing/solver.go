@@ -1044,7 +1044,7 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	// matter: past the surge voltage a warning for an unbalanced string
 	// and a note for a balanced one (a slow first charge lets the
 	// balancing act); past the rating only, a note.
-	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top; cycling within the window does not add to it, since every cell gives and takes back the same charge"
+	const spreadSrc = "charge sharing in series, worst lot: one cell at the bottom of the tolerance, the rest at the top; cycling within the window adds nothing, each cell giving and taking back the same charge"
 	balanced := cand.Balancing != nil && (cand.Balancing.Kind == "passive" || cand.Balancing.Kind == "active")
 	switch {
 	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:

@@ -588,7 +588,10 @@ func TestStaticFilesCompressed(t *testing.T) {
 }
 
 // The page with its stylesheet and script stays light: measured as sent
-// (gzip, as browsers ask) and as unpacked.
+// (gzip, as browsers ask) and as unpacked. The unpacked bound is 225 kB:
+// the example shows four candidates with their findings, the worst case in
+// words and the balancing alternatives (it was 200 kB before them); what
+// travels is the sent bound.
 func TestFirstPageWeight(t *testing.T) {
 	t.Parallel()
 	s, _ := newTestServer(t)
@@ -605,7 +608,7 @@ func TestFirstPageWeight(t *testing.T) {
 	if sent > 75_000 {
 		t.Errorf("first page sends %d bytes, want well under 150 kB", sent)
 	}
-	if raw > 200_000 {
+	if raw > 225_000 {
 		t.Errorf("first page unpacks to %d bytes", raw)
 	}
 }
