@@ -1,0 +1,164 @@
+package sizing
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/go-playground/validator/v10"
+)
+
+// Field paths of a load's three ways of giving its profile.
+const (
+	fieldSteps          = "load.steps"
+	fieldProfileCSV     = "load.profile_csv"
+	fieldProfileCSVText = "load.profile_csv_text"
+)
+
+// loadedProfile is a load's logged profile once read: the text it was read
+// from (so a changed text is read again) and what ParseProfileCSV made of
+// it, or the problem it found.
+type loadedProfile struct {
+	text string
+	csv  *ProfileCSV
+	err  error
+	// fromFile: the text is that of the file ProfileCSV names.
+	fromFile bool
+}
+
+// AttachProfileFile hands sizing the text of the file ProfileCSV names, as
+// the program that read the design file read it. Validate then reads it as
+// the profile and names load.profile_csv in its problems.
+func (l *Load) AttachProfileFile(text string) {
+	l.ProfileCSVText = text
+	l.profile = &loadedProfile{text: text, fromFile: true}
+}
+
+// ProfileField is the design-file key the load's logged profile came
+// from: "load.profile_csv" for a file the design names,
+// "load.profile_csv_text" for text given inline, "" when the load gives
+// steps.
+func (l *Load) ProfileField() string {
+	switch {
+	case l.profile != nil && l.profile.fromFile:
+		return fieldProfileCSV
+	case l.ProfileCSVText != "":
+		return fieldProfileCSVText
+	case l.ProfileCSV != "":
+		return fieldProfileCSV
+	}
+	return ""
+}
+
+// Profile is the logged profile the load gives, read by ParseProfileCSV,
+// or nil when it gives steps. A profile that does not parse is nil and its
+// *CSVError; Validate reports it by field.
+func (l *Load) Profile() (*ProfileCSV, error) {
+	if l.ProfileCSVText == "" {
+		return nil, nil
+	}
+	if l.profile == nil || l.profile.text != l.ProfileCSVText || (l.profile.csv == nil && l.profile.err == nil) {
+		fromFile := l.profile != nil && l.profile.fromFile && l.profile.text == l.ProfileCSVText
+		p, err := ParseProfileCSV(strings.NewReader(l.ProfileCSVText))
+		l.profile = &loadedProfile{text: l.ProfileCSVText, csv: p, err: err, fromFile: fromFile}
+	}
+	return l.profile.csv, l.profile.err
+}
+
+// StepList is the steps the load runs: Steps, or those of its logged
+// profile (none when the profile does not parse).
+func (l *Load) StepList() []Step {
+	if len(l.Steps) > 0 || l.ProfileCSVText == "" {
+		return l.Steps
+	}
+	p, err := l.Profile()
+	if err != nil {
+		return nil
+	}
+	return p.Steps
+}
+
+// loadRules checks that the load gives its profile exactly one way and
+// reads a logged profile, so that every later rule and the solver see its
+// steps. Problems name the field the profile came from, with the line and
+// column of a bad row.
+func loadRules(l *Load) ValidationError {
+	var errs ValidationError
+	add := func(field, rule, format string, a ...any) {
+		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+	}
+	given := []string{}
+	if len(l.Steps) > 0 {
+		given = append(given, fieldSteps)
+	}
+	attached := l.profile != nil && l.profile.fromFile
+	if l.ProfileCSV != "" {
+		given = append(given, fieldProfileCSV)
+	}
+	if l.ProfileCSVText != "" && !attached {
+		given = append(given, fieldProfileCSVText)
+	}
+	switch {
+	case len(given) == 0:
+		add(fieldSteps, "min", "must have at least 1 item; give the steps, or a logged profile as load.profile_csv (a CSV file beside the design) or load.profile_csv_text (the CSV inline)")
+		return errs
+	case len(given) > 1:
+		for _, f := range given[1:] {
+			add(f, "one_profile", "cannot be given with %s: a load gives its profile one way, as steps, as a CSV file (load.profile_csv) or as CSV text (load.profile_csv_text); keep one", given[0])
+		}
+		return errs
+	case given[0] == fieldProfileCSV && !attached:
+		add(fieldProfileCSV, "file_not_read",
+			"names the file %q, which was not read: only the command line reads a file the design names; send the CSV itself, inline as load.profile_csv_text or as its own part of a multipart request", l.ProfileCSV)
+		return errs
+	case given[0] == fieldSteps:
+		return nil
+	}
+	field := l.ProfileField()
+	p, err := l.Profile()
+	if err != nil {
+		add(field, "csv", "%s", err.Error())
+		return errs
+	}
+	return profileStepRules(p, field)
+}
+
+// profileStepRules checks the steps a logged profile gave against the
+// rules of Step (its validator tags and the power floor), naming the time
+// at which the first offending step starts. The parser already refused
+// cells that are not finite numbers and times that do not increase, so
+// only the ranges can fail.
+func profileStepRules(p *ProfileCSV, field string) ValidationError {
+	v := designValidator()
+	t := p.StartS
+	for i := range p.Steps {
+		s := &p.Steps[i]
+		if err := v.Struct(s); err != nil {
+			var ves validator.ValidationErrors
+			if !asValidationErrors(err, &ves) || len(ves) == 0 {
+				return ValidationError{{Field: field, Rule: "invalid", Message: err.Error()}}
+			}
+			fe := ves[0]
+			key := fe.Field()
+			if key != "duration_s" {
+				key = p.Column
+			}
+			return ValidationError{{Field: field, Rule: fe.Tag(), Message: fmt.Sprintf(
+				"the step from time_s %g: its %s %s; check the log's units (time_s in s, %s)",
+				t, key, ruleMessage(fe), columnUnit(p.Column))}}
+		}
+		if s.PowerW != nil && *s.PowerW != 0 && math.Abs(*s.PowerW) < MinPowerW {
+			return ValidationError{{Field: field, Rule: "min_power", Message: fmt.Sprintf(
+				"the step from time_s %g has power_w %g W, below %g W (a femtowatt) in size; write 0 for no load, or check the unit (W)", t, *s.PowerW, MinPowerW)}}
+		}
+		t += s.DurationS
+	}
+	return nil
+}
+
+func columnUnit(column string) string {
+	if column == profileCurrentColumn {
+		return "current_a in A"
+	}
+	return "power_w in W"
+}
