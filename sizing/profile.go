@@ -162,3 +162,39 @@ func columnUnit(column string) string {
 	}
 	return "power_w in W"
 }
+
+// ProfileTotals sum up a logged profile, in the unit of its column: for
+// power_w, energy in J at the converter output; for current_a, charge in C
+// at the bank terminals.
+type ProfileTotals struct {
+	// Drawn is the integral of the positive values (the load drawing from
+	// the bank), Returned that of the negative ones (charging), both ≥ 0:
+	//
+	//	Drawn = Σ max(v_i, 0)·Δt_i,   Returned = Σ max(−v_i, 0)·Δt_i
+	Drawn, Returned float64
+	// Peak is the largest value (W or A), Lowest the smallest; both 0 for
+	// a profile of rests only.
+	Peak, Lowest float64
+}
+
+// Totals sums the profile's steps (see ProfileTotals).
+func (p *ProfileCSV) Totals() ProfileTotals {
+	var t ProfileTotals
+	for i := range p.Steps {
+		s := &p.Steps[i]
+		v := 0.0
+		switch {
+		case s.PowerW != nil:
+			v = *s.PowerW
+		case s.CurrentA != nil:
+			v = *s.CurrentA
+		}
+		if v > 0 {
+			t.Drawn += v * s.DurationS
+		} else {
+			t.Returned -= v * s.DurationS
+		}
+		t.Peak, t.Lowest = max(t.Peak, v), min(t.Lowest, v)
+	}
+	return t
+}

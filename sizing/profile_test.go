@@ -196,3 +196,21 @@ func BenchmarkSizeProfileCSVText(b *testing.B) {
 		}
 	}
 }
+
+// A profile's totals are the integrals of its zero-order hold.
+func TestProfileCSVTotals(t *testing.T) {
+	t.Parallel()
+	// 100 W for 2 s, rest 1 s, −50 W (charging) for 3 s, 20 W for the last
+	// row's 3 s: drawn 100·2 + 20·3 = 260 J, returned 50·3 = 150 J (own
+	// arithmetic of the zero-order hold, ParseProfileCSV's doc comment).
+	p, err := ParseProfileCSV(strings.NewReader("time_s,power_w\n0,100\n2,0\n3,-50\n6,20\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := p.Totals()
+	const rel = 1e-12 // sums of exact products
+	approx.Near(t, "drawn", got.Drawn, 260, rel)
+	approx.Near(t, "returned", got.Returned, 150, rel)
+	approx.Near(t, "peak", got.Peak, 100, rel)
+	approx.Near(t, "lowest", got.Lowest, -50, rel)
+}

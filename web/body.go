@@ -127,7 +127,7 @@ func postedToken(c echo.Context) ([]byte, error) {
 			return nil, err
 		}
 	}
-	data, err := share.Decode(tok)
+	data, err := share.DecodePosted(tok)
 	if err != nil {
 		return nil, badLink(err)
 	}
