@@ -332,7 +332,7 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 		}
 	}
 	p.Candidates = sortCandidates(r.Candidates, ev.form.Sort)
-	p.Summary = designSummary(r, len(ev.sized.Load.Steps))
+	p.Summary = designSummary(r, len(ev.sized.Load.StepList()))
 	return p
 }
 
