@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
 
 	"github.com/go-playground/validator/v10"
 )
@@ -59,10 +60,36 @@ func (l *Load) Profile() (*ProfileCSV, error) {
 	}
 	if l.profile == nil || l.profile.text != l.ProfileCSVText || (l.profile.csv == nil && l.profile.err == nil) {
 		fromFile := l.profile != nil && l.profile.fromFile && l.profile.text == l.ProfileCSVText
-		p, err := ParseProfileCSV(strings.NewReader(l.ProfileCSVText))
+		p, err := ParseProfileCSVText(l.ProfileCSVText)
 		l.profile = &loadedProfile{text: l.ProfileCSVText, csv: p, err: err, fromFile: fromFile}
 	}
 	return l.profile.csv, l.profile.err
+}
+
+// lastProfile remembers the last text ParseProfileCSVText read.
+var lastProfile struct {
+	sync.Mutex
+	text string
+	csv  *ProfileCSV
+	err  error
+}
+
+// ParseProfileCSVText is ParseProfileCSV of text, remembering the text it
+// read last and what it made of it: a program that checks a profile when
+// it is given (the page's upload) and then sizes it reads a long log once.
+// The result is shared; its steps must not be changed.
+func ParseProfileCSVText(text string) (*ProfileCSV, error) {
+	lastProfile.Lock()
+	if (lastProfile.csv != nil || lastProfile.err != nil) && lastProfile.text == text {
+		defer lastProfile.Unlock()
+		return lastProfile.csv, lastProfile.err
+	}
+	lastProfile.Unlock()
+	p, err := ParseProfileCSV(strings.NewReader(text)) // outside the lock: other texts need not wait
+	lastProfile.Lock()
+	lastProfile.text, lastProfile.csv, lastProfile.err = text, p, err
+	lastProfile.Unlock()
+	return p, err
 }
 
 // StepList is the steps the load runs: Steps, or those of its logged

@@ -34,10 +34,20 @@ func designToken(d *sizing.Design) (token, note, linkNote string) {
 	if err != nil {
 		return "", "This design could not be written as a design file.", ""
 	}
-	tok, err := share.EncodePosted(data)
-	if err != nil || len(data) > share.MaxDesignBytes {
+	if len(data) > share.MaxDesignBytes {
 		return "", fmt.Sprintf("This design is too large to carry in a link or a download from this page (its design file is %s, more than %s); size and export it with capbank size.",
 			figures.SI(float64(len(data)), "B", 3), figures.SI(share.MaxDesignBytes, "B", 3)), ""
+	}
+	tok, err := share.EncodePosted(data)
+	if err != nil {
+		return "", "This design could not be written as a design file.", ""
+	}
+	// The posted token is compressed for speed; a link's for size, tried
+	// only when it could come near a link's length.
+	if len(tok) <= 2*share.MaxTokenBytes {
+		if link, err := share.Encode(data); err == nil {
+			return link, "", ""
+		}
 	}
 	if len(tok) > share.MaxTokenBytes {
 		what := "This design"

@@ -1,7 +1,6 @@
 package form
 
 import (
-	"bytes"
 	"fmt"
 	"net/url"
 	"regexp"
@@ -340,12 +339,13 @@ func (f *Form) loadCSV(fh *Upload) {
 		f.actionProblem("profile_csv", "required", "choose a CSV file first (a header naming time_s and power_w or current_a)")
 		return
 	}
-	p, err := sizing.ParseProfileCSV(bytes.NewReader(fh.Data))
+	text := string(fh.Data)
+	p, err := sizing.ParseProfileCSVText(text)
 	if err != nil {
 		f.actionProblem("profile_csv", "csv", fh.Filename+": "+err.Error())
 		return
 	}
-	f.Profile = string(fh.Data)
+	f.Profile = text
 	f.Vals.Set(ProfileField, f.Profile)
 	f.Vals.Set(ProfileNameField, fh.Filename)
 	f.Steps = nil
