@@ -42,6 +42,14 @@ func TestBrowserProfileSaveReopenShare(t *testing.T) {
 
 	must(t, chromedp.Do(ctx, chromedp.Navigate(url+"/"), chromedp.WaitVisible(chromedp.CSS("[data-testid=headline]"))), "opening the design page")
 	htmxReady(t, ctx)
+	// Note whether the progress indicator shows while the profile uploads
+	// and sizes (htmx marks it with htmx-request for the request's length).
+	watch := `(() => { window.sawProgress = false; const i = document.getElementById("profile-progress");
+		new MutationObserver(() => { if (getComputedStyle(i).visibility === "visible") window.sawProgress = true; })
+			.observe(i, {attributes: true}); return true })()`
+	if !run(t, ctx, chromedp.Evaluate[bool](watch), "watching the progress indicator") {
+		t.Fatal("no progress indicator to watch")
+	}
 	must(t, chromedp.Do(ctx,
 		chromedp.Click(chromedp.CSS("#profile-file summary")),
 		chromedp.SetUploadFiles(chromedp.ID("f-profile_csv"), []string{csv}),
@@ -64,6 +72,16 @@ func TestBrowserProfileSaveReopenShare(t *testing.T) {
 		return waitText(t, ctx, "[data-testid=bank]", "×", when)
 	}
 	bank := check("loaded")
+	// The progress shown while it uploads and sizes is the button's
+	// indicator, and it is gone once the profile is in.
+	ind := run(t, ctx, chromedp.Evaluate[string](`(() => { const b = document.querySelector("[data-testid=load-profile]");
+		const i = document.querySelector(b.getAttribute("hx-indicator")); return i ? i.textContent.trim() + "|" + getComputedStyle(i).visibility : "none" })()`), "reading the progress indicator")
+	if !run(t, ctx, chromedp.Evaluate[bool](`window.sawProgress === true`), "reading the progress watch") {
+		t.Error("no progress was shown while the profile uploaded and sized")
+	}
+	if ind != "Uploading and sizing…|hidden" {
+		t.Errorf("progress indicator %q after the load, want \"Uploading and sizing…\" and hidden", ind)
+	}
 	if d := waitText(t, ctx, "[data-testid=profile-duration]", "", "reading the duration"); !strings.Contains(d, "33.33 min") && !strings.Contains(d, "2000 s") && !strings.Contains(d, "2 000 s") {
 		t.Errorf("duration %q, want 2000 s (33.33 min)", d)
 	}

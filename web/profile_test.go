@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/PuerkitoBio/goquery"
+
 	"capbank/sizing"
 	"capbank/web/share"
 )
@@ -163,4 +165,38 @@ func BenchmarkPageProfileUpload(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/upload")
 	b.ReportMetric(float64(len(rec.Body.String()))/1e6, "page_MB")
+}
+
+// A design file whose profile has a bad row opens with the profile kept
+// and the row's line and column beside the profile file input, under its
+// label; one that names a profile file the page cannot read is refused.
+func TestOpenDesignWithProfileProblems(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	open := func(design string) *goquery.Document {
+		t.Helper()
+		v := url.Values{"action": {"open-design"}}
+		rec := postMultipart(t, s, "/", v, "design_file", "logged.json", design)
+		if rec.Code != http.StatusOK && rec.Code != http.StatusUnprocessableEntity {
+			t.Fatalf("status %d", rec.Code)
+		}
+		return parse(t, rec)
+	}
+	bad := `{"window":{"max_v":48,"min_v":24},"load":{"profile_csv_text":"time_s,power_w\n0,100\n1,x\n"},"cells":["demo-2v7-650f"]}`
+	doc := open(bad)
+	if doc.Find("[data-testid=profile-summary]").Length() != 1 {
+		t.Error("the opened design's profile is not shown as a profile")
+	}
+	if got := text(doc, "#msg-profile_csv"); !strings.Contains(got, `line 3, power_w: "x" is not a number`) {
+		t.Errorf("profile message %q, want the bad row's line and column", got)
+	}
+	if got := text(doc, "[data-testid=problems]"); !strings.Contains(got, "Profile file: line 3") {
+		t.Errorf("problem summary %q, want it under the label Profile file", got)
+	}
+
+	named := `{"window":{"max_v":48,"min_v":24},"load":{"profile_csv":"day.csv"},"cells":["demo-2v7-650f"]}`
+	doc = open(named)
+	if got := text(doc, "#msg-design_file"); !strings.Contains(got, `names the profile file "day.csv", which this page cannot read`) {
+		t.Errorf("design file message %q, want the profile file refused", got)
+	}
 }
