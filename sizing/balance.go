@@ -51,13 +51,9 @@ type balancingPlan struct {
 	flags []Flag
 }
 
-// planBalancing chooses the balancing of a string of s cells of cell c at
-// window top maxV (V), with per-cell ceiling (V).
-func (p *plan) planBalancing(c *Cell, s int, ceiling float64) balancingPlan {
-	b := Balancing{}
-	if p.d.Balancing != nil {
-		b = *p.d.Balancing
-	}
+// planBalancing chooses the balancing b of a string of s cells of cell c
+// at the window top, with per-cell ceiling (V).
+func (p *plan) planBalancing(c *Cell, b Balancing, s int, ceiling float64) balancingPlan {
 	vCell := p.maxV / float64(s)
 	bp := balancingPlan{}
 	kind := b.Kind

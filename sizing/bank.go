@@ -78,18 +78,19 @@ const DefaultAmbientC = 25.0
 // roomC is the temperature, in °C, at which datasheet ESR is given.
 const roomC = DefaultAmbientC
 
-// ColdESRFactor returns the factor by which the ESR at coldC (°C) exceeds
-// the ESR at 25 °C, from one datasheet point: the factor f measured at
-// pointC (< 25 °C). Between the two temperatures it interpolates
+// ColdFactor returns the factor by which a cell figure at coldC (°C)
+// differs from its value at 25 °C, from one datasheet point: the factor f
+// given at pointC (< 25 °C). Between the two temperatures it interpolates
 // log-linearly,
 //
 //	k(T) = f^((25 − T)/(25 − pointC)),
 //
 // since electrolyte resistance rises roughly exponentially as it cools
-// (an assumption of capbank, no source; REFERENCES.md 8.3 gives the trend).
-// Above 25 °C it returns 1; below pointC it returns f and beyond = true:
-// the datasheet says nothing colder, and the caller must say so.
-func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
+// (an assumption of capbank, no source; REFERENCES.md 8.3 gives the trend);
+// the capacitance factor (f ≤ 1) is interpolated the same way. Above 25 °C
+// it returns 1; below pointC it returns f and beyond = true: the datasheet
+// says nothing colder, and the caller must say so.
+func ColdFactor(coldC, pointC, f float64) (k float64, beyond bool) {
 	switch {
 	case coldC >= roomC:
 		return 1, false
@@ -97,6 +98,11 @@ func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
 		return f, coldC < pointC
 	}
 	return math.Pow(f, (roomC-coldC)/(roomC-pointC)), false
+}
+
+// ColdESRFactor is ColdFactor for the ESR's factor f (≥ 1).
+func ColdESRFactor(coldC, pointC, f float64) (k float64, beyond bool) {
+	return ColdFactor(coldC, pointC, f)
 }
 
 // bankModel is the worst-case equivalent circuit of a bank: an ideal

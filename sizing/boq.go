@@ -156,10 +156,19 @@ func BillOfQuantities(d *Design, r *Report, cellID string) (*BOQ, error) {
 	if opt.BleederTimeS != nil {
 		bt = *opt.BleederTimeS
 	}
-	b.Bleeder = PlanBleeder(r.MaxV, cand.CapacitanceF, bt)
+	// The slowest bank to bleed is the one at the top of the capacitance
+	// tolerance: t = R·C·ln(V0/V1) grows with C.
+	plus := 0.0
+	if t := cell.CapacitanceTolerancePct; len(t) == 2 {
+		plus = t[1] / 100
+	}
+	b.Bleeder = PlanBleeder(r.MaxV, cand.CapacitanceF*(1+plus), bt)
 	bl := b.Bleeder
 	desc := fmt.Sprintf("%s, %g W, switched across the bank for service: %.4g V → %g V in %s",
 		ohms(bl.ResistorOhm), bl.PowerW, r.MaxV, bl.TargetV, duration(bl.TimeS))
+	if plus > 0 {
+		desc += fmt.Sprintf(" at the capacitance's +%g %% tolerance, the slowest case", 100*plus)
+	}
 	if bl.Slower {
 		desc += fmt.Sprintf(" (slower than the %s asked: %s in %s would dissipate over %g W at first; use a larger resistor bank or accept the wait)",
 			duration(bl.AskedS), fmt.Sprintf("%.4g V → %g V", r.MaxV, bl.TargetV), duration(bl.AskedS), maxBleederW)

@@ -96,6 +96,16 @@ type Balancing struct {
 	// cell; required for kind "active". Zero, or at least 1 pA
 	// (MinLeakageA).
 	QuiescentA *float64 `json:"quiescent_a,omitempty" validate:"omitempty,finite,gte=0,lte=10"`
+	// MaxLossShare is the passive balancing's standing loss (the whole bank,
+	// at the window top) as a share of the load's mean power over the pass
+	// above which the balancing-loss warning is raised. nil:
+	// DefaultBalancingMaxLossShare (1 %; common practice, no source).
+	MaxLossShare *float64 `json:"max_loss_share,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// MinTimeConstantH, in h, is the shortest self-discharge time constant
+	// R·C of a cell with its passive balancing resistor below which the
+	// balancing-loss warning is raised. nil: DefaultBalancingMinTimeConstantH
+	// (24 h, a day; common practice, no source).
+	MinTimeConstantH *float64 `json:"min_time_constant_h,omitempty" validate:"omitempty,finite,gt=0,lte=100000"`
 }
 
 // LifeModel holds the rules of thumb that scale a cell's rated life.
@@ -109,6 +119,12 @@ type LifeModel struct {
 	// the rating). nil: 0.2, the milder of the published steps (REFERENCES.md
 	// 4.2 gives 0.1 V to 0.2 V), so derating is not over-credited.
 	VoltageStepV *float64 `json:"voltage_step_v,omitempty" validate:"omitempty,finite,gte=0.01,lte=10"`
+	// MaxYears, in years, is the calendar ceiling of the expected life: the
+	// halving rules scale a rated life far past what any electrolyte and
+	// seal are known to last, so a longer figure is reported as "at least
+	// MaxYears" and never ranked. nil: DefaultLifeMaxYears (15 years;
+	// common practice, no source).
+	MaxYears *float64 `json:"max_years,omitempty" validate:"omitempty,finite,gt=0,lte=100"`
 }
 
 // Floors of the inputs that may be zero but not tiny: a value between zero
@@ -130,6 +146,23 @@ const (
 	DefaultBalancingSeries   = "E24"
 	DefaultLifeTempStepK     = 10.0
 	DefaultLifeVoltageStepV  = 0.2
+	// DefaultLifeMaxYears is the calendar ceiling of the expected life
+	// (common practice, no source: makers quote 10 to 20 years of
+	// calendar life for EDLCs however lightly they are used).
+	DefaultLifeMaxYears = 15.0
+	// DefaultBalancingMaxLossShare and DefaultBalancingMinTimeConstantH
+	// are the thresholds of the balancing-loss warning (common practice, no
+	// source): passive balancing should cost under 1 % of the load's mean
+	// power and leave each cell a self-discharge time constant of at
+	// least a day.
+	DefaultBalancingMaxLossShare     = 0.01
+	DefaultBalancingMinTimeConstantH = 24.0
+	// AssumedActiveQuiescentA, in A, is the draw per cell capbank assumes
+	// for an active balancing circuit when it shows active balancing as an
+	// alternative and the design gives no balancing.quiescent_a: 10 µA,
+	// a typical figure for a shunt-regulator balancer (common practice, no
+	// source).
+	AssumedActiveQuiescentA = 10e-6
 	// DefaultSpecificHeat, in J/(kg·K), is a cell's specific heat when the
 	// cell does not give one: REFERENCES.md 8.5, an estimate from the mix of
 	// aluminium, carbon and organic solvent (plausible range 900–1300).
@@ -161,6 +194,14 @@ type Load struct {
 	Efficiency *float64 `json:"efficiency,omitempty" validate:"omitempty,finite,gt=0,gte=0.01,lte=1"`
 	// Repeat is how many times the steps run in the sizing check. nil: 1.
 	Repeat *int `json:"repeat,omitempty" validate:"omitempty,gte=1,lte=1000000"`
+	// PeriodS, in s, is the time from the start of one event (the steps ×
+	// repeat, the sizing pass) to the start of the next; between them the
+	// bank is idle and held at the window top. The RMS current checked
+	// against the cell's continuous rating and the thermal steady state are
+	// taken over the period. At least the pass duration. nil: the pass is
+	// taken as repeating back to back, the cautious assumption, and the
+	// report says so.
+	PeriodS *float64 `json:"period_s,omitempty" validate:"omitempty,finite,gt=0,lte=1e9"`
 	// Steps are the profile's steps in order. A load gives exactly one of
 	// Steps, ProfileCSV or ProfileCSVText (see Validate).
 	Steps []Step `json:"steps,omitempty" validate:"max=1000000,dive"`
@@ -208,6 +249,12 @@ type EOL struct {
 	// criterion of 200 % of the initial ESR (REFERENCES.md 4.4; common
 	// practice in supplier literature).
 	ESRFactor *float64 `json:"esr_factor,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
+	// ApplyTolerance: whether the cell's minus capacitance tolerance is
+	// applied on top of CapacitanceFactor. End-of-life criteria are
+	// relative to the cell's initial measured capacitance, which may sit
+	// at the bottom of its tolerance (common practice, no source). nil:
+	// true.
+	ApplyTolerance *bool `json:"apply_tolerance,omitempty"`
 }
 
 // Default end-of-life factors: capacitance down to 80 %, ESR up to 200 % of
@@ -246,9 +293,22 @@ type Cell struct {
 	ColdESRFactor *float64 `json:"cold_esr_factor,omitempty" validate:"omitempty,finite,gte=1,lte=100"`
 	// ColdESRTempC, in °C, is where ColdESRFactor was measured; below 25 °C.
 	ColdESRTempC *float64 `json:"cold_esr_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lt=25"`
+	// ColdCapacitanceFactor is the capacitance at ColdESRTempC divided by
+	// the capacitance at 25 °C, in (0, 1]; applied at the design's cold_c,
+	// interpolated as the ESR factor is (see ColdFactor). Needs
+	// ColdESRTempC.
+	ColdCapacitanceFactor *float64 `json:"cold_capacitance_factor,omitempty" validate:"omitempty,finite,gt=0,lte=1"`
+	// MinV, in V, is the lowest voltage the cell may be discharged to.
+	// Required for hybrid (lithium-ion) cells, whose negative electrode is
+	// damaged below it; optional for EDLCs, which may go to 0 V. A string
+	// of n such cells raises the window bottom to n·MinV where that is
+	// higher.
+	MinV *float64 `json:"min_v,omitempty" validate:"omitempty,finite,gt=0,lte=1000"`
 	// LeakageA, in A, is the leakage current at rated voltage. It is modelled
 	// as a resistance RatedV/LeakageA across the capacitor. Zero, or at
-	// least 1 pA (see MinLeakageA).
+	// least 1 pA (see MinLeakageA), and plausible: the self-discharge time
+	// constant C·RatedV/LeakageA must be at least an hour
+	// (MinSelfDischargeS).
 	LeakageA *float64 `json:"leakage_a,omitempty" validate:"omitempty,finite,gte=0,lte=1000"`
 	// MaxCurrentA, in A, is the maximum continuous current, checked against
 	// the cell's RMS current over the sizing pass (it is a heating limit).

@@ -43,9 +43,10 @@ func TestSizeExtremeButValid(t *testing.T) {
 			d.Life = &LifeModel{TempStepK: fp(1), VoltageStepV: fp(0.01)}
 		}, func(t *testing.T, c *Candidate) {
 			// 10⁷ h · 2^(300/1) · 2^((1000 − 0.1)/0.01) overflows (own
-			// arithmetic): no life figure, and a flag that says why.
-			if c.Life != nil || !hasFlag(c.Flags, "life-beyond-rules") {
-				t.Errorf("life %+v, flags %v; want no figure and the life-beyond-rules flag", c.Life, c.Flags)
+			// arithmetic): the calendar ceiling, marked "at least", and a
+			// flag that says why.
+			if c.Life == nil || !c.Life.AtLeast || c.Life.ExpectedYears != DefaultLifeMaxYears || !hasFlag(c.Flags, "life-beyond-rules") {
+				t.Errorf("life %+v, flags %v; want at least the 15-year ceiling and the life-beyond-rules flag", c.Life, c.Flags)
 			}
 		}},
 		{"a hot cell of short life", func(d *Design, c *Cell) {

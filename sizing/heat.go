@@ -39,17 +39,50 @@ func (h heatModel) loss(i2dt, t float64) float64 {
 type heatResult struct {
 	peak     float64  // highest rise over the pass from ambient, K
 	dutyPeak *float64 // highest rise at the periodic steady state, K
+	end      float64  // rise at the end of the pass, K
+	t        float64  // time the pass ran, s
+	stopped  bool     // a step stopped the pass early
 }
 
 // heat runs the sizing pass on bank m with the thermal model h. Each step
-// heats the cell at its mean loss (exact energy per step). When the steps
-// repeat, the periodic steady state of the repeating duty is found from
-// the period's affine map ΔT_end = α·ΔT_start + β, α = e^(−T/τ), whose
-// fixed point is β/(1 − α); the losses of the pass's last repeat are used
-// for it, the most drained and so the most lossy.
-func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h heatModel) heatResult {
+// heats the cell at its mean loss (exact energy per step). The periodic
+// steady state of a repeating duty is found from its affine map
+// ΔT_end = α·ΔT_start + β, α = e^(−T/τ), whose fixed point is β/(1 − α):
+//
+//   - with a period (periodS > 0, load.period_s), the duty is the whole
+//     pass followed by the bank idle (no current, no heating) until the
+//     next event: β is the pass's rise from ambient times e^(−idle/τ), α
+//     is e^(−period/τ), and the pass is run again from the fixed point
+//     for its peak;
+//   - with none and repeating steps, the steps repeat back to back, the
+//     losses of the pass's last repeat (the most drained and so the most
+//     lossy) standing for every repeat.
+func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h heatModel, periodS float64) heatResult {
+	res := m.heatFrom(steps, repeat, maxV, minV, h, 0, periodS == 0)
+	if periodS == 0 || res.stopped {
+		return res
+	}
+	if h.tau <= 0 {
+		// The rise follows the loss at once: every event is the first.
+		peak := res.peak
+		res.dutyPeak = &peak
+		return res
+	}
+	pass := res.t
+	idle := max(0, periodS-pass)
+	start := res.end * math.Exp(-idle/h.tau) / -expm1(-periodS/h.tau)
+	again := m.heatFrom(steps, repeat, maxV, minV, h, start, false)
+	peak := math.Max(start, again.peak)
+	res.dutyPeak = &peak
+	return res
+}
+
+// heatFrom runs the pass from a rise x0 (K) and returns its peak rise,
+// its rise at the end and, when backToBack, the periodic steady state of
+// the steps repeating back to back.
+func (m *bankModel) heatFrom(steps []compiledStep, repeat int, maxV, minV float64, h heatModel, x0 float64, backToBack bool) heatResult {
 	var o stepOutcome
-	v, x := maxV, 0.0
+	v, x := maxV, x0
 	res := heatResult{}
 	last := make([]float64, len(steps))
 	for k := range repeat {
@@ -61,16 +94,19 @@ func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h
 			w := h.loss(o.i2dt, o.t)
 			x = h.advance(x, w, o.t)
 			res.peak = math.Max(res.peak, x)
+			res.t += o.t
 			v = o.v1
 			if k == repeat-1 {
 				last[j] = w
 			}
 			if o.stop != stopNone {
+				res.stopped = true
 				return res
 			}
 		}
 	}
-	if repeat <= 1 {
+	res.end = x
+	if repeat <= 1 || !backToBack {
 		return res
 	}
 	period := 0.0

@@ -17,11 +17,3 @@ const hoursPerYear = 8766.0
 func ExpectedLife(ratedH, ratedC, ratedV, tempC, cellV, tempStepK, voltStepV float64) float64 {
 	return ratedH * math.Exp2((ratedC-tempC)/tempStepK) * math.Exp2((ratedV-cellV)/voltStepV)
 }
-
-// MaxLifeYears is the longest expected life capbank reports, in years.
-// The halving rules are fitted over thousands to hundreds of thousands of
-// hours; a cell held far below its rating and temperature scales to more
-// than 10⁶ years, or past the largest float64, and the rules then say only
-// that neither voltage nor temperature limits the life (common practice,
-// no source, for where to stop).
-const MaxLifeYears = 1e6

@@ -205,7 +205,7 @@ func ngspiceCases() []ngspiceCase {
 			Repeat: spiceInt(8),
 			Steps:  []sizing.Step{{CurrentA: spiceF64(pulseA), DurationS: pulseOnS}, {Rest: true, DurationS: pulseRestS}},
 		},
-		Cells: []sizing.Cell{{ID: "pulse-100", RatedV: 2.7, CapacitanceF: 100, ESROhm: 12e-3, LeakageA: spiceF64(0.1)}},
+		Cells: []sizing.Cell{{ID: "pulse-100", RatedV: 2.7, CapacitanceF: 100, ESROhm: 12e-3, LeakageA: spiceF64(0.075)}},
 	}
 
 	// Case 3: a heater of 1.5 Ω across the bank for 20 s; the cell gives no

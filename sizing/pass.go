@@ -22,7 +22,9 @@ type passStats struct {
 	minU     float64    // lowest terminal voltage, V
 	peakI    float64    // largest |i|, A
 	i2dt     float64    // ∫ i² dt, A²·s
+	maxI2    float64    // the largest mean i² of a step, A², bounding the heating
 	eLoad    float64    // energy delivered at the terminals, J
+	eOut     float64    // energy delivered to the load, after the converter, J
 	reject   float64    // charging energy not absorbed, J
 	stop     stopReason // why the run ended early, if it did
 	stopStep int        // index of the step that stopped it
@@ -47,7 +49,11 @@ func (m *bankModel) run(steps []compiledStep, repeat int, v0, minV, maxV float64
 			s.minU = min(s.minU, o.uStart, o.uEnd)
 			s.peakI = max(s.peakI, o.iPeak)
 			s.i2dt += o.i2dt
+			if o.t > 0 {
+				s.maxI2 = max(s.maxI2, o.i2dt/o.t)
+			}
 			s.eLoad += o.eLoad
+			s.eOut += o.eLoad * steps[j].toLoad
 			s.reject += o.reject
 			s.steps++
 			if o.stop != stopNone {

@@ -95,13 +95,13 @@ func TestParallelSizingMatchesSerial(t *testing.T) {
 	t.Parallel()
 	// 24 invented cells against two hours of the invented logged day
 	// (07:00–09:00, the solar charge starting at 08:00); two of them leak
-	// so much (time constant C/g = 500 s) that no string count carries
+	// so much (time constant C/g = 1 h, the shortest plausible) that no string count carries
 	// the hour before the charge.
 	d := dayDesign(24)
 	d.Load.Steps = d.Load.Steps[7*3600 : 9*3600]
 	for _, i := range []int{3, 17} {
 		c := &d.Cells[i]
-		c.LeakageA = fp(c.CapacitanceF * c.RatedV / 500) // g = C/(500 s)
+		c.LeakageA = fp(c.CapacitanceF * c.RatedV / MinSelfDischargeS) // g = C/(1 h), the most Validate accepts
 	}
 	serial, nSerial, err := sizeWith(context.Background(), d, 1)
 	if err != nil {

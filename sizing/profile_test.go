@@ -14,15 +14,19 @@ import (
 
 // loggedDayCSV is an invented logged day (demo data, not a measurement):
 // one power_w row a second for rows seconds, a slow swing of the base load
-// with a 1.8 W burst of 4 s every 10 min, rounded to the milliwatt as a
-// logger would write it, so nearly every row is a step of its own.
+// with a 1.8 W burst of 4 s every 10 min and a minute of charging at 3 W
+// five minutes after it, rounded to the milliwatt as a logger would write
+// it, so nearly every row is a step of its own.
 func loggedDayCSV(rows int) string {
 	var b strings.Builder
 	b.WriteString("# invented demo data: a logged day\ntime_s,power_w\n")
 	for i := range rows {
 		p := 0.2 + 0.15*math.Sin(2*math.Pi*float64(i)/86400) + 0.01*math.Sin(float64(i))
-		if i%600 < 4 {
+		switch t := i % 600; {
+		case t < 4:
 			p = 1.8
+		case t >= 300 && t < 360:
+			p = -3 // the charger's minute
 		}
 		b.WriteString(strconv.Itoa(i))
 		b.WriteByte(',')
@@ -135,6 +139,13 @@ func TestProfileLoadRules(t *testing.T) {
 		// 2e9 W is above Step's 1e9 W ceiling (design.go, power_w lte=1e9).
 		{"power beyond range", func(l *Load) { l.ProfileCSVText = "time_s,power_w\n0,1\n10,2e9\n" },
 			"load.profile_csv_text", "lte", "the step from time_s 10: its power_w must be at most 1e9"},
+		// The profile lasts 10 s (rows at 0 and 5 s, the last held 5 s), so
+		// a period of 8 s is shorter than one event (own arithmetic).
+		{"period shorter than the profile", func(l *Load) {
+			l.ProfileCSVText = "time_s,power_w\n0,1\n5,2\n"
+			p := 8.0
+			l.PeriodS = &p
+		}, "load.period_s", "at_least_pass", "shorter than one event"},
 		{"femtowatt", func(l *Load) { l.ProfileCSVText = "time_s,power_w\n0,1\n5,1e-18\n6,1\n" },
 			"load.profile_csv_text", "min_power", "the step from time_s 5 has power_w 1e-18 W"},
 	}

@@ -18,10 +18,13 @@ type Report struct {
 	ColdC                *float64 `json:"cold_c"`
 	// ProfileDurationS, in s, is one pass of the steps; PassDurationS is the
 	// sizing pass, steps × repeat.
-	ProfileDurationS float64     `json:"profile_duration_s"`
-	PassDurationS    float64     `json:"pass_duration_s"`
-	Repeat           int         `json:"repeat"`
-	Candidates       []Candidate `json:"candidates"`
+	ProfileDurationS float64 `json:"profile_duration_s"`
+	PassDurationS    float64 `json:"pass_duration_s"`
+	Repeat           int     `json:"repeat"`
+	// PeriodS is the design's load.period_s: the time from the start of one
+	// event to the start of the next; nil: the pass repeats back to back.
+	PeriodS    *float64    `json:"period_s"`
+	Candidates []Candidate `json:"candidates"`
 	// Curve is the worst-case pass of the recommended bank, for charts;
 	// nil when nothing is recommended.
 	Curve *Curve `json:"curve,omitempty"`
@@ -46,6 +49,10 @@ type Candidate struct {
 	// CellV the per-cell voltage at the window top (max_v / series).
 	CellCeilingV float64 `json:"cell_ceiling_v"`
 	CellV        float64 `json:"cell_v"`
+	// MinV, in V, is the window bottom this candidate was sized to: the
+	// design's window.min_v, or, for a cell with its own floor (min_v),
+	// series × that floor where it is higher.
+	MinV float64 `json:"min_v"`
 	// Limit names what set the parallel count: "voltage" (terminal voltage
 	// reaches min_v), "power" (maximum-power point), "peak_current",
 	// "rms_current", or "" when one string is enough with margin.
@@ -56,14 +63,26 @@ type Candidate struct {
 	// WorstCapacitanceF and WorstESROhm: the bank at worst case.
 	WorstCapacitanceF float64 `json:"worst_capacitance_f"`
 	WorstESROhm       float64 `json:"worst_esr_ohm"`
-	// ColdESRFactor is the cold factor applied to the ESR (1 when none).
-	ColdESRFactor float64 `json:"cold_esr_factor"`
+	// ColdESRFactor is the cold factor applied to the ESR (1 when none),
+	// ColdCapacitanceFactor the one applied to the capacitance (1 when
+	// none) and ToleranceFactor the minus capacitance tolerance applied
+	// (0.9 for −10 %; 1 when none or eol.apply_tolerance is false). The
+	// worst-case capacitance is the rated one × the end-of-life factor ×
+	// ToleranceFactor × ColdCapacitanceFactor.
+	ColdESRFactor         float64 `json:"cold_esr_factor"`
+	ColdCapacitanceFactor float64 `json:"cold_capacitance_factor"`
+	ToleranceFactor       float64 `json:"tolerance_factor"`
+	// WorstCase says in words what the worst case applied, e.g. "end of
+	// life: capacitance ×0.8, ESR ×2; tolerance −10 %; at −30 °C: ESR
+	// ×2.6, capacitance not derated (the cell gives no cold factor)".
+	WorstCase string `json:"worst_case"`
 	// LeakageOhm, in Ω, is the bank's leakage and balancing drain together,
 	// as one resistance across the capacitor; nil when there is neither.
 	LeakageOhm *float64 `json:"leakage_ohm"`
 	// StoredEnergyJ = ½·C·max_v², beginning of life, in J.
 	StoredEnergyJ float64 `json:"stored_energy_j"`
-	// UsableEnergyJ = ½·C_eol·(max_v² − min_v²), in J.
+	// UsableEnergyJ = ½·C_w·(max_v² − min_v²), in J, at the worst-case
+	// capacitance C_w and this candidate's window bottom.
 	UsableEnergyJ float64 `json:"usable_energy_j"`
 	// RuntimeS, in s, is the worst-case time the steps, repeated back to
 	// back, run before the terminal voltage falls to min_v or the power
@@ -78,21 +97,31 @@ type Candidate struct {
 	// pass at worst case; EndCapacitorV the capacitor voltage at its end.
 	MinTerminalV  float64 `json:"min_terminal_v"`
 	EndCapacitorV float64 `json:"end_capacitor_v"`
+	// MinCellV, in V, is the lowest cell terminal voltage over the sizing
+	// pass: MinTerminalV / series (the cells of a string share it equally).
+	MinCellV float64 `json:"min_cell_v"`
 	// PeakCurrentA and RMSCurrentA, in A, are the bank's largest and RMS
 	// current magnitude over the sizing pass at worst case; the Cell figures
-	// divide them by the string count.
+	// divide them by the string count. The RMS is taken over RMSOverS: the
+	// design's load.period_s when given (the bank idle between events), else
+	// the pass, as if it repeated back to back.
 	PeakCurrentA     float64 `json:"peak_current_a"`
 	RMSCurrentA      float64 `json:"rms_current_a"`
 	CellPeakCurrentA float64 `json:"cell_peak_current_a"`
 	CellRMSCurrentA  float64 `json:"cell_rms_current_a"`
-	// Energy bookkeeping over the sizing pass at worst case, in J: delivered
-	// to (+) or taken from (−) the load at the bank terminals, lost in the
-	// ESR, lost in the leakage, and offered by charging steps but not
-	// absorbed because the bank was held at the window top.
-	DeliveredEnergyJ float64 `json:"delivered_energy_j"`
-	ESRLossJ         float64 `json:"esr_loss_j"`
-	LeakageLossJ     float64 `json:"leakage_loss_j"`
-	RejectedEnergyJ  float64 `json:"rejected_energy_j"`
+	RMSOverS         float64 `json:"rms_over_s"`
+	// Energy bookkeeping over the sizing pass at worst case, in J: out of
+	// (+) or into (−) the bank terminals (BankEnergyJ), delivered to (+) or
+	// taken from (−) the load after the converter's efficiency
+	// (LoadEnergyJ; the same as BankEnergyJ for current and resistor steps
+	// and an efficiency of 1), lost in the ESR, lost in the leakage, and
+	// offered by charging steps but not absorbed because the bank was held
+	// at the window top.
+	BankEnergyJ     float64 `json:"bank_energy_j"`
+	LoadEnergyJ     float64 `json:"load_energy_j"`
+	ESRLossJ        float64 `json:"esr_loss_j"`
+	LeakageLossJ    float64 `json:"leakage_loss_j"`
+	RejectedEnergyJ float64 `json:"rejected_energy_j"`
 	// Totals for the whole bank; nil when the cell does not give the figure.
 	TotalPrice *float64 `json:"total_price"`
 	MassKg     *float64 `json:"mass_kg"`
@@ -119,11 +148,17 @@ type Thermal struct {
 	// CellLossW and BankLossW, in W: I_rms²·ESR at the worst-case ESR.
 	CellLossW float64 `json:"cell_loss_w"`
 	BankLossW float64 `json:"bank_loss_w"`
-	// SteadyRiseK, in K: ΔT = P·R_th with the pass's RMS loss.
+	// SteadyRiseK, in K: ΔT = P·R_th with the RMS loss over the period
+	// (load.period_s), or, with no period given, over the pass as if it
+	// repeated back to back forever (BackToBack true): then a bound that a
+	// one-shot event never reaches.
 	SteadyRiseK float64 `json:"steady_rise_k"`
+	BackToBack  bool    `json:"back_to_back"`
 	// PeakRiseK, in K: the highest rise over the pass by the first-order
-	// model from ambient; DutyPeakRiseK the highest rise once the repeating
-	// steps have reached their periodic steady state (nil for repeat 1).
+	// model from ambient; DutyPeakRiseK the highest rise once the events
+	// have reached their periodic steady state: the pass and its idle time
+	// repeating every load.period_s, or, with no period, the steps
+	// repeating back to back (nil for repeat 1 and no period).
 	PeakRiseK     float64  `json:"peak_rise_k"`
 	DutyPeakRiseK *float64 `json:"duty_peak_rise_k"`
 	// HotSpotC, in °C: ambient + the larger of the two peak rises.
@@ -165,10 +200,14 @@ type BalancingResult struct {
 	DissipationW   *float64 `json:"dissipation_w,omitempty"`
 	// QuiescentA, in A, per active circuit.
 	QuiescentA *float64 `json:"quiescent_a,omitempty"`
-	// Count is the number of resistors or circuits, one per cell.
-	Count int `json:"count"`
-	// LossW, in W, is the standing loss of all of them at the window top.
-	LossW float64 `json:"loss_w"`
+	// Count is the number of resistors or circuits in one string, one per
+	// cell; BankCount in the whole bank (Count × strings).
+	Count     int `json:"count"`
+	BankCount int `json:"bank_count"`
+	// LossW, in W, is the standing loss of one string's resistors or
+	// circuits at the window top; BankLossW of the whole bank.
+	LossW     float64 `json:"loss_w"`
+	BankLossW float64 `json:"bank_loss_w"`
 	// TimeConstantS, in s: R·C of one cell with its resistor (equalisation).
 	TimeConstantS *float64 `json:"time_constant_s"`
 	// ShelfHoldH, in h: how long the charged bank takes to fall from the
@@ -180,12 +219,48 @@ type BalancingResult struct {
 	// WorstStaticCellV, in V, is the highest cell voltage after a long hold
 	// at the window top with that leakage spread (REFERENCES.md 5.5).
 	WorstStaticCellV *float64 `json:"worst_static_cell_v"`
+	// Alternatives, given with the balancing-loss warning, are the same
+	// cell sized with one more cell in series (passive) and with active
+	// balancing, so the cost of each choice is visible.
+	Alternatives []BalancingAlternative `json:"alternatives,omitempty"`
+}
+
+// BalancingAlternative is a candidate's cell sized again with another
+// balancing choice.
+type BalancingAlternative struct {
+	// Kind: "passive" (Series is then one more than the candidate's) or
+	// "active".
+	Kind     string `json:"kind"`
+	Series   int    `json:"series"`
+	Parallel int    `json:"parallel"`
+	Cells    int    `json:"cells"`
+	// Feasible is false when the alternative cannot carry the load.
+	Feasible bool `json:"feasible"`
+	// ResistorOhm, in Ω, for passive; QuiescentA, in A per cell, for
+	// active, with QuiescentAssumed true when the design gave none and
+	// capbank took AssumedActiveQuiescentA.
+	ResistorOhm      *float64 `json:"resistor_ohm,omitempty"`
+	QuiescentA       *float64 `json:"quiescent_a,omitempty"`
+	QuiescentAssumed bool     `json:"quiescent_assumed,omitempty"`
+	// BankLossW, in W: the standing drain of the whole bank's balancing at
+	// the window top.
+	BankLossW float64 `json:"bank_loss_w"`
+	// ShelfHoldH, in h, and RuntimeS, in s, as the candidate's.
+	ShelfHoldH *float64 `json:"shelf_hold_h"`
+	RuntimeS   *float64 `json:"runtime_s"`
+	// TotalPrice of the cells, as the candidate's.
+	TotalPrice *float64 `json:"total_price"`
 }
 
 // Life is the expected service life of the cells.
 type Life struct {
+	// ExpectedH and ExpectedYears: the rules-of-thumb life, capped at
+	// CeilingYears (life.max_years); AtLeast is true when it was capped,
+	// and the figure then means "at least".
 	ExpectedH     float64 `json:"expected_h"`
 	ExpectedYears float64 `json:"expected_years"`
+	AtLeast       bool    `json:"at_least"`
+	CeilingYears  float64 `json:"ceiling_years"`
 	// TemperatureC and CellV, the conditions the life was scaled to.
 	TemperatureC float64 `json:"temperature_c"`
 	CellV        float64 `json:"cell_v"`

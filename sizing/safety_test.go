@@ -281,3 +281,66 @@ func TestStoredEnergyBoundary(t *testing.T) {
 		}
 	}
 }
+
+// Every hazard threshold, at it, just under and just over (the sources as
+// hazards.go names them: IEC 62368-1 ES1/ES2 for steady DC, "above" the
+// limit; IEC 60950-1, 20 J "or more" at 2 V "or more"; 1000 A short
+// circuit, common practice, no source; UN special provision 361, 0.3 Wh
+// and 10 Wh, "exceeding").
+func TestHazardThresholdsBothSides(t *testing.T) {
+	t.Parallel()
+	const up, down = 1 + 1e-9, 1 - 1e-9
+	type probe struct {
+		h        Hazards
+		code     string
+		severity Severity // "": no flag of that code
+	}
+	var cases []probe
+	for _, v := range []float64{es1LimitV * down, es1LimitV, es1LimitV * up, es2LimitV, es2LimitV * up} {
+		sev := Severity("")
+		switch {
+		case v > es2LimitV:
+			sev = Danger
+		case v > es1LimitV:
+			sev = Warning
+		}
+		cases = append(cases, probe{Hazards{MaxV: v}, "hazardous-voltage", sev})
+	}
+	for _, j := range []float64{hazardousEnergyJ * down, hazardousEnergyJ, hazardousEnergyJ * up} {
+		for _, v := range []float64{hazardousEnergyV * down, hazardousEnergyV, hazardousEnergyV * up} {
+			sev := Severity("")
+			if j >= hazardousEnergyJ && v >= hazardousEnergyV {
+				sev = Warning
+			}
+			cases = append(cases, probe{Hazards{StoredEnergyJ: j, MaxV: v}, "stored-energy", sev})
+		}
+	}
+	for _, a := range []float64{shortCircuitWarnA * down, shortCircuitWarnA, shortCircuitWarnA * up} {
+		sev := Severity("")
+		if a > shortCircuitWarnA {
+			sev = Warning
+		}
+		cases = append(cases, probe{Hazards{ShortCircuitCurrentA: a}, "short-circuit-current", sev})
+	}
+	for _, wh := range []float64{un3499ExemptWh * down, un3499ExemptWh, un3499ExemptWh * up, un3499StrapWh * down, un3499StrapWh, un3499StrapWh * up} {
+		sev := Severity("")
+		switch {
+		case wh > un3499StrapWh:
+			sev = Warning
+		case wh > un3499ExemptWh:
+			sev = Info
+		}
+		cases = append(cases, probe{Hazards{CellEnergyWh: wh}, "shipping-energy", sev})
+	}
+	for _, c := range cases {
+		got := Severity("")
+		for _, f := range hazardFlags(c.h) {
+			if f.Code == c.code {
+				got = f.Severity
+			}
+		}
+		if got != c.severity {
+			t.Errorf("%s at %+v: %q, want %q", c.code, c.h, got, c.severity)
+		}
+	}
+}

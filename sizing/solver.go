@@ -29,16 +29,28 @@ type plan struct {
 	minV     float64
 	capF     float64 // end-of-life capacitance factor
 	esrF     float64 // end-of-life ESR factor
+	tolOn    bool    // apply each cell's minus capacitance tolerance
+	periodS  float64 // load.period_s; 0: the pass repeats back to back
 	rankBy   string
 	ambientC float64
-	work     atomic.Int64 // steps solved, for the benchmarks
-	bound    boundSums    // the cell-independent parts of stringBound
-	halt     atomic.Bool  // set when the sizing is cancelled (SizeContext)
+	work     *atomic.Int64     // steps solved, for the benchmarks
+	bound    boundSums         // the cell-independent parts of stringBound
+	halt     *atomic.Bool      // set when the sizing is cancelled (SizeContext)
+	floors   map[float64]*plan // the plans of raised window bottoms (forSeries)
+	floorsMu sync.Mutex
+	root     *plan // the plan this one raised the bottom of; nil for the root
 }
 
 func newPlan(d *Design) *plan {
 	p := &plan{d: d, repeat: 1, maxV: d.Window.MaxV, minV: d.Window.MinV,
-		capF: DefaultEOLCapacitanceFactor, esrF: DefaultEOLESRFactor, rankBy: "price", ambientC: roomC}
+		capF: DefaultEOLCapacitanceFactor, esrF: DefaultEOLESRFactor, rankBy: "price", ambientC: roomC,
+		tolOn: true, work: new(atomic.Int64), halt: new(atomic.Bool)}
+	if d.EOL != nil && d.EOL.ApplyTolerance != nil {
+		p.tolOn = *d.EOL.ApplyTolerance
+	}
+	if d.Load.PeriodS != nil {
+		p.periodS = *d.Load.PeriodS
+	}
 	if d.Load.Repeat != nil {
 		p.repeat = *d.Load.Repeat
 	}
@@ -66,18 +78,57 @@ func newPlan(d *Design) *plan {
 	return p
 }
 
+// forCell returns the plan cell c is sized on at its own series count.
+func (p *plan) forCell(c *Cell) *plan {
+	var flags []Flag
+	return p.forSeries(c, p.limits(c, &flags).s)
+}
+
+// forSeries returns the plan cell c is sized on with s in series: the root
+// plan itself, or, for a cell whose own floor (min_v, a hybrid cell's
+// lowest voltage) times s lies above the window bottom, a copy of it with
+// the bottom raised to that. The copies share the root's cancel flag and
+// step count, and are made once per floor.
+func (p *plan) forSeries(c *Cell, s int) *plan {
+	root := p
+	if p.root != nil {
+		root = p.root
+	}
+	if c.MinV == nil {
+		return root
+	}
+	floor := float64(s) * *c.MinV
+	if !(floor > root.minV) {
+		return root
+	}
+	root.floorsMu.Lock()
+	defer root.floorsMu.Unlock()
+	if q, ok := root.floors[floor]; ok {
+		return q
+	}
+	q := &plan{d: root.d, steps: root.steps, repeat: root.repeat, period: root.period, maxV: root.maxV, minV: floor,
+		capF: root.capF, esrF: root.esrF, tolOn: root.tolOn, periodS: root.periodS, rankBy: root.rankBy, ambientC: root.ambientC,
+		work: root.work, halt: root.halt, root: root}
+	q.gatherBound()
+	if root.floors == nil {
+		root.floors = map[float64]*plan{}
+	}
+	root.floors[floor] = q
+	return q
+}
+
 // compileSteps turns the design's steps into what the bank sees. A
 // discharging power step draws P/η from the bank; a charging one delivers
 // |P|·η into it. Zero power or current is a rest.
 func compileSteps(steps []Step, eff float64) []compiledStep {
 	out := make([]compiledStep, len(steps))
 	for i, s := range steps {
-		c := compiledStep{kind: kindRest, dur: s.DurationS}
+		c := compiledStep{kind: kindRest, dur: s.DurationS, toLoad: 1}
 		switch {
 		case s.PowerW != nil && *s.PowerW > 0:
-			c.kind, c.x = kindPower, *s.PowerW/eff
+			c.kind, c.x, c.toLoad = kindPower, *s.PowerW/eff, eff
 		case s.PowerW != nil && *s.PowerW < 0:
-			c.kind, c.x = kindPower, *s.PowerW*eff
+			c.kind, c.x, c.toLoad = kindPower, *s.PowerW*eff, 1/eff
 		case s.CurrentA != nil && *s.CurrentA != 0:
 			c.kind, c.x = kindCurrent, *s.CurrentA
 		case s.ResistanceOhm != nil:
@@ -144,7 +195,8 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 	for range workers {
 		wg.Go(func() {
 			for i := range next {
-				cands[i] = p.sizeCell(&d.Cells[i])
+				c := &d.Cells[i]
+				cands[i] = p.forCell(c).sizeCell(c)
 			}
 		})
 	}
@@ -164,7 +216,7 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 	r := &Report{
 		Design: d.Name, RankBy: p.rankBy, MaxV: p.maxV, MinV: p.minV,
 		EOLCapacitanceFactor: p.capF, EOLESRFactor: p.esrF, ColdC: d.ColdC,
-		ProfileDurationS: p.period, PassDurationS: p.period * float64(p.repeat), Repeat: p.repeat,
+		ProfileDurationS: p.period, PassDurationS: p.period * float64(p.repeat), Repeat: p.repeat, PeriodS: d.Load.PeriodS,
 		Candidates: cands,
 	}
 	if len(cands) > 0 && cands[0].Feasible {
@@ -185,8 +237,11 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 func (p *plan) curveOf(c *Candidate) *Curve {
 	for i := range p.d.Cells {
 		if cell := &p.d.Cells[i]; cell.ID == c.CellID {
-			m := p.worstBank(cell, c.Series, c.Parallel)
-			return m.curve(p.steps, p.repeat, p.maxV, p.minV, curvePoints, p.heatModel(cell, c.Parallel), p.ambientC)
+			q := p.forCell(cell)
+			var flags []Flag
+			l := q.limits(cell, &flags)
+			m := l.bank(c.Parallel)
+			return m.curve(q.steps, q.repeat, q.maxV, q.minV, curvePoints, l.heatModel(c.Parallel), q.ambientC)
 		}
 	}
 	return nil
@@ -219,17 +274,36 @@ type cellLimits struct {
 	ceiling  float64
 	cw, rw   float64 // worst-case cell capacitance (F) and ESR (Ω)
 	gCell    float64 // leakage conductance of one cell, S
-	coldK    float64
+	coldK    float64 // cold factor of the ESR (1: none)
+	coldCK   float64 // cold factor of the capacitance (1: none)
+	tolK     float64 // the minus tolerance as a factor (1: none or not applied)
 	peakA    float64 // 0: not given
 	contA    float64 // 0: not given
 	passTime float64
+	rmsTime  float64 // what the RMS current is taken over: the period, or the pass
 	gLeak    float64 // leakage conductance of one cell alone, S
 	bal      balancingPlan
+	heat     *heatModel // nil: the cell gives no thermal resistance
+	maxTempC float64    // the cell's maximum temperature, a sizing limit with heat; NaN: none
+	ambientC float64
 	halt     *atomic.Bool // the plan's cancel flag, passed to every bank model
 }
 
+// limitOptions change what limits assumes, for the alternatives a report
+// shows beside a candidate: zero values keep the design's choices.
+type limitOptions struct {
+	series    int        // cells in series; 0: SeriesCount at the ceiling
+	balancing *Balancing // nil: the design's balancing
+}
+
 func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
-	l := cellLimits{ceiling: c.RatedV, coldK: 1, passTime: p.period * float64(p.repeat), halt: &p.halt}
+	return p.limitsWith(c, limitOptions{}, flags)
+}
+
+func (p *plan) limitsWith(c *Cell, o limitOptions, flags *[]Flag) cellLimits {
+	l := cellLimits{ceiling: c.RatedV, coldK: 1, coldCK: 1, tolK: 1, passTime: p.period * float64(p.repeat),
+		maxTempC: math.NaN(), ambientC: p.ambientC, halt: p.halt}
+	l.rmsTime = max(l.passTime, p.periodS)
 	if p.d.CellMaxV != nil {
 		if *p.d.CellMaxV <= c.RatedV {
 			l.ceiling = *p.d.CellMaxV
@@ -240,14 +314,20 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 		}
 	}
 	l.s = SeriesCount(p.maxV, l.ceiling)
+	if o.series > 0 {
+		l.s = o.series
+	}
 	if cold := p.d.ColdC; cold != nil {
 		if c.ColdESRFactor != nil && c.ColdESRTempC != nil {
-			k, beyond := ColdESRFactor(*cold, *c.ColdESRTempC, *c.ColdESRFactor)
+			k, beyond := ColdFactor(*cold, *c.ColdESRTempC, *c.ColdESRFactor)
 			l.coldK = k
 			if beyond {
 				*flags = append(*flags, Flag{Code: "cold-beyond-datasheet", Severity: Warning, Message: fmt.Sprintf(
 					"The design's cold temperature (%g °C) is below the coldest ESR point the cell gives (%g °C, ×%g); capbank uses ×%g, and the real ESR may be higher. Get the ESR at %g °C from the maker or measure it.",
 					*cold, *c.ColdESRTempC, *c.ColdESRFactor, *c.ColdESRFactor, *cold)})
+			}
+			if c.ColdCapacitanceFactor != nil {
+				l.coldCK, _ = ColdFactor(*cold, *c.ColdESRTempC, *c.ColdCapacitanceFactor)
 			}
 		} else if *cold < roomC {
 			*flags = append(*flags, Flag{Code: "no-cold-esr", Severity: Warning, Message: fmt.Sprintf(
@@ -259,13 +339,23 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 				"The design's cold temperature (%g °C) is below the cell's operating range (from %g °C).", *cold, *c.MinTempC)})
 		}
 	}
-	l.cw = c.CapacitanceF * p.capF
+	if t := c.CapacitanceTolerancePct; p.tolOn && len(t) == 2 {
+		l.tolK = 1 + t[0]/100
+	}
+	l.cw = c.CapacitanceF * p.capF * l.tolK * l.coldCK
 	l.rw = c.ESROhm * p.esrF * l.coldK
 	if c.LeakageA != nil {
 		l.gLeak = *c.LeakageA / c.RatedV
 	}
 	// The balancing drain acts across each cell like its leakage.
-	l.bal = p.planBalancing(c, l.s, l.ceiling)
+	b := Balancing{}
+	if p.d.Balancing != nil {
+		b = *p.d.Balancing
+	}
+	if o.balancing != nil {
+		b = *o.balancing
+	}
+	l.bal = p.planBalancing(c, b, l.s, l.ceiling)
 	*flags = append(*flags, l.bal.flags...)
 	l.gCell = l.gLeak + l.bal.gCell
 	if c.PeakCurrentA != nil {
@@ -274,13 +364,32 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 	if c.MaxCurrentA != nil {
 		l.contA = *c.MaxCurrentA
 	}
+	if c.ThermalResistanceKPerW != nil {
+		h := &heatModel{rth: *c.ThermalResistanceKPerW, rCell: l.rw}
+		if c.MassKg != nil {
+			cp := DefaultSpecificHeat
+			if c.SpecificHeatJPerKgK != nil {
+				cp = *c.SpecificHeatJPerKgK
+			}
+			h.tau = h.rth * *c.MassKg * cp
+		}
+		l.heat = h
+		if c.MaxTempC != nil {
+			l.maxTempC = *c.MaxTempC
+		}
+	}
 	return l
 }
 
-func (p *plan) worstBank(c *Cell, s, par int) bankModel {
-	var flags []Flag
-	l := p.limits(c, &flags)
-	return l.bank(par)
+// heatModel returns the thermal model of a cell in a bank of par strings,
+// or nil when the cell gives no thermal resistance.
+func (l *cellLimits) heatModel(par int) *heatModel {
+	if l.heat == nil {
+		return nil
+	}
+	h := *l.heat
+	h.par = float64(par)
+	return &h
 }
 
 func (l *cellLimits) bank(par int) bankModel {
@@ -289,14 +398,26 @@ func (l *cellLimits) bank(par int) bankModel {
 	return m
 }
 
+// hotSpot runs the thermal model of bank m (par strings) over the sizing
+// pass and returns its result and the hot spot, °C: ambient plus the
+// larger of the pass's peak rise and the periodic steady state's.
+func (p *plan) hotSpot(l *cellLimits, m *bankModel, par int) (heatResult, float64) {
+	hr := m.heat(p.steps, p.repeat, p.maxV, p.minV, *l.heatModel(par), p.periodS)
+	return hr, l.ambientC + math.Max(hr.peak, ptr0(hr.dutyPeak))
+}
+
 // trial is one string count tried.
 type trial struct {
 	par   int
 	ok    bool
-	limit string // what failed: voltage, power, peak_current, rms_current
+	limit string // what failed: voltage, power, peak_current, rms_current, temperature
 	stats passStats
 }
 
+// try runs the sizing pass on par strings and judges it: the window
+// bottom, the maximum-power point, the cell's peak current, its
+// continuous (RMS) current over the period, and, where the cell gives a
+// thermal resistance and a maximum temperature, the hot spot.
 func (p *plan) try(l *cellLimits, par int) trial {
 	m := l.bank(par)
 	s := m.run(p.steps, p.repeat, p.maxV, p.minV, p.maxV)
@@ -307,20 +428,60 @@ func (p *plan) try(l *cellLimits, par int) trial {
 		tr.ok, tr.limit = false, s.stop.String()
 	case l.peakA > 0 && s.peakI/float64(par) > l.peakA:
 		tr.ok, tr.limit = false, "peak_current"
-	case l.contA > 0 && math.Sqrt(s.i2dt/l.passTime)/float64(par) > l.contA:
+	case l.contA > 0 && math.Sqrt(s.i2dt/l.rmsTime)/float64(par) > l.contA:
 		tr.ok, tr.limit = false, "rms_current"
+	case l.heat != nil && !math.IsNaN(l.maxTempC):
+		// Each step heats at its mean loss, so the rise never passes the
+		// steady rise of the lossiest step, R_th·R_cell·max(i²)/p²: only a
+		// bank that could pass the limit by that bound is run through the
+		// thermal model.
+		bound := l.ambientC + l.heat.rth*l.heat.rCell*s.maxI2/float64(par*par)
+		if bound <= l.maxTempC {
+			break
+		}
+		if _, hot := p.hotSpot(l, &m, par); hot > l.maxTempC {
+			tr.ok, tr.limit = false, "temperature"
+		}
 	}
 	return tr
 }
 
+// sizeCell sizes cell c on the design's choices, and where passive
+// balancing costs too much, sizes the alternatives the report shows
+// beside it.
 func (p *plan) sizeCell(c *Cell) Candidate {
+	cand := p.sizeCellWith(c, limitOptions{})
+	p.balancingAlternatives(&cand, c)
+	return cand
+}
+
+func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 	cand := Candidate{CellID: c.ID, CellName: c.Name, Flags: []Flag{}}
-	l := p.limits(c, &cand.Flags)
+	l := p.limitsWith(c, o, &cand.Flags)
 	cand.Series = l.s
 	cand.CellCeilingV = l.ceiling
 	cand.CellV = p.maxV / float64(l.s)
+	cand.MinV = p.minV
 	cand.ColdESRFactor = l.coldK
-
+	cand.ColdCapacitanceFactor = l.coldCK
+	cand.ToleranceFactor = l.tolK
+	cand.WorstCase = p.worstCaseText(c, &l)
+	if c.MinV != nil && p.minV > p.d.Window.MinV {
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-floor", Severity: Info, Message: fmt.Sprintf(
+			"This cell may not be discharged below %g V (its min_v: a hybrid cell's negative electrode is damaged below it); with %d in series its own floor raises the bottom of the window from %s to %s for this candidate.",
+			*c.MinV, l.s, Quantity(p.d.Window.MinV, "V", 4), Quantity(p.minV, "V", 4))})
+	}
+	if tau, ok := SelfDischargeTime(c); ok && tau < LeakageWarnS {
+		cand.Flags = append(cand.Flags, Flag{Code: "leakage-high", Severity: Warning, Message: fmt.Sprintf(
+			"The cell's leakage (%s at %g V, %g F) gives a self-discharge time constant C·U_R/I of %s, under about four days, where supercapacitors commonly hold their charge for days to months (common practice, no source). Check the datasheet figure and its unit.",
+			Quantity(*c.LeakageA, "A", 3), c.RatedV, c.CapacitanceF, hoursText(tau/3600))})
+	}
+	if l.heat != nil && !math.IsNaN(l.maxTempC) && l.ambientC >= l.maxTempC {
+		cand.Reason = fmt.Sprintf("The ambient temperature (%g °C) is already at or above the cell's maximum operating temperature (%g °C); no number of strings helps. Cool the bank or choose a cell rated hotter.", l.ambientC, l.maxTempC)
+		cand.Limit = "temperature"
+		p.fillFigures(&cand, c, &l, p.try(&l, 1))
+		return cand
+	}
 	if t, ok := p.drainAlone(&l); ok {
 		cand.Reason = fmt.Sprintf("The leakage and balancing drain alone (time constant C/g = %.3g h, the same for any string count) brings the bank from %g V to the window bottom (%g V) in %.4g s, within the %.4g s pass, and no step charges it; no number of strings helps. Choose active balancing (balancing.kind), a cell with less leakage, or a shorter pass.",
 			l.cw/l.gCell/3600, p.maxV, p.minV, t, l.passTime)
@@ -336,6 +497,11 @@ func (p *plan) sizeCell(c *Cell) Candidate {
 	cand.Feasible = true
 	cand.Limit = lo.limit
 	p.fillFigures(&cand, c, &l, hi)
+	if cand.Limit == "rms_current" && p.periodS == 0 {
+		cand.Flags = append(cand.Flags, Flag{Code: "rms-back-to-back", Severity: Info, Message: fmt.Sprintf(
+			"The cell's continuous-current rating (%g A, a heating limit) set the string count, with the RMS current taken over the %s pass as if it repeated back to back for ever. If the event repeats less often, give load.period_s, the time from the start of one event to the start of the next: the RMS is then taken over the period, and a one-shot event may need fewer strings.",
+			l.contA, Quantity(l.passTime, "s", 4))})
+	}
 	return cand
 }
 
@@ -479,7 +645,7 @@ func (p *plan) searchByEstimate(l *cellLimits, lo trial, guess int) (trial, tria
 func (p *plan) parEstimate(l *cellLimits, t trial) float64 {
 	s := &t.stats
 	par := float64(t.par)
-	rms := math.Sqrt(s.i2dt / l.passTime)
+	rms := math.Sqrt(s.i2dt / l.rmsTime)
 	if !t.ok && t.limit == "peak_current" {
 		return s.peakI / l.peakA
 	}
@@ -560,7 +726,7 @@ func (p *plan) stringBound(l *cellLimits) (int, string, int) {
 	if l.peakA > 0 && peak/l.peakA > bound {
 		bound, why = peak/l.peakA, "peak_current"
 	}
-	if rms := math.Sqrt(i2dt / l.passTime); l.contA > 0 && rms/l.contA > bound {
+	if rms := math.Sqrt(i2dt / l.rmsTime); l.contA > 0 && rms/l.contA > bound {
 		bound, why = rms/l.contA, "rms_current"
 	}
 	n := math.Ceil(bound * (1 - 1e-9))
@@ -633,6 +799,10 @@ func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
 		return fmt.Sprintf("Even %d strings pass the maximum-power point of the load %s.", t.par, at)
 	case "peak_current":
 		return fmt.Sprintf("Even with %d strings the cell current peaks at %.4g A, above its peak rating of %g A.", t.par, t.stats.peakI/float64(t.par), l.peakA)
+	case "temperature":
+		m := l.bank(t.par)
+		_, hot := p.hotSpot(l, &m, t.par)
+		return fmt.Sprintf("Even with %d strings the hottest cell reaches %.1f °C, above its %g °C maximum operating temperature.", t.par, hot, l.maxTempC)
 	}
 	return fmt.Sprintf("Even with %d strings the cell RMS current exceeds its continuous rating of %g A.", t.par, l.contA)
 }
@@ -651,17 +821,24 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		cand.LeakageOhm = &rp
 	}
 	cand.StoredEnergyJ = StoredEnergy(cand.CapacitanceF, p.maxV)
-	cand.UsableEnergyJ = UsableEnergy(BankCapacitance(c.CapacitanceF*p.capF, s, par), p.maxV, p.minV)
+	cand.UsableEnergyJ = UsableEnergy(m.c, p.maxV, p.minV)
 	st := t.stats
 	cand.MinTerminalV = st.minU
+	cand.MinCellV = st.minU / float64(s)
 	cand.EndCapacitorV = st.v
 	cand.PeakCurrentA = st.peakI
-	if st.t > 0 {
-		cand.RMSCurrentA = math.Sqrt(st.i2dt / st.t)
+	over := st.t // a pass that stopped early: over the time it ran
+	if t.ok {
+		over = l.rmsTime
 	}
+	if over > 0 {
+		cand.RMSCurrentA = math.Sqrt(st.i2dt / over)
+	}
+	cand.RMSOverS = over
 	cand.CellPeakCurrentA = cand.PeakCurrentA / float64(par)
 	cand.CellRMSCurrentA = cand.RMSCurrentA / float64(par)
-	cand.DeliveredEnergyJ = st.eLoad
+	cand.BankEnergyJ = st.eLoad
+	cand.LoadEnergyJ = st.eOut
 	cand.ESRLossJ = m.r * st.i2dt
 	// The leakage loss by energy balance: ½C(v0² − v1²) = load + ESR + leakage.
 	cand.LeakageLossJ = math.Max(0, 0.5*m.c*(p.maxV-st.v)*(p.maxV+st.v)-st.eLoad-cand.ESRLossJ)
@@ -684,7 +861,10 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		v := *c.VolumeL * float64(cand.Cells)
 		cand.VolumeL = &v
 	}
-	cand.Balancing = &l.bal.res
+	bal := l.bal.res
+	bal.BankCount = bal.Count * par
+	bal.BankLossW = bal.LossW * float64(par)
+	cand.Balancing = &bal
 	p.fillSafety(cand, c, l, m)
 	if !t.ok {
 		return
@@ -853,18 +1033,33 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 		sp.MinusPct = 0 // not −0
 	}
 	cand.Spread = sp
-	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top"
+	// Charge sharing only spreads the cells on a charge from empty: within
+	// the window every cell gives and takes back the same charge, so a
+	// string balanced at the top returns to the same cell voltages each
+	// cycle (charge conservation, REFERENCES.md 5.1). The worst lot on the
+	// first charge (or after a service discharge) is a commissioning
+	// matter: past the surge voltage a warning for an unbalanced string
+	// and a note for a balanced one (a slow first charge lets the
+	// balancing act); past the rating only, a note.
+	const spreadSrc = "charge sharing in series, worst lot: equal charge in every cell, one at the bottom of the capacitance tolerance and the rest at the top; cycling within the window does not add to it, since every cell gives and takes back the same charge"
+	balanced := cand.Balancing != nil && (cand.Balancing.Kind == "passive" || cand.Balancing.Kind == "active")
 	switch {
 	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Danger, Message: fmt.Sprintf(
-			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
-			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
-			Caution: "A cell past its surge voltage can vent or rupture. Limit the charge current so the balancing keeps up, use active balancing, or add a cell in series. " + cautionCodes})
+		// With balancing in place a slow first charge lets it act: a note
+		// of the commissioning procedure. With none, nothing does.
+		sev := Warning
+		if balanced {
+			sev = Info
+		}
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: sev, Message: fmt.Sprintf(
+			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
+			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
+			Caution: "A cell past its surge voltage can vent or rupture. Make the first charge slow enough for the balancing to act (hours, about the balancing's R·C), charge with per-cell voltage limits, or sort the cells by measured capacitance. " + cautionCodes})
 	case l.s > 1 && sp.WorstCellV > c.RatedV*(1+1e-9):
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
-			"Charging the string to %.4g V with the capacitance tolerance (%+.0f %%, %+.0f %%) can take one cell to %.4g V before balancing acts, above its %g V rating (%s).",
-			p.maxV, sp.MinusPct, sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
-			Caution: "Charge slowly enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
+		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Info, Message: fmt.Sprintf(
+			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, above its %g V rating but within its surge voltage (%s).",
+			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
+			Caution: "Make the first charge slow enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
 	}
 	if b := cand.Balancing; b.WorstStaticCellV != nil && *b.WorstStaticCellV > c.RatedV*(1+1e-9) {
 		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
@@ -906,29 +1101,10 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	}
 }
 
-// heatModel returns the thermal model of cell c in a bank of par strings,
-// or nil when the cell gives no thermal resistance.
-func (p *plan) heatModel(c *Cell, par int) *heatModel {
-	if c.ThermalResistanceKPerW == nil {
-		return nil
-	}
-	var flags []Flag
-	l := p.limits(c, &flags)
-	h := &heatModel{rth: *c.ThermalResistanceKPerW, rCell: l.rw, par: float64(par)}
-	if c.MassKg != nil {
-		cp := DefaultSpecificHeat
-		if c.SpecificHeatJPerKgK != nil {
-			cp = *c.SpecificHeatJPerKgK
-		}
-		h.tau = h.rth * *c.MassKg * cp
-	}
-	return h
-}
-
 // fillHeatAndLife writes the thermal figures and the expected life of a
 // feasible bank, and their flags.
 func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankModel) {
-	if hp := p.heatModel(c, cand.Parallel); hp != nil {
+	if hp := l.heatModel(cand.Parallel); hp != nil {
 		h := *hp
 		th := &Thermal{CellRMSCurrentA: cand.CellRMSCurrentA, CellPeakCurrentA: cand.CellPeakCurrentA,
 			SpecificHeatJPerKgK: DefaultSpecificHeat, SpecificHeatDefault: c.SpecificHeatJPerKgK == nil}
@@ -942,9 +1118,10 @@ func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankMo
 		th.CellLossW = cand.CellRMSCurrentA * cand.CellRMSCurrentA * l.rw
 		th.BankLossW = th.CellLossW * float64(cand.Cells)
 		th.SteadyRiseK = th.CellLossW * h.rth
-		hr := m.heat(p.steps, p.repeat, p.maxV, p.minV, h)
+		th.BackToBack = p.periodS == 0
+		hr, hot := p.hotSpot(l, &m, cand.Parallel)
 		th.PeakRiseK, th.DutyPeakRiseK = hr.peak, hr.dutyPeak
-		th.HotSpotC = p.ambientC + math.Max(hr.peak, ptr0(hr.dutyPeak))
+		th.HotSpotC = hot
 		cand.Thermal = th
 	} else {
 		cand.Flags = append(cand.Flags, Flag{Code: "heat-unchecked", Severity: Info, Message: "The cell gives no thermal resistance, so its ESR heating and hot spot are not checked; add thermal_resistance_k_per_w."})
@@ -971,21 +1148,41 @@ func (p *plan) fillHeatAndLife(cand *Candidate, c *Cell, l *cellLimits, m bankMo
 	if cand.Thermal != nil {
 		temp = cand.Thermal.HotSpotC
 	}
-	hours := ExpectedLife(*c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, temp, cand.CellV, tStep, vStep)
-	if !(hours <= MaxLifeYears*hoursPerYear) {
-		cand.Flags = append(cand.Flags, Flag{Code: "life-beyond-rules", Severity: Info, Message: fmt.Sprintf(
-			"At %.3g V per cell and %.1f °C the life rules of thumb (×2 per %g K cooler and per %g V lower than rated %g h at %g °C and %g V; common practice, no source) give more than %g years, far outside the range they are fitted on: neither voltage nor temperature limits this bank's life, and capbank gives no figure.",
-			cand.CellV, temp, tStep, vStep, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, MaxLifeYears)})
-	} else {
-		cand.Life = &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears}
+	ceiling := DefaultLifeMaxYears
+	if lm := p.d.Life; lm != nil && lm.MaxYears != nil {
+		ceiling = *lm.MaxYears
 	}
-	if life := cand.Life; life != nil && p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
-		cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
-			"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower: rules of thumb, common practice, no source). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (common practice, no source).",
-			life.ExpectedYears, temp, cand.CellV, *p.d.LifeYears, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, tStep, vStep)})
+	hours := ExpectedLife(*c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, temp, cand.CellV, tStep, vStep)
+	life := &Life{ExpectedH: hours, ExpectedYears: hours / hoursPerYear, TemperatureC: temp, CellV: cand.CellV, DesignYears: p.d.LifeYears, CeilingYears: ceiling}
+	if !(hours <= ceiling*hoursPerYear) {
+		// Also catches a figure past the largest float64.
+		life.ExpectedH, life.ExpectedYears, life.AtLeast = ceiling*hoursPerYear, ceiling, true
+		cand.Flags = append(cand.Flags, Flag{Code: "life-beyond-rules", Severity: Info, Message: fmt.Sprintf(
+			"At %.3g V per cell and %.1f °C the life rules of thumb (×2 per %g K cooler and per %g V lower than rated %g h at %g °C and %g V; common practice, no source) give more than the %g-year calendar ceiling (life.max_years): neither voltage nor temperature limits this bank's life, and electrolyte and seals age in any case. capbank reports at least %g years and does not rank by it.",
+			cand.CellV, temp, tStep, vStep, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, ceiling, ceiling)})
+	}
+	cand.Life = life
+	if p.d.LifeYears != nil && life.ExpectedYears < *p.d.LifeYears {
+		if life.AtLeast {
+			cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
+				"The design asks for %g years, beyond the %g-year calendar ceiling of the life estimate (life.max_years; common practice, no source): capbank cannot confirm it. Get the maker's calendar-life data for this cell.",
+				*p.d.LifeYears, ceiling)})
+		} else {
+			cand.Flags = append(cand.Flags, Flag{Code: "life-short", Severity: Warning, Message: fmt.Sprintf(
+				"Expected life %.3g years at %.1f °C and %.3g V per cell, shorter than the %g years the design asks for (rated %g h at %g °C and %g V, scaled ×2 per %g K cooler and per %g V lower: rules of thumb, common practice, no source). The end of life is the usual criterion: capacitance −20 %% or ESR ×2 (common practice, no source).",
+				life.ExpectedYears, temp, cand.CellV, *p.d.LifeYears, *c.RatedLifeH, *c.RatedLifeTempC, c.RatedV, tStep, vStep)})
+		}
 	}
 	if p.capF > DefaultEOLCapacitanceFactor || p.esrF < DefaultEOLESRFactor {
 		cand.Flags = append(cand.Flags, Flag{Code: "eol-stricter", Severity: Info, Message: fmt.Sprintf(
 			"The design's end-of-life factors (capacitance ×%g, ESR ×%g) are stricter than the usual criteria (×0.8, ×2; common practice, no source) a rated life refers to, so the bank reaches them sooner than the expected life says.", p.capF, p.esrF)})
 	}
+}
+
+// minusText writes a minus tolerance in percent with a true minus sign.
+func minusText(pct float64) string {
+	if pct == 0 {
+		return "0"
+	}
+	return "−" + fmt.Sprintf("%g", -pct)
 }

@@ -45,10 +45,17 @@ func (k stepKind) String() string {
 // compiledStep is a step as the bank sees it: x is the current (A), the
 // power at the bank terminals (W, after the converter efficiency) or the
 // load resistance (Ω).
+//
+// toLoad turns the step's energy at the bank terminals into the energy at
+// the load: the converter efficiency η for a discharging power step (the
+// load gets η of what the bank gives), 1/η for a charging one (the source
+// gives 1/η of what the bank takes), 1 for the other kinds, which act at
+// the bank terminals.
 type compiledStep struct {
-	kind stepKind
-	x    float64
-	dur  float64
+	kind   stepKind
+	x      float64
+	dur    float64
+	toLoad float64
 }
 
 // stopReason says why a step ended before its duration.

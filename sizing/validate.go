@@ -225,6 +225,20 @@ func physicsRules(d *Design) ValidationError {
 			"gives %d steps × %d repeats = %d steps in the sizing pass, more than %d; lower the repeat count or merge steps",
 			n, *d.Load.Repeat, n*(*d.Load.Repeat), MaxPassSteps)
 	}
+	if ps := d.Load.PeriodS; ps != nil && Finite(*ps) && *ps > 0 {
+		pass := 0.0
+		for _, s := range d.Load.StepList() {
+			pass += s.DurationS
+		}
+		if d.Load.Repeat != nil && *d.Load.Repeat > 0 {
+			pass *= float64(*d.Load.Repeat)
+		}
+		if Finite(pass) && *ps < pass*(1-1e-12) {
+			add("load.period_s", "at_least_pass",
+				"is %s, shorter than one event (the steps × repeat last %s): give the time from the start of one event to the start of the next, at least the event itself",
+				Quantity(*ps, "s", 4), Quantity(pass, "s", 4))
+		}
+	}
 	if b := d.Balancing; b != nil && b.Kind == "active" && b.QuiescentA == nil {
 		add("balancing.quiescent_a", "required_active",
 			"is required for active balancing: give the current each balancing circuit draws from its cell, in A")
@@ -332,13 +346,47 @@ func cellRules(c *Cell, p string) ValidationError {
 	if c.LeakageA != nil && tinyCurrent(*c.LeakageA) {
 		add("leakage_a", "min_current", "is %g A, below %g A (a picoampere), less than any cell leaks; give 0 for none, or check the unit (A)", *c.LeakageA, MinLeakageA)
 	}
-	if c.LeakageA != nil && Finite(*c.LeakageA) && Finite(c.RatedV) && Finite(c.CapacitanceF) && *c.LeakageA > 0 &&
-		c.RatedV > 0 && c.CapacitanceF > 0 && c.RatedV/(*c.LeakageA)*c.CapacitanceF < 1 {
+	if tau, ok := SelfDischargeTime(c); ok && tau < MinSelfDischargeS {
 		add("leakage_a", "leakage_plausible",
-			"is so large that the cell would empty itself in under a second (R·C = %.3g s); check the unit (A, not mA)",
-			c.RatedV/(*c.LeakageA)*c.CapacitanceF)
+			"is %g A: with %g F at %g V the cell would lose its charge through it with a time constant C·U_R/I of %s, under an hour, where supercapacitors hold theirs for days to months. check the unit: a datasheet's leakage is usually in mA or µA (%g mA is %g A)",
+			*c.LeakageA, c.CapacitanceF, c.RatedV, Quantity(tau, "s", 3), *c.LeakageA, *c.LeakageA/1000)
+	}
+	if c.Electrolyte == "hybrid" && c.MinV == nil {
+		add("min_v", "required_hybrid",
+			"is required for a hybrid (lithium-ion) cell: give the lowest voltage it may be discharged to, in V (the datasheet's minimum or cut-off voltage); below it the cell is damaged")
+	}
+	if c.MinV != nil && Finite(*c.MinV) && Finite(c.RatedV) && *c.MinV >= c.RatedV {
+		add("min_v", "below_rated", "must be below rated_v (%g V ≥ %g V)", *c.MinV, c.RatedV)
+	}
+	if c.ColdCapacitanceFactor != nil && c.ColdESRTempC == nil {
+		add("cold_esr_temp_c", "cold_point",
+			"is needed with cold_capacitance_factor: give the cold temperature both factors were measured at (with cold_esr_factor)")
 	}
 	return errs
+}
+
+// MinSelfDischargeS, in s, is the shortest self-discharge time constant
+// C·U_R/I_leak a cell may give: an hour. Supercapacitors hold their charge
+// for days to months (EDLC self-discharge, REFERENCES.md 8.6), so a
+// shorter one is a unit slip (mA typed as A); Validate refuses it.
+// LeakageWarnS, about four days, is where the leakage-high warning starts
+// (common practice, no source).
+const (
+	MinSelfDischargeS = 3600.0
+	LeakageWarnS      = 4 * 86400.0
+)
+
+// SelfDischargeTime returns the self-discharge time constant of cell c,
+// in s: τ = C·U_R/I_leak, the time its own leakage (a resistance
+// U_R/I_leak across the capacitor) takes to bring it to 1/e of its
+// charge. ok is false when the cell gives no leakage (or a figure is not
+// finite).
+func SelfDischargeTime(c *Cell) (float64, bool) {
+	if c.LeakageA == nil || !(*c.LeakageA > 0) || !Finite(*c.LeakageA) || !Finite(c.RatedV) || !Finite(c.CapacitanceF) ||
+		!(c.RatedV > 0) || !(c.CapacitanceF > 0) {
+		return 0, false
+	}
+	return c.CapacitanceF * c.RatedV / *c.LeakageA, true
 }
 
 // idProblem says what is wrong with a cell id that is not empty (the

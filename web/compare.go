@@ -247,7 +247,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
 		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, each(figures.Money)),
 		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, each(func(v float64) string { return figures.Duration(v, 3) })),
-		bankRow("Usable energy at end of life", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
+		bankRow("Usable energy at worst case", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
 		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, each(figures.Money)),
 		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
 		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
@@ -257,12 +257,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			return c.Thermal.PeakRiseK, true
 		}, each(figures.Kelvin)),
 		bankRow("Lowest terminal voltage", "higher", func(c *sizing.Candidate) (float64, bool) { return c.MinTerminalV, true }, q("V", 4)),
-		bankRow("Expected life", "longer", func(c *sizing.Candidate) (float64, bool) {
-			if c.Life == nil {
-				return 0, false
-			}
-			return c.Life.ExpectedYears, true
-		}, each(func(v float64) string { return figures.Number(v, 3) + "\u00a0years" })),
+		lifeRow(cands, feasible),
 	}
 	flags := components.CompareFigureRow{Label: "Findings"}
 	for _, cd := range cands {
@@ -351,4 +346,27 @@ func figureRow(label, better string, vals []*float64, texts []string) components
 		row.Cells = append(row.Cells, cell)
 	}
 	return row
+}
+
+// lifeRow is the expected life of each feasible bank. A life past the
+// calendar ceiling reads "≥ 15 years" and is not a figure to rank by: where
+// any bank reaches the ceiling, none is marked best.
+func lifeRow(cands []*sizing.Candidate, feasible func(int) bool) components.CompareFigureRow {
+	vals := make([]*float64, len(cands))
+	texts := make([]string, len(cands))
+	better := "longer"
+	for i, cd := range cands {
+		texts[i] = "—"
+		if !feasible(i) || cd.Life == nil {
+			continue
+		}
+		texts[i] = figures.LifeText(cd.Life)
+		if cd.Life.AtLeast {
+			better = ""
+			continue
+		}
+		v := cd.Life.ExpectedYears
+		vals[i] = &v
+	}
+	return figureRow("Expected life", better, vals, texts)
 }

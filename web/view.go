@@ -356,8 +356,17 @@ func designSummary(r *sizing.Report, steps int) string {
 	}
 	parts = append(parts, pass)
 	worst := "worst case: capacitance ×" + figures.Number(r.EOLCapacitanceFactor, 3) + ", ESR ×" + figures.Number(r.EOLESRFactor, 3)
+	for _, c := range r.Candidates {
+		if c.ToleranceFactor < 1 {
+			worst += ", each cell's minus tolerance"
+			break
+		}
+	}
 	if r.ColdC != nil {
 		worst += ", at " + figures.SI(*r.ColdC, "°C", 3)
+	}
+	if r.PeriodS != nil {
+		parts = append(parts, "one event every "+figures.Duration(*r.PeriodS, 3))
 	}
 	parts = append(parts, worst)
 	by := map[string]string{"price": "lowest price", "cells": "fewest cells", "mass": "least mass", "volume": "least volume"}[r.RankBy]

@@ -94,8 +94,18 @@ func assumptions(r *sizing.Report) string {
 	if r.Repeat > 1 {
 		fmt.Fprintf(&b, " (%d × %s s)", r.Repeat, number(r.ProfileDurationS, sigFigs))
 	}
+	if r.PeriodS != nil {
+		fmt.Fprintf(&b, ", one event every %s s", number(*r.PeriodS, sigFigs))
+	}
 	if r.RankBy != "" {
 		fmt.Fprintf(&b, "; ranked by %s", r.RankBy)
+	}
+	// Each cell's worst case applies its own tolerance and cold factors:
+	// the recommended one's in words.
+	for _, c := range r.Candidates {
+		if r.Recommended != nil && c.CellID == *r.Recommended && c.WorstCase != "" {
+			fmt.Fprintf(&b, "\nWorst case of %s: %s", c.CellID, c.WorstCase)
+		}
 	}
 	return b.String()
 }
@@ -162,7 +172,7 @@ func safetyTable(cs []sizing.Candidate) table {
 			losses = append(losses, c.Thermal.CellLossW)
 		}
 		if b := c.Balancing; b != nil && b.Count > 0 {
-			standings = append(standings, b.LossW*float64(c.Parallel))
+			standings = append(standings, b.BankLossW)
 		}
 	}
 	lScale, lUnit := figures.Column(losses, "W", sigFigs)
@@ -209,8 +219,8 @@ func safetyTable(cs []sizing.Candidate) table {
 				bal += " " + quantity(*b.QuiescentA, "A")
 			}
 			if b.Count > 0 {
-				bal += fmt.Sprintf(" ×%d", b.Count)
-				standing = number(b.LossW*float64(c.Parallel)/sScale, 3)
+				bal += fmt.Sprintf(" ×%d/string", b.Count)
+				standing = number(b.BankLossW/sScale, 3)
 			}
 			shelf = opt(b.ShelfHoldH)
 			static = opt(b.WorstStaticCellV)
@@ -218,6 +228,9 @@ func safetyTable(cs []sizing.Candidate) table {
 		life := none
 		if c.Life != nil {
 			life = number(c.Life.ExpectedYears, 3)
+			if c.Life.AtLeast {
+				life = ">= " + life
+			}
 		}
 		t.rows = append(t.rows, []string{c.CellID, hot, rise, loss, spread, bal, standing, shelf, static, life})
 	}

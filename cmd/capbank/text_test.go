@@ -191,9 +191,9 @@ func TestSafetyTableColumnPrefixes(t *testing.T) {
 	t.Parallel()
 	cs := []sizing.Candidate{
 		{CellID: "c22", Parallel: 5, Thermal: &sizing.Thermal{CellLossW: 6.78e-6, HotSpotC: 30},
-			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, LossW: 0.002016}},
+			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, BankCount: 10, LossW: 0.002016, BankLossW: 0.01008}},
 		{CellID: "c5", Parallel: 2, Thermal: &sizing.Thermal{CellLossW: 1.31e-6, HotSpotC: 30},
-			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, LossW: 0.0082}},
+			Balancing: &sizing.BalancingResult{Kind: "passive", Count: 2, BankCount: 4, LossW: 0.0082, BankLossW: 0.0164}},
 	}
 	tb := safetyTable(cs)
 	header := strings.Join(tb.rows[0], "|")

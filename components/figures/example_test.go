@@ -106,7 +106,7 @@ func ExampleCandidate() {
 	// Bank
 	//   Arrangement: 15 s × 5 p, 75 cells (strings set by the window bottom)
 	//   Cell voltage at the window top: 2.8 V (ceiling 2.8 V)
-	//   Capacitance: 133.3 F (worst case 106.7 F (end of life))
+	//   Capacitance: 133.3 F (worst case 106.7 F)
 	// Energy and runtime, worst case
 	//   Stored energy at the window top: 117.6 kJ (32.7 Wh, beginning of life)
 	//   Usable energy in the window: 70.56 kJ (19.6 Wh)

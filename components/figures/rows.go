@@ -2,6 +2,7 @@ package figures
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 
@@ -73,24 +74,25 @@ func duration(label string, s *float64, sig int, note string) Row {
 // candidate is of (its window and cold temperature). Values are formatted
 // here; nothing is computed that the report does not hold.
 func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
-	worst := "end of life"
-	if r.ColdC != nil {
-		worst += ", " + SI(*r.ColdC, "°C", 3)
-	}
 	bank := Group{Title: "Bank", Rows: []Row{
 		text("Arrangement", BankText(*c), limitNote(c.Limit)),
 		quantity("Cell voltage at the window top", c.CellV, "V", 4, "ceiling "+SI(c.CellCeilingV, "V", 4)),
-		quantity("Capacitance", c.CapacitanceF, "F", 4, "worst case "+SI(c.WorstCapacitanceF, "F", 4)+" ("+worst+")"),
+		quantity("Capacitance", c.CapacitanceF, "F", 4, "worst case "+SI(c.WorstCapacitanceF, "F", 4)),
 		quantity("ESR", c.ESROhm, "Ω", 3, "worst case "+SI(c.WorstESROhm, "Ω", 3)+coldNote(c.ColdESRFactor)),
 		optQuantity("Leakage and balancing drain", c.LeakageOhm, "Ω", 3, "as one resistance across the bank"),
 	}}
+	if c.WorstCase != "" {
+		bank.Rows = slices.Insert(bank.Rows, 1, text("Worst case", c.WorstCase, "what the worst-case figures apply"))
+	}
 	energy := Group{Title: "Energy and runtime, worst case", Rows: []Row{
 		quantity("Stored energy at the window top", c.StoredEnergyJ, "J", 4, SI(c.StoredEnergyJ/3600, "Wh", 3)+", beginning of life"),
 		quantity("Usable energy in the window", c.UsableEnergyJ, "J", 4, SI(c.UsableEnergyJ/3600, "Wh", 3)),
 		runtimeRow(c),
-		quantity("Lowest terminal voltage", c.MinTerminalV, "V", 4, "window bottom "+SI(r.MinV, "V", 4)),
+		quantity("Lowest terminal voltage", c.MinTerminalV, "V", 4, bottomNote(c, r)),
+		quantity("Lowest cell voltage", c.MinCellV, "V", 4, "bank terminal ÷ "+strconv.Itoa(c.Series)+" in series"),
 		quantity("Capacitor voltage at the end of the pass", c.EndCapacitorV, "V", 4, ""),
-		quantity("Energy delivered to the load", c.DeliveredEnergyJ, "J", 4, "over the sizing pass"),
+		quantity("Energy out of the bank terminals", c.BankEnergyJ, "J", 4, "over the sizing pass, before the converter"),
+		quantity("Energy delivered to the load", c.LoadEnergyJ, "J", 4, "over the sizing pass, after the converter's efficiency"),
 		quantity("Lost in the ESR", c.ESRLossJ, "J", 3, ""),
 		quantity("Lost in leakage and balancing", c.LeakageLossJ, "J", 3, ""),
 	}}
@@ -99,7 +101,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	}
 	current := Group{Title: "Current, worst case", Rows: []Row{
 		quantity("Peak current", c.PeakCurrentA, "A", 3, "per cell "+SI(c.CellPeakCurrentA, "A", 3)),
-		quantity("RMS current", c.RMSCurrentA, "A", 3, "per cell "+SI(c.CellRMSCurrentA, "A", 3)),
+		quantity("RMS current", c.RMSCurrentA, "A", 3, "per cell "+SI(c.CellRMSCurrentA, "A", 3)+", "+rmsOver(c, r)),
 	}}
 	groups := []Group{bank, energy, current}
 	if t := c.Thermal; t != nil {
@@ -109,9 +111,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		groups = append(groups, balancing(c.Spread, c.Balancing))
 	}
 	if l := c.Life; l != nil {
-		g := Group{Title: "Life", Rows: []Row{
-			plain("Expected life", l.ExpectedYears, Number(l.ExpectedYears, 3), "years", Number(l.ExpectedH, 3)+nbsp+"h at "+Celsius(l.TemperatureC)+" and "+SI(l.CellV, "V", 3)+" per cell"),
-		}}
+		g := Group{Title: "Life", Rows: []Row{lifeRow(l)}}
 		if l.DesignYears != nil {
 			g.Rows = append(g.Rows, plain("Required", *l.DesignYears, Number(*l.DesignYears, 3), "years", ""))
 		}
@@ -129,6 +129,35 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
 		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
 	}})
+}
+
+// LifeText is the expected life as a table cell shows it: "8.2 years",
+// or "≥ 15 years" where the rules of thumb pass the calendar ceiling.
+func LifeText(l *sizing.Life) string { return lifeRow(l).Text() }
+
+func lifeRow(l *sizing.Life) Row {
+	if l.AtLeast {
+		// A floor, not a figure: no number behind it, so nothing ranks by it.
+		return text("Expected life", "≥"+nbsp+Number(l.CeilingYears, 3)+nbsp+"years",
+			"the rules of thumb give more than the calendar ceiling; neither voltage nor temperature limits the life at "+Celsius(l.TemperatureC)+" and "+SI(l.CellV, "V", 3)+" per cell")
+	}
+	return plain("Expected life", l.ExpectedYears, Number(l.ExpectedYears, 3), "years", Number(l.ExpectedH, 3)+nbsp+"h at "+Celsius(l.TemperatureC)+" and "+SI(l.CellV, "V", 3)+" per cell")
+}
+
+// bottomNote says which window bottom the candidate was sized to.
+func bottomNote(c *sizing.Candidate, r *sizing.Report) string {
+	if c.MinV > r.MinV {
+		return "window bottom " + SI(c.MinV, "V", 4) + ", raised by the cell's own floor from " + SI(r.MinV, "V", 4)
+	}
+	return "window bottom " + SI(r.MinV, "V", 4)
+}
+
+// rmsOver says what the RMS current is taken over.
+func rmsOver(c *sizing.Candidate, r *sizing.Report) string {
+	if r.PeriodS != nil {
+		return "over the " + Duration(*r.PeriodS, 3) + " period between events"
+	}
+	return "over the pass, as if it repeated back to back (no period given)"
 }
 
 func runtimeRow(c *sizing.Candidate) Row {
@@ -173,11 +202,15 @@ func Runtime(c *sizing.Candidate) string { return runtimeRow(c).Text() }
 func heat(t *sizing.Thermal) Group {
 	g := Group{Title: "Heat in the hottest cell", Rows: []Row{
 		quantity("ESR loss", t.CellLossW, "W", 3, "bank "+SI(t.BankLossW, "W", 3)),
-		plain("Steady temperature rise", t.SteadyRiseK, Fixed(t.SteadyRiseK, 1), "K", "at the pass's RMS loss"),
+		plain("Steady temperature rise", t.SteadyRiseK, Fixed(t.SteadyRiseK, 1), "K", steadyNote(t)),
 		plain("Peak rise over the pass", t.PeakRiseK, Fixed(t.PeakRiseK, 1), "K", "from ambient"),
 	}}
 	if t.DutyPeakRiseK != nil {
-		g.Rows = append(g.Rows, plain("Peak rise, repeating", *t.DutyPeakRiseK, Fixed(*t.DutyPeakRiseK, 1), "K", "once the repeats settle"))
+		note := "once the repeats settle"
+		if !t.BackToBack {
+			note = "once the events, one per period, settle"
+		}
+		g.Rows = append(g.Rows, plain("Peak rise, repeating", *t.DutyPeakRiseK, Fixed(*t.DutyPeakRiseK, 1), "K", note))
 	}
 	g.Rows = append(g.Rows, plain("Hot spot", t.HotSpotC, Fixed(t.HotSpotC, 1), "°C", ""))
 	tc := duration("Thermal time constant", t.TimeConstantS, 3, "")
@@ -201,9 +234,9 @@ func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	if b == nil {
 		return g
 	}
-	// Count and LossW are of one string (sizing.BalancingResult): every
-	// string has the same circuits.
-	g.Rows = append(g.Rows, text("Kind", b.Kind, strconv.Itoa(b.Count)+" per string, one per cell"))
+	// Count and LossW are of one string, BankCount and BankLossW of the
+	// whole bank (sizing.BalancingResult).
+	g.Rows = append(g.Rows, text("Kind", b.Kind, strconv.Itoa(b.Count)+" per string, "+strconv.Itoa(b.BankCount)+" in the bank, one per cell"))
 	if b.ResistorOhm != nil {
 		g.Rows = append(g.Rows, quantity("Resistor across each cell", *b.ResistorOhm, "Ω", 3, b.Series+" value"))
 	}
@@ -220,12 +253,47 @@ func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 		shelfS = &s
 	}
 	g.Rows = append(g.Rows,
-		quantity("Standing loss per string", b.LossW, "W", 3, "at the window top"),
+		quantity("Standing loss, whole bank", b.BankLossW, "W", 3, "at the window top; per string "+SI(b.LossW, "W", 3)),
 		duration("Equalisation time constant", b.TimeConstantS, 3, "R·C of one cell"),
 		duration("Shelf hold to the window bottom", shelfS, 3, "no load, no charger"),
 		optQuantity("Worst cell after a long hold", b.WorstStaticCellV, "V", 4, "leakage spread "+SI(b.LeakageSpreadA, "A", 3)),
 	)
+	for _, a := range b.Alternatives {
+		g.Rows = append(g.Rows, alternativeRow(a))
+	}
 	return g
+}
+
+// alternativeRow is a balancing alternative in one row of words.
+func alternativeRow(a sizing.BalancingAlternative) Row {
+	label := "Alternative: one more cell in series"
+	if a.Kind == "active" {
+		label = "Alternative: active balancing"
+	}
+	if !a.Feasible {
+		return text(label, "cannot carry the load", "")
+	}
+	v := fmt.Sprintf("%d in series × %d strings, %d cells; drain %s", a.Series, a.Parallel, a.Cells, SI(a.BankLossW, "W", 3))
+	if a.ResistorOhm != nil {
+		v += ", resistors " + SI(*a.ResistorOhm, "Ω", 3)
+	}
+	if a.QuiescentA != nil {
+		v += ", " + SI(*a.QuiescentA, "A", 3) + " per cell"
+		if a.QuiescentAssumed {
+			v += " (assumed)"
+		}
+	}
+	note := ""
+	if a.ShelfHoldH != nil {
+		note = "shelf hold " + Duration(*a.ShelfHoldH*3600, 3)
+	}
+	if a.RuntimeS != nil {
+		if note != "" {
+			note += ", "
+		}
+		note += "runtime " + Duration(*a.RuntimeS, 3)
+	}
+	return text(label, v, note)
 }
 
 // BankText is the arrangement as engineers write it: "15 s × 4 p, 60 cells".
@@ -247,6 +315,8 @@ func limitNote(limit string) string {
 		return "strings set by the cell's peak current"
 	case "rms_current":
 		return "strings set by the cell's continuous current"
+	case "temperature":
+		return "strings set by the cell's maximum temperature"
 	}
 	return "one string carries the load"
 }
@@ -275,4 +345,12 @@ func SortedFlags(flags []sizing.Flag) []sizing.Flag {
 	}
 	sort.SliceStable(out, func(i, j int) bool { return rank(out[i].Severity) < rank(out[j].Severity) })
 	return out
+}
+
+// steadyNote says what the steady rise assumes.
+func steadyNote(t *sizing.Thermal) string {
+	if t.BackToBack {
+		return "at the pass's RMS loss, as if the pass repeated back to back for ever (no period given): a bound a one-shot event never reaches"
+	}
+	return "at the RMS loss over the period between events"
 }

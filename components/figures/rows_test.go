@@ -20,8 +20,9 @@ func busHoldUp() (*sizing.Candidate, *sizing.Report) {
 		CapacitanceF: 350.0 * 4 / 18, WorstCapacitanceF: 0.8 * 350 * 4 / 18, ESROhm: 0.0072, WorstESROhm: 0.0216, ColdESRFactor: 1.5,
 		StoredEnergyJ: 89600, UsableEnergyJ: 53760,
 		RuntimeS: ptr(23.3068528), RuntimeEnd: "voltage", RuntimeEstimated: true,
-		MinTerminalV: 25.6789, EndCapacitorV: 26.1,
-		DeliveredEnergyJ: 48000, ESRLossJ: 512.3, LeakageLossJ: 0.4,
+		MinTerminalV: 25.6789, MinCellV: 25.6789 / 18, MinV: 24, EndCapacitorV: 26.1,
+		BankEnergyJ: 48000, LoadEnergyJ: 45600, ESRLossJ: 512.3, LeakageLossJ: 0.4,
+		WorstCase:    "end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor)",
 		PeakCurrentA: 141.67, CellPeakCurrentA: 35.42, RMSCurrentA: 98.2, CellRMSCurrentA: 24.5,
 		Hazards:    sizing.Hazards{MaxV: 48, StoredEnergyJ: 89600, ShortCircuitCurrentA: 48 / 0.0072, CellEnergyWh: 350 * 2.7 * 2.7 / 2 / 3600},
 		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6),
@@ -40,8 +41,9 @@ func TestCandidate(t *testing.T) {
 	want := []string{
 		"# Bank",
 		"Arrangement | 18 s × 4 p, 72 cells |  | strings set by the window bottom",
+		"Worst case | end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor) |  | what the worst-case figures apply",
 		"Cell voltage at the window top | 2.667 | V | ceiling 2.7_V",
-		"Capacitance | 77.78 | F | worst case 62.22_F (end of life, −20_°C)",
+		"Capacitance | 77.78 | F | worst case 62.22_F",
 		"ESR | 7.2 | mΩ | worst case 21.6_mΩ, cold ×1.5",
 		"Leakage and balancing drain | — |  | as one resistance across the bank",
 		"# Energy and runtime, worst case",
@@ -49,13 +51,15 @@ func TestCandidate(t *testing.T) {
 		"Usable energy in the window | 53.76 | kJ | 14.9_Wh",
 		"Runtime | ≈23.3 | s | until the window bottom, estimated from the drain per period, repeating the steps",
 		"Lowest terminal voltage | 25.68 | V | window bottom 24_V",
+		"Lowest cell voltage | 1.427 | V | bank terminal ÷ 18 in series",
 		"Capacitor voltage at the end of the pass | 26.1 | V | ",
-		"Energy delivered to the load | 48 | kJ | over the sizing pass",
+		"Energy out of the bank terminals | 48 | kJ | over the sizing pass, before the converter",
+		"Energy delivered to the load | 45.6 | kJ | over the sizing pass, after the converter's efficiency",
 		"Lost in the ESR | 512 | J | ",
 		"Lost in leakage and balancing | 400 | mJ | ",
 		"# Current, worst case",
 		"Peak current | 142 | A | per cell 35.4_A",
-		"RMS current | 98.2 | A | per cell 24.5_A",
+		"RMS current | 98.2 | A | per cell 24.5_A, over the pass, as if it repeated back to back (no period given)",
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
 		"Stored energy | 89.6 | kJ | ",
@@ -167,22 +171,27 @@ func TestSortedFlags(t *testing.T) {
 }
 
 // TestCandidateBalancingPerString: sizing counts the balancing circuits
-// and their standing loss for one string (Count is the series count), so
-// an 18 s × 4 p bank has 18 per string, 72 in all.
+// and their standing loss for one string (Count is the series count) and
+// for the bank, so an 18 s × 4 p bank has 18 per string, 72 in all, and
+// the standing loss row states the bank's, with the string's beside it.
 func TestCandidateBalancingPerString(t *testing.T) {
 	t.Parallel()
 	c, r := busHoldUp()
-	c.Balancing = &sizing.BalancingResult{Kind: "passive", Count: 18, LossW: 0.0504}
+	c.Balancing = &sizing.BalancingResult{Kind: "passive", Count: 18, BankCount: 72, LossW: 0.0504, BankLossW: 0.2016}
 	rows := map[string]Row{}
 	for _, g := range Candidate(c, r) {
 		for _, row := range g.Rows {
 			rows[row.Label] = row
 		}
 	}
-	if got, want := rows["Kind"].Note, "18 per string, one per cell"; got != want {
+	if got, want := rows["Kind"].Note, "18 per string, 72 in the bank, one per cell"; got != want {
 		t.Errorf("kind note %q, want %q", got, want)
 	}
-	if got, want := rows["Standing loss per string"].Text(), "50.4"+nbsp+"mW"; got != want {
-		t.Errorf("standing loss per string %q, want %q", got, want)
+	loss := rows["Standing loss, whole bank"]
+	if got, want := loss.Text(), "202"+nbsp+"mW"; got != want {
+		t.Errorf("standing loss of the bank %q, want %q", got, want)
+	}
+	if got, want := loss.Note, "at the window top; per string 50.4"+nbsp+"mW"; got != want {
+		t.Errorf("standing loss note %q, want %q", got, want)
 	}
 }

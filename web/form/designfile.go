@@ -87,6 +87,7 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	num("window.min_v", d.Window.MinV)
 	opt("cell_max_v", d.CellMaxV)
 	opt("load.efficiency", d.Load.Efficiency)
+	opt("load.period_s", d.Load.PeriodS)
 	if d.Load.Repeat != nil {
 		v.Set("load.repeat", fmt.Sprint(*d.Load.Repeat))
 	}
@@ -120,6 +121,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.EOL != nil {
 		opt("eol.capacitance_factor", d.EOL.CapacitanceFactor)
 		opt("eol.esr_factor", d.EOL.ESRFactor)
+		if d.EOL.ApplyTolerance != nil {
+			text("eol.apply_tolerance", fmt.Sprint(*d.EOL.ApplyTolerance))
+		}
 	}
 	opt("ambient_c", d.AmbientC)
 	opt("cold_c", d.ColdC)
@@ -134,10 +138,13 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 		opt("balancing.leakage_spread_a", b.LeakageSpreadA)
 		text("balancing.series", b.Series)
 		opt("balancing.quiescent_a", b.QuiescentA)
+		opt("balancing.max_loss_share", b.MaxLossShare)
+		opt("balancing.min_time_constant_h", b.MinTimeConstantH)
 	}
 	if l := d.Life; l != nil {
 		opt("life.temp_step_k", l.TempStepK)
 		opt("life.voltage_step_v", l.VoltageStepV)
+		opt("life.max_years", l.MaxYears)
 	}
 	if b := d.BOQ; b != nil {
 		text("boq.currency", b.Currency)
@@ -220,8 +227,10 @@ func CellValues(v url.Values, prefix string, c sizing.Cell) {
 		v.Set(prefix+"capacitance_tolerance_pct[1]", figures.Field(t[1]))
 	}
 	set("surge_v", c.SurgeV)
+	set("min_v", c.MinV)
 	set("cold_esr_factor", c.ColdESRFactor)
 	set("cold_esr_temp_c", c.ColdESRTempC)
+	set("cold_capacitance_factor", c.ColdCapacitanceFactor)
 	set("leakage_a", c.LeakageA)
 	set("max_current_a", c.MaxCurrentA)
 	set("peak_current_a", c.PeakCurrentA)

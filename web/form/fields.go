@@ -45,6 +45,8 @@ var (
 			Hint: "0.94 or 94 %; applies to power steps; empty: 1"},
 		{Name: "load.repeat", Label: "Repeat the steps", Kind: KindCount, Units: UnitCount,
 			Hint: "times back to back; empty: 1"},
+		{Name: "load.period_s", Label: "Time between events", Units: UnitSecond,
+			Hint: "start of one event (steps × repeat) to the next, for RMS current and heat; empty: back to back"},
 	}
 
 	ConditionFields = []Field{
@@ -59,6 +61,9 @@ var (
 			Hint: "× rated, e.g. 0.8 or 80 %; empty: 0.8"},
 		{Name: "eol.esr_factor", Label: "ESR at end of life", Units: UnitFactor,
 			Hint: "× rated, e.g. 2; empty: 2"},
+		{Name: "eol.apply_tolerance", Label: "Capacitance tolerance", Kind: KindChoice, Choices: []Choice{
+			{"", "apply the minus tolerance too (default)"}, {"false", "leave the tolerance out"},
+		}},
 	}
 
 	BalancingFields = []Field{
@@ -74,11 +79,16 @@ var (
 		}},
 		{Name: "balancing.quiescent_a", Label: "Active circuit draw", Units: UnitAmp,
 			Hint: "per cell; needed for active balancing"},
+		{Name: "balancing.max_loss_share", Label: "Warn when the resistors draw more than", Units: UnitFraction,
+			Hint: "share of the load's mean power; empty: 1 %"},
+		{Name: "balancing.min_time_constant_h", Label: "… or self-discharge faster than", Units: UnitHour,
+			Hint: "R·C of a cell with its resistor; empty: 24 h"},
 	}
 
 	LifeFields = []Field{
 		{Name: "life.temp_step_k", Label: "Life halves every", Units: UnitKelvin, Hint: "of cell temperature; empty: 10 K"},
 		{Name: "life.voltage_step_v", Label: "Life halves every", Units: UnitVolt, Hint: "of cell voltage; empty: 0.2 V"},
+		{Name: "life.max_years", Label: "Life ceiling", Units: UnitYear, Hint: "longer is shown as at least this; empty: 15 years"},
 	}
 
 	BOQFields = []Field{
@@ -136,12 +146,14 @@ func CellFields(prefix string) []Field {
 		{Name: prefix + "source", Label: "Figures from", Kind: KindChoice, Choices: cellSources},
 		{Name: prefix + "rated_v", Label: "Rated voltage", Units: UnitVolt},
 		{Name: prefix + "surge_v", Label: "Surge voltage", Units: UnitVolt},
+		{Name: prefix + "min_v", Label: "Lowest cell voltage", Units: UnitVolt, Hint: "discharge floor; needed for a hybrid cell"},
 		{Name: prefix + "capacitance_f", Label: "Capacitance", Units: UnitFarad},
 		{Name: prefix + "capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: UnitPercent, Hint: "e.g. -10"},
 		{Name: prefix + "capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: UnitPercent, Hint: "e.g. 20"},
 		{Name: prefix + "esr_ohm", Label: "ESR (DC)", Units: UnitOhm},
 		{Name: prefix + "cold_esr_factor", Label: "Cold ESR factor", Units: UnitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
 		{Name: prefix + "cold_esr_temp_c", Label: "Cold ESR measured at", Units: UnitCelsius},
+		{Name: prefix + "cold_capacitance_factor", Label: "Cold capacitance factor", Units: UnitFactor, Hint: "capacitance cold ÷ at 25 °C, at the same temperature"},
 		{Name: prefix + "leakage_a", Label: "Leakage current", Units: UnitAmp},
 		{Name: prefix + "max_current_a", Label: "Continuous current", Units: UnitAmp},
 		{Name: prefix + "peak_current_a", Label: "Peak current", Units: UnitAmp},
@@ -191,6 +203,8 @@ var FieldLabels = func() map[string]string {
 		"balancing.quiescent_a":            "Active balancing circuit draw",
 		"life.temp_step_k":                 "Life halves every (temperature)",
 		"life.voltage_step_v":              "Life halves every (voltage)",
+		"balancing.max_loss_share":         "Balancing loss threshold",
+		"balancing.min_time_constant_h":    "Balancing self-discharge threshold",
 	}
 	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, LifeFields, BOQFields} {
 		for _, f := range group {

@@ -406,6 +406,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	d.CellMaxV = optional("cell_max_v", UnitVolt)
 	d.Load.Efficiency = optional("load.efficiency", UnitFraction)
 	d.Load.Repeat = optionalCount("load.repeat")
+	d.Load.PeriodS = optional("load.period_s", UnitSecond)
 	d.Load.ProfileCSVText = f.Profile
 	for i, r := range f.Steps {
 		p := fmt.Sprintf("load.steps[%d]", i)
@@ -436,7 +437,18 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 		CapacitanceFactor: optional("eol.capacitance_factor", UnitFactor),
 		ESRFactor:         optional("eol.esr_factor", UnitFactor),
 	}
-	if eol.CapacitanceFactor != nil || eol.ESRFactor != nil {
+	switch f.Value("eol.apply_tolerance") {
+	case "":
+	case "false":
+		no := false
+		eol.ApplyTolerance = &no
+	case "true":
+		yes := true
+		eol.ApplyTolerance = &yes
+	default:
+		bad("eol.apply_tolerance", "oneof", "must be one of: true, false")
+	}
+	if eol.CapacitanceFactor != nil || eol.ESRFactor != nil || eol.ApplyTolerance != nil {
 		d.EOL = &eol
 	}
 	d.AmbientC = optional("ambient_c", UnitCelsius)
@@ -451,11 +463,13 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	}
 
 	bal := sizing.Balancing{
-		Kind:            f.Value("balancing.kind"),
-		CurrentMultiple: optional("balancing.current_multiple", UnitFactor),
-		LeakageSpreadA:  optional("balancing.leakage_spread_a", UnitAmp),
-		Series:          f.Value("balancing.series"),
-		QuiescentA:      optional("balancing.quiescent_a", UnitAmp),
+		Kind:             f.Value("balancing.kind"),
+		CurrentMultiple:  optional("balancing.current_multiple", UnitFactor),
+		LeakageSpreadA:   optional("balancing.leakage_spread_a", UnitAmp),
+		Series:           f.Value("balancing.series"),
+		QuiescentA:       optional("balancing.quiescent_a", UnitAmp),
+		MaxLossShare:     optional("balancing.max_loss_share", UnitFraction),
+		MinTimeConstantH: optional("balancing.min_time_constant_h", UnitHour),
 	}
 	if bal != (sizing.Balancing{}) {
 		d.Balancing = &bal
@@ -463,6 +477,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	life := sizing.LifeModel{
 		TempStepK:    optional("life.temp_step_k", UnitKelvin),
 		VoltageStepV: optional("life.voltage_step_v", UnitVolt),
+		MaxYears:     optional("life.max_years", UnitYear),
 	}
 	if life != (sizing.LifeModel{}) {
 		d.Life = &life
@@ -556,10 +571,12 @@ func TypedCell(value func(string) string, prefix string, required func(string, U
 		Notes:                  strings.TrimSpace(value(k("notes"))),
 		RatedV:                 required(k("rated_v"), UnitVolt),
 		SurgeV:                 optional(k("surge_v"), UnitVolt),
+		MinV:                   optional(k("min_v"), UnitVolt),
 		CapacitanceF:           required(k("capacitance_f"), UnitFarad),
 		ESROhm:                 required(k("esr_ohm"), UnitOhm),
 		ColdESRFactor:          optional(k("cold_esr_factor"), UnitFactor),
 		ColdESRTempC:           optional(k("cold_esr_temp_c"), UnitCelsius),
+		ColdCapacitanceFactor:  optional(k("cold_capacitance_factor"), UnitFactor),
 		LeakageA:               optional(k("leakage_a"), UnitAmp),
 		MaxCurrentA:            optional(k("max_current_a"), UnitAmp),
 		PeakCurrentA:           optional(k("peak_current_a"), UnitAmp),
