@@ -139,6 +139,11 @@ func TestProfileLoadRules(t *testing.T) {
 		// 2e9 W is above Step's 1e9 W ceiling (design.go, power_w lte=1e9).
 		{"power beyond range", func(l *Load) { l.ProfileCSVText = "time_s,power_w\n0,1\n10,2e9\n" },
 			"load.profile_csv_text", "lte", "the step from time_s 10: its power_w must be at most 1e9"},
+		// Step's bounds (design.go): duration_s gte=1e-9, current_a gte=-1e6.
+		{"step too short", func(l *Load) { l.ProfileCSVText = "time_s,power_w\n0,1\n1,2\n1.0000000000001,3\n2,4\n" },
+			"load.profile_csv_text", "gte", "the step from time_s 1: its duration_s must be at least 1e-9"},
+		{"charging beyond range", func(l *Load) { l.ProfileCSVText = "time_s,current_a\n0,1\n3,-2e6\n4,0\n" },
+			"load.profile_csv_text", "gte", "the step from time_s 3: its current_a must be at least -1e6"},
 		// The profile lasts 10 s (rows at 0 and 5 s, the last held 5 s), so
 		// a period of 8 s is shorter than one event (own arithmetic).
 		{"period shorter than the profile", func(l *Load) {

@@ -30,13 +30,22 @@ func designToken(d *sizing.Design) (token, note, linkNote string) {
 	if d == nil {
 		return "", "", ""
 	}
-	data, err := json.Marshal(d)
-	if err != nil {
-		return "", "This design could not be written as a design file.", ""
+	size := len(d.Load.ProfileCSVText) // a lower bound, known without writing the design out
+	var data []byte
+	if size <= share.MaxDesignBytes {
+		var err error
+		if data, err = json.Marshal(d); err != nil {
+			return "", "This design could not be written as a design file.", ""
+		}
+		size = len(data)
 	}
-	if len(data) > share.MaxDesignBytes {
-		return "", fmt.Sprintf("This design is too large to carry in a link or a download from this page (its design file is %s, more than %s); size and export it with capbank size.",
-			figures.SI(float64(len(data)), "B", 3), figures.SI(share.MaxDesignBytes, "B", 3)), ""
+	if size > share.MaxDesignBytes {
+		how := "capbank size"
+		if d.Load.ProfileCSVText != "" {
+			how = "capbank size --profile and the log"
+		}
+		return "", fmt.Sprintf("This design is too large to carry in a link, a download or a save from this page (its design file would be more than %s); size and export it with %s.",
+			figures.SI(share.MaxDesignBytes, "B", 3), how), ""
 	}
 	tok, err := share.EncodePosted(data)
 	if err != nil {

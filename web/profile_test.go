@@ -153,6 +153,9 @@ func BenchmarkPageProfileUpload(b *testing.B) {
 	if !strings.Contains(rec.Body.String(), "1000000 (power_w)") {
 		b.Fatal("the page does not show the profile of 10⁶ rows")
 	}
+	if !strings.Contains(rec.Body.String(), "too large to carry in a link, a download or a save from this page") {
+		b.Fatal("the page does not say that a design of 10⁶ rows is too large to carry")
+	}
 	// Two logs that differ in a comment line, in turn, so that every
 	// upload is a text capbank has not read before.
 	logs := []string{"# the other log\n" + log, log}
