@@ -158,7 +158,7 @@ func BenchmarkPageProfileUpload(b *testing.B) {
 	}
 	// Two logs that differ in a comment line, in turn, so that every
 	// upload is a text capbank has not read before.
-	logs := []string{"# the other log\n" + log, log}
+	logs := []string{log, "# the other log\n" + log}
 	i := 0
 	for b.Loop() {
 		i++
