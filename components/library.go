@@ -33,6 +33,8 @@ type LibraryRowProps struct {
 type ImportReportProps struct {
 	Imported           bool
 	Accepted, Rejected int
+	// Added and Updated count the accepted rows by what they did.
+	Added, Updated int
 	// Error is a problem with the file as a whole.
 	Error string
 	Rows  []ImportRowProps
@@ -43,7 +45,9 @@ type ImportRowProps struct {
 	Line     int
 	ID       string
 	Accepted bool
-	Reason   string
+	// Action is what an accepted row did: added, updated or unchanged.
+	Action string
+	Reason string
 }
 
 // CellPageProps is one cell's page: its figures, and its form when it can

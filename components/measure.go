@@ -3,8 +3,9 @@ package components
 // Option is one choice of a select.
 type Option struct{ Value, Label string }
 
-// MeasureRow is one figure of a measurement, display-ready.
-type MeasureRow struct{ Name, Value, Key string }
+// MeasureRow is one figure of a measurement, display-ready: its label and
+// its value with the unit.
+type MeasureRow struct{ Name, Value string }
 
 // CompareRow is one measured figure beside the datasheet's.
 type CompareRow struct {
@@ -14,14 +15,17 @@ type CompareRow struct {
 
 // MeasureProps feeds the measurement page.
 type MeasureProps struct {
-	CSS        string
-	Methods    []Option
-	Cells      []Option
-	Values     map[string]string // what was typed
-	Messages   map[string]string // field → message
-	Problems   []string
-	Done       bool
-	Rows       []MeasureRow
+	CSS      string
+	Methods  []Option
+	Cells    []Option
+	Values   map[string]string // what was typed
+	Messages map[string]string // field → message
+	Problems []string
+	Done     bool
+	Rows     []MeasureRow
+	// HoldPoints are a hold's points: time, voltage, dV/dt, leakage,
+	// parallel resistance, samples; empty for the other methods.
+	HoldPoints [][]string
 	Warnings   []string
 	Comparison []CompareRow
 	CellJSON   string // the measured cell as a library JSON import

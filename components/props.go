@@ -1,6 +1,10 @@
 package components
 
-import "capbank/sizing"
+import (
+	"strings"
+
+	"capbank/sizing"
+)
 
 // PageProps is everything the design page shows.
 type PageProps struct {
@@ -46,7 +50,10 @@ type StepProps struct {
 	RowMessage            string
 	Kind, Value, Duration FieldProps
 	// UnitID names the unit beside the value, which follows the kind.
-	UnitID      string
+	UnitID string
+	// KindNote says why the value was cleared (its kind changed); "" for
+	// none.
+	KindNote    string
 	First, Last bool
 }
 
@@ -147,6 +154,9 @@ type ResultsProps struct {
 	Report *sizing.Report
 	// Recommended is the recommended candidate, nil when none is feasible.
 	Recommended *sizing.Candidate
+	// BOQ is the recommended bank's bill of quantities, whose total the
+	// headline gives; nil when there is none.
+	BOQ *sizing.BOQ
 	// Candidates are the report's candidates in the order to show.
 	Candidates []sizing.Candidate
 	// Sort is the candidates table's order: "" (rank), "price", "cells",
@@ -194,3 +204,7 @@ type ProfileProps struct {
 	DrawnLabel, PeakLabel string
 	Chart                 *Chart
 }
+
+// KindWasName is the hidden input that carries the kind the row was shown
+// with, so that the server can tell when the kind changes.
+func (s StepProps) KindWasName() string { return strings.TrimSuffix(s.Kind.Name, "kind") + "kind_was" }

@@ -104,7 +104,11 @@ func alternativeText(head string, a BalancingAlternative) string {
 	if !a.Feasible {
 		return head + " the cell cannot carry the load."
 	}
-	parts := []string{fmt.Sprintf("%d strings, %d cells", a.Parallel, a.Cells)}
+	strs := "strings"
+	if a.Parallel == 1 {
+		strs = "string"
+	}
+	parts := []string{fmt.Sprintf("%d %s, %d cells", a.Parallel, strs, a.Cells)}
 	if a.ResistorOhm != nil {
 		parts = append(parts, "resistors of "+Quantity(*a.ResistorOhm, "Ω", 3))
 	}

@@ -48,7 +48,8 @@ type BleederPlan struct {
 	// counted as hazardous (IEC 60950-1 §2.1.1.5, REFERENCES.md 7.6).
 	TargetV float64 `json:"target_v"`
 	// TimeS, in s, is how long the bank takes to fall from max_v to TargetV
-	// through the bleeder at beginning-of-life capacitance (the slowest):
+	// through the bleeder at the top of the capacitance tolerance (the
+	// slowest; beginning of life, before any fade):
 	// t = R·C·ln(max_v/TargetV) (REFERENCES.md 3.6).
 	TimeS float64 `json:"time_s"`
 	// TimeTo2VS, in s, is the time to 2 V, for banks whose target is 60 V.

@@ -5,6 +5,9 @@ package sizing
 type Report struct {
 	// Design is the design's name.
 	Design string `json:"design"`
+	// Currency is the design's boq.currency, the label of every price in
+	// the report; empty when the design gives none.
+	Currency string `json:"currency"`
 	// Recommended is the id of the best feasible cell, or nil when no
 	// candidate can carry the load.
 	Recommended *string `json:"recommended"`

@@ -219,6 +219,9 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 		ProfileDurationS: p.period, PassDurationS: p.period * float64(p.repeat), Repeat: p.repeat, PeriodS: d.Load.PeriodS,
 		Candidates: cands,
 	}
+	if d.BOQ != nil {
+		r.Currency = d.BOQ.Currency
+	}
 	if len(cands) > 0 && cands[0].Feasible {
 		id := cands[0].CellID
 		r.Recommended = &id

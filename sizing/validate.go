@@ -348,8 +348,8 @@ func cellRules(c *Cell, p string) ValidationError {
 	}
 	if tau, ok := SelfDischargeTime(c); ok && tau < MinSelfDischargeS {
 		add("leakage_a", "leakage_plausible",
-			"is %g A: with %g F at %g V the cell would lose its charge through it with a time constant C·U_R/I of %s, under an hour, where supercapacitors hold theirs for days to months. check the unit: a datasheet's leakage is usually in mA or µA (%g mA is %g A)",
-			*c.LeakageA, c.CapacitanceF, c.RatedV, Quantity(tau, "s", 3), *c.LeakageA, *c.LeakageA/1000)
+			"is %g A: with %g F at %g V the cell would lose its charge through it with a time constant C·U_R/I of %s, under an hour, where supercapacitors hold theirs for days to months; check the unit: a datasheet's leakage is usually in mA or µA (%g read as mA is %s)",
+			*c.LeakageA, c.CapacitanceF, c.RatedV, Quantity(tau, "s", 3), *c.LeakageA, Quantity(*c.LeakageA/1000, "A", 3))
 	}
 	if c.Electrolyte == "hybrid" && c.MinV == nil {
 		add("min_v", "required_hybrid",

@@ -238,7 +238,7 @@ func TestBrowserSizesABankAsYouType(t *testing.T) {
 	// The window bottom above its top: the message appears beside the
 	// field, the bank stays, marked out of date.
 	must(t, chromedp.Do(ctx, typeInto("f-window-min_v", "60")), "breaking the window")
-	msg := waitText(t, ctx, "#msg-window-min_v", "must be below window.max_v", "showing the problem")
+	msg := waitText(t, ctx, "#msg-window-min_v", "must be below the window top", "showing the problem")
 	if !strings.Contains(msg, "60 V ≥ 48 V") {
 		t.Errorf("message %q", msg)
 	}

@@ -133,21 +133,25 @@ func (s *Server) apiDeleteCell(c echo.Context) error {
 }
 
 // apiImportCells is POST /api/v1/cells/import: a CSV (text/csv) or JSON
-// (application/json) body of cells, imported all or nothing. The answer is
-// the row-by-row report: 200 when imported, 422 when any row (or the file)
-// was rejected and nothing changed.
+// (application/json) body of cells, imported all or nothing. ?mode=add
+// (the default) adds new cells only; ?mode=upsert also replaces the user
+// cells of the same id (demo cells stay read-only). The answer is the
+// row-by-row report: 200 when imported, 422 when any row (or the file) was
+// rejected and nothing changed, or a problem naming mode.
 func (s *Server) apiImportCells(c echo.Context) error {
 	r := c.Request()
+	mode, err := store.ParseImportMode(c.QueryParam("mode"))
+	if err != nil {
+		return badParams(sizing.ValidationError{{Field: "mode", Rule: "oneof",
+			Message: "must be add (new cells only) or upsert (add new cells and update your cells of the same id)"}})
+	}
 	mt, _, _ := mime.ParseMediaType(r.Header.Get(echo.HeaderContentType))
-	var (
-		rep store.ImportReport
-		err error
-	)
+	var rep store.ImportReport
 	switch mt {
 	case "text/csv", "application/csv":
-		rep, err = s.store.ImportCellsCSV(r.Context(), r.Body)
+		rep, err = s.store.ImportCellsCSV(r.Context(), r.Body, mode)
 	case "application/json":
-		rep, err = s.store.ImportCellsJSON(r.Context(), r.Body)
+		rep, err = s.store.ImportCellsJSON(r.Context(), r.Body, mode)
 	default:
 		return unsupportedMedia(c.Request(), "text/csv or application/json")
 	}

@@ -125,7 +125,7 @@ func (s *Server) comparePicks(ctx context.Context, cells []sizing.Cell) ([]compo
 	picks := make([]components.CellPickProps, 0, len(recs))
 	for _, r := range recs {
 		picked := slices.ContainsFunc(cells, func(c sizing.Cell) bool { return c.ID == r.Cell.ID })
-		picks = append(picks, cellPick(r.Cell, picked))
+		picks = append(picks, cellPick(r.Cell, picked, ""))
 	}
 	return picks, nil
 }
@@ -224,13 +224,15 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 			return func(v float64) string { return figures.Number(v/scale, sig) + "\u00a0" + prefixed }
 		}
 	}
+	// money writes a price with the design's currency (figures.Price).
+	money := each(func(v float64) string { return figures.Price(&v, r.Currency) })
 	num := func(unit string) rowText {
 		return each(func(v float64) string { return figures.Number(v, 3) + "\u00a0" + unit })
 	}
 
 	bankRows := []components.CompareFigureRow{
 		func() components.CompareFigureRow {
-			row := components.CompareFigureRow{Label: "Bank (series × strings)"}
+			row := components.CompareFigureRow{Label: "Arrangement"}
 			for i, cd := range cands {
 				t := "not feasible"
 				if feasible(i) {
@@ -245,10 +247,10 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		bankRow("Cells", "fewer", func(c *sizing.Candidate) (float64, bool) { return float64(c.Cells), true }, each(func(v float64) string { return figures.Number(v, 6) })),
 		bankRow("Mass", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.MassKg) }, each(func(v float64) string { return figures.SI(v, "kg", 3) })),
 		bankRow("Volume", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.VolumeL) }, num("L")),
-		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, each(figures.Money)),
+		bankRow("Price", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(c.TotalPrice) }, money),
 		bankRow("Runtime at worst case", "longer", func(c *sizing.Candidate) (float64, bool) { return ptr(c.RuntimeS) }, each(func(v float64) string { return figures.Duration(v, 3) })),
 		bankRow("Usable energy at worst case", "higher", func(c *sizing.Candidate) (float64, bool) { return c.UsableEnergyJ / 3600, true }, q("Wh", 4)),
-		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, each(figures.Money)),
+		bankRow("Price per usable Wh", "lower", func(c *sizing.Candidate) (float64, bool) { return ptr(sizing.BankPricePerUsableWh(c)) }, money),
 		bankRow("ESR loss over the pass", "lower", func(c *sizing.Candidate) (float64, bool) { return c.ESRLossJ, true }, q("J", 4)),
 		bankRow("Cell temperature rise (peak)", "lower", func(c *sizing.Candidate) (float64, bool) {
 			if c.Thermal == nil {
@@ -285,7 +287,7 @@ func fillCompare(p *components.CompareProps, d *sizing.Design, r *sizing.Report)
 		cellRow("Energy per volume", "higher", m(func(x sizing.CellMerit) *float64 { return x.EnergyWhPerL }), num("Wh/L"), "no volume given"),
 		cellRow("Matched-load power per mass V²/(4·ESR·m)", "higher", m(func(x sizing.CellMerit) *float64 { return x.MatchedPowerWPerKg }), num("W/kg"), "no mass given"),
 		cellRow("Time constant ESR·C", "", m(func(x sizing.CellMerit) *float64 { return val(x.TimeConstantS) }), q("s", 3), "—"),
-		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), each(figures.Money), "no price given"),
+		cellRow("Price per stored Wh", "lower", m(func(x sizing.CellMerit) *float64 { return x.PricePerWh }), money, "no price given"),
 	}
 	p.Groups = []components.CompareGroup{
 		{Title: "The bank for this design", Rows: bankRows},

@@ -3,6 +3,7 @@ package web
 import (
 	"bytes"
 	"capbank/web/form"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -16,6 +17,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/fault"
 	"capbank/web/share"
@@ -95,13 +97,15 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 		if err != nil {
 			return err
 		}
-		for _, r := range recs {
+		sums := s.savedSummaries(c, recs)
+		for i, r := range recs {
 			path := designsPath(r.ID)
 			row := components.SavedDesignProps{
 				ID: strconv.FormatInt(r.ID, 10), Name: r.Name, Href: path,
 				Updated: r.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"), Created: r.CreatedAt.UTC().Format("2006-01-02 15:04 UTC"),
 				RenameAction: path + "/rename", DuplicateAction: path + "/duplicate", DeleteAction: path + "/delete",
 				FileHref: "/api/v1/designs/" + strconv.FormatInt(r.ID, 10) + "/file",
+				Summary:  sums[i],
 			}
 			if row.ID == problemID {
 				row.RenameMessage = problem
@@ -110,6 +114,71 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 		}
 	}
 	return s.render(c, status, components.DesignsPage(p))
+}
+
+// savedSummaries sizes each saved design for the list's summary column:
+// its recommended bank, worst-case runtime and total price, as the design
+// page's headline gives them. All are sized under one compute deadline; a
+// design not sized by then, or one that does not size, says so instead.
+func (s *Server) savedSummaries(c echo.Context, recs []store.DesignRecord) []components.SavedSummary {
+	out := make([]components.SavedSummary, len(recs))
+	designs := make([]*sizing.Design, len(recs))
+	for i, r := range recs {
+		out[i].Note = "not sized: open it to see why"
+		full, err := s.store.GetDesign(c.Request().Context(), r.ID)
+		if err != nil {
+			continue
+		}
+		d, err := decodeDesignFile(full.JSON)
+		if err != nil {
+			continue
+		}
+		d.ResolveCells(s.lookup(c))
+		designs[i] = d
+	}
+	_, err := compute(s, c, func(ctx context.Context) (struct{}, error) {
+		for i, d := range designs {
+			if d == nil || ctx.Err() != nil {
+				continue
+			}
+			r, err := sizing.SizeContext(ctx, d)
+			if err != nil {
+				continue
+			}
+			out[i] = savedSummary(d, r)
+		}
+		return struct{}{}, nil
+	})
+	if err != nil {
+		for i := range out {
+			if out[i].Bank == "" {
+				out[i].Note = "not sized now (capbank is busy): open it to size it"
+			}
+		}
+	}
+	return out
+}
+
+// savedSummary is one sized design's line in the list.
+func savedSummary(d *sizing.Design, r *sizing.Report) components.SavedSummary {
+	if r.Recommended == nil {
+		return components.SavedSummary{Note: "no candidate carries the load"}
+	}
+	c := &r.Candidates[0]
+	for i := range r.Candidates {
+		if r.Candidates[i].CellID == *r.Recommended {
+			c = &r.Candidates[i]
+		}
+	}
+	price := figures.Price(c.TotalPrice, r.Currency)
+	if b, err := sizing.BillOfQuantities(d, r, ""); err == nil {
+		price = figures.Price(&b.Total, r.Currency)
+	}
+	sum := components.SavedSummary{Bank: figures.BankText(*c) + " of " + c.CellID, Runtime: figures.Runtime(c), Price: price}
+	if b, err := sizing.BillOfQuantities(d, r, ""); err == nil && !b.Complete {
+		sum.PriceNote = "some lines have no price"
+	}
+	return sum
 }
 
 // postSaveDesign is POST /designs: save the design the page's results are

@@ -24,7 +24,7 @@ func TestInlineCellProblems(t *testing.T) {
 		got[p.Field] = p.Message
 	}
 	want := map[string]string{
-		"inline.surge_v":                   "must be at least rated_v (2.5 V < 2.7 V)",
+		"inline.surge_v":                   "must be at least the rated voltage (2.5 V < 2.7 V)",
 		"inline.esr_ohm":                   "is required",
 		"inline.capacitance_tolerance_pct": "must have exactly 2 items",
 	}

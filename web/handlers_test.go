@@ -138,8 +138,8 @@ func TestGetPageShowsTheExample(t *testing.T) {
 		t.Errorf("Content-Type %q", ct)
 	}
 	doc := parse(t, rec)
-	if bank := text(doc, `[data-testid=bank]`); !strings.Contains(bank, " s × ") || !strings.Contains(bank, "cells") {
-		t.Errorf("headline %q, want a bank like 20 s × 1 p, 20 cells", bank)
+	if bank := text(doc, `[data-testid=bank]`); !strings.Contains(bank, " in series × ") || !strings.Contains(bank, "cells") {
+		t.Errorf("headline %q, want a bank like 20 in series × 1 string, 20 cells", bank)
 	}
 	if v, _ := doc.Find(`input[name="window.max_v"]`).Attr("value"); v != "48" {
 		t.Errorf("window.max_v shows %q", v)
@@ -221,7 +221,7 @@ func TestPostPageShowsEveryProblem(t *testing.T) {
 	wantStatus(t, rec, http.StatusUnprocessableEntity)
 	doc := parse(t, rec)
 	for id, want := range map[string]string{
-		"#msg-window-min_v":            "must be below window.max_v (60 V ≥ 48 V)",
+		"#msg-window-min_v":            "must be below the window top (60 V ≥ 48 V)",
 		"#msg-load-steps-0-duration_s": form.NotANumber,
 		"#msg-ambient_c":               "comma",
 		"#msg-load-efficiency":         "must be at most 1",
@@ -267,7 +267,7 @@ func TestPostPageKeepsStaleResults(t *testing.T) {
 	if !strings.Contains(status, "Out of date") || !strings.Contains(status, "last design that sized") {
 		t.Errorf("status %q does not mark the results stale", status)
 	}
-	if got := text(doc, "#msg-window-min_v"); !strings.Contains(got, "must be below window.max_v") {
+	if got := text(doc, "#msg-window-min_v"); !strings.Contains(got, "must be below the window top") {
 		t.Errorf("message %q", got)
 	}
 }
@@ -311,7 +311,7 @@ func TestPostResultsWithProblemsMarksStale(t *testing.T) {
 	if !strings.Contains(text(doc, "#results-status"), "Out of date") {
 		t.Errorf("status %q", text(doc, "#results-status"))
 	}
-	if got := text(doc, "#msg-window-min_v[hx-swap-oob]"); !strings.Contains(got, "must be below window.max_v (50 V ≥ 48 V)") {
+	if got := text(doc, "#msg-window-min_v[hx-swap-oob]"); !strings.Contains(got, "must be below the window top (50 V ≥ 48 V)") {
 		t.Errorf("out-of-band message %q", got)
 	}
 	if doc.Find("#results").Length() != 0 {

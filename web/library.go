@@ -265,9 +265,10 @@ func sourceLabel(src string) string {
 }
 
 func importProps(r store.ImportReport) *components.ImportReportProps {
-	p := &components.ImportReportProps{Imported: r.Imported, Accepted: r.Accepted, Rejected: r.Rejected, Error: r.Error}
+	p := &components.ImportReportProps{Imported: r.Imported, Accepted: r.Accepted, Rejected: r.Rejected, Error: r.Error,
+		Added: r.Added, Updated: r.Updated}
 	for _, row := range r.Rows {
-		p.Rows = append(p.Rows, components.ImportRowProps{Line: row.Line, ID: row.ID, Accepted: row.Accepted, Reason: row.Reason})
+		p.Rows = append(p.Rows, components.ImportRowProps{Line: row.Line, ID: row.ID, Accepted: row.Accepted, Action: row.Action, Reason: row.Reason})
 	}
 	return p
 }
@@ -316,11 +317,15 @@ func (s *Server) postLibraryImport(c echo.Context) error {
 		return s.renderLibrary(c, http.StatusUnprocessableEntity, "", &store.ImportReport{Error: "the file could not be read; choose it again"})
 	}
 	defer f.Close()
+	mode, err := store.ParseImportMode(r.FormValue("mode"))
+	if err != nil {
+		return s.renderLibrary(c, http.StatusUnprocessableEntity, "", &store.ImportReport{Error: "If an id is already in the library: choose one of the two choices"})
+	}
 	var rep store.ImportReport
 	if isJSONName(fhs[0].Filename, fhs[0].Header.Get(echo.HeaderContentType)) {
-		rep, err = s.store.ImportCellsJSON(r.Context(), f)
+		rep, err = s.store.ImportCellsJSON(r.Context(), f, mode)
 	} else {
-		rep, err = s.store.ImportCellsCSV(r.Context(), f)
+		rep, err = s.store.ImportCellsCSV(r.Context(), f, mode)
 	}
 	if err != nil {
 		return err
@@ -347,7 +352,11 @@ func readCellForm(vals url.Values) (sizing.Cell, sizing.ValidationError) {
 	cell, _ := form.TypedCell(vals.Get, "", r.Required, r.Optional)
 	if len(r.Problems) == 0 {
 		if err := sizing.ValidateCell(&cell); err != nil {
-			r.Problems = append(r.Problems, validationErrors(err)...)
+			values := form.ValuesOf(cell)
+			for _, p := range validationErrors(err) {
+				p.Message = form.PageMessage(p.Field, p.Message, values)
+				r.Problems = append(r.Problems, p)
+			}
 		}
 	}
 	return cell, r.Problems

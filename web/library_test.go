@@ -470,6 +470,11 @@ func TestCompare(t *testing.T) {
 	if _, ok := best.Attr("data-best"); !ok || !strings.Contains(best.Text(), fmt.Sprint(fewest)) {
 		t.Errorf("Cells row: column %d (%d cells) not marked best: %s", fewestCol, fewest, row.Text())
 	}
+	// The arrangement in the rows' words (figures.Arrangement), never the
+	// "s × p" shorthand whose "s" reads as seconds (issue 17).
+	if got := rowNamed(doc, "Arrangement").Find("td").Eq(fewestCol).Text(); !strings.Contains(got, " in series × ") || strings.Contains(got, " s × ") {
+		t.Errorf("Arrangement row reads %q, want \"N in series × M strings, K cells\"", got)
+	}
 	// Energy per mass of demo-3v0-500f from sizing.Merit.
 	c, _ := store.DemoCell("demo-3v0-500f")
 	want := fmt.Sprintf("%.3g", *sizing.Merit(c).EnergyWhPerKg)
@@ -625,4 +630,67 @@ func TestCompareRowsShareAUnit(t *testing.T) {
 	if !slices.Equal(esr, want) {
 		t.Errorf("ESR row %q, want %q", esr, want)
 	}
+}
+
+// The library's own CSV export imports back when the page's choice (or the
+// API's ?mode=upsert) says to update the user cells of the same id; a row
+// changing a demo cell is refused by id, and an unknown mode is a problem
+// naming mode.
+func TestLibraryImportUpsert(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	wantStatus(t, postMultipart(t, s, "/library/import", nil, "cells_file", "cells.csv",
+		"id,name,rated_v,capacitance_f,esr_ohm\nlab-a,bench A,2.7,10,0.03\n"), http.StatusOK)
+	rec := get(t, s, "/library.csv")
+	wantStatus(t, rec, http.StatusOK)
+	all := rec.Body.String()
+	if !strings.Contains(all, "\nlab-a,bench A,") || !strings.Contains(all, ",demo,") {
+		t.Fatalf("the export lacks the user cell or the demo cells:\n%.400s", all)
+	}
+
+	// As before, the export alone is refused: every id is in the library.
+	rec = postMultipart(t, s, "/library/import", nil, "cells_file", "library.csv", all)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+
+	// The user cell's ESR changed from 30 mΩ to 25 mΩ, imported to update.
+	edited := strings.Replace(all, "\nlab-a,bench A,,2.7,,10,,,0.03,", "\nlab-a,bench A,,2.7,,10,,,0.025,", 1)
+	if edited == all {
+		t.Fatalf("the export's lab-a row is not as expected:\n%.400s", all)
+	}
+	rec = postMultipart(t, s, "/library/import", url.Values{"mode": {"upsert"}}, "cells_file", "library.csv", edited)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if got := text(doc, "[data-testid=import-report]"); !strings.Contains(got, "0 cells added, 1 updated") {
+		t.Errorf("upsert report %q, want 0 added and 1 updated", got)
+	}
+	var cell struct {
+		Cell struct {
+			ESROhm float64 `json:"esr_ohm"`
+		} `json:"cell"`
+	}
+	decodeJSON(t, get(t, s, "/api/v1/cells/lab-a"), &cell)
+	if cell.Cell.ESROhm != 0.025 {
+		t.Errorf("lab-a's ESR after the upsert: %g Ω, want 0.025 Ω", cell.Cell.ESROhm)
+	}
+
+	// A demo cell's row changed: refused by id, over the API.
+	demo := store.DemoCells()[0]
+	i := strings.Index(all, "\n"+demo.ID+",")
+	j := strings.Index(all[i+1:], "\n")
+	row := strings.Split(all[i+1:i+1+j], ",")
+	row[2] = "measured" // the source column
+	changed := all[:i+1] + strings.Join(row, ",") + all[i+1+j:]
+	rec = do(t, s, http.MethodPost, "/api/v1/cells/import?mode=upsert", "text/csv", changed)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	var rep store.ImportReport
+	decodeJSON(t, rec, &rep)
+	if rep.Imported || rep.Rejected != 1 {
+		t.Errorf("a changed demo row: imported %v, %d rejected; want refused, 1 rejected", rep.Imported, rep.Rejected)
+	}
+	for _, r := range rep.Rows {
+		if r.ID == demo.ID && !strings.Contains(r.Reason, "is a built-in demo cell, which is read-only") {
+			t.Errorf("the demo row's reason %q does not say demo cells are read-only", r.Reason)
+		}
+	}
+	wantProblem(t, do(t, s, http.MethodPost, "/api/v1/cells/import?mode=merge", "text/csv", all), http.StatusUnprocessableEntity, "mode")
 }

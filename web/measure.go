@@ -10,7 +10,6 @@ import (
 	"mime/multipart"
 	"net/http"
 	"slices"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -45,6 +44,10 @@ type measureOutcome struct {
 	Comparison  []measure.Comparison `json:"comparison,omitempty"`
 	CompareWith string               `json:"compare_with,omitempty"`
 	Cell        *sizing.Cell         `json:"measured_cell,omitempty"`
+	// labelled are the result's figures as the page lists them (the API
+	// gives Result instead).
+	labelled []measure.LabelledFigure
+	hold     *measure.HoldResult
 }
 
 // measureInput is the form (or API multipart body) of a measurement.
@@ -106,7 +109,8 @@ func runMeasurement(in measureInput, lookup form.CellLookup) (*measureOutcome, e
 	if unknownCell != nil {
 		return nil, unknownCell
 	}
-	out := &measureOutcome{Method: res.Method, Result: res.Details(), Comparison: res.Comparison, Cell: res.Cell}
+	out := &measureOutcome{Method: res.Method, Result: res.Details(), Comparison: res.Comparison, Cell: res.Cell,
+		labelled: res.Labelled(), hold: res.Hold}
 	if mi.Datasheet != nil {
 		out.CompareWith = id
 	}
@@ -223,7 +227,10 @@ func (s *Server) renderMeasure(c echo.Context, status int, in measureInput, out 
 	p.CanSave = s.store != nil
 	if out != nil {
 		p.Done = true
-		p.Rows = figureRows(out.Result)
+		p.Rows = figureRows(out.labelled)
+		if out.hold != nil {
+			p.HoldPoints = holdPointRows(out.hold.Points)
+		}
 		if w, ok := warningsOf(out.Result); ok {
 			p.Warnings = w
 		}
@@ -249,44 +256,38 @@ func fmtPtr(p *float64) string {
 	return strconv.FormatFloat(*p, 'g', 5, 64)
 }
 
-// figureRows lists a result's numeric figures with the unit its JSON key
-// names (capacitance_f → F): the page shows every figure the API gives.
-func figureRows(res any) []components.MeasureRow {
-	b, _ := json.Marshal(res)
-	var m map[string]any
-	json.Unmarshal(b, &m)
-	var rows []components.MeasureRow
-	for k, v := range m {
-		x, ok := v.(float64)
-		if !ok {
-			continue
-		}
-		name, unit := keyUnit(k)
-		val := figures.SI(x, unit, 4)
+// figureRows writes a result's labelled figures (measure's Labelled, in
+// its reading order, the rows capbank measure prints) with their units:
+// quantities with an SI prefix to 4 significant figures, times on the
+// log's axis, percentages, counts and R² plain.
+func figureRows(fs []measure.LabelledFigure) []components.MeasureRow {
+	rows := make([]components.MeasureRow, len(fs))
+	for i, f := range fs {
+		v := "—"
 		switch {
-		case k == "r_squared":
-			name, val = "R² of the fit", strconv.FormatFloat(x, 'f', 6, 64)
-		case unit == "%":
-			name += " (percent)"
+		case f.Value == nil:
+		case f.Plain:
+			v = strings.TrimSpace(figures.Number(*f.Value, f.Digits) + " " + f.Unit)
+		default:
+			v = figures.SI(*f.Value, f.Unit, 4)
 		}
-		rows = append(rows, components.MeasureRow{Name: name, Value: val, Key: k})
+		rows[i] = components.MeasureRow{Name: f.Label, Value: v}
 	}
-	sort.Slice(rows, func(i, j int) bool { return rows[i].Key < rows[j].Key })
 	return rows
 }
 
-var unitSuffixes = []struct{ suffix, unit string }{
-	{"_f_per_cm2", "F/cm²"}, {"_f_per_g", "F/g"}, {"_v_per_s", "V/s"}, {"_per_s", "1/s"},
-	{"_ohm", "Ω"}, {"_pct", "%"}, {"_f", "F"}, {"_v", "V"}, {"_a", "A"}, {"_s", "s"},
-}
-
-func keyUnit(k string) (string, string) {
-	for _, u := range unitSuffixes {
-		if strings.HasSuffix(k, u.suffix) {
-			return strings.ReplaceAll(strings.TrimSuffix(k, u.suffix), "_", " "), u.unit
+// holdPointRows are a hold's points, one row each, with their units.
+func holdPointRows(ps []measure.HoldPoint) [][]string {
+	rows := make([][]string, len(ps))
+	for i, p := range ps {
+		par := "—"
+		if p.ParallelResistanceOhm != nil {
+			par = figures.SI(*p.ParallelResistanceOhm, "Ω", 4)
 		}
+		rows[i] = []string{figures.Number(p.AtS, 6) + " s", figures.SI(p.VoltageV, "V", 5),
+			figures.SI(p.SlopeVPerS, "V/s", 3), figures.SI(p.LeakageA, "A", 4), par, strconv.Itoa(p.Points)}
 	}
-	return strings.ReplaceAll(k, "_", " "), ""
+	return rows
 }
 
 func warningsOf(res any) ([]string, bool) {

@@ -2,6 +2,8 @@ package web
 
 import (
 	"encoding/json"
+	"fmt"
+	"math"
 	"net/http"
 	"net/url"
 	"os"
@@ -97,5 +99,34 @@ func TestMeasurePage(t *testing.T) {
 	}
 	if v, _ := doc.Find("#v1_v").Attr("value"); v != "2" {
 		t.Errorf("end voltage field holds %q, want what was typed", v)
+	}
+}
+
+// The page lists a hold's summary by name and its points as a table: the
+// demo log is a 10 F cell leaking through 200 kΩ (its header says so), so
+// the leakage at 2.58 V late in the hold is 2.58 V / 200 kΩ ≈ 12.9 µA
+// (Ohm's law; the log's early redistribution has died away by then).
+func TestMeasurePageHoldPoints(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	vals := url.Values{"method": {"hold"}, "capacitance_f": {"10"}}
+	rec := postMultipart(t, s, "/measure", vals, "log_csv", "hold.csv", readDemoLog(t, "hold.csv"))
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	first := doc.Find("[data-testid=measure-figure]").First()
+	if got := strings.TrimSpace(first.Find("th").Text()); got != "leakage current (latest point)" {
+		t.Errorf("first figure %q, want the leakage current", got)
+	}
+	rows := doc.Find("[data-testid=measure-points] tbody tr")
+	if rows.Length() != 3 {
+		t.Fatalf("%d points, want 3 (10, 50 and 90 %% of the hold)", rows.Length())
+	}
+	last := strings.ReplaceAll(rows.Last().Text(), "\u00a0", " ")
+	if !strings.Contains(last, "µA") || !strings.Contains(last, "kΩ") {
+		t.Errorf("the last point %q has no leakage in µA or resistance in kΩ", last)
+	}
+	var leak float64
+	if _, err := fmt.Sscanf(strings.Fields(strings.ReplaceAll(rows.Last().Find("td").Eq(3).Text(), "\u00a0", " "))[0], "%g", &leak); err != nil || math.Abs(leak-12.9) > 0.05*12.9 {
+		t.Errorf("late leakage %g µA, want 12.9 µA within 5 %%", leak)
 	}
 }

@@ -55,18 +55,20 @@ func (s *Server) cellPicks(c echo.Context, f *form.Form) []components.CellPickPr
 	}
 	out := make([]components.CellPickProps, 0, len(recs))
 	for _, r := range recs {
-		out = append(out, cellPick(r.Cell, f.Picked[r.Cell.ID]))
+		out = append(out, cellPick(r.Cell, f.Picked[r.Cell.ID], strings.TrimSpace(f.Value("boq.currency"))))
 	}
 	return out
 }
 
-func cellPick(c sizing.Cell, picked bool) components.CellPickProps {
+// cellPick is a library cell in a pick list; its price takes the
+// design's currency, in which the design prices its cells ("" for none).
+func cellPick(c sizing.Cell, picked bool, currency string) components.CellPickProps {
 	return components.CellPickProps{
 		ID: c.ID, Name: c.Name, Picked: picked, Electrolyte: c.Electrolyte,
 		RatedV:      figures.SI(c.RatedV, "V", 3),
 		Capacitance: figures.SI(c.CapacitanceF, "F", 4),
 		ESR:         figures.SI(c.ESROhm, "Ω", 3),
-		Price:       figures.Opt(c.UnitPrice, figures.Money),
+		Price:       figures.Price(c.UnitPrice, currency),
 	}
 }
 
@@ -181,7 +183,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		dur := fieldProps(form.Field{Name: base + ".duration_s", Label: "Duration", Units: form.UnitSecond}, r.Duration, msg[base+".duration_s"])
 		p.Steps = append(p.Steps, components.StepProps{
 			Number: i + 1, Index: i, RowID: "row-" + id, RowMessageID: "msg-" + id, RowMessage: msg[base],
-			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value",
+			Kind: kind, Value: value, Duration: dur, UnitID: "unit-" + id + "-value", KindNote: r.KindNote,
 			First: i == 0, Last: i == len(f.Steps)-1,
 		})
 	}
@@ -329,6 +331,13 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 			if r.Candidates[i].CellID == *r.Recommended {
 				p.Recommended = &r.Candidates[i]
 			}
+		}
+	}
+	if p.Recommended != nil && ev.sized != nil {
+		// The headline's total price is the bill of quantities'; without
+		// one it falls back to the cells' price.
+		if b, err := sizing.BillOfQuantities(ev.sized, r, ""); err == nil {
+			p.BOQ = b
 		}
 	}
 	p.Candidates = sortCandidates(r.Candidates, ev.form.Sort)

@@ -267,11 +267,21 @@ func plainRow(label string, x float64, n int, unit string) measureRow {
 	return measureRow{label, number(x, n), unit}
 }
 
-func optQuantityRow(label string, x *float64, unit string) measureRow {
-	if x == nil {
-		return measureRow{label, none, ""}
+// labelledRows are a result's labelled figures (measure's Labelled, the
+// rows the web page lists too) as text rows.
+func labelledRows(fs []measure.LabelledFigure) []measureRow {
+	rows := make([]measureRow, len(fs))
+	for i, f := range fs {
+		switch {
+		case f.Value == nil:
+			rows[i] = measureRow{f.Label, none, ""}
+		case f.Plain:
+			rows[i] = plainRow(f.Label, *f.Value, f.Digits, f.Unit)
+		default:
+			rows[i] = quantityRow(f.Label, *f.Value, f.Unit)
+		}
 	}
-	return quantityRow(label, *x, unit)
+	return rows
 }
 
 // writeMeasureText writes a titled table of figures, then the warnings and
@@ -306,62 +316,17 @@ func writeMeasureText(w io.Writer, title string, rows []measureRow, warnings []m
 }
 
 func writeConstantCurrentText(w io.Writer, logName string, r measure.ConstantCurrentResult) {
-	current := "discharge current I (given)"
-	if r.CurrentSource == "log" {
-		current = "discharge current I (logged mean, t1–t2)"
-	}
-	rows := []measureRow{
-		quantityRow("capacitance C = I/|slope| (fit t1–t2)", r.CapacitanceF, "F"),
-		quantityRow("capacitance, two-point I·(t2 − t1)/(U1 − U2)", r.TwoPointCapacitanceF, "F"),
-		optQuantityRow("ESR = ΔU3/I", r.ESROhm, "Ω"),
-		optQuantityRow("time constant ESR·C", r.TimeConstantS, "s"),
-		quantityRow(current, r.CurrentA, "A"),
-		quantityRow("U1 = 0.8·UR", r.U1V, "V"),
-		plainRow("t1", r.T1S, 6, "s"),
-		quantityRow("U2 = 0.4·UR", r.U2V, "V"),
-		plainRow("t2", r.T2S, 6, "s"),
-		plainRow("discharge start t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
-		quantityRow("voltage before t0", r.VoltageBeforeV, "V"),
-		quantityRow("fitted line at t0", r.LineAtStartV, "V"),
-		quantityRow("drop ΔU3", r.DropV, "V"),
-		plainRow("ΔU3 / UR", r.DropPct, 3, "%"),
-		plainRow("fit points", float64(r.FitPoints), 7, ""),
-		plainRow("R²", r.RSquared, 6, ""),
-		quantityRow("residual RMS", r.ResidualRMSV, "V"),
-	}
+	rows := labelledRows(r.Labelled())
 	writeMeasureText(w, "Constant-current discharge (IEC 62391-1), "+logName+", UR "+quantity(r.RatedV, "V"), rows, r.Warnings, r.Notes, nil)
 }
 
 func writeResistorText(w io.Writer, logName string, r measure.ResistorDischargeResult) {
-	rows := []measureRow{
-		quantityRow("capacitance C = τ/(R + ESR)", r.CapacitanceF, "F"),
-		optQuantityRow("ESR from the step at switch-on", r.ESROhm, "Ω"),
-		quantityRow("time constant τ = −1/slope", r.TimeConstantS, "s"),
-		quantityRow("resistor R", r.ResistorOhm, "Ω"),
-		plainRow("switch-on t0 (by "+r.StartRule+")", r.StartS, 6, "s"),
-		optQuantityRow("voltage before t0", r.VoltageBeforeV, "V"),
-		quantityRow("fitted decay at t0", r.LineAtStartV, "V"),
-		quantityRow("fit floor", r.FloorV, "V"),
-		plainRow("fit from", r.FitFromS, 6, "s"),
-		plainRow("fit to", r.FitToS, 6, "s"),
-		plainRow("fit points", float64(r.FitPoints), 7, ""),
-		plainRow("R² (ln V)", r.RSquared, 6, ""),
-		plainRow("residual RMS (ln V)", 100*r.ResidualRMSLn, 3, "%"),
-	}
+	rows := labelledRows(r.Labelled())
 	writeMeasureText(w, "Resistor discharge, "+logName, rows, r.Warnings, r.Notes, nil)
 }
 
 func writeHoldText(w io.Writer, logName string, r measure.HoldResult) {
-	rows := []measureRow{
-		quantityRow("leakage current (latest point)", r.LeakageA, "A"),
-		optQuantityRow("parallel resistance (latest point)", r.ParallelResistanceOhm, "Ω"),
-		quantityRow("capacitance used", r.CapacitanceF, "F"),
-		quantityRow("start voltage", r.StartV, "V"),
-		quantityRow("end voltage", r.EndV, "V"),
-		plainRow("hold", r.EndS-r.StartS, 6, "s"),
-		plainRow("total drop", r.DropPct, 3, "%"),
-		plainRow("fit window", r.WindowS, 6, "s"),
-	}
+	rows := labelledRows(r.Labelled())
 	points := func(w io.Writer) {
 		leak := make([]float64, len(r.Points))
 		rp := make([]float64, len(r.Points))
@@ -389,16 +354,6 @@ func writeHoldText(w io.Writer, logName string, r measure.HoldResult) {
 }
 
 func writeTimedText(w io.Writer, r measure.TimedDischarge) {
-	rows := []measureRow{
-		quantityRow("capacitance, exact t/(R·ln(V0/V1))", r.CapacitanceF, "F"),
-		quantityRow("capacitance, quick t·I/ΔV", r.QuickCapacitanceF, "F"),
-		plainRow("quick estimate's error", r.QuickErrorPct, 3, "%"),
-		quantityRow("mean current I = (V0 + V1)/(2R)", r.MeanCurrentA, "A"),
-		quantityRow("time constant R·C", r.TimeConstantS, "s"),
-		quantityRow("V0", r.V0V, "V"),
-		quantityRow("V1", r.V1V, "V"),
-		plainRow("time", r.DurationS, 6, "s"),
-		quantityRow("resistor R", r.ResistorOhm, "Ω"),
-	}
+	rows := labelledRows(r.Labelled())
 	writeMeasureText(w, "Timed resistor discharge", rows, r.Warnings, r.Notes, nil)
 }

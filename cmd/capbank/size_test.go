@@ -110,7 +110,7 @@ func TestSizeCheckDesignText(t *testing.T) {
 	out := sizeOK(t, "--format", "text", checkDesign)
 	for _, want := range []string{
 		"Design: check: 100 A from one 18-cell string, 48 V to 24 V\n",
-		"Recommended: check-2500f, 18 s × 1 p, 18 cells\n",
+		"Recommended: check-2500f, 18 in series × 1 string, 18 cells\n",
 		"usable energy (kJ)", // 120 000 J (sizing/REFERENCES.md 10.1) reads in kJ
 		"peak current (A)",
 		"Flags for check-2500f",
@@ -165,7 +165,7 @@ func TestSizeUPSDesign(t *testing.T) {
 
 	// The text headline says the same bank as the JSON report.
 	text := sizeOK(t, "--format", "text", upsDesign)
-	head := fmt.Sprintf("%d s × %d p, %d cells\n", rec.Series, rec.Parallel, rec.Cells)
+	head := fmt.Sprintf("%d in series × %d string", rec.Series, rec.Parallel)
 	if !strings.Contains(text, "Recommended: "+rec.CellID) || !strings.Contains(text, head) {
 		t.Errorf("text headline does not name %s, %q:\n%s", rec.CellID, head, text)
 	}

@@ -37,13 +37,13 @@ func writeText(w io.Writer, r *sizing.Report) {
 		if rec.CellName != "" {
 			label += " (" + rec.CellName + ")"
 		}
-		fmt.Fprintf(w, "Recommended: %s, %d s × %d p, %d cells\n", label, rec.Series, rec.Parallel, rec.Cells)
+		fmt.Fprintf(w, "Recommended: %s, %s\n", label, figures.ASCII(figures.BankText(*rec)))
 	} else {
 		fmt.Fprintln(w, "Recommended: none; no candidate carries the load at worst case (see the reasons below)")
 	}
 	fmt.Fprintln(w, assumptions(r))
 	fmt.Fprintln(w)
-	writeTable(w, candidateTable(r.Candidates))
+	writeTable(w, candidateTable(r.Candidates, r.Currency))
 	defer func() {
 		fmt.Fprintln(w)
 		fmt.Fprintln(w, "Heat, balancing and life (hottest cell at worst case; balancing per string):")
@@ -117,7 +117,11 @@ type table struct {
 	right []bool
 }
 
-func candidateTable(cs []sizing.Candidate) table {
+func candidateTable(cs []sizing.Candidate, currency string) table {
+	priceHead := "price"
+	if currency != "" {
+		priceHead += " (" + currency + ")"
+	}
 	energy := make([]float64, len(cs))
 	peak := make([]float64, len(cs))
 	rms := make([]float64, len(cs))
@@ -131,9 +135,9 @@ func candidateTable(cs []sizing.Candidate) table {
 	t := table{
 		right: []bool{false, false, true, true, true, true, true, true, true, true, true, true, false},
 		rows: [][]string{{
-			"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)",
+			"cell", "feasible", "in series", "strings", "cells", "runtime (s)", "lowest terminal (V)",
 			"usable energy (" + eUnit + ")", "peak current (" + pUnit + ")", "RMS current (" + rUnit + ")",
-			"price", "mass (kg)", "reason",
+			priceHead, "mass (kg)", "reason",
 		}},
 	}
 	for _, c := range cs {

@@ -16,6 +16,7 @@ func ptr[T any](v T) *T { return &v }
 func sampleReport() *sizing.Report {
 	return &sizing.Report{
 		Design:               "bus hold-up",
+		Currency:             "EUR",
 		Recommended:          ptr("c350"),
 		RankBy:               "price",
 		MaxV:                 48,
@@ -58,7 +59,7 @@ func TestWriteText(t *testing.T) {
 
 	wantLines := []string{
 		"Design: bus hold-up",
-		"Recommended: c350 (350 F cell), 18 s × 4 p, 72 cells",
+		"Recommended: c350 (350 F cell), 18 in series × 4 strings, 72 cells",
 		"Window 48 V → 24 V; worst case: capacitance × 0.8, ESR × 2, cold -20 °C; sizing pass 60 s (3 × 20 s); ranked by price",
 		"",
 	}
@@ -68,8 +69,8 @@ func TestWriteText(t *testing.T) {
 		}
 	}
 	header, rows := lines[4], lines[5:7]
-	for _, col := range []string{"cell", "feasible", "series", "parallel", "cells", "runtime (s)", "lowest terminal (V)",
-		"usable energy (MJ)", "peak current (kA)", "RMS current (A)", "price", "mass (kg)", "reason"} {
+	for _, col := range []string{"cell", "feasible", "in series", "strings", "cells", "runtime (s)", "lowest terminal (V)",
+		"usable energy (MJ)", "peak current (kA)", "RMS current (A)", "price (EUR)", "mass (kg)", "reason"} {
 		if !strings.Contains(header, col) {
 			t.Errorf("header has no column %q: %q", col, header)
 		}

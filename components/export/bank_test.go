@@ -88,9 +88,9 @@ func TestWriteDispatches(t *testing.T) {
 	t.Parallel()
 	s := mustSize(t, upsDesign, nil, "")
 	opt := PDFOptions{Paper: A4, Date: reportDate}
-	// File signatures: ZIP (XLSX) "PK", PDF "%PDF-", the CSV header and a
-	// JSON object.
-	for name, start := range map[string]string{"boq-csv": "item,description", "boq-xlsx": "PK", "boq-json": "{", "pdf": "%PDF-"} {
+	// File signatures: ZIP (XLSX) "PK", PDF "%PDF-", the UTF-8 byte-order
+	// mark and the CSV header, and a JSON object.
+	for name, start := range map[string]string{"boq-csv": UTF8BOM + "item,description", "boq-xlsx": "PK", "boq-json": "{", "pdf": "%PDF-"} {
 		f, _ := LookupFormat(name)
 		var buf bytes.Buffer
 		if err := Write(&buf, f, s.d, s.r, s.b, opt); err != nil {

@@ -32,7 +32,7 @@ const chartHeight = 70.0
 // charts writes the worst-case pass of the bank on a page of its own.
 func (p *pdf) charts(d *sizing.Design, r *sizing.Report, c *sizing.Candidate, cv *sizing.Curve, note string) {
 	p.f.AddPage()
-	p.heading(fmt.Sprintf("Worst-case pass of the bank: %d s × %d p of %s", c.Series, c.Parallel, c.CellID), 0)
+	p.heading(fmt.Sprintf("Worst-case pass of the bank: %s of %s", figures.Arrangement(c.Series, c.Parallel, 0), c.CellID), 0)
 	worst := fmt.Sprintf("end of life (capacitance × %s, ESR × %s)", figures.Number(r.EOLCapacitanceFactor, 4), figures.Number(r.EOLESRFactor, 4))
 	if r.ColdC != nil {
 		worst += fmt.Sprintf(", cold %s °C", figures.Number(*r.ColdC, 4))

@@ -17,13 +17,18 @@ func readCSV(t *testing.T, b *sizing.BOQ) ([][]string, string) {
 	if err := BOQCSV(&buf, b); err != nil {
 		t.Fatal(err)
 	}
-	rd := csv.NewReader(bytes.NewReader(buf.Bytes()))
+	// The UTF-8 byte-order mark first (Unicode 15 §23.8), then RFC 4180.
+	raw, ok := bytes.CutPrefix(buf.Bytes(), []byte{0xEF, 0xBB, 0xBF})
+	if !ok {
+		t.Fatalf("the CSV does not start with the UTF-8 byte-order mark EF BB BF: %.12q", buf.Bytes())
+	}
+	rd := csv.NewReader(bytes.NewReader(raw))
 	rd.FieldsPerRecord = len(CSVHeader)
 	rows, err := rd.ReadAll()
 	if err != nil {
 		t.Fatalf("the CSV does not parse back: %v\n%s", err, buf.String())
 	}
-	return rows, buf.String()
+	return rows, string(raw)
 }
 
 func parseNum(t *testing.T, s, what string) float64 {
@@ -178,5 +183,35 @@ func TestPlainNumber(t *testing.T) {
 		if got := plainNumber(tt.in); got != tt.want {
 			t.Errorf("plainNumber(%v) = %q, want %q", tt.in, got, tt.want)
 		}
+	}
+}
+
+// TestBOQCSVUTF8Mark checks that the CSV starts with the UTF-8 byte-order
+// mark and that the text beyond ASCII it carries (Ω, →, −, ×) reads back
+// unchanged: a spreadsheet takes the file as UTF-8 only with the mark.
+func TestBOQCSVUTF8Mark(t *testing.T) {
+	t.Parallel()
+	s := mustSize(t, upsDesign, nil, "")
+	var buf bytes.Buffer
+	if err := BOQCSV(&buf, s.b); err != nil {
+		t.Fatal(err)
+	}
+	// Unicode 15 §23.8: the UTF-8 form of U+FEFF is EF BB BF.
+	if got := buf.Bytes()[:3]; !bytes.Equal(got, []byte{0xEF, 0xBB, 0xBF}) {
+		t.Fatalf("first bytes % X, want EF BB BF", got)
+	}
+	rows, _ := readCSV(t, s.b)
+	beyond := 0
+	for i, l := range s.b.Lines {
+		if got := rows[1+i][1]; got != l.Description {
+			t.Errorf("line %d description read back %q, want %q", i+1, got, l.Description)
+		}
+		if strings.ContainsAny(l.Description, "Ω→−×") {
+			beyond++
+		}
+	}
+	// The bleeder line says "18 Ω ... 42 V → 2 V" (sizing's BOQ text).
+	if beyond == 0 {
+		t.Error("no line holds Ω, →, − or ×: the check above proves nothing")
 	}
 }

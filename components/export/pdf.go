@@ -43,7 +43,8 @@ const SafetyNote = "capbank is a sizing aid. A supercapacitor bank stores energy
 // has no bank, charts or bill of quantities. When b is for a candidate
 // other than the recommended one, the charts come from sizing that cell
 // alone (the report's curve is the recommended bank's). Text is set in the
-// core font Helvetica through pdfText, so any name a user typed prints.
+// embedded UTF-8 font DejaVu Sans Condensed (fonts.go) through pdfText, so
+// Ω, → and any name a user typed print as they are.
 func ReportPDF(w io.Writer, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, opt PDFOptions) error {
 	if d == nil || r == nil {
 		return errors.New("export: the report needs the design and its sizing report")
@@ -65,20 +66,40 @@ func ReportPDF(w io.Writer, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, o
 			return fmt.Errorf("export: cell %q of the bill of quantities is not a candidate of the report", b.CellID)
 		}
 	}
-	p := newPDF(size, d, r, opt.Date)
-	p.titleBlock(c, b)
-	p.inputs(d, r)
+	var curve *sizing.Curve
+	var note string
 	if c != nil {
-		p.bankFigures(d, r, c, b)
+		curve, note = curveFor(d, r, c)
 	}
-	p.candidates(r)
-	if c != nil {
-		curve, note := curveFor(d, r, c)
-		p.charts(d, r, c, curve, note)
-		p.flags(c)
-		p.boq(b)
+	layout := func(boqOnNewPage bool) *pdf {
+		p := newPDF(size, d, r, opt.Date)
+		p.titleBlock(c, b)
+		p.inputs(d, r)
+		if c != nil {
+			p.bankFigures(d, r, c, b)
+		}
+		p.candidates(r)
+		if c != nil {
+			p.charts(d, r, c, curve, note)
+			p.flags(c)
+			if boqOnNewPage && p.f.GetY() > marginMM+headingMM {
+				p.f.AddPage()
+			}
+			p.boq(b)
+		}
+		p.safety()
+		return p
 	}
-	p.safety()
+	// A report whose last page would hold little more than the end of the
+	// bill of quantities and the safety note is laid out again with the
+	// bill of quantities starting a page, so that the last page carries it
+	// whole with the note.
+	p := layout(false)
+	if c != nil && p.f.Error() == nil && p.lastPageFill() < minLastPageFill {
+		if q := layout(true); q.f.Error() == nil && q.f.PageNo() == p.f.PageNo() && q.lastPageFill() > p.lastPageFill() {
+			p = q
+		}
+	}
 	if err := p.f.Error(); err != nil {
 		return fmt.Errorf("cannot write the PDF report: %w", err)
 	}
@@ -86,6 +107,17 @@ func ReportPDF(w io.Writer, d *sizing.Design, r *sizing.Report, b *sizing.BOQ, o
 		return fmt.Errorf("cannot write the PDF report: %w", err)
 	}
 	return nil
+}
+
+// minLastPageFill is the least share of the last page's text area a report
+// should fill: below it the last page holds little more than the closing
+// safety note (about a fifth of a page) and the tail of what came before.
+const minLastPageFill = 0.35
+
+// lastPageFill is the share of the current (last) page's text area that is
+// used, from the top margin down to where the text ends.
+func (p *pdf) lastPageFill() float64 {
+	return (p.f.GetY() - marginMM) / (p.bottom() - marginMM)
 }
 
 // curveFor returns the worst-case curve of candidate c: the report's when
@@ -161,6 +193,7 @@ var (
 
 func newPDF(size string, d *sizing.Design, r *sizing.Report, date time.Time) *pdf {
 	f := fpdf.New("P", "mm", size, "")
+	addFonts(f)
 	pw, ph := f.GetPageSize()
 	p := &pdf{f: f, pageW: pw, pageH: ph, body: pw - 2*marginMM, designName: d.Name, date: date.Format("2006-01-02"), report: r}
 	if d.BOQ != nil {
@@ -194,21 +227,27 @@ func newPDF(size string, d *sizing.Design, r *sizing.Report, date time.Time) *pd
 	return p
 }
 
-func (p *pdf) font(style string, pt float64) { p.f.SetFont("Helvetica", style, pt) }
+func (p *pdf) font(style string, pt float64) { p.f.SetFont(fontFamily, style, pt) }
+
+// lines splits s, as pdfText writes it, into the lines that fit width mm
+// in the current font.
+func (p *pdf) lines(s string, width float64) []string {
+	return p.f.SplitText(pdfText(s), width)
+}
 
 func (p *pdf) color(c colour) { p.f.SetTextColor(c.r, c.g, c.b) }
 
 // fit returns s as PDF text cut with "..." to fit width mm in the current
 // font.
 func (p *pdf) fit(s string, width float64) string {
-	t := pdfText(s)
-	if p.f.GetStringWidth(t) <= width {
-		return t
+	t := []rune(pdfText(s))
+	if p.f.GetStringWidth(string(t)) <= width {
+		return string(t)
 	}
-	for len(t) > 0 && p.f.GetStringWidth(t+"...") > width {
+	for len(t) > 0 && p.f.GetStringWidth(string(t)+"…") > width {
 		t = t[:len(t)-1]
 	}
-	return t + "..."
+	return string(t) + "…"
 }
 
 // bottom is the lowest y of the text area.
@@ -248,7 +287,7 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 	f.MultiCell(p.body, 6, pdfText(p.designName), "", "L", false)
 	p.font("", bodyPt)
 	p.color(grey)
-	f.MultiCell(p.body, lineMM, pdfText("Date: "+p.date+". A supercapacitor (EDLC) bank sized by capbank at worst case: end of life, and cold when the design gives a cold temperature."), "", "L", false)
+	f.MultiCell(p.body, lineMM, pdfText("Date: "+p.date+". A supercapacitor (EDLC) bank sized by capbank at worst case: end of life with each cell's minus capacitance tolerance, and cold when the design gives a cold temperature."), "", "L", false)
 	p.color(black)
 	f.Ln(2)
 
@@ -262,9 +301,9 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 		if c.CellName != "" {
 			label += " (" + c.CellName + ")"
 		}
-		head = fmt.Sprintf("Recommended bank: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, label)
+		head = fmt.Sprintf("Recommended bank: %s of %s", figures.Arrangement(c.Series, c.Parallel, c.Cells), label)
 		if b.CellID != p.recommendedID() {
-			head = fmt.Sprintf("Bank in this report: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, label)
+			head = fmt.Sprintf("Bank in this report: %s of %s", figures.Arrangement(c.Series, c.Parallel, c.Cells), label)
 			lines = append(lines, "Chosen by the user; capbank recommends "+p.recommendedOr("no cell")+" (see the candidates).")
 		}
 		runtime := "not within 10^7 s"
@@ -287,11 +326,11 @@ func (p *pdf) titleBlock(c *sizing.Candidate, b *sizing.BOQ) {
 	}
 	// The box: measure, draw the fill, then the text over it.
 	p.font("B", 11)
-	headLines := f.SplitLines([]byte(pdfText(head)), p.body-4)
+	headLines := p.lines(head, p.body-4)
 	p.font("", bodyPt)
 	n := 0
 	for _, l := range lines {
-		n += len(f.SplitLines([]byte(pdfText(l)), p.body-4))
+		n += len(p.lines(l, p.body-4))
 	}
 	h := float64(len(headLines))*5.5 + float64(n)*lineMM + 4
 	y := f.GetY()
@@ -371,9 +410,7 @@ func (p *pdf) table(t table) {
 			// A newline in a cell starts a line; pdfText makes any other
 			// control character a space.
 			for _, part := range strings.Split(cell, "\n") {
-				for _, l := range f.SplitLines([]byte(pdfText(part)), widths[i]) {
-					out[i] = append(out[i], string(l))
-				}
+				out[i] = append(out[i], p.lines(part, widths[i])...)
 			}
 			most = max(most, len(out[i]))
 		}
@@ -457,8 +494,13 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		ceiling = quantity(*d.CellMaxV, "V") + " (cell_max_v; a cell's rating applies when lower)"
 	}
 	worst := fmt.Sprintf("end of life: capacitance × %s, ESR × %s", figures.Number(r.EOLCapacitanceFactor, sigFigs), figures.Number(r.EOLESRFactor, sigFigs))
+	if d.EOL == nil || d.EOL.ApplyTolerance == nil || *d.EOL.ApplyTolerance {
+		worst += "; each cell's minus capacitance tolerance on top"
+	} else {
+		worst += "; capacitance tolerance left out (eol.apply_tolerance false)"
+	}
 	if r.ColdC != nil {
-		worst += fmt.Sprintf("; cold %s °C (ESR raised by each cell's cold factor)", figures.Number(*r.ColdC, sigFigs))
+		worst += fmt.Sprintf("; cold %s °C (ESR and capacitance by each cell's cold factors)", figures.Number(*r.ColdC, sigFigs))
 	}
 	ambient := quantity(defaultAmbientC, "°C") + " (default)"
 	if d.AmbientC != nil {
@@ -471,6 +513,11 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.StepList()), figures.Duration(r.ProfileDurationS, sigFigs))
 	if r.Repeat > 1 {
 		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, figures.Duration(r.PassDurationS, sigFigs))
+	}
+	if r.PeriodS != nil {
+		pass += "; one event every " + figures.Duration(*r.PeriodS, sigFigs) + " (RMS current and heat taken over it)"
+	} else {
+		pass += "; no period given: RMS current and heat as if back to back"
 	}
 	rows := [][]string{
 		{"Voltage window", fmt.Sprintf("%s at the top (fully charged) to %s, the cut-off, at the bank terminals", quantity(d.Window.MaxV, "V"), quantity(d.Window.MinV, "V"))},
@@ -635,19 +682,20 @@ func (p *pdf) bankFigures(d *sizing.Design, r *sizing.Report, c *sizing.Candidat
 		title = "Bank " + c.CellID + " and its figures"
 	}
 	p.heading(title, 40)
-	p.para("Worst case is end of life (and cold when the design gives a cold temperature); a note says where a figure is at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
+	p.para("Worst case is end of life with the cell's minus capacitance tolerance (and cold when the design gives a cold temperature), as its row says; a note says where a figure is at beginning of life. Bank figures are at the bank terminals.", "", smallPt, smallLine)
 	p.f.Ln(1)
+	// Each group's title is a bold row of its own, so that it reads on one
+	// line above its figures.
 	var rows [][]string
+	bold := map[int]bool{}
 	for _, g := range figures.Candidate(c, r) {
-		for i, row := range g.Rows {
-			title := ""
-			if i == 0 {
-				title = g.Title
-			}
-			rows = append(rows, []string{title, row.Label, rowValue(row, b.Currency), row.Note})
+		bold[len(rows)] = true
+		rows = append(rows, []string{g.Title, "", ""})
+		for _, row := range g.Rows {
+			rows = append(rows, []string{row.Label, rowValue(row, b.Currency), row.Note})
 		}
 	}
-	p.table(table{cols: []column{{"", 1.6, "L"}, {"figure", 2.9, "L"}, {"value", 2.0, "L"}, {"note", 3.5, "L"}}, rows: rows, pt: smallPt})
+	p.table(table{cols: []column{{"figure", 3.8, "L"}, {"value", 2.1, "L"}, {"note", 4.1, "L"}}, rows: rows, bold: bold, pt: smallPt})
 	var more []string
 	if rating := p.cellRatings(d, c.CellID); rating != "" {
 		more = append(more, "The cell's current ratings, against the per-cell currents above: "+rating+".")
@@ -707,7 +755,7 @@ func (p *pdf) candidates(r *sizing.Report) {
 		}
 		bank := none
 		if c.Series > 0 {
-			bank = fmt.Sprintf("%d s × %d p", c.Series, c.Parallel)
+			bank = figures.Arrangement(c.Series, c.Parallel, 0)
 		}
 		rows = append(rows, []string{
 			id, feasible, bank, strconv.Itoa(c.Cells), runtime, figures.Number(c.MinTerminalV, sigFigs),
@@ -746,10 +794,10 @@ func (p *pdf) flags(c *sizing.Candidate) {
 	for _, fl := range figures.SortedFlags(c.Flags) {
 		// Keep a flag together: measure its height first.
 		p.font("", smallPt)
-		h := float64(len(f.SplitLines([]byte(pdfText(fl.Message)), textW)))*smallLine + lineMM + 2
+		h := float64(len(p.lines(fl.Message, textW)))*smallLine + lineMM + 2
 		if fl.Caution != "" {
 			p.font("I", smallPt)
-			h += float64(len(f.SplitLines([]byte(pdfText("Caution: "+fl.Caution)), textW))) * smallLine
+			h += float64(len(p.lines("Caution: "+fl.Caution, textW))) * smallLine
 		}
 		p.room(h)
 		y := f.GetY()
@@ -803,7 +851,7 @@ func (p *pdf) boq(b *sizing.BOQ) {
 	if !b.Complete {
 		note = "The total is incomplete: " + strings.TrimPrefix(completeness(b), "no: ") + "."
 	}
-	note += fmt.Sprintf(" Bank: %d s × %d p of %s.", b.Series, b.Parallel, b.CellID)
+	note += fmt.Sprintf(" Bank: %s of %s.", figures.Arrangement(b.Series, b.Parallel, 0), b.CellID)
 	if b.CellMassKg != nil {
 		note += " Cells' mass " + quantity(*b.CellMassKg, "kg") + "."
 	}
@@ -811,7 +859,7 @@ func (p *pdf) boq(b *sizing.BOQ) {
 		note += " Cells' volume " + quantity(*b.CellVolumeL, "L") + "."
 	}
 	bl := b.Bleeder
-	note += fmt.Sprintf(" Service bleeder %s, %s rating (peak %s at the window top): the bank falls to %s in %s at beginning-of-life capacitance",
+	note += fmt.Sprintf(" Service bleeder %s, %s rating (peak %s at the window top): the bank falls to %s in %s at the top of the capacitance tolerance, the slowest case",
 		quantity(bl.ResistorOhm, "Ω"), figures.Number(bl.PowerW, 3)+" W", quantity(bl.PeakW, "W"), quantity(bl.TargetV, "V"), figures.Duration(bl.TimeS, sigFigs))
 	if bl.TargetV > 2 {
 		note += ", and to 2 V in " + figures.Duration(bl.TimeTo2VS, sigFigs)
@@ -825,7 +873,7 @@ func (p *pdf) safety() {
 	f := p.f
 	p.f.Ln(sectionGap)
 	p.font("", bodyPt)
-	lines := f.SplitLines([]byte(pdfText(SafetyNote)), p.body-4)
+	lines := p.lines(SafetyNote, p.body-4)
 	h := float64(len(lines))*lineMM + 13
 	p.room(h)
 	y := f.GetY()

@@ -76,10 +76,10 @@ func TestReportPDFText(t *testing.T) {
 		// The design's name and the date passed in.
 		s.d.Name,
 		"2026-03-14",
-		// The headline: the engine's bank, in the s × p form of
-		// capbank size --format text ("15 s × 5 p").
-		fmt.Sprintf("Recommended bank: %d s × %d p = %d cells of %s", c.Series, c.Parallel, c.Cells, c.CellID),
-		"Recommended bank: 15 s × 5 p = 75 cells of demo-c400-2v8",
+		// The headline: the engine's bank, in the words of
+		// capbank size --format text ("15 in series × 5 strings").
+		fmt.Sprintf("Recommended bank: %d in series × %d strings, %d cells of %s", c.Series, c.Parallel, c.Cells, c.CellID),
+		"Recommended bank: 15 in series × 5 strings, 75 cells of demo-c400-2v8",
 		// Key figures, to 4 significant figures by fmt's %.4g.
 		fmt.Sprintf("Worst-case runtime %.4g s", *c.RuntimeS),
 		fmt.Sprintf("lowest terminal voltage %.4g V against the 21 V cut-off", c.MinTerminalV),
@@ -91,9 +91,9 @@ func TestReportPDFText(t *testing.T) {
 		fmt.Sprintf("%.4g kA", c.Hazards.ShortCircuitCurrentA/1e3),
 		// Inputs from testdata/ups-ride-through.json.
 		"42 V at the top (fully charged) to 21 V, the cut-off",
-		"cold -30 °C",
+		"cold −30 °C",
 		"3.5 kW",
-		"2.2 Ohm", // Ω spelt out: the core font's code page has no Ω
+		"2.2 Ω", // the embedded UTF-8 font has Ω
 		// Every candidate of the report.
 		"demo-c1200-2v7", "demo-c3000-3v0", "demo-c100-2v5",
 		// The charts: titles, axes, the window marked and labelled.
@@ -158,10 +158,10 @@ func TestReportPDFBankFigures(t *testing.T) {
 	}
 }
 
-// pdfTextPlain is what pdftotext gives back for s: pdfText's spelling of
-// characters beyond the code page, with white space made single.
+// pdfTextPlain is what pdftotext gives back for s: the text as it is,
+// with white space made single.
 func pdfTextPlain(s string) string {
-	return strings.Join(strings.Fields(beyondCP1252.Replace(s)), " ")
+	return strings.Join(strings.Fields(pdfText(s)), " ")
 }
 
 // A4 is 210 mm × 297 mm (ISO 216) = 595.28 pt × 841.89 pt; Letter is
@@ -260,10 +260,10 @@ func TestReportPDFChosenCell(t *testing.T) {
 	s := mustSize(t, upsDesign, nil, "demo-c3000-3v0")
 	text := pdfTextOf(t, writePDF(t, s, s.b, Letter))
 	for _, w := range []string{
-		// 15 s × 1 p: capbank size --format text on the demo.
-		"Bank in this report: 15 s × 1 p = 15 cells of demo-c3000-3v0",
+		// 15 in series × 1 string: capbank size --format text on the demo.
+		"Bank in this report: 15 in series × 1 string, 15 cells of demo-c3000-3v0",
 		"capbank recommends demo-c400-2v8",
-		"Worst-case pass of the bank: 15 s × 1 p of demo-c3000-3v0",
+		"Worst-case pass of the bank: 15 in series × 1 string of demo-c3000-3v0",
 		"Voltage at the bank terminals",
 	} {
 		if !strings.Contains(text, w) {
@@ -313,10 +313,10 @@ func TestReportPDFHostileText(t *testing.T) {
 	}, "")
 	text := pdfTextOf(t, writePDF(t, s, s.b, A4))
 	for _, w := range []string{
-		`Bank (rev. 2) \ "a)b(" Ohm µ² sqrt -> >= × - ?? ? bell tab nul end`,
+		`Bank (rev. 2) \ "a)b(" Ω µ² √ → ≥ × − 漢字 � bell tab nul end`,
 		`=cmd|' /C calc'!A0`,
 		`unit price ("\€)`, // the currency, in the BOQ headers
-		"Recommended bank: 15 s × 5 p",
+		"Recommended bank: 15 in series × 5 strings",
 	} {
 		if !strings.Contains(text, w) {
 			t.Errorf("PDF text has no %q", w)
@@ -386,21 +386,16 @@ func TestReportPDFRefusals(t *testing.T) {
 func TestPDFText(t *testing.T) {
 	t.Parallel()
 	tests := []struct{ in, want string }{
-		// Windows-1252 bytes: × 0xD7, ² 0xB2, µ 0xB5, ° 0xB0, – 0x96, · 0xB7.
-		{"15 s × 5 p", "15 s \xd7 5 p"},
-		{"m² µF 25 °C 1–2 ½·C", "m\xb2 \xb5F 25 \xb0C 1\x962 \xbd\xb7C"},
-		// Beyond the code page, spelt out in one place.
-		{"2.8 mΩ", "2.8 mOhm"},
-		{"2·√(P·R)", "2\xb7sqrt(P\xb7R)"},
-		{"42 V → 2 V", "42 V -> 2 V"},
-		{"a ≥ b ≤ c", "a >= b <= c"},
-		{"−30 °C", "-30 \xb0C"},
-		{"10⁷ s", "10^7 s"},
-		{"10⁻⁶", "10^-6"},
-		// Control characters become spaces; what has no spelling becomes ?.
+		// The UTF-8 font writes every character as it is.
+		{"15 s × 5 p", "15 s × 5 p"},
+		{"2.8 mΩ, 42 V → 2 V, −30 °C, 10⁷ s, 2·√(P·R) ≈ 3", "2.8 mΩ, 42 V → 2 V, −30 °C, 10⁷ s, 2·√(P·R) ≈ 3"},
+		// Beyond the Basic Multilingual Plane fpdf's UTF-8 fonts hold
+		// nothing: the replacement character.
+		{"漢🙂", "漢\uFFFD"},
+		// Control characters become spaces; bytes that are not UTF-8 the
+		// replacement character.
 		{"a\tb\nc\x00d", "a b c d"},
-		{"漢🙂", "??"},
-		{"bad \xff byte", "bad ? byte"},
+		{"bad \xff byte", "bad \uFFFD byte"},
 		// PDF delimiters pass through: fpdf escapes them when it writes.
 		{`(a) \ b`, `(a) \ b`},
 	}
@@ -439,5 +434,74 @@ func TestFormatsAndNames(t *testing.T) {
 	}
 	if _, err := ParsePaper("legal"); err == nil {
 		t.Error("ParsePaper(legal) succeeded")
+	}
+}
+
+// TestReportPDFUnicodeAndLastPage: every demo design's report, on A4 and
+// Letter, prints Ω and → in the embedded UTF-8 font (not the "mOhm" and
+// "->" of the core fonts' code page), cites no file of capbank's
+// repository, numbers its pages "page n of N" with N its page count, and
+// fills at least minLastPageFill of its last page's text area, rather
+// than ending on a page with little more than the safety note.
+func TestReportPDFUnicodeAndLastPage(t *testing.T) {
+	t.Parallel()
+	pdftotext := requireTool(t, "pdftotext")
+	pdfinfo := requireTool(t, "pdfinfo")
+	words := regexp.MustCompile(`<word xMin="[0-9.]+" yMin="[0-9.]+" xMax="[0-9.]+" yMax="([0-9.]+)">([^<]*)</word>`)
+	pageBox := regexp.MustCompile(`<page width="[0-9.]+" height="([0-9.]+)">`)
+	pagesRe := regexp.MustCompile(`(?m)^Pages:\s+(\d+)$`)
+	const ptPerMM = 72 / 25.4 // 1 in = 25.4 mm = 72 pt
+	for _, design := range []string{"ups-ride-through", "actuator-pulses", "logger-hold-up", "check-constant-current"} {
+		for _, paper := range []Paper{A4, Letter} {
+			t.Run(design+"/"+string(paper), func(t *testing.T) {
+				t.Parallel()
+				s := mustSize(t, "../../testdata/"+design+".json", nil, "")
+				path := writePDF(t, s, s.b, paper)
+				text := pdfTextOf(t, path)
+				for _, w := range []string{"Ω", "→"} {
+					if !strings.Contains(text, w) {
+						t.Errorf("the report has no %s", w)
+					}
+				}
+				for _, w := range []string{"mOhm", "->", " Ohm", "kOhm", ".md", "README", "REFERENCES", "sizing/", "testdata/", ".go "} {
+					if i := strings.Index(text, w); i >= 0 {
+						t.Errorf("the report has %q: ...%s...", w, text[max(0, i-50):min(len(text), i+30)])
+					}
+				}
+				info, err := exec.Command(pdfinfo, path).Output()
+				if err != nil {
+					t.Fatal(err)
+				}
+				m := pagesRe.FindSubmatch(info)
+				if m == nil {
+					t.Fatalf("pdfinfo gives no page count:\n%s", info)
+				}
+				n, _ := strconv.Atoi(string(m[1]))
+				if !strings.Contains(text, fmt.Sprintf("page %d of %d", n, n)) || strings.Contains(text, "{nb}") {
+					t.Errorf("the last page is not numbered \"page %d of %d\"", n, n)
+				}
+				// The lowest word above the footer on the last page.
+				out, err := exec.Command(pdftotext, "-bbox", "-f", strconv.Itoa(n), "-l", strconv.Itoa(n), path, "-").Output()
+				if err != nil {
+					t.Fatal(err)
+				}
+				pm := pageBox.FindSubmatch(out)
+				if pm == nil {
+					t.Fatal("pdftotext -bbox gives no page box")
+				}
+				pageH, _ := strconv.ParseFloat(string(pm[1]), 64)
+				bottom := pageH - bottomMM*ptPerMM // the footer is below it
+				lowest := 0.0
+				for _, w := range words.FindAllSubmatch(out, -1) {
+					if y, _ := strconv.ParseFloat(string(w[1]), 64); y <= bottom {
+						lowest = max(lowest, y)
+					}
+				}
+				fill := (lowest - marginMM*ptPerMM) / (bottom - marginMM*ptPerMM)
+				if fill < minLastPageFill {
+					t.Errorf("the last page (%d of %d) is %.0f %% full, less than %.0f %%", n, n, 100*fill, 100*minLastPageFill)
+				}
+			})
+		}
 	}
 }

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 
 	"capbank/components/figures"
@@ -105,6 +107,95 @@ type workbook struct {
 	err      error
 
 	header, bold, wrap, money, moneyBold, number, title, left, top int
+	// figureStyles are the display formats of figures by their decimals
+	// (sciDecimals for the scientific one), with left alignment when the
+	// key's left is set.
+	figureStyles map[figureFormat]int
+}
+
+// figureFormat is one display format of a figure: decimals after the
+// point, or scientific; left-aligned or not.
+type figureFormat struct {
+	decimals int
+	left     bool
+}
+
+// sciDecimals marks the scientific display format, for figures too large
+// or too small for a fixed one to show their significant digits.
+const sciDecimals = -1
+
+// excelDigits is the precision of a number in a spreadsheet cell: Excel
+// keeps 15 significant digits ("Excel specifications and limits", number
+// precision). excelize writes a float64 by cutting its shortest decimal
+// after 15 digits rather than rounding it, so 0.0034·10 =
+// 0.033999999999999996 would be stored as 0.0339999999999999; excelValue
+// rounds it to 15 digits first, so the cell holds 0.034.
+const excelDigits = 15
+
+// excelValue is v rounded to the 15 significant digits a spreadsheet
+// keeps.
+func excelValue(v float64) float64 {
+	r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', excelDigits, 64), 64)
+	if err != nil {
+		return v
+	}
+	return r
+}
+
+// displayDecimals is the number of decimals that shows v to sigFigs
+// significant digits with trailing zeros dropped (as figures.Number
+// writes it), or sciDecimals when v is below 10⁻⁴ or from 10¹⁵ on in
+// magnitude, where a fixed format would show it as 0 or with more digits
+// than it has. A figure of 10⁴ or more shows its whole units.
+func displayDecimals(v float64) int {
+	a := math.Abs(v)
+	switch {
+	case a == 0 || math.IsNaN(a) || math.IsInf(a, 0):
+		return 0
+	case a < 1e-4 || a >= 1e15:
+		return sciDecimals
+	}
+	d := max(0, sigFigs-1-int(math.Floor(math.Log10(a))))
+	t := strconv.FormatFloat(v, 'f', d, 64)
+	if strings.Contains(t, ".") {
+		t = strings.TrimRight(strings.TrimRight(t, "0"), ".")
+	}
+	if i := strings.IndexByte(t, '.'); i >= 0 {
+		return len(t) - i - 1
+	}
+	return 0
+}
+
+// figureStyle is the style that displays v to sigFigs significant digits
+// while the cell keeps the full value: "0", "0.00", "0.000E+00".
+func (x *workbook) figureStyle(v float64, left bool) int {
+	k := figureFormat{displayDecimals(v), left}
+	if id, ok := x.figureStyles[k]; ok {
+		return id
+	}
+	var nf string
+	switch {
+	case k.decimals == sciDecimals:
+		nf = "0." + strings.Repeat("0", sigFigs-1) + "E+00"
+	case k.decimals == 0:
+		nf = "0"
+	default:
+		nf = "0." + strings.Repeat("0", k.decimals)
+	}
+	st := &excelize.Style{CustomNumFmt: &nf, Alignment: &excelize.Alignment{Vertical: "top"}}
+	if left {
+		st.Alignment.Horizontal = "left"
+	}
+	id, err := x.f.NewStyle(st)
+	if err != nil {
+		x.check(err)
+		return 0
+	}
+	if x.figureStyles == nil {
+		x.figureStyles = map[figureFormat]int{}
+	}
+	x.figureStyles[k] = id
+	return id
 }
 
 func (x *workbook) fail(err error) error {
@@ -180,10 +271,11 @@ func (x *workbook) str(sheet string, col, row int, s string, style int) {
 	}
 }
 
-// num sets a number cell.
+// num sets a number cell, its value rounded to the 15 digits a
+// spreadsheet keeps (excelValue).
 func (x *workbook) num(sheet string, col, row int, v float64, style int) {
 	ref := cellName(col, row)
-	x.check(x.f.SetCellFloat(sheet, ref, v, -1, 64))
+	x.check(x.f.SetCellFloat(sheet, ref, excelValue(v), -1, 64))
 	if style != 0 {
 		x.check(x.f.SetCellStyle(sheet, ref, ref, style))
 	}
@@ -251,15 +343,18 @@ func (x *workbook) boqSheet(b *sizing.BOQ, c *sizing.Candidate) error {
 
 	t.add(styled("Bank", x.title))
 	kv := func(label string, value any, unit string) {
+		style := x.left
 		switch v := value.(type) {
 		case *float64:
 			if v == nil {
 				value = "not given for the cell"
 			} else {
-				value = *v
+				value, style = *v, x.figureStyle(*v, true)
 			}
+		case float64:
+			style = x.figureStyle(v, true)
 		}
-		t.add(label, styled(value, x.left), unit)
+		t.add(label, styled(value, style), unit)
 	}
 	kv("Design", b.Design, "")
 	name := c.CellID
@@ -315,7 +410,16 @@ func (t *sheetRows) add(values ...any) {
 			if p == nil {
 				values[i] = nil
 			} else {
-				values[i] = *p
+				values[i] = excelValue(*p)
+			}
+		}
+		if f, ok := v.(float64); ok {
+			values[i] = excelValue(f)
+		}
+		if c, ok := values[i].(excelize.Cell); ok {
+			if f, ok := c.Value.(float64); ok {
+				c.Value = excelValue(f)
+				values[i] = c
 			}
 		}
 	}
@@ -481,16 +585,18 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 	row++
 	put := func(label string, v any, unit, note string) {
 		x.str(s, 1, row, label, 0)
+		// A figure shows sigFigs digits (figureStyle) and keeps its
+		// value.
 		switch v := v.(type) {
 		case float64:
-			x.num(s, 2, row, v, x.number)
+			x.num(s, 2, row, v, x.figureStyle(v, true))
 		case int:
 			x.num(s, 2, row, float64(v), x.number)
 		case *float64:
 			if v == nil {
 				x.str(s, 2, row, none, 0)
 			} else {
-				x.num(s, 2, row, *v, x.number)
+				x.num(s, 2, row, *v, x.figureStyle(*v, true))
 			}
 		case bool:
 			x.check(x.f.SetCellBool(s, cellName(2, row), v))
@@ -576,17 +682,18 @@ func (x *workbook) resultsSheet(r *sizing.Report, c *sizing.Candidate, b *sizing
 		x.num(s, 3, row, float64(k.Series), 0)
 		x.num(s, 4, row, float64(k.Parallel), 0)
 		x.num(s, 5, row, float64(k.Cells), 0)
+		fig := func(col int, v float64) { x.num(s, col, row, v, x.figureStyle(v, false)) }
 		if k.RuntimeS != nil {
-			x.num(s, 6, row, *k.RuntimeS, 0)
+			fig(6, *k.RuntimeS)
 		}
-		x.num(s, 7, row, k.MinTerminalV, 0)
-		x.num(s, 8, row, k.UsableEnergyJ, 0)
-		x.num(s, 9, row, k.PeakCurrentA, 0)
+		fig(7, k.MinTerminalV)
+		fig(8, k.UsableEnergyJ)
+		fig(9, k.PeakCurrentA)
 		if k.TotalPrice != nil {
 			x.num(s, 10, row, *k.TotalPrice, x.money)
 		}
 		if k.MassKg != nil {
-			x.num(s, 11, row, *k.MassKg, 0)
+			fig(11, *k.MassKg)
 		}
 		x.str(s, 12, row, k.Reason, 0)
 		row++

@@ -466,3 +466,102 @@ func TestWritersRefuseMissingInput(t *testing.T) {
 		t.Errorf("a refused writer wrote %d bytes", buf.Len())
 	}
 }
+
+// TestBOQXLSXFigureDigits checks that a figure's cell holds its value to
+// the 15 significant digits a spreadsheet keeps (Excel specifications and
+// limits: number precision 15 digits), without the stray digits of a
+// float64 cut short (0.0048 kg × 10 cells is 0.047999999999999994 in
+// float64, which was stored as 0.0479999999999999), while it shows
+// sigFigs (4) significant digits.
+func TestBOQXLSXFigureDigits(t *testing.T) {
+	t.Parallel()
+	// Cells of 3.4 g: n × 0.0034 kg is not exact in float64.
+	s := mustSize(t, "../../testdata/logger-hold-up.json", func(d *sizing.Design) {
+		for i := range d.Cells {
+			d.Cells[i].MassKg = price(0.0034)
+		}
+	}, "")
+	f := openXLSX(t, s)
+	mass := s.b.CellMassKg
+	if mass == nil {
+		t.Fatal("the design's cell has no mass; the check needs one")
+	}
+	// The check can fail: the engine's mass has stray digits in float64.
+	n := s.b.Series * s.b.Parallel
+	want := strconv.FormatFloat(float64(n)*0.0034, 'g', 15, 64)
+	if got := strconv.FormatFloat(*mass, 'g', -1, 64); len(got) <= len(want) {
+		t.Fatalf("cells' mass %s has no stray digits; choose another figure", got)
+	}
+	ref := ""
+	rows, err := f.GetRows(SheetBOQ, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, r := range rows {
+		if len(r) > 1 && r[0] == "Cells' mass" {
+			ref = cellName(2, i+1)
+		}
+	}
+	if ref == "" {
+		t.Fatal("no row Cells' mass on the BOQ sheet")
+	}
+	raw, _ := f.GetCellValue(SheetBOQ, ref, excelize.Options{RawCellValue: true})
+	// n cells × 3.4 g, to 15 digits (own arithmetic).
+	if raw != want {
+		t.Errorf("cells' mass cell of %d cells holds %q, want %s", n, raw, want)
+	}
+	if v := numberCell(t, f, SheetBOQ, ref); !closeTo(v, *mass, 1e-15) {
+		t.Errorf("cells' mass %v, want %v within 1e-15", v, *mass)
+	}
+
+	// Every figure on the Results sheet: the cell keeps the value to 15
+	// digits, the display rounds it to 4 significant digits.
+	all, err := f.GetRows(SheetResults, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checked, rounded := 0, 0
+	for i, r := range all {
+		if len(r) < 3 || r[0] == "" || r[0] == "cell" {
+			continue
+		}
+		ref := cellName(2, i+1)
+		if typ, _ := f.GetCellType(SheetResults, ref); typ != excelize.CellTypeUnset && typ != excelize.CellTypeNumber {
+			continue
+		}
+		v, err := strconv.ParseFloat(r[1], 64)
+		if err != nil || v == 0 {
+			continue
+		}
+		if n := len(strings.TrimLeft(strings.ReplaceAll(strings.SplitN(strings.ToLower(r[1]), "e", 2)[0], ".", ""), "-0")); n > 15 {
+			t.Errorf("%s = %s holds %d digits, more than a spreadsheet keeps", r[0], r[1], n)
+		}
+		shown, err := f.GetCellValue(SheetResults, ref)
+		if err != nil {
+			t.Fatal(err)
+		}
+		x, err := strconv.ParseFloat(shown, 64)
+		if err != nil {
+			t.Errorf("%s shows %q, not a number", r[0], shown)
+			continue
+		}
+		// Rounded to 4 significant digits: within half a unit of the 4th
+		// digit, and no decimals beyond them.
+		if !closeTo(x, v, 5e-4) {
+			t.Errorf("%s shows %q for %v", r[0], shown, v)
+		}
+		mant := strings.SplitN(strings.ToUpper(shown), "E", 2)[0]
+		digits := strings.TrimLeft(strings.ReplaceAll(mant, ".", ""), "-0")
+		// A figure of 10⁴ or more shows its whole units (no decimals).
+		if strings.Contains(mant, ".") && len(digits) > sigFigs {
+			t.Errorf("%s shows %q, more than %d significant digits", r[0], shown, sigFigs)
+		}
+		if shown != r[1] {
+			rounded++
+		}
+		checked++
+	}
+	if checked < 20 || rounded == 0 {
+		t.Errorf("checked %d figures, %d shown rounded: the Results sheet lost its figures", checked, rounded)
+	}
+}

@@ -104,7 +104,7 @@ func ExampleCandidate() {
 	}
 	// Output:
 	// Bank
-	//   Arrangement: 15 s × 5 p, 75 cells (strings set by the window bottom)
+	//   Arrangement: 15 in series × 5 strings, 75 cells (strings set by the window bottom)
 	//   Cell voltage at the window top: 2.8 V (ceiling 2.8 V)
 	//   Capacitance: 133.3 F (worst case 106.7 F)
 	// Energy and runtime, worst case

@@ -11,13 +11,13 @@ import (
 
 // Row is one figure: what it is (Label), its value, its unit and a note
 // (how it was judged, or the per-cell value). Value is the number as text
-// ("117.6"), words ("15 s × 5 p, 75 cells") or None; Unit carries its
+// ("117.6"), words ("15 in series × 5 strings, 75 cells") or None; Unit carries its
 // prefix ("kJ") and is empty for words and plain counts.
 //
 // A row of a number also keeps it unrounded: Num in Base, the unit
 // without prefix (117600 in J for 117.6 kJ, a time in s, a price in the
-// design's currency with Base empty), so that a spreadsheet holds a
-// number cell rather than text. HasNum says whether it has one: words and
+// design's currency: Unit and Base are the currency, empty when the design
+// gives none), so that a spreadsheet holds a number cell rather than text. HasNum says whether it has one: words and
 // None have none.
 type Row struct {
 	Label, Value, Unit, Note string
@@ -125,7 +125,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		quantity("Energy per cell", h.CellEnergyWh, "Wh", 3, "as transport rules count it"),
 	}})
 	return append(groups, Group{Title: "Price, mass and volume", Rows: []Row{
-		price(c.TotalPrice),
+		price(c.TotalPrice, r.Currency),
 		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
 		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
 	}})
@@ -186,12 +186,25 @@ func runtimeRow(c *sizing.Candidate) Row {
 const runtimeLimit = "10⁷"
 
 // price is the cells' price row, in the design's currency.
-func price(p *float64) Row {
-	const note = "cells only, in the currency of the unit price"
+func price(p *float64, currency string) Row {
+	note := "cells only"
+	if currency == "" {
+		note += ", in the currency of the unit price"
+	}
 	if p == nil {
 		return text("Price", None, note)
 	}
-	return Row{Label: "Price", Value: Money(*p), Note: note, Num: *p, HasNum: finite(*p)}
+	return Row{Label: "Price", Value: Money(*p), Unit: currency, Note: note, Num: *p, Base: currency, HasNum: finite(*p)}
+}
+
+// Price is an amount with the design's currency after it ("683.50 EUR",
+// Money), None when there is none; the currency is left out when the
+// design gives none.
+func Price(v *float64, currency string) string {
+	if v == nil || !finite(*v) {
+		return None
+	}
+	return join(Money(*v), currency)
 }
 
 // Runtime is a candidate's worst-case runtime as the page states it: a
@@ -228,7 +241,7 @@ func heat(t *sizing.Thermal) Group {
 func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	g := Group{Title: "Balancing"}
 	if s != nil {
-		g.Rows = append(g.Rows, quantity("Worst cell before balancing acts", s.WorstCellV, "V", 4,
+		g.Rows = append(g.Rows, quantity("Worst cell on a first charge from empty", s.WorstCellV, "V", 4,
 			fmt.Sprintf("tolerance %s %% / +%s %%", Number(s.MinusPct, 3), Number(s.PlusPct, 3))))
 	}
 	if b == nil {
@@ -273,7 +286,7 @@ func alternativeRow(a sizing.BalancingAlternative) Row {
 	if !a.Feasible {
 		return text(label, "cannot carry the load", "")
 	}
-	v := fmt.Sprintf("%d in series × %d strings, %d cells; drain %s", a.Series, a.Parallel, a.Cells, SI(a.BankLossW, "W", 3))
+	v := Arrangement(a.Series, a.Parallel, a.Cells) + "; drain " + SI(a.BankLossW, "W", 3)
 	if a.ResistorOhm != nil {
 		v += ", resistors " + SI(*a.ResistorOhm, "Ω", 3)
 	}
@@ -296,13 +309,28 @@ func alternativeRow(a sizing.BalancingAlternative) Row {
 	return text(label, v, note)
 }
 
-// BankText is the arrangement as engineers write it: "15 s × 4 p, 60 cells".
-func BankText(c sizing.Candidate) string {
-	cells := "cells"
-	if c.Cells == 1 {
-		cells = "cell"
+// BankText is a candidate's arrangement with its cell count, in words
+// that cannot be read as a time or a unit: "15 in series × 4 strings,
+// 60 cells" (Arrangement).
+func BankText(c sizing.Candidate) string { return Arrangement(c.Series, c.Parallel, c.Cells) }
+
+// Arrangement is the one way every output writes a bank's arrangement:
+// cells in series per string × strings in parallel, and the cell count
+// when cells > 0 ("23 in series × 1 string, 23 cells"). The short "s × p"
+// shorthand is not used: its "s" reads as seconds beside a runtime.
+func Arrangement(series, strings, cells int) string {
+	s := fmt.Sprintf("%d in series × %d %s", series, strings, plural(strings, "string", "strings"))
+	if cells > 0 {
+		s += fmt.Sprintf(", %d %s", cells, plural(cells, "cell", "cells"))
 	}
-	return fmt.Sprintf("%d s × %d p, %d %s", c.Series, c.Parallel, c.Cells, cells)
+	return s
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func limitNote(limit string) string {

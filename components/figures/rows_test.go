@@ -40,7 +40,7 @@ func TestCandidate(t *testing.T) {
 	// the no-break space inside a note.
 	want := []string{
 		"# Bank",
-		"Arrangement | 18 s × 4 p, 72 cells |  | strings set by the window bottom",
+		"Arrangement | 18 in series × 4 strings, 72 cells |  | strings set by the window bottom",
 		"Worst case | end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor) |  | what the worst-case figures apply",
 		"Cell voltage at the window top | 2.667 | V | ceiling 2.7_V",
 		"Capacitance | 77.78 | F | worst case 62.22_F",
@@ -193,5 +193,30 @@ func TestCandidateBalancingPerString(t *testing.T) {
 	}
 	if got, want := loss.Note, "at the window top; per string 50.4"+nbsp+"mW"; got != want {
 		t.Errorf("standing loss note %q, want %q", got, want)
+	}
+}
+
+// TestArrangementWords: a bank's arrangement is written in words that
+// cannot be read as a time ("23 s" beside a runtime of "67.3 s"), with the
+// singular for one string or one cell (issue 17).
+func TestArrangementWords(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name                   string
+		series, strings, cells int
+		want                   string
+	}{
+		{"one string", 23, 1, 23, "23 in series × 1 string, 23 cells"},
+		{"four strings", 15, 4, 60, "15 in series × 4 strings, 60 cells"},
+		{"one cell", 1, 1, 1, "1 in series × 1 string, 1 cell"},
+		{"no count", 16, 2, 0, "16 in series × 2 strings"},
+	} {
+		if got := Arrangement(tc.series, tc.strings, tc.cells); got != tc.want {
+			t.Errorf("%s: %q, want %q", tc.name, got, tc.want)
+		}
+	}
+	c := sizing.Candidate{Series: 23, Parallel: 1, Cells: 23}
+	if got := BankText(c); got != "23 in series × 1 string, 23 cells" || strings.Contains(got, " s × ") {
+		t.Errorf("BankText %q", got)
 	}
 }

@@ -48,11 +48,21 @@ const (
 	// from; the single sample before the switch-on then moves the ESR by
 	// that much.
 	MaxESRNoiseFraction = 0.1
-	// MaxStartFraction: "coarse_start" when the extended line moves
-	// by more than 10 % of the step over the sample interval at the
-	// switch-on: the switching instant lies somewhere in that interval, so
-	// the ESR may be overstated by up to that much.
-	MaxStartFraction = 0.1
+	// MaxStartIntervalTau: "coarse_start" when the samples around the
+	// switch-on are more than a quarter of the cell's time constant
+	// τ = ESR·C apart. The switch-on lies somewhere in that interval Δt,
+	// and the ESR comes from the step up to the line extended back to the
+	// first sample with the discharge on. At constant current the line
+	// falls by the whole step in one τ (its slope is I/C, the step I·ESR);
+	// into a resistor R in τ·(R + ESR)/R, a little longer (the decay's
+	// slope at the switch-on is V·R/((R + ESR)²·C), the step
+	// V·ESR/(R + ESR), V the voltage before it). So the ESR is overstated
+	// by between 0 and Δt/τ, by about Δt/(2τ) on average. Below τ/4 that is at most 25 %, an error on
+	// the safe side (a higher ESR sizes a bigger bank) and small beside the
+	// end-of-life factor of 2 sizing applies to the ESR; beyond it the
+	// figure says more about the sampling than about the cell (common
+	// practice, no source, for the quarter).
+	MaxStartIntervalTau = 0.25
 	// MaxCurrentVariation: "current_varies" when the logged current's
 	// standard deviation over the fit window is more than 5 % of its mean;
 	// the constant-current method assumes a constant current.
@@ -505,12 +515,9 @@ func ConstantCurrentDischarge(log *Log, ratedV float64, currentA *float64, opts 
 				"the noise (%s RMS) is %.3g %% of the drop ΔU3 = %s, more than %g %%: the ESR rests on one noisy sample before the switch-on",
 				volts(r.ResidualRMSV), 100*r.ResidualRMSV/r.DropV, volts(r.DropV), 100*MaxESRNoiseFraction)})
 		}
-		if r.StartRule != "given" && i0 > 0 {
-			dt := t[i0] - t[i0-1]
-			if move := -b * dt; move > MaxStartFraction*r.DropV {
-				r.Warnings = append(r.Warnings, Warning{"coarse_start", fmt.Sprintf(
-					"the switch-on lies somewhere in the %s s between the samples at %s s and %s s; the line moves %s over that time, %.3g %% of ΔU3, so the ESR may be overstated by up to that much. Log faster around the switch-on",
-					num(dt), num(t[i0-1]), num(t[i0]), volts(move), 100*move/r.DropV)})
+		if r.StartRule != "given" && i0 > 0 && r.TimeConstantS != nil {
+			if w, ok := coarseStart(t[i0-1], t[i0], *r.TimeConstantS, "the line falls by the whole ΔU3"); ok {
+				r.Warnings = append(r.Warnings, w)
 			}
 		}
 	}
@@ -736,11 +743,8 @@ func ResistorDischargeLog(log *Log, resistorOhm float64, opts *DischargeOptions)
 				volts(noise), 100*noise/step, volts(step), 100*MaxESRNoiseFraction)})
 		}
 		if r.StartRule != "given" {
-			dt := t[i0] - t[i0-1]
-			if move := r.LineAtStartV * -math.Expm1(-dt/r.TimeConstantS); move > MaxStartFraction*step {
-				r.Warnings = append(r.Warnings, Warning{"coarse_start", fmt.Sprintf(
-					"the switch-on lies somewhere in the %s s between the samples at %s s and %s s; the decay moves %s over that time, %.3g %% of the step, so the ESR may be overstated by up to that much. Log faster around the switch-on",
-					num(dt), num(t[i0-1]), num(t[i0]), volts(move), 100*move/step)})
+			if w, ok := coarseStart(t[i0-1], t[i0], *r.ESROhm*r.CapacitanceF, "the decay falls by about the whole step"); ok {
+				r.Warnings = append(r.Warnings, w)
 			}
 		}
 	}
@@ -760,6 +764,21 @@ func ResistorDischargeLog(log *Log, resistorOhm float64, opts *DischargeOptions)
 		}
 	}
 	return r, nil
+}
+
+// coarseStart is the "coarse_start" warning when the samples before and
+// at the switch-on, at before and after s, are more than
+// MaxStartIntervalTau of the cell's time constant tauS = ESR·C apart; falls
+// says how the curve falls by the step the ESR comes from in one tauS.
+func coarseStart(before, after, tauS float64, falls string) (Warning, bool) {
+	dt := after - before
+	if !(tauS > 0) || !(dt > MaxStartIntervalTau*tauS) {
+		return Warning{}, false
+	}
+	return Warning{"coarse_start", fmt.Sprintf(
+		"the samples at %s s and %s s around the switch-on are %s s apart, %.3g of the cell's time constant ESR·C = %s, more than %g of it: the switch-on lies somewhere in between, and %s in one time constant, so the ESR may be overstated by up to %.3g %%. Log every %s or faster around the switch-on",
+		num(before), num(after), num(dt), dt/tauS, sizing.Quantity(tauS, "s", 3), MaxStartIntervalTau, falls, 100*dt/tauS,
+		sizing.Quantity(MaxStartIntervalTau*tauS, "s", 2))}, true
 }
 
 // HoldPoint is the leakage at one time of a hold.

@@ -916,3 +916,65 @@ func TestMeasureNeverNaN(t *testing.T) {
 		approx.AllFinite(t, "timed", r)
 	}
 }
+
+// TestCoarseStartThreshold checks coarse_start on both sides of
+// MaxStartIntervalTau: the samples around the switch-on a fifth of the
+// cell's time constant ESR·C apart (a clean log: the ESR is overstated by
+// at most 20 %) give no warning, 0.375 of it do. The switch-on falls on a
+// sample (the times are exact in binary), so each log's ESR is exact and τ
+// is the cell's.
+func TestCoarseStartThreshold(t *testing.T) {
+	t.Parallel()
+	const (
+		// 2500 F, 0.4 mΩ at 27 A: τ = ESR·C = 0.4e-3·2500 = 1 s (own
+		// arithmetic, the record of REFERENCES.md 10.6).
+		c, esr, tau = 2500.0, 0.0004, 1.0
+		// Into 2 Ω: 10 F behind 50 mΩ, τ = ESR·C = 0.05·10 = 0.5 s.
+		rc, resr, rtau = 10.0, 0.05, 0.5
+	)
+	tests := []struct {
+		name   string
+		run    func() (warnings []Warning, esrOhm *float64, err error)
+		esr    float64
+		coarse bool
+	}{
+		{"constant current, samples 0.2 τ apart", func() ([]Warning, *float64, error) {
+			r, err := ConstantCurrentDischarge(ccLog(c, esr, 27, 2.7, -1, 0.2*tau, 0, 1, true), 2.7, nil, nil)
+			return r.Warnings, r.ESROhm, err
+		}, esr, false},
+		{"constant current, samples 0.375 τ apart", func() ([]Warning, *float64, error) {
+			r, err := ConstantCurrentDischarge(ccLog(c, esr, 27, 2.7, -0.75, 0.375*tau, 0, 1, true), 2.7, nil, nil)
+			return r.Warnings, r.ESROhm, err
+		}, esr, true},
+		{"constant current, no current column, 0.2 τ", func() ([]Warning, *float64, error) {
+			r, err := ConstantCurrentDischarge(ccLog(c, esr, 27, 2.7, -1, 0.2*tau, 0, 1, false), 2.7, new(27.0), nil)
+			return r.Warnings, r.ESROhm, err
+		}, esr, false},
+		{"resistor, samples 0.2 τ apart", func() ([]Warning, *float64, error) {
+			r, err := ResistorDischargeLog(rLog(rc, resr, 2, 2.5, -1, 0.2*rtau, 60, 0, 1, true), 2, nil)
+			return r.Warnings, r.ESROhm, err
+		}, resr, false},
+		{"resistor, samples 0.375 τ apart", func() ([]Warning, *float64, error) {
+			r, err := ResistorDischargeLog(rLog(rc, resr, 2, 2.5, -0.75*rtau, 0.375*rtau, 60, 0, 1, true), 2, nil)
+			return r.Warnings, r.ESROhm, err
+		}, resr, true},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			t.Parallel()
+			w, got, err := tt.run()
+			if err != nil {
+				t.Fatal(err)
+			}
+			// Noiseless and switched on at a sample: the ESR is exact
+			// (rel 1e-6, closed form).
+			if got == nil {
+				t.Fatal("no ESR")
+			}
+			approx.Near(t, "ESROhm", *got, tt.esr, 1e-6)
+			if hasWarning(w, "coarse_start") != tt.coarse {
+				t.Errorf("coarse_start %v, want %v; warnings %v", hasWarning(w, "coarse_start"), tt.coarse, w)
+			}
+		})
+	}
+}

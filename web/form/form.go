@@ -32,7 +32,41 @@ const MaxPulses = 200
 const MaxExtras = 200
 
 // StepRow is one load step as typed.
-type StepRow struct{ Kind, Value, Duration string }
+type StepRow struct {
+	Kind, Value, Duration string
+	// KindNote says why Value was cleared: the kind changed since the
+	// form was last shown (KindChange).
+	KindNote string
+}
+
+// KindChange is a step row read back with the kind it was shown with
+// (the hidden load.steps[i].kind_was): when the kind has changed, a value
+// typed for the old kind (350 W) is cleared rather than read in the new
+// one's unit (350 A), and KindNote says so beside the value.
+func KindChange(r StepRow, was string) StepRow {
+	if was == "" || was == r.Kind || strings.TrimSpace(r.Value) == "" {
+		return r
+	}
+	r.KindNote = "Cleared: the kind changed from " + kindWords(was) + " to " + kindWords(r.Kind) + "."
+	if r.Kind == "rest" {
+		r.KindNote = "Cleared: a rest step draws nothing."
+	}
+	r.Value = ""
+	return r
+}
+
+// kindWords names a step kind with its unit: "power (W)".
+func kindWords(kind string) string {
+	for _, c := range StepKinds {
+		if c.Value == kind {
+			if u := StepValueUnit(kind).Unit; u != "" {
+				return strings.ToLower(c.Label) + " (" + u + ")"
+			}
+			return strings.ToLower(c.Label)
+		}
+	}
+	return kind
+}
 
 // CellLookup finds a library cell by its id.
 type CellLookup func(id string) (sizing.Cell, bool)
@@ -73,7 +107,7 @@ type Form struct {
 }
 
 var (
-	stepField  = regexp.MustCompile(`^load\.steps\[(\d{1,9})\]\.(kind|value|duration_s)$`)
+	stepField  = regexp.MustCompile(`^load\.steps\[(\d{1,9})\]\.(kind|kind_was|value|duration_s)$`)
 	extraField = regexp.MustCompile(`^boq\.extras\[(\d{1,9})\]\.(item|description|quantity|unit|unit_price)$`)
 )
 
@@ -82,6 +116,7 @@ var (
 func Read(vals url.Values) *Form {
 	f := &Form{Vals: vals, Picked: map[string]bool{}, Keep: map[string]bool{}}
 	rows := map[int]*StepRow{}
+	kindWas := map[int]string{}
 	extras := map[int]bool{}
 	overflow, extraOverflow := false, false
 	for key, vs := range vals {
@@ -113,6 +148,8 @@ func Read(vals url.Values) *Form {
 		switch m[2] {
 		case "kind":
 			r.Kind = vs[0]
+		case "kind_was":
+			kindWas[i] = vs[0]
 		case "value":
 			r.Value = vs[0]
 		case "duration_s":
@@ -125,7 +162,7 @@ func Read(vals url.Values) *Form {
 	}
 	sort.Ints(idx)
 	for _, i := range idx {
-		f.Steps = append(f.Steps, *rows[i])
+		f.Steps = append(f.Steps, KindChange(*rows[i], kindWas[i]))
 	}
 	if f.Profile = vals.Get(ProfileField); f.Profile != "" {
 		f.Steps, overflow = nil, false // the page shows the profile, not steps
@@ -620,15 +657,22 @@ var (
 // MergeProblems translates sizing's field paths into the form's inputs: a
 // step's power_w, current_a or resistance_ohm is its value input, a typed
 // cell's keys are inline.*, a demo cell's problem goes to the cell picker
-// naming the cell. Problems on a field that already failed to decode are
-// dropped: the decoding message says what to fix first.
+// naming the cell. The keys a message names become the fields' labels
+// (PageMessage), with their values from the design. Problems on a field
+// that already failed to decode are dropped: the decoding message says
+// what to fix first.
 func MergeProblems(dec Decoded, validation sizing.ValidationError) sizing.ValidationError {
 	out := slices.Clone(dec.Problems)
 	seen := map[string]bool{}
 	for _, p := range dec.Problems {
 		seen[p.Field] = true
 	}
+	var values Values
+	if dec.Design != nil {
+		values = ValuesOf(dec.Design)
+	}
 	for _, e := range validation {
+		e.Message = PageMessage(e.Field, e.Message, values)
 		e.Field, e.Message = formPath(e.Field, e.Message, dec.Sources, dec.ExtraIndex)
 		if seen[e.Field] {
 			continue
@@ -660,7 +704,11 @@ func formPath(path, msg string, sources []string, extraIndex []int) (string, str
 		if k < len(sources) {
 			id = sources[k]
 		}
-		return "cells.pick", id + m[2] + ": " + msg
+		part := m[2]
+		if f, ok := cellKeys[strings.TrimPrefix(part, ".")]; ok {
+			part = ", " + sentenceCase(f.Label)
+		}
+		return "cells.pick", id + part + ": " + msg
 	}
 	switch {
 	case path == "cells" && strings.HasPrefix(msg, "must have at least"):

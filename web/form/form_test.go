@@ -18,7 +18,7 @@ func TestFormPath(t *testing.T) {
 		{"cells[1].surge_v", "inline.surge_v", "m"},
 		{"cells[1].capacitance_tolerance_pct[0]", "inline.capacitance_tolerance_pct[0]", "m"},
 		{"cells[1]", "inline.id", "m"},
-		{"cells[0].esr_ohm", "cells.pick", "demo-2v7-650f.esr_ohm: m"},
+		{"cells[0].esr_ohm", "cells.pick", "demo-2v7-650f, ESR (DC): m"},
 		{"window.min_v", "window.min_v", "m"},
 		// the design's second own line is the form's line 5 (a line keeps its index)
 		{"boq.extras[1].quantity", "boq.extras[5].quantity", "m"},

@@ -28,9 +28,9 @@ func TestBadCellCorpus(t *testing.T) {
 		}
 		var rep ImportReport
 		if strings.HasSuffix(f, ".json") {
-			rep, err = s.ImportCellsJSON(ctx, fh)
+			rep, err = s.ImportCellsJSON(ctx, fh, ImportAdd)
 		} else {
-			rep, err = s.ImportCellsCSV(ctx, fh)
+			rep, err = s.ImportCellsCSV(ctx, fh, ImportAdd)
 		}
 		fh.Close()
 		if err != nil {
@@ -65,7 +65,7 @@ func FuzzImportCellsCSV(f *testing.F) {
 	defer s.Close()
 	f.Fuzz(func(t *testing.T, data []byte) {
 		ctx := context.Background()
-		rep, err := s.ImportCellsCSV(ctx, bytes.NewReader(data))
+		rep, err := s.ImportCellsCSV(ctx, bytes.NewReader(data), ImportAdd)
 		if err != nil {
 			t.Fatalf("import error %v", err)
 		}

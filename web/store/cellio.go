@@ -11,6 +11,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -20,59 +22,144 @@ import (
 // MaxImportRows bounds a cell import.
 const MaxImportRows = 100_000
 
-// cellColumns are the cell CSV's columns, in order: the design-file keys,
-// units in the names, with the capacitance tolerance split in two.
-var cellColumns = []string{
-	"id", "name", "source", "rated_v", "surge_v", "capacitance_f", "capacitance_minus_pct", "capacitance_plus_pct",
-	"esr_ohm", "cold_esr_factor", "cold_esr_temp_c", "leakage_a", "max_current_a", "peak_current_a",
-	"thermal_resistance_k_per_w", "specific_heat_j_per_kg_k", "min_temp_c", "max_temp_c", "mass_kg", "volume_l",
-	"unit_price", "rated_life_h", "rated_life_temp_c", "electrolyte", "notes",
+// cellColumns are the cell CSV's columns, in order: id, name and source,
+// then every number key of the design file's cell (sizing.Cell) in its
+// order, units in the names, the capacitance tolerance split in two
+// (capacitance_minus_pct, capacitance_plus_pct), then electrolyte and
+// notes. They come from sizing.Cell's JSON keys, so that a key added to
+// the cell is exported and imported back without a change here.
+var cellColumns, numberColumns = cellCSVColumns()
+
+// textFirst and textLast are the cell's text keys: the ones before the
+// numbers and the ones after them.
+var (
+	textFirst = []string{"id", "name", "source"}
+	textLast  = []string{"electrolyte", "notes"}
+)
+
+// numberColumn is a number column of the cell CSV: the index of its
+// sizing.Cell field and, for the capacitance tolerance, which of its two
+// values (-1 for a plain number).
+type numberColumn struct {
+	name  string
+	field int
+	part  int
+}
+
+// toleranceKey is the cell key whose two values are two CSV columns.
+const toleranceKey = "capacitance_tolerance_pct"
+
+func cellCSVColumns() ([]string, map[string]numberColumn) {
+	cols := slices.Clone(textFirst)
+	nums := map[string]numberColumn{}
+	t := reflect.TypeFor[sizing.Cell]()
+	floatPtr := reflect.TypeFor[*float64]()
+	for i := range t.NumField() {
+		f := t.Field(i)
+		key, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+		switch {
+		case key == toleranceKey:
+			for part, name := range []string{"capacitance_minus_pct", "capacitance_plus_pct"} {
+				cols = append(cols, name)
+				nums[name] = numberColumn{name, i, part}
+			}
+		case key != "" && key != "-" && (f.Type.Kind() == reflect.Float64 || f.Type == floatPtr):
+			cols = append(cols, key)
+			nums[key] = numberColumn{key, i, -1}
+		}
+	}
+	return append(cols, textLast...), nums
 }
 
 var requiredColumns = []string{"id", "rated_v", "capacitance_f", "esr_ohm"}
+
+// ImportMode says what an import does with a cell whose id is already in
+// the library.
+type ImportMode string
+
+const (
+	// ImportAdd adds new cells only: a row whose id is in the library is
+	// rejected. The default.
+	ImportAdd ImportMode = "add"
+	// ImportUpsert adds new cells and replaces the user cells of the same
+	// id, so that a library exported as CSV or JSON imports back. A
+	// built-in demo cell stays read-only: a row that changes one is
+	// rejected; a row equal to it (as the export writes it) is left as it
+	// is.
+	ImportUpsert ImportMode = "upsert"
+)
+
+// ParseImportMode reads the mode of an import: "add" (or empty) or
+// "upsert".
+func ParseImportMode(s string) (ImportMode, error) {
+	switch ImportMode(s) {
+	case "", ImportAdd:
+		return ImportAdd, nil
+	case ImportUpsert:
+		return ImportUpsert, nil
+	}
+	return "", fmt.Errorf("%w: import mode %q: must be add (new cells only) or upsert (add new cells, update your cells of the same id)", ErrInvalid, s)
+}
+
+// Row actions of an import report.
+const (
+	ActionAdded     = "added"
+	ActionUpdated   = "updated"
+	ActionUnchanged = "unchanged"
+)
 
 // ImportRow is the fate of one row (CSV line, or JSON list item) of an import.
 type ImportRow struct {
 	Line     int    `json:"line"`
 	ID       string `json:"id"`
 	Accepted bool   `json:"accepted"`
-	Reason   string `json:"reason,omitempty"`
+	// Action is what an accepted row did: ActionAdded, ActionUpdated
+	// (upsert, a user cell of that id replaced) or ActionUnchanged (upsert,
+	// a demo cell's row equal to it).
+	Action string `json:"action,omitempty"`
+	Reason string `json:"reason,omitempty"`
 }
 
 // ImportReport tells row by row what an import did. Imported is true only
 // when every row was accepted: a file with any bad row leaves the library
 // as it was.
 type ImportReport struct {
-	Imported bool        `json:"imported"`
-	Accepted int         `json:"accepted"`
-	Rejected int         `json:"rejected"`
-	Rows     []ImportRow `json:"rows"`
+	Imported bool `json:"imported"`
+	Accepted int  `json:"accepted"`
+	Rejected int  `json:"rejected"`
+	// Added and Updated count the accepted rows by what they did
+	// (Updated only in ImportUpsert mode).
+	Added   int         `json:"added"`
+	Updated int         `json:"updated"`
+	Rows    []ImportRow `json:"rows"`
 	// Error is a problem with the file as a whole (header, encoding).
 	Error string `json:"error,omitempty"`
 }
 
 type parsedCell struct {
-	line int
-	cell sizing.Cell
-	err  string
+	line   int
+	cell   sizing.Cell
+	err    string
+	action string
 }
 
 // ImportCellsCSV reads cells from CSV (RFC 4180, a header row of the
 // cellColumns names; id, rated_v, capacitance_f and esr_ohm required, the
 // others optional; numbers plain, in the unit the column names) and adds
-// them to the library — all of them, or, if any row is bad, none.
-func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader) (ImportReport, error) {
+// them to the library — all of them, or, if any row is bad, none. mode
+// says what a row whose id is already in the library does (ImportMode).
+func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	rows, fileErr := parseCellsCSV(r)
 	if fileErr != "" {
 		return ImportReport{Error: fileErr}, nil
 	}
-	return s.importRows(ctx, rows)
+	return s.importRows(ctx, rows, mode)
 }
 
 // ImportCellsJSON reads cells as a JSON list of design-file cells (or an
 // object {"cells": [...]}) and imports them as ImportCellsCSV does; the
 // report's Line is the item's position in the list, from 1.
-func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport, error) {
+func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
 		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
@@ -93,14 +180,17 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader) (ImportReport,
 			rows[i].err = err.Error()
 		}
 	}
-	return s.importRows(ctx, rows)
+	return s.importRows(ctx, rows, mode)
 }
 
 // importRows checks every row and inserts them all, or none if any row is
 // bad. Whether an id is already in the library is checked in the write
 // transaction itself, so a cell added by someone else meanwhile is a
 // rejected row, never a failed insert.
-func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport, error) {
+func (s *Store) importRows(ctx context.Context, rows []parsedCell, mode ImportMode) (ImportReport, error) {
+	if mode == "" {
+		mode = ImportAdd
+	}
 	if len(rows) == 0 {
 		return ImportReport{Rows: []ImportRow{}, Error: "holds no cells"}, nil
 	}
@@ -128,12 +218,22 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 				rejected = true
 				continue
 			}
-			var n int
-			if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE id = ?`, p.cell.ID).Scan(&n); err != nil {
+			old, err := scanCell(tx.QueryRowContext(ctx, `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE id = ?`, p.cell.ID))
+			switch {
+			case errors.Is(err, sql.ErrNoRows):
+				p.action = ActionAdded
+			case err != nil:
 				return err
+			case mode != ImportUpsert:
+				p.err = fmt.Sprintf("id %q is already in the library; give the cell another id, edit the existing one, or import in the mode that updates your cells (upsert)", p.cell.ID)
+			case old.ReadOnly && sameCell(old.Cell, p.cell):
+				p.action = ActionUnchanged
+			case old.ReadOnly:
+				p.err = fmt.Sprintf("id %q is a built-in demo cell, which is read-only and is not updated by an import; give the cell another id (duplicate the demo cell in the library to get a copy you can edit)", p.cell.ID)
+			default:
+				p.action = ActionUpdated
 			}
-			if n > 0 {
-				p.err = fmt.Sprintf("id %q is already in the library; give the cell another id or edit the existing one", p.cell.ID)
+			if p.err != "" {
 				rejected = true
 			}
 		}
@@ -141,7 +241,14 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 			return errNotImported
 		}
 		for i := range rows {
-			if err := insertCell(ctx, tx, &rows[i].cell, false); err != nil {
+			var err error
+			switch rows[i].action {
+			case ActionAdded:
+				err = insertCell(ctx, tx, &rows[i].cell, false)
+			case ActionUpdated:
+				err = updateCell(ctx, tx, &rows[i].cell)
+			}
+			if err != nil {
 				return err
 			}
 		}
@@ -154,12 +261,26 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell) (ImportReport
 	for i, p := range rows {
 		rep.Rows[i] = ImportRow{Line: p.line, ID: p.cell.ID, Accepted: p.err == "", Reason: p.err}
 		if p.err == "" {
+			rep.Rows[i].Action = p.action
 			rep.Accepted++
+			switch p.action {
+			case ActionAdded:
+				rep.Added++
+			case ActionUpdated:
+				rep.Updated++
+			}
 		} else {
 			rep.Rejected++
 		}
 	}
 	return rep, nil
+}
+
+// sameCell reports whether a and b are the same cell, figure for figure.
+func sameCell(a, b sizing.Cell) bool {
+	ja, errA := json.Marshal(a)
+	jb, errB := json.Marshal(b)
+	return errA == nil && errB == nil && bytes.Equal(ja, jb)
 }
 
 // errNotImported rolls back an import with a rejected row.
@@ -279,31 +400,31 @@ func cellFromRecord(rec []string, col map[string]int, line int) parsedCell {
 	if c.ID == "" {
 		problems = append(problems, "id: is required")
 	}
-	c.RatedV = req("rated_v")
-	c.CapacitanceF = req("capacitance_f")
-	c.ESROhm = req("esr_ohm")
-	c.SurgeV = num("surge_v")
-	minus, plus := num("capacitance_minus_pct"), num("capacitance_plus_pct")
-	switch {
+	cv := reflect.ValueOf(&c).Elem()
+	var tolerance [2]*float64
+	for _, name := range cellColumns {
+		nc, ok := numberColumns[name]
+		if !ok {
+			continue
+		}
+		field := cv.Field(nc.field)
+		switch {
+		case nc.part >= 0:
+			tolerance[nc.part] = num(name)
+		case field.Kind() == reflect.Float64:
+			field.SetFloat(req(name))
+		default:
+			if x := num(name); x != nil {
+				field.Set(reflect.ValueOf(x))
+			}
+		}
+	}
+	switch minus, plus := tolerance[0], tolerance[1]; {
 	case minus != nil && plus != nil:
 		c.CapacitanceTolerancePct = []float64{*minus, *plus}
 	case minus != nil || plus != nil:
 		problems = append(problems, "capacitance_minus_pct and capacitance_plus_pct go together: give both or neither")
 	}
-	c.ColdESRFactor = num("cold_esr_factor")
-	c.ColdESRTempC = num("cold_esr_temp_c")
-	c.LeakageA = num("leakage_a")
-	c.MaxCurrentA = num("max_current_a")
-	c.PeakCurrentA = num("peak_current_a")
-	c.ThermalResistanceKPerW = num("thermal_resistance_k_per_w")
-	c.SpecificHeatJPerKgK = num("specific_heat_j_per_kg_k")
-	c.MinTempC = num("min_temp_c")
-	c.MaxTempC = num("max_temp_c")
-	c.MassKg = num("mass_kg")
-	c.VolumeL = num("volume_l")
-	c.UnitPrice = num("unit_price")
-	c.RatedLifeH = num("rated_life_h")
-	c.RatedLifeTempC = num("rated_life_temp_c")
 	p.cell = c
 	if len(problems) > 0 {
 		p.err = strings.Join(problems, "; ")
@@ -326,15 +447,40 @@ func ExportCellsCSV(w io.Writer, cells []sizing.Cell) error {
 		return strconv.FormatFloat(*p, 'g', -1, 64)
 	}
 	for i := range cells {
-		c := &cells[i]
-		var minus, plus string
-		if len(c.CapacitanceTolerancePct) == 2 {
-			minus, plus = f(&c.CapacitanceTolerancePct[0]), f(&c.CapacitanceTolerancePct[1])
+		cv := reflect.ValueOf(&cells[i]).Elem()
+		rec := make([]string, len(cellColumns))
+		for j, name := range cellColumns {
+			nc, isNumber := numberColumns[name]
+			if !isNumber {
+				continue
+			}
+			field := cv.Field(nc.field)
+			switch {
+			case nc.part >= 0:
+				if field.Len() == 2 {
+					rec[j] = f(new(field.Index(nc.part).Float()))
+				}
+			case field.Kind() == reflect.Float64:
+				rec[j] = f(new(field.Float()))
+			default:
+				rec[j] = f(field.Interface().(*float64))
+			}
 		}
-		rec := []string{Neutralise(c.ID), Neutralise(c.Name), Neutralise(c.Source), f(&c.RatedV), f(c.SurgeV), f(&c.CapacitanceF),
-			minus, plus, f(&c.ESROhm), f(c.ColdESRFactor), f(c.ColdESRTempC), f(c.LeakageA), f(c.MaxCurrentA), f(c.PeakCurrentA),
-			f(c.ThermalResistanceKPerW), f(c.SpecificHeatJPerKgK), f(c.MinTempC), f(c.MaxTempC), f(c.MassKg), f(c.VolumeL),
-			f(c.UnitPrice), f(c.RatedLifeH), f(c.RatedLifeTempC), Neutralise(c.Electrolyte), Neutralise(c.Notes)}
+		c := &cells[i]
+		for j, name := range cellColumns {
+			switch name {
+			case "id":
+				rec[j] = Neutralise(c.ID)
+			case "name":
+				rec[j] = Neutralise(c.Name)
+			case "source":
+				rec[j] = Neutralise(c.Source)
+			case "electrolyte":
+				rec[j] = Neutralise(c.Electrolyte)
+			case "notes":
+				rec[j] = Neutralise(c.Notes)
+			}
+		}
 		if err := cw.Write(rec); err != nil {
 			return err
 		}

@@ -42,7 +42,7 @@ func TestImportCellsJSONShapes(t *testing.T) {
 		{"a number too large", `[{"id":"a","rated_v":1e400,"capacitance_f":10,"esr_ohm":0.1}]`, "", "rated_v: is too large a number (1e400)"},
 		{"unknown key", `[{"id":"a","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"esr":1}]`, "", `esr: is not a cell key`},
 	} {
-		rep, err := s.ImportCellsJSON(ctx, strings.NewReader(c.in))
+		rep, err := s.ImportCellsJSON(ctx, strings.NewReader(c.in), ImportAdd)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}

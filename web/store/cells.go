@@ -234,8 +234,44 @@ func (s *Store) DeleteCell(ctx context.Context, id string) error {
 	})
 }
 
+// maxCellName is the most characters a cell's name may have (the
+// validate tag of sizing.Cell's Name).
+const maxCellName = 200
+
+// DemoMark ends the name of every built-in demo cell.
+const DemoMark = " (demo, invented)"
+
+// copyName is the name of a copy of a cell named name: the name without
+// the demo mark (the copy is the user's, not a demo cell), then " (copy)",
+// or " (copy 2)", " (copy 3)"… when the library has that name already, so
+// that no two cells in a pick list read the same.
+func copyName(ctx context.Context, tx *sql.Tx, name string) (string, error) {
+	base := strings.TrimSpace(strings.TrimSuffix(name, DemoMark))
+	if base == "" {
+		base = "cell"
+	}
+	for i := 1; ; i++ {
+		suffix := " (copy)"
+		if i > 1 {
+			suffix = fmt.Sprintf(" (copy %d)", i)
+		}
+		// A cell name has at most maxCellName characters.
+		b := []rune(base)
+		n := string(b[:min(len(b), maxCellName-utf8.RuneCountInString(suffix))]) + suffix
+		var taken int
+		if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM cells WHERE name = ?`, n).Scan(&taken); err != nil {
+			return "", err
+		}
+		if taken == 0 {
+			return n, nil
+		}
+	}
+}
+
 // DuplicateCell copies cell id (a demo cell or a user cell) to a new,
 // writable user cell newID; an empty newID takes id + "-copy" (or -copy2…).
+// The copy's name says it is a copy and drops the demo mark (copyName);
+// its source is no longer "demo".
 func (s *Store) DuplicateCell(ctx context.Context, id, newID string) (CellRecord, error) {
 	var out CellRecord
 	err := s.tx(ctx, func(tx *sql.Tx) error {
@@ -265,6 +301,9 @@ func (s *Store) DuplicateCell(ctx context.Context, id, newID string) (CellRecord
 		c.ID = newID
 		if c.Source == "demo" {
 			c.Source = ""
+		}
+		if c.Name, err = copyName(ctx, tx, r.Cell.Name); err != nil {
+			return err
 		}
 		if err := validCell(&c); err != nil {
 			return err

@@ -3,6 +3,7 @@ package store
 import (
 	"bytes"
 	"context"
+	"encoding/csv"
 	"errors"
 	"fmt"
 	"path/filepath"
@@ -296,7 +297,7 @@ func TestImportCellsCSV(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
 			s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-			rep, err := s.ImportCellsCSV(ctx, strings.NewReader(c.csv))
+			rep, err := s.ImportCellsCSV(ctx, strings.NewReader(c.csv), ImportAdd)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -335,7 +336,7 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 		fmt.Fprintf(&b, "c%05d,=cmd|' /C calc'!A0,2.7,%d,%g,%g\n", i, 10+i, 0.9/float64(10+i), 2e-6*float64(10+i))
 	}
 	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(b.String()))
+	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(b.String()), ImportAdd)
 	if err != nil || !rep.Imported || rep.Accepted != 10000 {
 		t.Fatalf("10 000 rows: %+v, %v", rep.Error, err)
 	}
@@ -354,7 +355,7 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 		t.Errorf("export did not neutralise a formula-looking name")
 	}
 	s2 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, _ = s2.ImportCellsCSV(ctx, &out)
+	rep, _ = s2.ImportCellsCSV(ctx, &out, ImportAdd)
 	if !rep.Imported {
 		t.Fatalf("re-import: %+v", rep.Rows[:1])
 	}
@@ -366,11 +367,11 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 	var js bytes.Buffer
 	ExportCellsJSON(&js, cells[:3])
 	s3 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, _ = s3.ImportCellsJSON(ctx, &js)
+	rep, _ = s3.ImportCellsJSON(ctx, &js, ImportAdd)
 	if !rep.Imported || rep.Accepted != 3 {
 		t.Errorf("JSON import: %+v", rep)
 	}
-	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`))
+	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`), ImportAdd)
 	if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, `colour: is not a cell key`) {
 		t.Errorf("JSON import with an unknown key: %+v", rep)
 	}
@@ -402,5 +403,193 @@ func TestReplaceDesign(t *testing.T) {
 	}
 	if err := s.ReplaceDesign(ctx, id+100, "", []byte(`{}`)); !errors.Is(err, ErrNotFound) {
 		t.Errorf("replacing a missing design: %v, want ErrNotFound", err)
+	}
+}
+
+// TestDuplicateCellName checks that a copy's name says it is a copy and
+// not a demo cell, and that two copies never share a name, so that pick
+// lists show no two identical names.
+func TestDuplicateCellName(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	demos := DemoCells()
+	if err := s.SeedDemo(ctx, demos); err != nil {
+		t.Fatal(err)
+	}
+	demo := demos[0]
+	base := strings.TrimSuffix(demo.Name, DemoMark)
+	if base == demo.Name {
+		t.Fatalf("demo cell name %q does not end in the demo mark %q", demo.Name, DemoMark)
+	}
+	long := testCell("long-name", 300)
+	long.Name = strings.Repeat("é", 200) // the most a name may have
+	if err := s.CreateCell(ctx, long); err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name, id, want string
+	}{
+		{"first copy of a demo cell", demo.ID, base + " (copy)"},
+		{"second copy of a demo cell", demo.ID, base + " (copy 2)"},
+		{"copy of the copy", demo.ID + "-copy", base + " (copy) (copy)"},
+		{"copy of a full-length name", "long-name", strings.Repeat("é", 193) + " (copy)"},
+	}
+	for _, tt := range tests {
+		dup, err := s.DuplicateCell(ctx, tt.id, "")
+		if err != nil {
+			t.Fatalf("%s: %v", tt.name, err)
+		}
+		if dup.Cell.Name != tt.want || dup.Cell.Source == "demo" {
+			t.Errorf("%s: name %q, source %q; want %q, not demo", tt.name, dup.Cell.Name, dup.Cell.Source, tt.want)
+		}
+		if strings.Contains(dup.Cell.Name, "demo, invented") {
+			t.Errorf("%s: the copy %q still calls itself a demo", tt.name, dup.Cell.Name)
+		}
+	}
+	all, err := s.ListCells(ctx, CellFilter{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	names := map[string]string{}
+	for _, r := range all {
+		if other, seen := names[r.Cell.Name]; seen {
+			t.Errorf("cells %s and %s share the name %q", other, r.Cell.ID, r.Cell.Name)
+		}
+		names[r.Cell.Name] = r.Cell.ID
+		if r.ReadOnly != strings.HasSuffix(r.Cell.Name, DemoMark) {
+			t.Errorf("cell %s %q: read-only %v, but its name says otherwise", r.Cell.ID, r.Cell.Name, r.ReadOnly)
+		}
+	}
+}
+
+// exportedCSV is the whole library exported as CSV, with edit applied to
+// each row (a map from column name to value) before it is written back.
+func exportedCSV(t *testing.T, s *Store, edit func(row map[string]string)) string {
+	t.Helper()
+	rs, err := s.ListCells(context.Background(), CellFilter{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cells := make([]sizing.Cell, len(rs))
+	for i, r := range rs {
+		cells[i] = r.Cell
+	}
+	var out bytes.Buffer
+	if err := ExportCellsCSV(&out, cells); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(&out).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	w := csv.NewWriter(&b)
+	w.Write(recs[0])
+	for _, rec := range recs[1:] {
+		row := map[string]string{}
+		for i, h := range recs[0] {
+			row[h] = rec[i]
+		}
+		edit(row)
+		for i, h := range recs[0] {
+			rec[i] = row[h]
+		}
+		w.Write(rec)
+	}
+	w.Flush()
+	return b.String()
+}
+
+// TestImportUpsert checks that the library's own CSV export imports back
+// in upsert mode, updating the user cells it changes, and that a changed
+// demo cell is refused by id while the library stays as it was.
+func TestImportUpsert(t *testing.T) {
+	t.Parallel()
+	ctx := context.Background()
+	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	demos := DemoCells()
+	if err := s.SeedDemo(ctx, demos); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []sizing.Cell{testCell("mine-a", 100), testCell("mine-b", 300)} {
+		if err := s.CreateCell(ctx, c); err != nil {
+			t.Fatal(err)
+		}
+	}
+	n := len(demos) + 2
+	unchanged := func(map[string]string) {}
+
+	// Add mode (the default): every row's id is in the library.
+	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(exportedCSV(t, s, unchanged)), ImportAdd)
+	if err != nil || rep.Imported || rep.Rejected != n || !strings.Contains(rep.Rows[0].Reason, "upsert") {
+		t.Fatalf("add mode: imported %v, %d rejected of %d, first reason %q, %v; want all refused, naming upsert",
+			rep.Imported, rep.Rejected, n, rep.Rows[0].Reason, err)
+	}
+
+	// Upsert: mine-a gets a new ESR (3 mΩ) and a new name, a new row is
+	// added, the demo rows come back as exported.
+	csvText := exportedCSV(t, s, func(row map[string]string) {
+		if row["id"] == "mine-a" {
+			row["esr_ohm"], row["name"] = "0.003", "mine A, remeasured"
+		}
+	}) + "mine-c,new cell,,2.7,,50,,,0.02,,,,,,,,,,,,,,,,\r\n"
+	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), ImportUpsert)
+	if err != nil || !rep.Imported {
+		t.Fatalf("upsert: %+v, %v", rep, err)
+	}
+	// Two user cells updated, one added; the demo rows are left as they are.
+	if rep.Updated != 2 || rep.Added != 1 || rep.Accepted != n+1 {
+		t.Errorf("upsert: %d updated, %d added, %d accepted; want 2, 1, %d", rep.Updated, rep.Added, rep.Accepted, n+1)
+	}
+	a, _ := s.GetCell(ctx, "mine-a")
+	if a.Cell.ESROhm != 0.003 || a.Cell.Name != "mine A, remeasured" {
+		t.Errorf("mine-a after upsert: ESR %g Ω, name %q; want 0.003 Ω, the new name", a.Cell.ESROhm, a.Cell.Name)
+	}
+	if c, err := s.GetCell(ctx, "mine-c"); err != nil || c.Cell.CapacitanceF != 50 {
+		t.Errorf("mine-c after upsert: %+v, %v", c.Cell, err)
+	}
+	for _, row := range rep.Rows {
+		want := ActionUpdated
+		switch {
+		case row.ID == "mine-c":
+			want = ActionAdded
+		case strings.HasPrefix(row.ID, "mine-"):
+		default:
+			want = ActionUnchanged
+		}
+		if row.Action != want {
+			t.Errorf("row %d (%s): action %q, want %q", row.Line, row.ID, row.Action, want)
+		}
+	}
+
+	// A changed demo row is refused by id and nothing is written.
+	demo := demos[0]
+	csvText = exportedCSV(t, s, func(row map[string]string) {
+		switch row["id"] {
+		case demo.ID:
+			row["esr_ohm"] = "0.5"
+		case "mine-b":
+			row["name"] = "should not be written"
+		}
+	})
+	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), ImportUpsert)
+	if err != nil || rep.Imported || rep.Rejected != 1 {
+		t.Fatalf("upsert of a changed demo cell: imported %v, %d rejected, %v; want refused, 1 rejected", rep.Imported, rep.Rejected, err)
+	}
+	for _, row := range rep.Rows {
+		if row.ID == demo.ID && !strings.Contains(row.Reason, fmt.Sprintf("id %q is a built-in demo cell, which is read-only", demo.ID)) {
+			t.Errorf("demo row reason %q, want it to name the id and say demo cells are read-only", row.Reason)
+		}
+	}
+	if d, _ := s.GetCell(ctx, demo.ID); d.Cell.ESROhm != demo.ESROhm || !d.ReadOnly {
+		t.Errorf("demo cell after the refused import: ESR %g Ω, read-only %v; want %g Ω, read-only", d.Cell.ESROhm, d.ReadOnly, demo.ESROhm)
+	}
+	if b, _ := s.GetCell(ctx, "mine-b"); b.Cell.Name != "test cell mine-b" {
+		t.Errorf("mine-b after the refused import is named %q: the import was not all or nothing", b.Cell.Name)
+	}
+
+	if _, err := ParseImportMode("merge"); !errors.Is(err, ErrInvalid) {
+		t.Errorf("ParseImportMode(merge) = %v, want ErrInvalid", err)
 	}
 }
