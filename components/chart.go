@@ -109,6 +109,38 @@ func TemperatureChart(c *sizing.Curve) (Chart, bool) {
 	return ch, true
 }
 
+// ProfileChart draws a logged profile's value against time, each row held
+// until the next (the zero-order hold sizing uses).
+func ProfileChart(p *sizing.ProfileCSV) Chart {
+	n := len(p.Steps)
+	t := make([]float64, 0, 2*n)
+	v := make([]float64, 0, 2*n)
+	at := p.StartS
+	for i := range p.Steps {
+		s := &p.Steps[i]
+		x := 0.0
+		switch {
+		case s.PowerW != nil:
+			x = *s.PowerW
+		case s.CurrentA != nil:
+			x = *s.CurrentA
+		}
+		t = append(t, at)
+		at += s.DurationS
+		t = append(t, at)
+		v = append(v, x, x)
+	}
+	title, yLabel, name := "Logged power", "Power (W)", "Power at the converter output"
+	if p.Column == "current_a" {
+		title, yLabel, name = "Logged current", "Current (A)", "Current at the bank terminals"
+	}
+	lo, hi := min(0, minOf(v)), max(0, maxOf(v))
+	ch := newChart("profile", title, yLabel, t, lo, hi)
+	ch.Desc = name + " of the logged load profile, each row held until the next; negative is charging."
+	ch.Series = []Series{{Name: name, Class: "s-profile", Points: ch.points(t, v)}}
+	return ch
+}
+
 // chart scales: data to user units.
 type scale struct {
 	x0, x1, y0, y1 float64 // data ranges

@@ -94,6 +94,9 @@ type FormProps struct {
 	PulseOpen, CSVOpen bool
 	// CSVMessageID and CSVMessage are the slot for the profile file.
 	CSVMessageID, CSVMessage string
+	// Profile is the logged profile the load gives in place of steps; nil
+	// when it gives steps.
+	Profile *ProfileProps
 	// Notice says what the last action did (a profile loaded, pulses added).
 	Notice     string
 	Conditions []FieldProps
@@ -174,12 +177,32 @@ type ResultsProps struct {
 	// Token is the share token of the design these results are of, which
 	// the downloads post; TokenNote says why there is none.
 	Token, TokenNote string
+	// LinkNote says why the results offer no link to the design (too
+	// large for a URL); "" when they do.
+	LinkNote string
 	// DesignName is the design's name, the saved name it is offered under.
 	DesignName string
 	// SavedID and SavedName are the saved design open in the form ("" for
 	// none); CanSave is false when this capbank keeps no designs.
 	SavedID, SavedName string
 	CanSave            bool
+}
+
+// ProfileProps is a logged load profile as the form shows it: a summary
+// and a chart, with the CSV text carried in the form (Field) so that
+// every post sizes it again.
+type ProfileProps struct {
+	// Field is the form field that carries Text.
+	Field, Text string
+	// Name is the file it was loaded from ("" when not known).
+	Name string
+	// Rows to Returned are display text; Rows is "" when the text does
+	// not read as a profile (CSVMessage says why).
+	Rows, Column, Duration, Drawn, Returned, Peak string
+	// DrawnLabel and PeakLabel name Drawn and Peak: energy and power for a
+	// power_w log, charge and current for a current_a log.
+	DrawnLabel, PeakLabel string
+	Chart                 *Chart
 }
 
 // KindWasName is the hidden input that carries the kind the row was shown

@@ -202,8 +202,20 @@ type Load struct {
 	// taken as repeating back to back, the cautious assumption, and the
 	// report says so.
 	PeriodS *float64 `json:"period_s,omitempty" validate:"omitempty,finite,gt=0,lte=1e9"`
-	// Steps are the profile's steps in order.
-	Steps []Step `json:"steps" validate:"min=1,max=1000000,dive"`
+	// Steps are the profile's steps in order. A load gives exactly one of
+	// Steps, ProfileCSV or ProfileCSVText (see Validate).
+	Steps []Step `json:"steps,omitempty" validate:"max=1000000,dive"`
+	// ProfileCSV names a logged profile CSV file (read by ParseProfileCSV)
+	// beside the design file, its path relative to the design file's
+	// folder, in place of Steps. sizing reads no files: the program that
+	// reads the design file reads this one too and hands its text over
+	// with AttachProfileFile; a design whose file was not read is refused.
+	ProfileCSV string `json:"profile_csv,omitempty" validate:"max=4096"`
+	// ProfileCSVText is a logged profile CSV itself, inline, in place of
+	// Steps: Validate reads it with ParseProfileCSV into the steps sized.
+	ProfileCSVText string `json:"profile_csv_text,omitempty"`
+	// profile is ProfileCSVText read, as Validate left it (see profile.go).
+	profile *loadedProfile
 }
 
 // Step is one piece of a load profile: exactly one of PowerW, CurrentA,

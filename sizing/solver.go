@@ -70,7 +70,7 @@ func newPlan(d *Design) *plan {
 	if d.Load.Efficiency != nil {
 		eff = *d.Load.Efficiency
 	}
-	p.steps = compileSteps(d.Load.Steps, eff)
+	p.steps = compileSteps(d.Load.StepList(), eff)
 	for _, s := range p.steps {
 		p.period += s.dur
 	}

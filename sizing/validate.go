@@ -94,6 +94,7 @@ func Validate(d *Design) error {
 			})
 		}
 	}
+	errs = append(errs, loadRules(&d.Load)...)
 	errs = append(errs, physicsRules(d)...)
 	if len(errs) == 0 {
 		return nil
@@ -219,14 +220,14 @@ func physicsRules(d *Design) ValidationError {
 				"is %g W, below %g W (a femtowatt) in size, less than any load draws; give 0 or a rest step for no load, or check the unit (W)", *s.PowerW, MinPowerW)
 		}
 	}
-	if d.Load.Repeat != nil && *d.Load.Repeat > 0 && *d.Load.Repeat <= 1_000_000 && len(d.Load.Steps)*(*d.Load.Repeat) > MaxPassSteps {
+	if n := len(d.Load.StepList()); d.Load.Repeat != nil && *d.Load.Repeat > 0 && *d.Load.Repeat <= 1_000_000 && n*(*d.Load.Repeat) > MaxPassSteps {
 		add("load.repeat", "pass_steps",
 			"gives %d steps × %d repeats = %d steps in the sizing pass, more than %d; lower the repeat count or merge steps",
-			len(d.Load.Steps), *d.Load.Repeat, len(d.Load.Steps)*(*d.Load.Repeat), MaxPassSteps)
+			n, *d.Load.Repeat, n*(*d.Load.Repeat), MaxPassSteps)
 	}
 	if ps := d.Load.PeriodS; ps != nil && Finite(*ps) && *ps > 0 {
 		pass := 0.0
-		for _, s := range d.Load.Steps {
+		for _, s := range d.Load.StepList() {
 			pass += s.DurationS
 		}
 		if d.Load.Repeat != nil && *d.Load.Repeat > 0 {

@@ -5,7 +5,6 @@ import (
 	_ "embed"
 	"encoding/json"
 	"io"
-	"mime"
 	"net/http"
 
 	"github.com/labstack/echo/v4"
@@ -17,22 +16,17 @@ import (
 var openAPIDoc []byte
 
 // apiSize is POST /api/v1/size: the design file of `capbank size` in, the
-// same report out.
+// same report out. The design comes as a JSON body, or as
+// multipart/form-data with the parts design and profile (a logged profile
+// CSV in place of the load's steps, as capbank size --profile).
 func (s *Server) apiSize(c echo.Context) error {
-	r := c.Request()
-	if ct := r.Header.Get(echo.HeaderContentType); ct != "" {
-		mt, _, err := mime.ParseMediaType(ct)
-		if err != nil || (mt != "application/json" && mt != "text/json") {
-			return unsupportedMedia(r, "application/json (a design file)")
-		}
-	}
-	d, _, err := s.designFrom(c, fromBody) // a design may name a library cell by its id
+	d, _, err := s.designFrom(c, fromBodyOrParts) // a design may name a library cell by its id
 	if err != nil {
 		return err
 	}
 	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, d) })
 	if err != nil {
-		return err
+		return partFields(d, err)
 	}
 	c.Response().Header().Set(echo.HeaderContentType, echo.MIMEApplicationJSONCharsetUTF8)
 	c.Response().WriteHeader(http.StatusOK)

@@ -144,7 +144,7 @@ func (s *Server) sizeCompare(c echo.Context, d *sizing.Design, cells []sizing.Ce
 		p.Message = "The design could not be sized with these cells: " + form.OneLine(err)
 		return http.StatusUnprocessableEntity, nil
 	}
-	p.Summary = designSummary(rep, len(dd.Load.Steps))
+	p.Summary = designSummary(rep, len(dd.Load.StepList()))
 	fillCompare(p, &dd, rep)
 	return http.StatusOK, nil
 }

@@ -12,6 +12,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"capbank/components/export"
+	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/share"
 )
@@ -20,22 +21,52 @@ import (
 // formats of components/export.
 var designFormat = export.Format{Name: "design", ContentType: "application/json", Ext: ".json"}
 
-// designToken is the share token of a design that sized, which the page's
-// download, share and compare controls carry; "" and the reason when the
-// design is too large for one.
-func designToken(d *sizing.Design) (token, note string) {
+// designToken is the token of a design that sized, which the page's
+// download, save and compare controls post; "" and the reason when the
+// design is too large for one. linkNote is "" when the token also fits a
+// link (share.MaxTokenBytes), else says plainly why the page offers no
+// link: a long logged profile makes a design too large for a URL.
+func designToken(d *sizing.Design) (token, note, linkNote string) {
 	if d == nil {
-		return "", ""
+		return "", "", ""
 	}
-	data, err := json.Marshal(d)
+	size := len(d.Load.ProfileCSVText) // a lower bound, known without writing the design out
+	var data []byte
+	if size <= share.MaxDesignBytes {
+		var err error
+		if data, err = json.Marshal(d); err != nil {
+			return "", "This design could not be written as a design file.", ""
+		}
+		size = len(data)
+	}
+	if size > share.MaxDesignBytes {
+		how := "capbank size"
+		if d.Load.ProfileCSVText != "" {
+			how = "capbank size --profile and the log"
+		}
+		return "", fmt.Sprintf("This design is too large to carry in a link, a download or a save from this page (its design file would be more than %s); size and export it with %s.",
+			figures.SI(share.MaxDesignBytes, "B", 3), how), ""
+	}
+	tok, err := share.EncodePosted(data)
 	if err != nil {
-		return "", "This design could not be written as a design file."
+		return "", "This design could not be written as a design file.", ""
 	}
-	tok, err := share.Encode(data)
-	if err != nil {
-		return "", "This design is too large to carry in a link or a download from this page; size and export it with capbank size."
+	// The posted token is compressed for speed; a link's for size, tried
+	// only when it could come near a link's length.
+	if len(tok) <= 2*share.MaxTokenBytes {
+		if link, err := share.Encode(data); err == nil {
+			return link, "", ""
+		}
 	}
-	return tok, ""
+	if len(tok) > share.MaxTokenBytes {
+		what := "This design"
+		if d.Load.ProfileCSVText != "" {
+			what = "This design's logged profile makes it"
+		}
+		return tok, "", fmt.Sprintf("%s too large for a link: the link would be %d characters long, and links hold at most %d. Save it here, or download the design file and share that.",
+			what, len(tok), share.MaxTokenBytes)
+	}
+	return tok, "", ""
 }
 
 // formParseError is the error of reading the request's form, if any.

@@ -24,7 +24,9 @@ const maxFormParts = 10_000
 const maxFormMemory = 4 << 20
 
 // maxFieldBytes is the longest value of a field that is not a file: the
-// design carried back for stale results (maxLastGood) is the longest.
+// design carried back for stale results (maxLastGood) is the longest,
+// but for the logged profile the form carries (form.ProfileField), which
+// may take the whole body (MaxBodyBytes).
 const maxFieldBytes = maxLastGood + 1024
 
 // readFormBody reads a posted form, urlencoded or multipart, into
@@ -68,12 +70,16 @@ func readFormBody(r *http.Request) (map[string]*form.Upload, error) {
 			}
 			continue
 		}
-		b, err := io.ReadAll(io.LimitReader(part, maxFieldBytes+1))
+		limit := maxFieldBytes
+		if name == form.ProfileField {
+			limit = MaxBodyBytes
+		}
+		b, err := io.ReadAll(io.LimitReader(part, int64(limit)+1))
 		if err != nil {
 			return nil, formReadError(err)
 		}
-		if len(b) > maxFieldBytes {
-			return nil, formReadError(fmt.Errorf("the field %q is longer than %d bytes", name, maxFieldBytes))
+		if len(b) > limit {
+			return nil, formReadError(fmt.Errorf("the field %q is longer than %d bytes", name, limit))
 		}
 		vals.Add(name, string(b))
 	}

@@ -425,15 +425,43 @@ func TestProfileCSVUpload(t *testing.T) {
 	rec := postMultipart(t, s, "/", v, "profile_csv", "pulse_current.csv", string(data))
 	wantStatus(t, rec, http.StatusOK)
 	doc := parse(t, rec)
-	if got := len(stepValues(doc)); got != len(p.Steps) {
-		t.Errorf("%d step rows, want the %d steps of the file", got, len(p.Steps))
+	// The file stays a profile: a summary in place of the steps, and its
+	// text carried in the form, not exploded into step rows.
+	if got := len(stepValues(doc)); got != 0 {
+		t.Errorf("%d step rows beside the loaded profile, want none", got)
 	}
-	wantNotice := "Loaded pulse_current.csv: " + strconv.Itoa(p.Rows) + " rows of current_a became " + strconv.Itoa(len(p.Steps)) + " steps"
+	if got, want := text(doc, "[data-testid=profile-rows]"), strconv.Itoa(p.Rows)+" (current_a)"; got != want {
+		t.Errorf("profile rows %q, want %q", got, want)
+	}
+	carried := doc.Find("textarea[name='load.profile_csv_text']").Text()
+	if strings.TrimPrefix(carried, "\n") != string(data) {
+		t.Errorf("the form carries %d bytes of profile, want the file's %d", len(carried), len(data))
+	}
+	wantNotice := "Loaded pulse_current.csv as the load profile: " + strconv.Itoa(p.Rows) + " rows of current_a"
 	if got := text(doc, "[data-testid=notice]"); !strings.Contains(got, wantNotice) {
 		t.Errorf("notice %q, want %q", got, wantNotice)
 	}
 	if doc.Find("[data-testid=bank]").Length() != 1 {
 		t.Error("no bank for the loaded profile")
+	}
+	withProfile := text(doc, "[data-testid=bank]")
+
+	// The next post carries the profile back and sizes it the same; remove
+	// drops it and brings back the steps.
+	again := clone(v)
+	again.Del("action")
+	again.Set("load.profile_csv_text", carried)
+	rec = postForm(t, s, "/", again, false)
+	wantStatus(t, rec, http.StatusOK)
+	if got := text(parse(t, rec), "[data-testid=bank]"); got != withProfile {
+		t.Errorf("the carried profile sizes to %q, want %q as loaded", got, withProfile)
+	}
+	again.Set("action", "remove-profile")
+	rec = postForm(t, s, "/", again, false)
+	doc = parse(t, rec)
+	if doc.Find("[data-testid=profile-summary]").Length() != 0 || len(stepValues(doc)) != 1 {
+		t.Errorf("after remove: profile shown %v, %d step rows, want no profile and one empty step",
+			doc.Find("[data-testid=profile-summary]").Length() != 0, len(stepValues(doc)))
 	}
 
 	bad := "time_s,power_w\n0,100\n1,abc\n"

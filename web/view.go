@@ -197,6 +197,9 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		p.PulseOpen = p.PulseOpen || msg[fl.Name] != ""
 	}
 	p.CSVOpen = msg["profile_csv"] != ""
+	if f.Profile != "" {
+		p.Profile = profileProps(ev)
+	}
 	for _, pr := range ev.problems {
 		p.Problems = append(p.Problems, components.ProblemProps{Label: problemLabel(pr.Field), Message: pr.Message, Href: problemHref(pr.Field)})
 	}
@@ -317,7 +320,7 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 	if !ev.stale {
 		p.LastGood = lastGoodJSON(ev.sized)
 	}
-	p.Token, p.TokenNote = designToken(ev.sized)
+	p.Token, p.TokenNote, p.LinkNote = designToken(ev.sized)
 	if ev.stale {
 		p.Stale = true
 		p.Status = staleStatus(n)
@@ -338,7 +341,7 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 		}
 	}
 	p.Candidates = sortCandidates(r.Candidates, ev.form.Sort)
-	p.Summary = designSummary(r, len(ev.sized.Load.Steps))
+	p.Summary = designSummary(r, len(ev.sized.Load.StepList()))
 	return p
 }
 
@@ -429,4 +432,39 @@ func sortCandidates(cs []sizing.Candidate, by string) []sizing.Candidate {
 		return ka < kb
 	})
 	return out
+}
+
+// profileProps is the logged profile of the form's load as the page shows
+// it: the figures of its summary by the one SI formatter, and its chart.
+// The profile is the one sizing read (sizing.Load.Profile), so a bad row
+// is reported once, by sizing, beside the file input.
+func profileProps(ev *evaluation) *components.ProfileProps {
+	f := ev.form
+	pp := &components.ProfileProps{Field: form.ProfileField, Text: f.Profile, Name: f.Value(form.ProfileNameField)}
+	load := ev.dec.Design.Load
+	prof, err := load.Profile()
+	if err != nil || prof == nil {
+		return pp
+	}
+	t := prof.Totals()
+	pp.Rows, pp.Column = strconv.Itoa(prof.Rows), prof.Column
+	pp.Duration = figures.Duration(prof.DurationS, 4)
+	if prof.Column == "current_a" {
+		pp.DrawnLabel, pp.PeakLabel = "Charge drawn", "Peak current"
+		pp.Drawn = figures.SI(t.Drawn, "C", 4) + " (" + figures.SI(t.Drawn/3600, "Ah", 4) + ")"
+		pp.Peak = figures.SI(t.Peak, "A", 4)
+		if t.Returned > 0 {
+			pp.Returned = figures.SI(t.Returned, "C", 4)
+		}
+	} else {
+		pp.DrawnLabel, pp.PeakLabel = "Energy drawn", "Peak power"
+		pp.Drawn = figures.SI(t.Drawn, "J", 4) + " (" + figures.SI(t.Drawn/3600, "Wh", 4) + ")"
+		pp.Peak = figures.SI(t.Peak, "W", 4)
+		if t.Returned > 0 {
+			pp.Returned = figures.SI(t.Returned, "J", 4)
+		}
+	}
+	ch := components.ProfileChart(prof)
+	pp.Chart = &ch
+	return pp
 }

@@ -146,7 +146,7 @@ func TestSizeExportChosenCellAndPaper(t *testing.T) {
 
 func TestSizeExportMistakes(t *testing.T) {
 	t.Parallel()
-	const usageLine = "usage: capbank size [--format json|text] [--data DIR] [-o FILE] DESIGN.json"
+	const usageLine = "usage: capbank size [--format json|text] [--data DIR] [--profile LOG.csv] [-o FILE] DESIGN.json"
 	tests := []struct {
 		name string
 		args []string

@@ -210,7 +210,7 @@ func TestRunUnreadableDesign(t *testing.T) {
 func TestRunCommandLine(t *testing.T) {
 	t.Parallel()
 	design := writeFile(t, "design.json", validDesign)
-	const sizeUsageLine = "usage: capbank size [--format json|text] [--data DIR] [-o FILE] DESIGN.json"
+	const sizeUsageLine = "usage: capbank size [--format json|text] [--data DIR] [--profile LOG.csv] [-o FILE] DESIGN.json"
 	const topUsageLine = "usage: capbank <command> [arguments]"
 	tests := []struct {
 		name   string

@@ -22,7 +22,7 @@ import (
 // replace it.
 var stdin io.Reader = os.Stdin
 
-const sizeUsage = `usage: capbank size [--format json|text] [--data DIR] [-o FILE] DESIGN.json
+const sizeUsage = `usage: capbank size [--format json|text] [--data DIR] [--profile LOG.csv] [-o FILE] DESIGN.json
        capbank size --format boq-csv|boq-json [--cell ID] [-o FILE] DESIGN.json
        capbank size --format boq-xlsx|pdf [--cell ID] [--paper a4|letter] -o FILE DESIGN.json
 
@@ -34,6 +34,12 @@ the feasible cell --cell names. boq-xlsx and pdf are binary and need -o
 (-o - writes them to standard output on purpose). An invalid design prints
 one line per problem on stderr, each naming its field, and exits with
 status 2.
+
+The load profile is the design's steps, or a logged profile: a CSV file
+with a header naming time_s and power_w or current_a, named in the design
+as "load": {"profile_csv": "day.csv"} (a path relative to the design
+file's folder), or given with --profile (in place of the design's steps
+or profile; its efficiency and repeat stay).
 
 A cell may be given in full or named by its library id ("cells":
 ["demo-2v7-650f", "my-cell"]): ids resolve in the cell library of the
@@ -50,6 +56,7 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	out := flags.String("o", "", "write to `FILE` instead of standard output (required for boq-xlsx and pdf)")
 	cellID := flags.String("cell", "", "export the bank of cell `ID` instead of the recommended one (boq-* and pdf)")
 	paper := flags.String("paper", "a4", "`SIZE` of the pdf's pages: a4 or letter")
+	profile := flags.String("profile", "", "size with the logged load profile in the CSV `FILE` (time_s and power_w or current_a) in place of the design's steps")
 	data := flags.String("data", "capbank-data", "the data `DIR`ectory whose cell library resolves cells named by id; without a database there, the built-in demo cells")
 	cl, err := parseCommand(flags, args, sizeUsage)
 	if err != nil {
@@ -89,7 +96,10 @@ func runSize(ctx context.Context, args []string, stdout, stderr io.Writer) error
 		return err
 	}
 	defer closeLib()
-	d, rep, err := sizeFile(ctx, pos[0], lookup)
+	if set["profile"] && *profile == "" {
+		return usageFailure(stderr, usage, "capbank size: --profile needs a CSV file")
+	}
+	d, rep, err := sizeFile(ctx, pos[0], *profile, lookup)
 	if err != nil {
 		return err
 	}
@@ -173,9 +183,10 @@ func parseInterspersed(flags *flag.FlagSet, args []string) ([]string, error) {
 }
 
 // sizeFile reads, decodes and sizes the design in the named file ("-" for
-// stdin). It gives up when ctx is done, so an interrupt ends a command left
+// stdin), with the logged profile in the file profile in place of its load
+// steps when profile is not "". It gives up when ctx is done, so an interrupt ends a command left
 // waiting on a terminal's standard input or on a long sizing.
-func sizeFile(ctx context.Context, name string, lookup func(string) (sizing.Cell, bool)) (*sizing.Design, *sizing.Report, error) {
+func sizeFile(ctx context.Context, name, profile string, lookup func(string) (sizing.Cell, bool)) (*sizing.Design, *sizing.Report, error) {
 	type outcome struct {
 		d   *sizing.Design
 		rep *sizing.Report
@@ -184,7 +195,7 @@ func sizeFile(ctx context.Context, name string, lookup func(string) (sizing.Cell
 	done := make(chan outcome, 1)
 	in := stdin // read here: the goroutine may outlive this call
 	go func() {
-		d, rep, err := readAndSize(name, in, lookup)
+		d, rep, err := readAndSize(name, profile, in, lookup)
 		done <- outcome{d, rep, err}
 	}()
 	select {
@@ -196,8 +207,9 @@ func sizeFile(ctx context.Context, name string, lookup func(string) (sizing.Cell
 }
 
 // readAndSize reads and sizes the design in the named file, or in stdin
-// for "-"; lookup resolves the cells the design names by id.
-func readAndSize(name string, stdin io.Reader, lookup func(string) (sizing.Cell, bool)) (d *sizing.Design, rep *sizing.Report, err error) {
+// for "-", with the logged profile of the file profile when it is not "";
+// lookup resolves the cells the design names by id.
+func readAndSize(name, profile string, stdin io.Reader, lookup func(string) (sizing.Cell, bool)) (d *sizing.Design, rep *sizing.Report, err error) {
 	r := stdin
 	if name != "-" {
 		f, err := os.Open(name)
@@ -219,9 +231,75 @@ func readAndSize(name string, stdin io.Reader, lookup func(string) (sizing.Cell,
 			d, rep, err = nil, nil, &internalError{value: p, stack: debug.Stack()}
 		}
 	}()
+	if err := attachProfile(&d.Load, name, profile); err != nil {
+		return nil, nil, err
+	}
 	d.ResolveCells(lookup)
 	rep, err = sizing.Size(d)
+	if profile != "" {
+		err = flagField(err)
+	}
 	return d, rep, err
+}
+
+// attachProfile reads the logged profile the design's load names
+// (load.profile_csv, a path relative to the design file's folder, or to
+// the working folder for a design on standard input) or, when flagPath is
+// not "", the file --profile names, which replaces the design's steps or
+// profile. sizing reads the text; a file that cannot be read is a problem
+// of its field.
+func attachProfile(l *sizing.Load, designName, flagPath string) error {
+	field, path := "load.profile_csv", l.ProfileCSV
+	if flagPath != "" {
+		field, path = "--profile", flagPath
+		l.Steps, l.ProfileCSVText, l.ProfileCSV = nil, "", flagPath
+	} else if path == "" || l.ProfileCSVText != "" || len(l.Steps) > 0 {
+		return nil // no file, or one given with steps or text: Validate refuses it by field
+	} else if designName != "-" && !filepath.IsAbs(path) {
+		path = filepath.Join(filepath.Dir(designName), path)
+	}
+	data, err := readProfileFile(path)
+	if err != nil {
+		return sizing.ValidationError{{Field: field, Rule: "read", Message: fmt.Sprintf("cannot read the profile file %q: %v", path, err)}}
+	}
+	l.AttachProfileFile(string(data))
+	return nil
+}
+
+// readProfileFile reads a logged profile file, refusing a folder and a
+// file larger than sizing reads (ProfileCSVMaxRows rows of up to 64 bytes).
+func readProfileFile(path string) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, pathReason(err)
+	}
+	defer f.Close()
+	if st, err := f.Stat(); err == nil && st.IsDir() {
+		return nil, errors.New("it is a directory")
+	}
+	const most = sizing.ProfileCSVMaxRows * 64
+	data, err := io.ReadAll(io.LimitReader(f, most+1))
+	if err != nil {
+		return nil, pathReason(err)
+	}
+	if len(data) > most {
+		return nil, fmt.Errorf("it is larger than %d MB, more than %d rows of a logged profile; resample the log", most/1_000_000, sizing.ProfileCSVMaxRows)
+	}
+	return data, nil
+}
+
+// flagField names --profile in the problems of a profile --profile gave.
+func flagField(err error) error {
+	var ve sizing.ValidationError
+	if !errors.As(err, &ve) {
+		return err
+	}
+	for i := range ve {
+		if ve[i].Field == "load.profile_csv" {
+			ve[i].Field = "--profile"
+		}
+	}
+	return ve
 }
 
 // openLibrary is the cell library a design file's cell ids resolve in:

@@ -510,7 +510,7 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	if d.Load.Efficiency != nil {
 		eff = figures.Number(*d.Load.Efficiency, sigFigs) + " (converter, both ways)"
 	}
-	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.Steps), figures.Duration(r.ProfileDurationS, sigFigs))
+	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.StepList()), figures.Duration(r.ProfileDurationS, sigFigs))
 	if r.Repeat > 1 {
 		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, figures.Duration(r.PassDurationS, sigFigs))
 	}
@@ -543,7 +543,7 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	p.para("Load steps (positive power or current flows out of the bank, a negative one into it):", "B", bodyPt, lineMM)
 	var steps [][]string
 	var start runningSum
-	for i, s := range d.Load.Steps[:min(shown, len(d.Load.Steps))] {
+	for i, s := range d.Load.StepList()[:min(shown, len(d.Load.StepList()))] {
 		kind, v, unit, has := stepKind(s)
 		value := none
 		if has {
@@ -553,7 +553,7 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		start.add(s.DurationS)
 	}
 	p.table(table{cols: []column{{"step", 0.6, "R"}, {"kind", 1.2, "L"}, {"value", 1.4, "R"}, {"duration (s)", 1.2, "R"}, {"starts at (s)", 1.2, "R"}, {"", 2.4, "L"}}, rows: padRows(steps, 6)})
-	if n := len(d.Load.Steps); n > shown {
+	if n := len(d.Load.StepList()); n > shown {
 		p.para(fmt.Sprintf("... and %d more steps (%d in all); the design file and the XLSX Inputs sheet list every step.", n-shown, n), "I", smallPt, smallLine)
 	}
 

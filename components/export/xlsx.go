@@ -539,7 +539,7 @@ func (x *workbook) inputsSheet(d *sizing.Design, r *sizing.Report) error {
 	}
 
 	t.blank()
-	n := len(d.Load.Steps)
+	n := len(d.Load.StepList())
 	t.add(bold(fmt.Sprintf("Load steps (%d, one pass; run %d × in the sizing pass)", n, r.Repeat)))
 	// Room left for the steps: the heading row, the note and the header.
 	room := maxSheetRows - t.row - 2
@@ -551,7 +551,7 @@ func (x *workbook) inputsSheet(d *sizing.Design, r *sizing.Report) error {
 	}
 	t.add(h("step"), h("kind"), h("power_w (W)"), h("current_a (A)"), h("resistance_ohm (Ω)"), h("duration_s (s)"), h("start (s)"))
 	var start runningSum
-	for i, st := range d.Load.Steps[:n] {
+	for i, st := range d.Load.StepList()[:n] {
 		kind, _, _, _ := stepKind(st)
 		t.add(i+1, kind, st.PowerW, st.CurrentA, st.ResistanceOhm, st.DurationS, start.value())
 		start.add(st.DurationS)

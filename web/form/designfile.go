@@ -38,8 +38,11 @@ func (f *Form) openDesign(fh *Upload, lib CellLookup) *Form {
 		f.actionProblem("design_file", "form", fh.Filename+": "+err.Error())
 		return f
 	}
-	nf.Notice = fmt.Sprintf("Opened %s: %d %s, %d candidate %s.", fh.Filename,
-		len(d.Load.Steps), plural(len(d.Load.Steps), "step", "steps"), len(d.Cells), plural(len(d.Cells), "cell", "cells"))
+	load := fmt.Sprintf("%d %s", len(d.Load.Steps), plural(len(d.Load.Steps), "step", "steps"))
+	if d.Load.ProfileCSVText != "" {
+		load = "a logged load profile"
+	}
+	nf.Notice = fmt.Sprintf("Opened %s: %s, %d candidate %s.", fh.Filename, load, len(d.Cells), plural(len(d.Cells), "cell", "cells"))
 	return nf
 }
 
@@ -57,6 +60,12 @@ func OneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", ";
 func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if n := len(d.Load.Steps); n > MaxSteps {
 		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, MaxSteps)
+	}
+	if d.Load.ProfileCSVText != "" && len(d.Load.Steps) > 0 {
+		return nil, fmt.Errorf("gives both load.steps and a logged profile (load.profile_csv_text); keep one, then open it again")
+	}
+	if d.Load.ProfileCSV != "" {
+		return nil, fmt.Errorf("names the profile file %q, which this page cannot read; load that CSV with \"Logged profile (CSV)\" instead, or size the design with capbank size", d.Load.ProfileCSV)
 	}
 	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
@@ -82,6 +91,7 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Load.Repeat != nil {
 		v.Set("load.repeat", fmt.Sprint(*d.Load.Repeat))
 	}
+	text(ProfileField, d.Load.ProfileCSVText)
 	for i, s := range d.Load.Steps {
 		p := fmt.Sprintf("load.steps[%d].", i)
 		kinds := 0

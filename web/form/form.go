@@ -1,7 +1,6 @@
 package form
 
 import (
-	"bytes"
 	"fmt"
 	"net/url"
 	"regexp"
@@ -13,9 +12,17 @@ import (
 	"capbank/sizing"
 )
 
-// MaxSteps is the most step rows the form edits. A longer profile goes
-// through the JSON API or `capbank size`.
+// MaxSteps is the most step rows the form edits. A longer profile is
+// loaded as a logged profile (ProfileField) instead.
 const MaxSteps = 500
+
+// ProfileField is the form's field that carries a loaded logged profile,
+// the CSV text itself, under its design-file key; ProfileNameField the name
+// of the file it came from, shown beside it.
+const (
+	ProfileField     = "load.profile_csv_text"
+	ProfileNameField = "load.profile_name"
+)
 
 // MaxPulses is the most pulses the pulse-train shortcut expands at once.
 const MaxPulses = 200
@@ -69,6 +76,10 @@ type CellLookup func(id string) (sizing.Cell, bool)
 type Form struct {
 	Vals  url.Values
 	Steps []StepRow
+	// Profile is the logged profile the load gives in place of Steps (the
+	// CSV text, read by sizing.ParseProfileCSV when the design is sized);
+	// "" when the load gives steps.
+	Profile string
 	// Extras are the indices of the own BOQ lines the form holds, in
 	// order; a line keeps its index (its fields' names) for its life.
 	Extras []int
@@ -153,9 +164,12 @@ func Read(vals url.Values) *Form {
 	for _, i := range idx {
 		f.Steps = append(f.Steps, KindChange(*rows[i], kindWas[i]))
 	}
+	if f.Profile = vals.Get(ProfileField); f.Profile != "" {
+		f.Steps, overflow = nil, false // the page shows the profile, not steps
+	}
 	if overflow {
 		f.problem("load.steps", "form_steps", fmt.Sprintf(
-			"holds more than %d steps, the most this form edits; send longer profiles to the JSON API or use capbank size", MaxSteps))
+			"holds more than %d steps, the most this form edits; load a longer profile as a logged profile (CSV)", MaxSteps))
 	}
 	for i := range extras {
 		f.Extras = append(f.Extras, i)
@@ -297,6 +311,8 @@ func (f *Form) applyStep(verb, arg string, csv *Upload) {
 		f.addPulses()
 	case "load-csv":
 		f.loadCSV(csv)
+	case "remove-profile":
+		f.removeProfile()
 	}
 }
 
@@ -350,40 +366,41 @@ func (f *Form) addPulses() {
 		strings.TrimSpace(f.Value("pulse.rest_s")), 2*count)
 }
 
-// loadCSV replaces the steps with those of a logged profile.
+// loadCSV makes a logged profile the load, in place of its steps or the
+// profile loaded before. The profile stays one: the page carries its text
+// and shows its summary, and sizing reads it as design files and the API
+// do. A file that does not read as a profile leaves the load as it was,
+// with the line and column of the first bad row beside the file input.
 func (f *Form) loadCSV(fh *Upload) {
 	if fh == nil || len(fh.Data) == 0 {
 		f.actionProblem("profile_csv", "required", "choose a CSV file first (a header naming time_s and power_w or current_a)")
 		return
 	}
-	p, err := sizing.ParseProfileCSV(bytes.NewReader(fh.Data))
+	text := string(fh.Data)
+	p, err := sizing.ParseProfileCSVText(text)
 	if err != nil {
 		f.actionProblem("profile_csv", "csv", fh.Filename+": "+err.Error())
 		return
 	}
-	if len(p.Steps) > MaxSteps {
-		f.actionProblem("profile_csv", "form_steps", fmt.Sprintf(
-			"%s: %d rows give %d steps, more than the %d this form edits; resample the log, or size it with the JSON API or capbank size",
-			fh.Filename, p.Rows, len(p.Steps), MaxSteps))
+	f.Profile = text
+	f.Vals.Set(ProfileField, f.Profile)
+	f.Vals.Set(ProfileNameField, fh.Filename)
+	f.Steps = nil
+	f.Notice = fmt.Sprintf("Loaded %s as the load profile: %d rows of %s, %s s in all.",
+		fh.Filename, p.Rows, p.Column, formatFloat(p.DurationS))
+}
+
+// removeProfile drops the logged profile and starts the load's steps
+// afresh with one empty step.
+func (f *Form) removeProfile() {
+	if f.Profile == "" {
 		return
 	}
-	kind := "power"
-	if p.Column == "current_a" {
-		kind = "current"
-	}
-	f.Steps = f.Steps[:0]
-	for _, s := range p.Steps {
-		row := StepRow{Kind: "rest", Duration: formatFloat(s.DurationS)}
-		switch {
-		case s.PowerW != nil:
-			row.Kind, row.Value = kind, formatFloat(*s.PowerW)
-		case s.CurrentA != nil:
-			row.Kind, row.Value = kind, formatFloat(*s.CurrentA)
-		}
-		f.Steps = append(f.Steps, row)
-	}
-	f.Notice = fmt.Sprintf("Loaded %s: %d rows of %s became %d steps, %s s in all.",
-		fh.Filename, p.Rows, p.Column, len(p.Steps), formatFloat(p.DurationS))
+	f.Profile = ""
+	f.Vals.Del(ProfileField)
+	f.Vals.Del(ProfileNameField)
+	f.Steps = []StepRow{{Kind: "power"}}
+	f.Notice = "Removed the logged profile; enter the steps, or load another profile."
 }
 
 func formatFloat(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
@@ -427,6 +444,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	d.Load.Efficiency = optional("load.efficiency", UnitFraction)
 	d.Load.Repeat = optionalCount("load.repeat")
 	d.Load.PeriodS = optional("load.period_s", UnitSecond)
+	d.Load.ProfileCSVText = f.Profile
 	for i, r := range f.Steps {
 		p := fmt.Sprintf("load.steps[%d]", i)
 		s := sizing.Step{DurationS: requiredText(p+".duration_s", r.Duration, UnitSecond)}
@@ -698,7 +716,9 @@ func formPath(path, msg string, sources []string, extraIndex []int) (string, str
 	case path == "cells":
 		return "cells.pick", msg
 	case path == "load.steps" && strings.HasPrefix(msg, "must have at least"):
-		return path, "add at least one step"
+		return path, "add at least one step, or load a logged profile (CSV)"
+	case path == "load.profile_csv_text" || path == "load.profile_csv":
+		return "profile_csv", msg
 	}
 	return path, msg
 }
