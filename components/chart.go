@@ -96,6 +96,9 @@ func CurrentChart(c *sizing.Curve) Chart {
 	return ch
 }
 
+// minTempSpanK, in K, is the smallest span of the temperature axis.
+const minTempSpanK = 1.0
+
 // TemperatureChart draws the hottest cell's temperature against time; ok
 // is false when the curve has none.
 func TemperatureChart(c *sizing.Curve) (Chart, bool) {
@@ -103,6 +106,13 @@ func TemperatureChart(c *sizing.Curve) (Chart, bool) {
 		return Chart{}, false
 	}
 	lo, hi := minOf(c.TemperatureC), maxOf(c.TemperatureC)
+	// At least 1 K from bottom to top: a rise of a thousandth of a kelvin
+	// is no rise a thermometer reads, and an axis of 30.0002 °C ticks says
+	// the opposite (and outgrows its margin).
+	if hi-lo < minTempSpanK {
+		mid := (lo + hi) / 2
+		lo, hi = mid-minTempSpanK/2, mid+minTempSpanK/2
+	}
 	ch := newChart("temperature", "Cell temperature", "Temperature (°C)", c.TimeS, lo, hi)
 	ch.Desc = "Temperature of the hottest cell of the recommended bank by the thermal model over the sizing pass."
 	ch.Series = []Series{{Name: "Hottest cell", Class: "s-temp", Points: ch.points(c.TimeS, c.TemperatureC)}}

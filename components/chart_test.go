@@ -112,3 +112,21 @@ func TestVoltageChartRenders(t *testing.T) {
 		t.Error("a temperature chart without temperatures")
 	}
 }
+
+// A rise of a fraction of a millikelvin is drawn on an axis of at least
+// 1 K, with tick labels of at most one decimal.
+func TestTemperatureChartMinimumSpan(t *testing.T) {
+	c := &sizing.Curve{TimeS: []float64{0, 10, 20}, TemperatureC: []float64{30, 30.0002, 30.0001}}
+	ch, ok := TemperatureChart(c)
+	if !ok {
+		t.Fatal("no chart")
+	}
+	if span := ch.sc.y1 - ch.sc.y0; span < minTempSpanK {
+		t.Errorf("axis spans %g K, want at least %g K", span, minTempSpanK)
+	}
+	for _, tk := range ch.YTicks {
+		if len(tk.Label) > 4 {
+			t.Errorf("tick label %q is longer than a temperature to one decimal", tk.Label)
+		}
+	}
+}
