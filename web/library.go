@@ -17,13 +17,28 @@ import (
 	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/store"
+	"capbank/web/store/postgres"
+	"capbank/web/store/sqlite"
 )
 
-// OpenStore opens (creating on first start) the database in dataDir and
-// writes the built-in demo cells into it, so a fresh data directory needs
-// no set-up step.
-func OpenStore(ctx context.Context, dataDir string) (*store.Store, error) {
-	st, err := store.Open(ctx, filepath.Join(dataDir, store.FileName))
+// OpenStore opens (creating on first start) the SQLite database in
+// dataDir and writes the built-in demo cells into it, so a fresh data
+// directory needs no set-up step.
+func OpenStore(ctx context.Context, dataDir string) (store.Store, error) {
+	return OpenDatabase(ctx, dataDir, "")
+}
+
+// OpenDatabase opens the PostgreSQL database at databaseURL (postgres://…)
+// or, when it is empty, the SQLite database in dataDir, migrates it and
+// writes the built-in demo cells into it.
+func OpenDatabase(ctx context.Context, dataDir, databaseURL string) (store.Store, error) {
+	var st store.Store
+	var err error
+	if databaseURL != "" {
+		st, err = postgres.Open(ctx, databaseURL)
+	} else {
+		st, err = sqlite.Open(ctx, filepath.Join(dataDir, store.FileName))
+	}
 	if err != nil {
 		return nil, err
 	}

@@ -48,7 +48,7 @@ type Config struct {
 	// Store is the cell library and the saved designs, opened by the caller
 	// (OpenStore). Nil: the library is the built-in demo cells, read-only,
 	// and saving answers 503.
-	Store *store.Store
+	Store store.Store
 	// Logger receives errors and panics; nil discards them.
 	Logger *slog.Logger
 	// ComputeTimeout is the most one request may spend sizing or writing
@@ -79,7 +79,7 @@ type Server struct {
 	echo    *echo.Echo
 	log     *slog.Logger
 	dataDir string
-	store   *store.Store
+	store   store.Store
 	css, js string // versioned URLs of the stylesheet and htmx
 	// now dates the PDF report; tests fix it.
 	now func() time.Time

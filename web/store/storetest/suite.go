@@ -1,4 +1,7 @@
-package store
+// Package storetest is the one test suite of capbank's store: every
+// backend's tests run it (Run) against a fresh, empty store of that backend
+// per test, so that the SQLite and the PostgreSQL store cannot drift.
+package storetest
 
 import (
 	"bytes"
@@ -6,13 +9,34 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"os"
 	"path/filepath"
 	"reflect"
+	"regexp"
 	"strings"
 	"testing"
 
 	"capbank/sizing"
+	"capbank/web/store"
 )
+
+// Factory opens a fresh, empty, migrated store for test t, closed when t
+// ends.
+type Factory func(t *testing.T) store.Store
+
+// WithReopen opens a fresh store and gives a function that opens the same
+// database again (after the first is closed).
+func (open Factory) WithReopen(t *testing.T) (store.Store, func(t *testing.T) store.Store) {
+	t.Helper()
+	s := open(t)
+	r, ok := s.(interface {
+		Reopen(t *testing.T) store.Store
+	})
+	if !ok {
+		t.Fatalf("the store %T cannot be reopened", s)
+	}
+	return s, r.Reopen
+}
 
 func fp(x float64) *float64 { return &x }
 
@@ -22,73 +46,32 @@ func testCell(id string, c float64) sizing.Cell {
 		CapacitanceTolerancePct: []float64{-10, 20}, ESROhm: 0.9 / c, LeakageA: fp(2e-6 * c), MassKg: fp(0.0002 * c), UnitPrice: fp(0.5 + 0.01*c)}
 }
 
-func mustOpen(t *testing.T, path string) *Store {
-	t.Helper()
-	s, err := Open(context.Background(), path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { s.Close() })
-	return s
-}
-
-func TestOpenFreshDatabase(t *testing.T) {
-	t.Parallel()
-	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	v, err := s.SchemaVersion(ctx)
-	if err != nil || v != 2 {
-		t.Fatalf("schema version %d, %v; want 2 (two migrations)", v, err)
-	}
-	var mode string
-	var fk int
-	if err := s.db.QueryRowContext(ctx, `PRAGMA journal_mode`).Scan(&mode); err != nil || mode != "wal" {
-		t.Errorf("journal_mode %q (%v), want wal", mode, err)
-	}
-	if err := s.db.QueryRowContext(ctx, `PRAGMA foreign_keys`).Scan(&fk); err != nil || fk != 1 {
-		t.Errorf("foreign_keys %d (%v), want 1", fk, err)
+// Run runs every test of the suite on stores made by open.
+func Run(t *testing.T, open Factory) {
+	for _, tc := range []struct {
+		name string
+		f    func(*testing.T, Factory)
+	}{
+		{"DemoCellsAreReadOnly", testDemoCellsAreReadOnly},
+		{"UserCellLifecycle", testUserCellLifecycle},
+		{"ListCellsFilters", testListCellsFilters},
+		{"DesignRoundTripAndSnapshot", testDesignRoundTripAndSnapshot},
+		{"ImportCellsCSV", testImportCellsCSV},
+		{"ImportTenThousandAndRoundTrip", testImportTenThousandAndRoundTrip},
+		{"ReplaceDesign", testReplaceDesign},
+		{"DuplicateCellName", testDuplicateCellName},
+		{"ImportUpsert", testImportUpsert},
+		{"BadCellCorpus", testBadCellCorpus},
+		{"ImportCellsJSONShapes", testImportCellsJSONShapes},
+	} {
+		t.Run(tc.name, func(t *testing.T) { tc.f(t, open) })
 	}
 }
 
-func TestMigrateFromVersion1(t *testing.T) {
+func testDemoCellsAreReadOnly(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), FileName)
-	old, err := openTo(ctx, path, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if v, _ := old.SchemaVersion(ctx); v != 1 {
-		t.Fatalf("old database at version %d, want 1", v)
-	}
-	if err := old.CreateCell(ctx, testCell("kept", 100)); err != nil {
-		t.Fatal(err)
-	}
-	old.Close()
-	s := mustOpen(t, path)
-	if v, _ := s.SchemaVersion(ctx); v != 2 {
-		t.Fatalf("migrated to %d, want 2", v)
-	}
-	if _, err := s.GetCell(ctx, "kept"); err != nil {
-		t.Errorf("cell lost in migration: %v", err)
-	}
-	if _, err := s.SaveDesign(ctx, "after migration", []byte(`{}`)); err != nil {
-		t.Errorf("designs table missing after migration: %v", err)
-	}
-	// Opening again applies nothing twice.
-	s.Close()
-	s2 := mustOpen(t, path)
-	var n int
-	s2.db.QueryRowContext(ctx, `SELECT COUNT(*) FROM schema_migrations`).Scan(&n)
-	if n != 2 {
-		t.Errorf("%d migration records, want 2", n)
-	}
-}
-
-func TestDemoCellsAreReadOnly(t *testing.T) {
-	t.Parallel()
-	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	s := open(t)
 	demo := testCell("demo-a", 50)
 	demo.Source = "demo"
 	if err := s.SeedDemo(ctx, []sizing.Cell{demo}); err != nil {
@@ -102,11 +85,11 @@ func TestDemoCellsAreReadOnly(t *testing.T) {
 		t.Fatalf("demo cell %+v, %v; want read-only", r, err)
 	}
 	demo.Name = "edited"
-	if err := s.UpdateCell(ctx, demo); !errors.Is(err, ErrReadOnly) {
-		t.Errorf("update of a demo cell: %v, want ErrReadOnly", err)
+	if err := s.UpdateCell(ctx, demo); !errors.Is(err, store.ErrReadOnly) {
+		t.Errorf("update of a demo cell: %v, want store.ErrReadOnly", err)
 	}
-	if err := s.DeleteCell(ctx, "demo-a"); !errors.Is(err, ErrReadOnly) {
-		t.Errorf("delete of a demo cell: %v, want ErrReadOnly", err)
+	if err := s.DeleteCell(ctx, "demo-a"); !errors.Is(err, store.ErrReadOnly) {
+		t.Errorf("delete of a demo cell: %v, want store.ErrReadOnly", err)
 	}
 	dup, err := s.DuplicateCell(ctx, "demo-a", "")
 	if err != nil || dup.Cell.ID != "demo-a-copy" || dup.Cell.Source == "demo" {
@@ -121,23 +104,22 @@ func TestDemoCellsAreReadOnly(t *testing.T) {
 	}
 }
 
-func TestUserCellLifecycle(t *testing.T) {
+func testUserCellLifecycle(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), FileName)
-	s := mustOpen(t, path)
+	s, reopen := open.WithReopen(t)
 	c := testCell("mine", 300)
 	if err := s.CreateCell(ctx, c); err != nil {
 		t.Fatal(err)
 	}
-	if err := s.CreateCell(ctx, c); !errors.Is(err, ErrExists) {
-		t.Errorf("second create: %v, want ErrExists", err)
+	if err := s.CreateCell(ctx, c); !errors.Is(err, store.ErrExists) {
+		t.Errorf("second create: %v, want store.ErrExists", err)
 	}
 	bad := c
 	bad.ID = "bad"
 	bad.ESROhm = -1
 	err := s.CreateCell(ctx, bad)
-	if !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "esr_ohm: must be greater than 0") {
+	if !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "esr_ohm: must be greater than 0") {
 		t.Errorf("invalid cell: %v", err)
 	}
 	c.Name = "renamed"
@@ -146,7 +128,7 @@ func TestUserCellLifecycle(t *testing.T) {
 	}
 	// Survives a restart, figure for figure.
 	s.Close()
-	s = mustOpen(t, path)
+	s = reopen(t)
 	r, err := s.GetCell(ctx, "mine")
 	if err != nil || !reflect.DeepEqual(r.Cell, c) {
 		t.Fatalf("after restart: %+v, %v; want %+v", r.Cell, err, c)
@@ -154,15 +136,15 @@ func TestUserCellLifecycle(t *testing.T) {
 	if err := s.DeleteCell(ctx, "mine"); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := s.GetCell(ctx, "mine"); !errors.Is(err, ErrNotFound) {
-		t.Errorf("after delete: %v, want ErrNotFound", err)
+	if _, err := s.GetCell(ctx, "mine"); !errors.Is(err, store.ErrNotFound) {
+		t.Errorf("after delete: %v, want store.ErrNotFound", err)
 	}
 }
 
-func TestListCellsFilters(t *testing.T) {
+func testListCellsFilters(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	s := open(t)
 	for _, c := range []sizing.Cell{testCell("small", 5), testCell("mid", 400), testCell("big_one", 3000)} {
 		if err := s.CreateCell(ctx, c); err != nil {
 			t.Fatal(err)
@@ -171,7 +153,7 @@ func TestListCellsFilters(t *testing.T) {
 	hv := testCell("hybrid", 200)
 	hv.RatedV, hv.SurgeV = 3.8, fp(4.0)
 	s.CreateCell(ctx, hv)
-	ids := func(f CellFilter) string {
+	ids := func(f store.CellFilter) string {
 		rs, err := s.ListCells(ctx, f)
 		if err != nil {
 			t.Fatal(err)
@@ -183,14 +165,14 @@ func TestListCellsFilters(t *testing.T) {
 		return strings.Join(out, ",")
 	}
 	for _, c := range []struct {
-		f    CellFilter
+		f    store.CellFilter
 		want string
 	}{
-		{CellFilter{}, "small,mid,big_one,hybrid"},
-		{CellFilter{MinCapacitanceF: 100, MaxCapacitanceF: 1000}, "mid,hybrid"},
-		{CellFilter{MinRatedV: 3}, "hybrid"},
-		{CellFilter{Search: "BIG"}, "big_one"},
-		{CellFilter{Search: "_"}, "big_one"}, // a literal underscore, not a LIKE wildcard
+		{store.CellFilter{}, "small,mid,big_one,hybrid"},
+		{store.CellFilter{MinCapacitanceF: 100, MaxCapacitanceF: 1000}, "mid,hybrid"},
+		{store.CellFilter{MinRatedV: 3}, "hybrid"},
+		{store.CellFilter{Search: "BIG"}, "big_one"},
+		{store.CellFilter{Search: "_"}, "big_one"}, // a literal underscore, not a LIKE wildcard
 	} {
 		if got := ids(c.f); got != c.want {
 			t.Errorf("filter %+v: %s, want %s", c.f, got, c.want)
@@ -200,22 +182,22 @@ func TestListCellsFilters(t *testing.T) {
 	// The longest search, each character a 4-byte one or a LIKE wildcard
 	// that escaping doubles, stays within SQLite's pattern limit; one
 	// character more is refused before it reaches SQLite.
-	for _, q := range []string{strings.Repeat("😀", MaxSearchLen), strings.Repeat(`\`, MaxSearchLen), "big" + strings.Repeat("%", MaxSearchLen-3)} {
-		if _, err := s.ListCells(ctx, CellFilter{Search: q}); err != nil {
-			t.Errorf("a search of %d characters: %v", MaxSearchLen, err)
+	for _, q := range []string{strings.Repeat("😀", store.MaxSearchLen), strings.Repeat(`\`, store.MaxSearchLen), "big" + strings.Repeat("%", store.MaxSearchLen-3)} {
+		if _, err := s.ListCells(ctx, store.CellFilter{Search: q}); err != nil {
+			t.Errorf("a search of %d characters: %v", store.MaxSearchLen, err)
 		}
 	}
-	for _, q := range []string{strings.Repeat("a", MaxSearchLen+1), strings.Repeat("%", 50_000)} {
-		if _, err := s.ListCells(ctx, CellFilter{Search: q}); !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "at most 200") {
-			t.Errorf("a search of %d characters: %v, want ErrInvalid naming the limit", len(q), err)
+	for _, q := range []string{strings.Repeat("a", store.MaxSearchLen+1), strings.Repeat("%", 50_000)} {
+		if _, err := s.ListCells(ctx, store.CellFilter{Search: q}); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "at most 200") {
+			t.Errorf("a search of %d characters: %v, want store.ErrInvalid naming the limit", len(q), err)
 		}
 	}
 }
 
-func TestDesignRoundTripAndSnapshot(t *testing.T) {
+func testDesignRoundTripAndSnapshot(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	s := open(t)
 	c := testCell("used", 300)
 	s.CreateCell(ctx, c)
 	// Odd spacing and key order must survive byte for byte.
@@ -255,18 +237,18 @@ func TestDesignRoundTripAndSnapshot(t *testing.T) {
 	if err := s.DeleteDesign(ctx, id); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := s.GetDesign(ctx, id); !errors.Is(err, ErrNotFound) {
+	if _, err := s.GetDesign(ctx, id); !errors.Is(err, store.ErrNotFound) {
 		t.Errorf("deleted design: %v", err)
 	}
-	if err := s.RenameDesign(ctx, 9999, "x"); !errors.Is(err, ErrNotFound) {
+	if err := s.RenameDesign(ctx, 9999, "x"); !errors.Is(err, store.ErrNotFound) {
 		t.Errorf("rename of a missing design: %v", err)
 	}
-	if _, err := s.SaveDesign(ctx, "  ", js); !errors.Is(err, ErrInvalid) {
+	if _, err := s.SaveDesign(ctx, "  ", js); !errors.Is(err, store.ErrInvalid) {
 		t.Errorf("blank name: %v", err)
 	}
 }
 
-func TestImportCellsCSV(t *testing.T) {
+func testImportCellsCSV(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
 	cases := []struct {
@@ -296,8 +278,8 @@ func TestImportCellsCSV(t *testing.T) {
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
-			s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-			rep, err := s.ImportCellsCSV(ctx, strings.NewReader(c.csv), ImportAdd)
+			s := open(t)
+			rep, err := s.ImportCellsCSV(ctx, strings.NewReader(c.csv), store.ImportAdd)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -307,12 +289,12 @@ func TestImportCellsCSV(t *testing.T) {
 				}
 				return
 			}
-			all, _ := s.ListCells(ctx, CellFilter{})
+			all, _ := s.ListCells(ctx, store.CellFilter{})
 			if len(all) != c.imported || rep.Imported != (c.imported > 0) {
 				t.Errorf("library holds %d cells (imported %v), want %d; report %+v", len(all), rep.Imported, c.imported, rep)
 			}
 			if c.rowError != "" {
-				var bad *ImportRow
+				var bad *store.ImportRow
 				for i := range rep.Rows {
 					if !rep.Rows[i].Accepted {
 						bad = &rep.Rows[i]
@@ -327,7 +309,7 @@ func TestImportCellsCSV(t *testing.T) {
 	}
 }
 
-func TestImportTenThousandAndRoundTrip(t *testing.T) {
+func testImportTenThousandAndRoundTrip(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
 	var b strings.Builder
@@ -335,12 +317,12 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 	for i := range 10000 {
 		fmt.Fprintf(&b, "c%05d,=cmd|' /C calc'!A0,2.7,%d,%g,%g\n", i, 10+i, 0.9/float64(10+i), 2e-6*float64(10+i))
 	}
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(b.String()), ImportAdd)
+	s := open(t)
+	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(b.String()), store.ImportAdd)
 	if err != nil || !rep.Imported || rep.Accepted != 10000 {
 		t.Fatalf("10 000 rows: %+v, %v", rep.Error, err)
 	}
-	rs, _ := s.ListCells(ctx, CellFilter{})
+	rs, _ := s.ListCells(ctx, store.CellFilter{})
 	cells := make([]sizing.Cell, len(rs))
 	for i, r := range rs {
 		cells[i] = r.Cell
@@ -348,14 +330,14 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 	// Export neutralises formula-looking text; import into a fresh library
 	// restores it; the cells come back equal.
 	var out bytes.Buffer
-	if err := ExportCellsCSV(&out, cells); err != nil {
+	if err := store.ExportCellsCSV(&out, cells); err != nil {
 		t.Fatal(err)
 	}
 	if !strings.Contains(out.String(), ",'=cmd") {
 		t.Errorf("export did not neutralise a formula-looking name")
 	}
-	s2 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, _ = s2.ImportCellsCSV(ctx, &out, ImportAdd)
+	s2 := open(t)
+	rep, _ = s2.ImportCellsCSV(ctx, &out, store.ImportAdd)
 	if !rep.Imported {
 		t.Fatalf("re-import: %+v", rep.Rows[:1])
 	}
@@ -365,21 +347,21 @@ func TestImportTenThousandAndRoundTrip(t *testing.T) {
 	}
 	// JSON export and import, too.
 	var js bytes.Buffer
-	ExportCellsJSON(&js, cells[:3])
-	s3 := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	rep, _ = s3.ImportCellsJSON(ctx, &js, ImportAdd)
+	store.ExportCellsJSON(&js, cells[:3])
+	s3 := open(t)
+	rep, _ = s3.ImportCellsJSON(ctx, &js, store.ImportAdd)
 	if !rep.Imported || rep.Accepted != 3 {
 		t.Errorf("JSON import: %+v", rep)
 	}
-	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`), ImportAdd)
+	rep, _ = s3.ImportCellsJSON(ctx, strings.NewReader(`[{"id":"x","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"colour":"red"}]`), store.ImportAdd)
 	if rep.Imported || len(rep.Rows) != 1 || !strings.Contains(rep.Rows[0].Reason, `colour: is not a cell key`) {
 		t.Errorf("JSON import with an unknown key: %+v", rep)
 	}
 }
 
-func TestReplaceDesign(t *testing.T) {
+func testReplaceDesign(t *testing.T, open Factory) {
 	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	s := open(t)
 	id, err := s.SaveDesign(ctx, "first", []byte(`{"a":1}`))
 	if err != nil {
 		t.Fatal(err)
@@ -395,32 +377,32 @@ func TestReplaceDesign(t *testing.T) {
 		t.Errorf("after replace: %q %s, want second {\"a\": 2}", got.Name, got.JSON)
 	}
 	// A bad name changes nothing: the JSON stays as it was.
-	if err := s.ReplaceDesign(ctx, id, strings.Repeat("x", 201), []byte(`{"a":3}`)); !errors.Is(err, ErrInvalid) {
-		t.Fatalf("a 201-character name: %v, want ErrInvalid", err)
+	if err := s.ReplaceDesign(ctx, id, strings.Repeat("x", 201), []byte(`{"a":3}`)); !errors.Is(err, store.ErrInvalid) {
+		t.Fatalf("a 201-character name: %v, want store.ErrInvalid", err)
 	}
 	if got, _ := s.GetDesign(ctx, id); string(got.JSON) != `{"a": 2}` {
 		t.Errorf("a refused replace changed the JSON to %s", got.JSON)
 	}
-	if err := s.ReplaceDesign(ctx, id+100, "", []byte(`{}`)); !errors.Is(err, ErrNotFound) {
-		t.Errorf("replacing a missing design: %v, want ErrNotFound", err)
+	if err := s.ReplaceDesign(ctx, id+100, "", []byte(`{}`)); !errors.Is(err, store.ErrNotFound) {
+		t.Errorf("replacing a missing design: %v, want store.ErrNotFound", err)
 	}
 }
 
 // TestDuplicateCellName checks that a copy's name says it is a copy and
 // not a demo cell, and that two copies never share a name, so that pick
 // lists show no two identical names.
-func TestDuplicateCellName(t *testing.T) {
+func testDuplicateCellName(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	demos := DemoCells()
+	s := open(t)
+	demos := store.DemoCells()
 	if err := s.SeedDemo(ctx, demos); err != nil {
 		t.Fatal(err)
 	}
 	demo := demos[0]
-	base := strings.TrimSuffix(demo.Name, DemoMark)
+	base := strings.TrimSuffix(demo.Name, store.DemoMark)
 	if base == demo.Name {
-		t.Fatalf("demo cell name %q does not end in the demo mark %q", demo.Name, DemoMark)
+		t.Fatalf("demo cell name %q does not end in the demo mark %q", demo.Name, store.DemoMark)
 	}
 	long := testCell("long-name", 300)
 	long.Name = strings.Repeat("é", 200) // the most a name may have
@@ -447,7 +429,7 @@ func TestDuplicateCellName(t *testing.T) {
 			t.Errorf("%s: the copy %q still calls itself a demo", tt.name, dup.Cell.Name)
 		}
 	}
-	all, err := s.ListCells(ctx, CellFilter{})
+	all, err := s.ListCells(ctx, store.CellFilter{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -457,7 +439,7 @@ func TestDuplicateCellName(t *testing.T) {
 			t.Errorf("cells %s and %s share the name %q", other, r.Cell.ID, r.Cell.Name)
 		}
 		names[r.Cell.Name] = r.Cell.ID
-		if r.ReadOnly != strings.HasSuffix(r.Cell.Name, DemoMark) {
+		if r.ReadOnly != strings.HasSuffix(r.Cell.Name, store.DemoMark) {
 			t.Errorf("cell %s %q: read-only %v, but its name says otherwise", r.Cell.ID, r.Cell.Name, r.ReadOnly)
 		}
 	}
@@ -465,9 +447,9 @@ func TestDuplicateCellName(t *testing.T) {
 
 // exportedCSV is the whole library exported as CSV, with edit applied to
 // each row (a map from column name to value) before it is written back.
-func exportedCSV(t *testing.T, s *Store, edit func(row map[string]string)) string {
+func exportedCSV(t *testing.T, s store.Store, edit func(row map[string]string)) string {
 	t.Helper()
-	rs, err := s.ListCells(context.Background(), CellFilter{})
+	rs, err := s.ListCells(context.Background(), store.CellFilter{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -476,7 +458,7 @@ func exportedCSV(t *testing.T, s *Store, edit func(row map[string]string)) strin
 		cells[i] = r.Cell
 	}
 	var out bytes.Buffer
-	if err := ExportCellsCSV(&out, cells); err != nil {
+	if err := store.ExportCellsCSV(&out, cells); err != nil {
 		t.Fatal(err)
 	}
 	recs, err := csv.NewReader(&out).ReadAll()
@@ -504,11 +486,11 @@ func exportedCSV(t *testing.T, s *Store, edit func(row map[string]string)) strin
 // TestImportUpsert checks that the library's own CSV export imports back
 // in upsert mode, updating the user cells it changes, and that a changed
 // demo cell is refused by id while the library stays as it was.
-func TestImportUpsert(t *testing.T) {
+func testImportUpsert(t *testing.T, open Factory) {
 	t.Parallel()
 	ctx := context.Background()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
-	demos := DemoCells()
+	s := open(t)
+	demos := store.DemoCells()
 	if err := s.SeedDemo(ctx, demos); err != nil {
 		t.Fatal(err)
 	}
@@ -521,7 +503,7 @@ func TestImportUpsert(t *testing.T) {
 	unchanged := func(map[string]string) {}
 
 	// Add mode (the default): every row's id is in the library.
-	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(exportedCSV(t, s, unchanged)), ImportAdd)
+	rep, err := s.ImportCellsCSV(ctx, strings.NewReader(exportedCSV(t, s, unchanged)), store.ImportAdd)
 	if err != nil || rep.Imported || rep.Rejected != n || !strings.Contains(rep.Rows[0].Reason, "upsert") {
 		t.Fatalf("add mode: imported %v, %d rejected of %d, first reason %q, %v; want all refused, naming upsert",
 			rep.Imported, rep.Rejected, n, rep.Rows[0].Reason, err)
@@ -534,7 +516,7 @@ func TestImportUpsert(t *testing.T) {
 			row["esr_ohm"], row["name"] = "0.003", "mine A, remeasured"
 		}
 	}) + "mine-c,new cell,,2.7,,50,,,0.02,,,,,,,,,,,,,,,,\r\n"
-	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), ImportUpsert)
+	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), store.ImportUpsert)
 	if err != nil || !rep.Imported {
 		t.Fatalf("upsert: %+v, %v", rep, err)
 	}
@@ -550,13 +532,13 @@ func TestImportUpsert(t *testing.T) {
 		t.Errorf("mine-c after upsert: %+v, %v", c.Cell, err)
 	}
 	for _, row := range rep.Rows {
-		want := ActionUpdated
+		want := store.ActionUpdated
 		switch {
 		case row.ID == "mine-c":
-			want = ActionAdded
+			want = store.ActionAdded
 		case strings.HasPrefix(row.ID, "mine-"):
 		default:
-			want = ActionUnchanged
+			want = store.ActionUnchanged
 		}
 		if row.Action != want {
 			t.Errorf("row %d (%s): action %q, want %q", row.Line, row.ID, row.Action, want)
@@ -573,7 +555,7 @@ func TestImportUpsert(t *testing.T) {
 			row["name"] = "should not be written"
 		}
 	})
-	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), ImportUpsert)
+	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), store.ImportUpsert)
 	if err != nil || rep.Imported || rep.Rejected != 1 {
 		t.Fatalf("upsert of a changed demo cell: imported %v, %d rejected, %v; want refused, 1 rejected", rep.Imported, rep.Rejected, err)
 	}
@@ -589,7 +571,103 @@ func TestImportUpsert(t *testing.T) {
 		t.Errorf("mine-b after the refused import is named %q: the import was not all or nothing", b.Cell.Name)
 	}
 
-	if _, err := ParseImportMode("merge"); !errors.Is(err, ErrInvalid) {
-		t.Errorf("ParseImportMode(merge) = %v, want ErrInvalid", err)
+	if _, err := store.ParseImportMode("merge"); !errors.Is(err, store.ErrInvalid) {
+		t.Errorf("store.ParseImportMode(merge) = %v, want store.ErrInvalid", err)
+	}
+}
+
+// TestBadCellCorpus: every bad cell file in testdata/bad/cells (CSV and
+// JSON imports) is refused with a file error or a rejected row that says
+// why in plain words, never naming a Go type, and imports nothing.
+func testBadCellCorpus(t *testing.T, open Factory) {
+	t.Parallel()
+	ctx := context.Background()
+	csvs, _ := filepath.Glob("../../../testdata/bad/cells/*.csv")
+	jsons, _ := filepath.Glob("../../../testdata/bad/cells/*.json")
+	if len(csvs) < 5 || len(jsons) < 5 {
+		t.Fatalf("only %d bad cell CSV files and %d JSON files", len(csvs), len(jsons))
+	}
+	s := open(t)
+	for _, f := range append(csvs, jsons...) {
+		fh, err := os.Open(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var rep store.ImportReport
+		if strings.HasSuffix(f, ".json") {
+			rep, err = s.ImportCellsJSON(ctx, fh, store.ImportAdd)
+		} else {
+			rep, err = s.ImportCellsCSV(ctx, fh, store.ImportAdd)
+		}
+		fh.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		reason := rep.Error
+		for _, r := range rep.Rows {
+			if !r.Accepted {
+				reason = r.Reason
+			}
+		}
+		if rep.Imported || reason == "" || goTypeName.MatchString(reason) {
+			t.Errorf("%s: imported %v, reason %q", filepath.Base(f), rep.Imported, reason)
+		}
+	}
+	if all, _ := s.ListCells(ctx, store.CellFilter{}); len(all) != 0 {
+		t.Errorf("%d cells imported from bad files", len(all))
+	}
+}
+
+// goTypeName matches the wording of encoding/json's errors, which name Go
+// types (json.RawMessage, sizing.Cell, float64) that a user never sees.
+var goTypeName = regexp.MustCompile(`Go (value|struct)|of type|json\.|sizing\.|float64|\[\]|unmarshal`)
+
+// A cells JSON file of the wrong shape is refused as a whole with what the
+// shape should be, and a cell of the wrong shape or with a value of the
+// wrong kind is a rejected row naming the key, all in plain words.
+func testImportCellsJSONShapes(t *testing.T, open Factory) {
+	t.Parallel()
+	ctx := context.Background()
+	s := open(t)
+	for _, c := range []struct {
+		name, in string
+		// file is in the file's error, row in the first row's reason.
+		file, row string
+	}{
+		{"one cell, not a list", `{"id":"x","rated_v":2.7}`, "looks like a single cell; put it in a list, [ {…} ]", ""},
+		{"cells an object", `{"cells": {"a": 1}}`, `has "cells" as a JSON object, not a list`, ""},
+		{"an object without cells", `{"items": []}`, `without a "cells" key`, ""},
+		{"a key beside cells", `{"cells": [], "version": 1}`, `has the key "version" beside "cells"`, ""},
+		{"a string", `"cells"`, "is a JSON string, not a list of cells", ""},
+		{"null", `null`, "is null, not a list of cells", ""},
+		{"empty", " \n", "is empty", ""},
+		{"not JSON", "[\n  {\"id\": x}\n]", "is not valid JSON at line 2, column 10", ""},
+		{"truncated", `[{"id": "a"`, "ends too early", ""},
+		{"a number for a cell", `[42]`, "", "must be a cell, an object {"},
+		{"a list for a cell", `[[]]`, "", "not a JSON list"},
+		{"null for a cell", `[null]`, "", "not null"},
+		{"text for a number", `[{"id":"a","rated_v":"2.7","capacitance_f":10,"esr_ohm":0.1}]`, "", "rated_v: must be a number, not a JSON string"},
+		{"an object for a number", `{"cells":[{"id":"a","rated_v":{},"capacitance_f":10,"esr_ohm":0.1}]}`, "", "rated_v: must be a number, not a JSON object"},
+		{"a number for text", `[{"id":7,"rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1}]`, "", "id: must be a string, not a JSON number"},
+		{"a number too large", `[{"id":"a","rated_v":1e400,"capacitance_f":10,"esr_ohm":0.1}]`, "", "rated_v: is too large a number (1e400)"},
+		{"unknown key", `[{"id":"a","rated_v":2.7,"capacitance_f":10,"esr_ohm":0.1,"esr":1}]`, "", `esr: is not a cell key`},
+	} {
+		rep, err := s.ImportCellsJSON(ctx, strings.NewReader(c.in), store.ImportAdd)
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		reason := ""
+		if len(rep.Rows) > 0 {
+			reason = rep.Rows[0].Reason
+		}
+		if rep.Imported || !strings.Contains(rep.Error, c.file) || !strings.Contains(reason, c.row) {
+			t.Errorf("%s: imported %v, file %q, row %q; want file %q, row %q", c.name, rep.Imported, rep.Error, reason, c.file, c.row)
+		}
+		if c.file != "" && !strings.Contains(rep.Error, store.CellsFileShape) && c.file != "ends too early" && !strings.HasPrefix(c.file, "is not valid JSON") {
+			t.Errorf("%s: %q does not say what a cells JSON file is", c.name, rep.Error)
+		}
+		if goTypeName.MatchString(rep.Error + reason) {
+			t.Errorf("%s: a Go type in %q", c.name, rep.Error+reason)
+		}
 	}
 }
