@@ -431,6 +431,7 @@ func (s *Server) answerDesign(c echo.Context, status int, id int64) error {
 		return err
 	}
 	c.Response().Header().Set(echo.HeaderLocation, "/api/v1/designs/"+strconv.FormatInt(id, 10))
+	setETag(c, rec.Version)
 	return c.JSON(status, savedDesign{DesignRecord: rec, Design: rec.JSON})
 }
 
@@ -465,12 +466,16 @@ func (s *Server) apiReplaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	version, err := ifMatch(c, "saved design")
+	if err != nil {
+		return err
+	}
 	b, err := s.readDesignBody(c, false)
 	if err != nil {
 		return err
 	}
-	if err := s.store.ReplaceDesign(c.Request().Context(), id, b.Name, b.Design); err != nil {
-		return err
+	if _, err := s.store.ReplaceDesignIf(c.Request().Context(), id, b.Name, b.Design, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return s.answerDesign(c, http.StatusOK, id)
 }
@@ -478,6 +483,10 @@ func (s *Server) apiReplaceDesign(c echo.Context) error {
 // apiRenameDesign is PATCH /api/v1/designs/{id} with {"name": …}.
 func (s *Server) apiRenameDesign(c echo.Context) error {
 	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	version, err := ifMatch(c, "saved design")
 	if err != nil {
 		return err
 	}
@@ -494,8 +503,8 @@ func (s *Server) apiRenameDesign(c echo.Context) error {
 	if err := sizing.DecodeStrict(data, &b, "body"); err != nil {
 		return malformed(withHint(validationErrors(err), `send {"name": "…"}`))
 	}
-	if err := s.store.RenameDesign(c.Request().Context(), id, b.Name); err != nil {
-		return err
+	if _, err := s.store.RenameDesignIf(c.Request().Context(), id, b.Name, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return s.answerDesign(c, http.StatusOK, id)
 }
@@ -506,8 +515,12 @@ func (s *Server) apiDeleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+	version, err := ifMatch(c, "saved design")
+	if err != nil {
 		return err
+	}
+	if err := s.store.DeleteDesignIf(c.Request().Context(), id, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return c.NoContent(http.StatusNoContent)
 }

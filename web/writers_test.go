@@ -64,6 +64,8 @@ func (w *writerClient) send(method, path, ctype string, body []byte, want int, r
 	}
 	if !strings.HasPrefix(path, "/api/") {
 		req.Header.Set("Accept", "text/html")
+	} else if method == http.MethodPut || method == http.MethodDelete {
+		req.Header.Set("If-Match", "*") // each writer owns its records
 	}
 	res, err := w.hc.Do(req)
 	if err != nil {
