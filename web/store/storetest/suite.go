@@ -14,6 +14,7 @@ import (
 	"reflect"
 	"regexp"
 	"strings"
+	"sync"
 	"testing"
 
 	"capbank/sizing"
@@ -63,6 +64,8 @@ func Run(t *testing.T, open Factory) {
 		{"ImportUpsert", testImportUpsert},
 		{"BadCellCorpus", testBadCellCorpus},
 		{"ImportCellsJSONShapes", testImportCellsJSONShapes},
+		{"Versions", testVersions},
+		{"ConcurrentEdits", testConcurrentEdits},
 	} {
 		t.Run(tc.name, func(t *testing.T) { tc.f(t, open) })
 	}
@@ -669,5 +672,130 @@ func testImportCellsJSONShapes(t *testing.T, open Factory) {
 		if goTypeName.MatchString(rep.Error + reason) {
 			t.Errorf("%s: a Go type in %q", c.name, rep.Error+reason)
 		}
+	}
+}
+
+// testVersions: a cell and a design are at version 1 when written first
+// and one more at each change; a change made on an older version is
+// refused with the current one and changes nothing; 0 changes whatever
+// the version.
+func testVersions(t *testing.T, open Factory) {
+	t.Parallel()
+	ctx := context.Background()
+	s := open(t)
+	c := testCell("versioned", 100)
+	if err := s.CreateCell(ctx, c); err != nil {
+		t.Fatal(err)
+	}
+	r, _ := s.GetCell(ctx, c.ID)
+	if r.Version != 1 {
+		t.Fatalf("a new cell at version %d, want 1", r.Version)
+	}
+	c.Name = "first edit"
+	v, err := s.UpdateCellIf(ctx, c, 1)
+	if err != nil || v != 2 {
+		t.Fatalf("edit at version 1: version %d, %v; want 2", v, err)
+	}
+	// A second engineer still holding version 1.
+	c.Name = "second edit, on the old copy"
+	_, err = s.UpdateCellIf(ctx, c, 1)
+	var stale *store.StaleError
+	if !errors.As(err, &stale) || !errors.Is(err, store.ErrStale) || stale.Current != 2 {
+		t.Fatalf("edit on version 1 after version 2: %v; want a StaleError at version 2", err)
+	}
+	if r, _ := s.GetCell(ctx, c.ID); r.Cell.Name != "first edit" || r.Version != 2 {
+		t.Errorf("after the refused edit: %q at version %d; want the first edit at 2", r.Cell.Name, r.Version)
+	}
+	if err := s.DeleteCellIf(ctx, c.ID, 1); !errors.As(err, &stale) || stale.Current != 2 {
+		t.Errorf("delete on version 1: %v; want stale at 2", err)
+	}
+	if err := s.UpdateCell(ctx, c); err != nil { // unconditional
+		t.Fatal(err)
+	}
+	if err := s.DeleteCellIf(ctx, c.ID, 3); err != nil {
+		t.Errorf("delete on the current version 3: %v", err)
+	}
+	if _, err := s.UpdateCellIf(ctx, c, 3); !errors.Is(err, store.ErrNotFound) {
+		t.Errorf("edit of a deleted cell: %v; want not found", err)
+	}
+
+	id, err := s.SaveDesign(ctx, "versioned design", []byte(`{"v":1}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, _ := s.GetDesign(ctx, id)
+	if d.Version != 1 {
+		t.Fatalf("a new design at version %d, want 1", d.Version)
+	}
+	if v, err := s.ReplaceDesignIf(ctx, id, "", []byte(`{"v":2}`), 1); err != nil || v != 2 {
+		t.Fatalf("replace at version 1: %d, %v; want 2", v, err)
+	}
+	if _, err := s.ReplaceDesignIf(ctx, id, "", []byte(`{"v":"lost"}`), 1); !errors.As(err, &stale) || stale.Current != 2 {
+		t.Fatalf("replace on version 1 after 2: %v; want stale at 2", err)
+	}
+	if v, err := s.RenameDesignIf(ctx, id, "renamed", 2); err != nil || v != 3 {
+		t.Fatalf("rename at version 2: %d, %v; want 3", v, err)
+	}
+	if _, err := s.RenameDesignIf(ctx, id, "lost", 2); !errors.As(err, &stale) || stale.Current != 3 {
+		t.Errorf("rename on version 2 after 3: %v; want stale at 3", err)
+	}
+	if err := s.DeleteDesignIf(ctx, id, 2); !errors.As(err, &stale) {
+		t.Errorf("delete on version 2 after 3: %v; want stale", err)
+	}
+	d, _ = s.GetDesign(ctx, id)
+	if d.Name != "renamed" || string(d.JSON) != `{"v":2}` || d.Version != 3 {
+		t.Errorf("after the refused changes: %q %s at version %d; want renamed {\"v\":2} at 3", d.Name, d.JSON, d.Version)
+	}
+	list, _ := s.ListDesigns(ctx)
+	if len(list) != 1 || list[0].Version != 3 {
+		t.Errorf("the list gives %+v; want one design at version 3", list)
+	}
+	if err := s.DeleteDesignIf(ctx, id, 3); err != nil {
+		t.Errorf("delete at the current version: %v", err)
+	}
+}
+
+// testConcurrentEdits: eight editors each read a design's version and
+// write on it at once; exactly the writes whose version was still current
+// succeed, every other is refused as stale, and the final version counts
+// the successes: no update is lost.
+func testConcurrentEdits(t *testing.T, open Factory) {
+	t.Parallel()
+	ctx := context.Background()
+	s := open(t)
+	id, err := s.SaveDesign(ctx, "contested", []byte(`{}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	const editors, rounds = 8, 5
+	var mu sync.Mutex
+	won, lost := 0, 0
+	var wg sync.WaitGroup
+	for e := range editors {
+		wg.Go(func() {
+			for r := range rounds {
+				d, err := s.GetDesign(ctx, id)
+				if err != nil {
+					t.Error(err)
+					return
+				}
+				_, err = s.ReplaceDesignIf(ctx, id, "", []byte(fmt.Sprintf(`{"editor":%d,"round":%d}`, e, r)), d.Version)
+				mu.Lock()
+				switch {
+				case err == nil:
+					won++
+				case errors.Is(err, store.ErrStale):
+					lost++
+				default:
+					t.Errorf("editor %d: %v", e, err)
+				}
+				mu.Unlock()
+			}
+		})
+	}
+	wg.Wait()
+	d, _ := s.GetDesign(ctx, id)
+	if won+lost != editors*rounds || d.Version != int64(1+won) || won == 0 {
+		t.Errorf("%d writes won, %d refused, final version %d; want %d in all and version 1 + won", won, lost, d.Version, editors*rounds)
 	}
 }
