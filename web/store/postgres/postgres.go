@@ -181,10 +181,15 @@ func (b *backend) Reader() store.Querier { return querier{b.pool} }
 func (b *backend) Write(ctx context.Context, f func(store.Querier) error) error {
 	var err error
 	for attempt := 1; attempt <= maxAttempts; attempt++ {
+		var ferr error // f's own error, classified already by querier
 		err = pgx.BeginTxFunc(ctx, b.pool, pgx.TxOptions{IsoLevel: pgx.Serializable}, func(tx pgx.Tx) error {
-			return f(querier{tx})
+			ferr = f(querier{tx})
+			return ferr
 		})
 		if !retryable(err) {
+			if err != nil && err == ferr {
+				return err
+			}
 			return classify(err)
 		}
 		pause := time.Duration(rand.Int64N(int64(attempt) * int64(5*time.Millisecond)))

@@ -703,6 +703,12 @@ func testVersions(t *testing.T, open Factory) {
 	if !errors.As(err, &stale) || !errors.Is(err, store.ErrStale) || stale.Current != 2 {
 		t.Fatalf("edit on version 1 after version 2: %v; want a StaleError at version 2", err)
 	}
+	if store.Unavailable(err) || store.Busy(err) || store.StorageFault(err) != "" {
+		t.Errorf("a stale edit is classified as a database failure: %v", err)
+	}
+	if err := s.DeleteCellIf(ctx, "no-such-cell", 1); !errors.Is(err, store.ErrNotFound) || store.Unavailable(err) {
+		t.Errorf("delete of a missing cell: %v; want only not found", err)
+	}
 	if r, _ := s.GetCell(ctx, c.ID); r.Cell.Name != "first edit" || r.Version != 2 {
 		t.Errorf("after the refused edit: %q at version %d; want the first edit at 2", r.Cell.Name, r.Version)
 	}
