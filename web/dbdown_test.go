@@ -93,7 +93,9 @@ func TestDatabaseGoneMidRun(t *testing.T) {
 	t.Cleanup(func() { st.Close() })
 	s := New(Config{DataDir: t.TempDir(), Store: st, Logger: slog.New(slog.NewTextHandler(&logs, nil))})
 
-	cell := func(id string) string { return strings.Replace(userCellJSON, `"bench-2v7-80f"`, fmt.Sprintf("%q", id), 1) }
+	cell := func(id string) string {
+		return strings.Replace(userCellJSON, `"bench-2v7-80f"`, fmt.Sprintf("%q", id), 1)
+	}
 	wantStatus(t, do(t, s, http.MethodPost, "/api/v1/cells", "application/json", cell("before")), http.StatusCreated)
 
 	proxy.setCut(true)

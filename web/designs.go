@@ -224,6 +224,7 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 	}
 	f.Vals.Set("saved_id", strconv.FormatInt(id, 10))
 	f.Vals.Set("saved_name", rec.Name)
+	f.Vals.Set("saved_version", strconv.FormatInt(rec.Version, 10))
 	switch c.QueryParam("done") {
 	case "saved":
 		f.Notice = fmt.Sprintf("Saved as “%s”.", rec.Name)
@@ -250,10 +251,61 @@ func (s *Server) postReplaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.UpdateDesign(c.Request().Context(), id, data); err != nil {
+	// The version the page opened the design at; a form without one
+	// (older than versions) saves over whatever is there.
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("saved_version")), 10, 64)
+	_, err = s.store.ReplaceDesignIf(c.Request().Context(), id, "", data, version)
+	var stale *store.StaleError
+	if errors.As(err, &stale) {
+		return s.staleDesignPage(c, id, data)
+	}
+	if err != nil {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, designsPath(id)+"?done=replaced")
+}
+
+// staleDesignPage answers a "Save over" refused because someone else
+// changed the saved design since the page opened it (409): the page again
+// with the engineer's own design, saying so, with a link to reload the
+// saved one and the "Save as new" form under the results.
+func (s *Server) staleDesignPage(c echo.Context, id int64, data []byte) error {
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	f, err := s.formFromJSON(c, data)
+	if err != nil {
+		return err
+	}
+	f.Vals.Set("saved_id", strconv.FormatInt(id, 10))
+	f.Vals.Set("saved_name", rec.Name)
+	f.Vals.Set("stale", designsPath(id))
+	// Saving over it again is refused again until it is reloaded.
+	f.Vals.Set("saved_version", savedVersion(c.FormValue("saved_version")))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	return s.renderPage(c, http.StatusConflict, ev)
+}
+
+// staleLink is v when it is the address of a saved design (the form's
+// "stale" value, which a request could set to anything), else "".
+func staleLink(v string) string {
+	id, ok := strings.CutPrefix(v, "/designs/")
+	if !ok || savedVersion(id) == "" {
+		return ""
+	}
+	return v
+}
+
+// savedVersion is v when it is a version number, else "".
+func savedVersion(v string) string {
+	if n, err := strconv.ParseInt(v, 10, 64); err != nil || n < 1 {
+		return ""
+	}
+	return v
 }
 
 // postRenameDesign is POST /designs/{id}/rename.
