@@ -82,11 +82,11 @@ type FormProps struct {
 	SavedID, SavedName, SavedVersion string
 	// Stale is the saved design's address when saving over it was refused
 	// because someone else changed it since it was opened ("" otherwise).
-	Stale string
-	Name               FieldProps
-	Window             []FieldProps
-	Load               []FieldProps
-	Steps              []StepProps
+	Stale  string
+	Name   FieldProps
+	Window []FieldProps
+	Load   []FieldProps
+	Steps  []StepProps
 	// StepsID and StepsMessage are the slot for a problem with the list of
 	// steps as a whole; MaxSteps is how many rows the form edits.
 	StepsMessageID, StepsMessage string
@@ -184,7 +184,7 @@ type ResultsProps struct {
 	// none); CanSave is false when this capbank keeps no designs.
 	// SavedVersion is the version it was opened at.
 	SavedID, SavedName, SavedVersion string
-	CanSave            bool
+	CanSave                          bool
 }
 
 // KindWasName is the hidden input that carries the kind the row was shown
