@@ -145,7 +145,8 @@ func TestLoadtestBadFlags(t *testing.T) {
 // With --writes and two URLs (two servers on one database), a quarter of
 // the connections save and delete designs, the rest size, spread over
 // both servers: every request answered, none failed, and every design the
-// load test saved was deleted again with its ETag.
+// load test saved was deleted again with its ETag (but one the end of the
+// run may cut short).
 func TestLoadtestWritesAcrossInstances(t *testing.T) {
 	t.Parallel()
 	dir := t.TempDir()
@@ -174,7 +175,9 @@ func TestLoadtestWritesAcrossInstances(t *testing.T) {
 	if _, ok := rows["GET /healthz"]; ok {
 		t.Errorf("health checks in a write mix:\n%s", stdout)
 	}
-	if ds, err := st.ListDesigns(context.Background()); err != nil || len(ds) != 0 {
-		t.Errorf("%d designs left after the load test (%v); want each deleted", len(ds), err)
+	// The end of the run may cut the one write connection between its
+	// save and its delete: at most one design is left.
+	if ds, err := st.ListDesigns(context.Background()); err != nil || len(ds) > 1 {
+		t.Errorf("%d designs left after the load test (%v); want each deleted but one cut short", len(ds), err)
 	}
 }
