@@ -128,3 +128,40 @@ func mustMkdir(t *testing.T, dir string) string {
 	}
 	return dir
 }
+
+// CAPBANK_DATABASE_URL selects PostgreSQL as --database does: the log
+// names the database without a password, the demo cells are written into
+// it, and a cell saved through the server is in the PostgreSQL schema. A
+// URL that is not PostgreSQL's is a usage error naming where it came from.
+func TestServeDatabaseFromTheEnvironment(t *testing.T) {
+	url := pgtest.Schema(t)
+	t.Setenv(databaseEnv, url)
+	base, stop, logs := startServe(t, "serve", "--addr", "127.0.0.1:0", "--data", t.TempDir())
+	status, _, body := post(t, "POST", base+"api/v1/cells", "application/json", crashCell("from-env"), nil)
+	if err := stop(); err != nil {
+		t.Fatal(err)
+	}
+	if status != 201 {
+		t.Fatalf("POST a cell: %d %s", status, body)
+	}
+	if l := logs.String(); !strings.Contains(l, `database="postgres://`) || !strings.Contains(l, "search_path=capbank_test_") {
+		t.Errorf("the log does not name the PostgreSQL database:\n%s", logs)
+	}
+	pg, err := postgres.Open(context.Background(), url)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer pg.Close()
+	if _, err := pg.GetCell(context.Background(), "from-env"); err != nil {
+		t.Errorf("the cell saved through the server: %v", err)
+	}
+	if _, err := pg.GetCell(context.Background(), store.DemoCells()[0].ID); err != nil {
+		t.Errorf("no demo cells in the PostgreSQL database: %v", err)
+	}
+
+	t.Setenv(databaseEnv, "mysql://root@db/capbank")
+	code, _, stderr := runCapbank(t, context.Background(), "serve", "--addr", "127.0.0.1:0", "--data", t.TempDir())
+	if code != 2 || !strings.Contains(stderr, databaseEnv+" must be a PostgreSQL URL") {
+		t.Errorf("a MySQL URL: exit %d, stderr %s; want 2 naming %s", code, stderr, databaseEnv)
+	}
+}
