@@ -105,6 +105,7 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 				Updated: r.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"), Created: r.CreatedAt.UTC().Format("2006-01-02 15:04 UTC"),
 				RenameAction: path + "/rename", DuplicateAction: path + "/duplicate", DeleteAction: path + "/delete",
 				FileHref: "/api/v1/designs/" + strconv.FormatInt(r.ID, 10) + "/file",
+				Version:  strconv.FormatInt(r.Version, 10),
 				Summary:  sums[i],
 			}
 			if row.ID == problemID {
@@ -315,7 +316,8 @@ func (s *Server) postRenameDesign(c echo.Context) error {
 		return err
 	}
 	name := strings.TrimSpace(c.FormValue("name"))
-	if err := s.store.RenameDesign(c.Request().Context(), id, name); err != nil {
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("version")), 10, 64)
+	if _, err := s.store.RenameDesignIf(c.Request().Context(), id, name, version); err != nil {
 		if errors.Is(err, store.ErrInvalid) {
 			return s.renderDesigns(c, http.StatusUnprocessableEntity, "", strconv.FormatInt(id, 10),
 				strings.TrimPrefix(err.Error(), store.ErrInvalid.Error()+": "))
@@ -362,7 +364,8 @@ func (s *Server) postDeleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("version")), 10, 64)
+	if err := s.store.DeleteDesignIf(c.Request().Context(), id, version); err != nil {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, "/designs?done=deleted&name="+url.QueryEscape(rec.Name))

@@ -209,3 +209,31 @@ func TestSavedDesignPageConflict(t *testing.T) {
 		t.Error("the stale notice shows for a link from the address")
 	}
 }
+
+// The saved designs list posts the version it shows with a rename and a
+// delete: after someone else's change, both are refused (412) and change
+// nothing.
+func TestDesignsListVersions(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	design := `{"window":{"max_v":48,"min_v":24},"load":{"steps":[{"power_w":1500,"duration_s":10}]},"cells":[` + userCellJSON + `]}`
+	rec := do(t, s, http.MethodPost, "/api/v1/designs", "application/json", `{"name":"Listed","design":`+design+`}`)
+	wantStatus(t, rec, http.StatusCreated)
+	loc := strings.TrimPrefix(rec.Header().Get("Location"), "/api/v1")
+	list := get(t, s, "/designs")
+	rename := url.Values{"name": {"Mine"}}
+	if v, _ := parse(t, list).Find(`form[action="` + loc + `/rename"] input[name=version]`).Attr("value"); v != "1" {
+		t.Fatalf("the rename form carries version %q, want 1", v)
+	} else {
+		rename.Set("version", v)
+	}
+	wantStatus(t, doMatch(t, s, http.MethodPatch, "/api/v1"+loc, "application/json", `{"name":"Theirs"}`, `"1"`), http.StatusOK)
+	wantStatus(t, postForm(t, s, loc+"/rename", rename, false), http.StatusPreconditionFailed)
+	wantStatus(t, postForm(t, s, loc+"/delete", url.Values{"version": {"1"}}, false), http.StatusPreconditionFailed)
+	if rec := do(t, s, http.MethodGet, "/api/v1"+loc, "", ""); !strings.Contains(rec.Body.String(), `"name":"Theirs"`) {
+		t.Errorf("after the refused rename and delete: %s", rec.Body)
+	}
+	rename.Set("version", "2")
+	wantStatus(t, postForm(t, s, loc+"/rename", rename, false), http.StatusSeeOther)
+	wantStatus(t, postForm(t, s, loc+"/delete", url.Values{"version": {"3"}}, false), http.StatusSeeOther)
+}
