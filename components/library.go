@@ -77,6 +77,13 @@ type CellPageProps struct {
 	DuplicateAction, DeleteAction, DesignHref string
 	// Writable is false when this capbank has no store.
 	Writable bool
+	// Version is the version of the cell the form was opened at (0 for a
+	// new cell), posted back so that a change made meanwhile by someone
+	// else is not overwritten.
+	Version int64
+	// Stale is the cell's address when saving was refused because someone
+	// else changed it since the form was opened ("" otherwise).
+	Stale string
 }
 
 func plural(n int, one, many string) string {

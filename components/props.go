@@ -77,12 +77,16 @@ type Slot struct{ ID, Text string }
 // FormProps is the design form.
 type FormProps struct {
 	// SavedID and SavedName are the saved design the form holds, carried
-	// so that its results offer to save over it.
-	SavedID, SavedName string
-	Name               FieldProps
-	Window             []FieldProps
-	Load               []FieldProps
-	Steps              []StepProps
+	// so that its results offer to save over it; SavedVersion is the
+	// version it was opened at.
+	SavedID, SavedName, SavedVersion string
+	// Stale is the saved design's address when saving over it was refused
+	// because someone else changed it since it was opened ("" otherwise).
+	Stale  string
+	Name   FieldProps
+	Window []FieldProps
+	Load   []FieldProps
+	Steps  []StepProps
 	// StepsID and StepsMessage are the slot for a problem with the list of
 	// steps as a whole; MaxSteps is how many rows the form edits.
 	StepsMessageID, StepsMessage string
@@ -184,8 +188,9 @@ type ResultsProps struct {
 	DesignName string
 	// SavedID and SavedName are the saved design open in the form ("" for
 	// none); CanSave is false when this capbank keeps no designs.
-	SavedID, SavedName string
-	CanSave            bool
+	// SavedVersion is the version it was opened at.
+	SavedID, SavedName, SavedVersion string
+	CanSave                          bool
 }
 
 // ProfileProps is a logged load profile as the form shows it: a summary

@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"github.com/labstack/echo/v4"
+
+	"capbank/web/store/sqlite"
 )
 
 // sqliteBusyError is a real SQLITE_BUSY from the driver: a write lock asked
@@ -40,7 +42,8 @@ func sqliteBusyError(t *testing.T) error {
 	if err == nil {
 		t.Fatal("a second write lock was granted")
 	}
-	return fmt.Errorf("saving the cell: %w", err)
+	// The store classifies the driver's errors before they reach a handler.
+	return fmt.Errorf("saving the cell: %w", sqlite.Classify(err))
 }
 
 // A database still busy after the wait is a 503 that says to send the

@@ -56,6 +56,7 @@ func (s *Server) apiGetCell(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	setETag(c, rec.Version)
 	return c.JSON(http.StatusOK, rec)
 }
 
@@ -95,12 +96,19 @@ func (s *Server) apiCreateCell(c echo.Context) error {
 		return err
 	}
 	c.Response().Header().Set(echo.HeaderLocation, "/api/v1/cells/"+url.PathEscape(cell.ID))
+	setETag(c, rec.Version)
 	return c.JSON(http.StatusCreated, rec)
 }
 
 // apiUpdateCell is PUT /api/v1/cells/{id}: replace a user cell. The body's
-// id must be the address's; demo cells are read-only (409).
+// id must be the address's; demo cells are read-only (409); If-Match
+// names the version the change was made on (412 when stale, 428 when
+// missing).
 func (s *Server) apiUpdateCell(c echo.Context) error {
+	version, err := ifMatch(c, "cell")
+	if err != nil {
+		return err
+	}
 	cell, err := readCellJSON(c)
 	if err != nil {
 		return err
@@ -113,21 +121,26 @@ func (s *Server) apiUpdateCell(c echo.Context) error {
 		return badParams(sizing.ValidationError{{Field: "id", Rule: "fixed",
 			Message: fmt.Sprintf("is %q but the address names %q; to rename a cell, create it under the new id and delete the old one", cell.ID, id)}})
 	}
-	if err := s.store.UpdateCell(c.Request().Context(), cell); err != nil {
-		return err
+	if _, err := s.store.UpdateCellIf(c.Request().Context(), cell, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	rec, err := s.store.GetCell(c.Request().Context(), id)
 	if err != nil {
 		return err
 	}
+	setETag(c, rec.Version)
 	return c.JSON(http.StatusOK, rec)
 }
 
 // apiDeleteCell is DELETE /api/v1/cells/{id}: 204; saved designs keep
 // their own copy of the cell.
 func (s *Server) apiDeleteCell(c echo.Context) error {
-	if err := s.store.DeleteCell(c.Request().Context(), cellIDParam(c)); err != nil {
+	version, err := ifMatch(c, "cell")
+	if err != nil {
 		return err
+	}
+	if err := s.store.DeleteCellIf(c.Request().Context(), cellIDParam(c), version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return c.NoContent(http.StatusNoContent)
 }

@@ -105,6 +105,7 @@ func (s *Server) renderDesigns(c echo.Context, status int, notice, problemID, pr
 				Updated: r.UpdatedAt.UTC().Format("2006-01-02 15:04 UTC"), Created: r.CreatedAt.UTC().Format("2006-01-02 15:04 UTC"),
 				RenameAction: path + "/rename", DuplicateAction: path + "/duplicate", DeleteAction: path + "/delete",
 				FileHref: "/api/v1/designs/" + strconv.FormatInt(r.ID, 10) + "/file",
+				Version:  strconv.FormatInt(r.Version, 10),
 				Summary:  sums[i],
 			}
 			if row.ID == problemID {
@@ -224,6 +225,7 @@ func (s *Server) getSavedDesign(c echo.Context) error {
 	}
 	f.Vals.Set("saved_id", strconv.FormatInt(id, 10))
 	f.Vals.Set("saved_name", rec.Name)
+	f.Vals.Set("saved_version", strconv.FormatInt(rec.Version, 10))
 	switch c.QueryParam("done") {
 	case "saved":
 		f.Notice = fmt.Sprintf("Saved as “%s”.", rec.Name)
@@ -250,10 +252,61 @@ func (s *Server) postReplaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.UpdateDesign(c.Request().Context(), id, data); err != nil {
+	// The version the page opened the design at; a form without one
+	// (older than versions) saves over whatever is there.
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("saved_version")), 10, 64)
+	_, err = s.store.ReplaceDesignIf(c.Request().Context(), id, "", data, version)
+	var stale *store.StaleError
+	if errors.As(err, &stale) {
+		return s.staleDesignPage(c, id, data)
+	}
+	if err != nil {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, designsPath(id)+"?done=replaced")
+}
+
+// staleDesignPage answers a "Save over" refused because someone else
+// changed the saved design since the page opened it (409): the page again
+// with the engineer's own design, saying so, with a link to reload the
+// saved one and the "Save as new" form under the results.
+func (s *Server) staleDesignPage(c echo.Context, id int64, data []byte) error {
+	rec, err := s.store.GetDesign(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	f, err := s.formFromJSON(c, data)
+	if err != nil {
+		return err
+	}
+	f.Vals.Set("saved_id", strconv.FormatInt(id, 10))
+	f.Vals.Set("saved_name", rec.Name)
+	f.Vals.Set("stale", designsPath(id))
+	// Saving over it again is refused again until it is reloaded.
+	f.Vals.Set("saved_version", savedVersion(c.FormValue("saved_version")))
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	return s.renderPage(c, http.StatusConflict, ev)
+}
+
+// staleLink is v when it is the address of a saved design (the form's
+// "stale" value, which a request could set to anything), else "".
+func staleLink(v string) string {
+	id, ok := strings.CutPrefix(v, "/designs/")
+	if !ok || savedVersion(id) == "" {
+		return ""
+	}
+	return v
+}
+
+// savedVersion is v when it is a version number, else "".
+func savedVersion(v string) string {
+	if n, err := strconv.ParseInt(v, 10, 64); err != nil || n < 1 {
+		return ""
+	}
+	return v
 }
 
 // postRenameDesign is POST /designs/{id}/rename.
@@ -263,7 +316,8 @@ func (s *Server) postRenameDesign(c echo.Context) error {
 		return err
 	}
 	name := strings.TrimSpace(c.FormValue("name"))
-	if err := s.store.RenameDesign(c.Request().Context(), id, name); err != nil {
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("version")), 10, 64)
+	if _, err := s.store.RenameDesignIf(c.Request().Context(), id, name, version); err != nil {
 		if errors.Is(err, store.ErrInvalid) {
 			return s.renderDesigns(c, http.StatusUnprocessableEntity, "", strconv.FormatInt(id, 10),
 				strings.TrimPrefix(err.Error(), store.ErrInvalid.Error()+": "))
@@ -310,7 +364,8 @@ func (s *Server) postDeleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("version")), 10, 64)
+	if err := s.store.DeleteDesignIf(c.Request().Context(), id, version); err != nil {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, "/designs?done=deleted&name="+url.QueryEscape(rec.Name))
@@ -431,6 +486,7 @@ func (s *Server) answerDesign(c echo.Context, status int, id int64) error {
 		return err
 	}
 	c.Response().Header().Set(echo.HeaderLocation, "/api/v1/designs/"+strconv.FormatInt(id, 10))
+	setETag(c, rec.Version)
 	return c.JSON(status, savedDesign{DesignRecord: rec, Design: rec.JSON})
 }
 
@@ -465,12 +521,16 @@ func (s *Server) apiReplaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	version, err := ifMatch(c, "saved design")
+	if err != nil {
+		return err
+	}
 	b, err := s.readDesignBody(c, false)
 	if err != nil {
 		return err
 	}
-	if err := s.store.ReplaceDesign(c.Request().Context(), id, b.Name, b.Design); err != nil {
-		return err
+	if _, err := s.store.ReplaceDesignIf(c.Request().Context(), id, b.Name, b.Design, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return s.answerDesign(c, http.StatusOK, id)
 }
@@ -478,6 +538,10 @@ func (s *Server) apiReplaceDesign(c echo.Context) error {
 // apiRenameDesign is PATCH /api/v1/designs/{id} with {"name": …}.
 func (s *Server) apiRenameDesign(c echo.Context) error {
 	id, err := savedID(c)
+	if err != nil {
+		return err
+	}
+	version, err := ifMatch(c, "saved design")
 	if err != nil {
 		return err
 	}
@@ -494,8 +558,8 @@ func (s *Server) apiRenameDesign(c echo.Context) error {
 	if err := sizing.DecodeStrict(data, &b, "body"); err != nil {
 		return malformed(withHint(validationErrors(err), `send {"name": "…"}`))
 	}
-	if err := s.store.RenameDesign(c.Request().Context(), id, b.Name); err != nil {
-		return err
+	if _, err := s.store.RenameDesignIf(c.Request().Context(), id, b.Name, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return s.answerDesign(c, http.StatusOK, id)
 }
@@ -506,8 +570,12 @@ func (s *Server) apiDeleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	if err := s.store.DeleteDesign(c.Request().Context(), id); err != nil {
+	version, err := ifMatch(c, "saved design")
+	if err != nil {
 		return err
+	}
+	if err := s.store.DeleteDesignIf(c.Request().Context(), id, version); err != nil {
+		return staleAnswer(c, err)
 	}
 	return c.NoContent(http.StatusNoContent)
 }

@@ -124,6 +124,8 @@ func classify(err error) *fault.Error {
 		mbe *http.MaxBytesError
 		ve  sizing.ValidationError
 		he  *echo.HTTPError
+
+		stale *store.StaleError
 	)
 	mibs := fmt.Sprintf("%d MiB", MaxBodyBytes>>20)
 	switch {
@@ -131,6 +133,14 @@ func classify(err error) *fault.Error {
 		return &fault.Error{Code: fault.Unavailable, Type: typeStorage, Title: "Nothing was saved", Err: err,
 			Message: "The database could not be written: " + store.StorageFault(err) + ". Nothing of this change was kept, " +
 				"and what was saved before is intact. Free space on the disk or fix the data directory's permissions, then try again."}
+	case store.Unavailable(err):
+		return &fault.Error{Code: fault.Unavailable, Type: typeDBDown, Title: "Nothing was saved", RetryAfter: busyRetryAfter, Err: err,
+			Message: "The database cannot be reached just now. Nothing of this change was kept; send it again in a few seconds, " +
+				"and tell whoever runs capbank if it goes on."}
+	case errors.As(err, &stale):
+		return &fault.Error{Code: fault.Stale, Type: typeStale, Title: "Changed by someone else since you opened it", Err: err,
+			Message: fmt.Sprintf("This %s was changed by someone else since you opened it; it is at version %d now (ETag \"%d\"). "+
+				"Nothing was saved: load it again and redo the change, or save yours as a new one.", staleWhat(stale.What), stale.Current, stale.Current)}
 	case store.Busy(err):
 		return &fault.Error{Code: fault.Unavailable, Type: typeBusy, Title: "The database is busy; retry", RetryAfter: busyRetryAfter, Err: err,
 			Message: "The database was busy with other changes for longer than capbank waits. Nothing of this change was kept; " +
@@ -192,4 +202,25 @@ func httpFault(code int, mibs string) *fault.Error {
 		fe.Code = fault.Forbidden
 	}
 	return fe
+}
+
+// staleWhat is the record a StaleError names, without its key ("cell",
+// "design").
+func staleWhat(what string) string {
+	kind, _, _ := strings.Cut(what, " ")
+	return kind
+}
+
+// ifMatchRequired is a change to a versioned record sent without If-Match
+// (428).
+func ifMatchRequired(what string) *fault.Error {
+	return &fault.Error{Code: fault.PreconditionRequired, Type: typeNeedMatch, Title: "If-Match required",
+		Message: "A change to a " + what + " needs the version it was made on: send the ETag of your last GET in an If-Match header " +
+			"(If-Match: \"3\"), so that a change made meanwhile by someone else is never overwritten."}
+}
+
+// badIfMatch is an If-Match header that names no version (400).
+func badIfMatch(got string) *fault.Error {
+	return &fault.Error{Code: fault.Malformed, Type: typeNeedMatch, Title: "Unreadable If-Match",
+		Message: fmt.Sprintf("The If-Match header %q names no version; send the ETag of your last GET as it was given, such as \"3\".", got)}
 }

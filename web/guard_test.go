@@ -435,7 +435,7 @@ func TestTokenGuardsTheLibraryAndDesigns(t *testing.T) {
 	if _, err := s.store.GetCell(ctx, "guard-test-cell"); err != nil {
 		t.Fatalf("the cell went without the token: %v", err)
 	}
-	rec = serve(s, request("DELETE", "/api/v1/cells/guard-test-cell", "", "", bearer))
+	rec = serve(s, request("DELETE", "/api/v1/cells/guard-test-cell", "", "", map[string]string{"Authorization": bearer["Authorization"], "If-Match": "*"}))
 	wantStatus(t, rec, http.StatusNoContent)
 }
 

@@ -8,6 +8,7 @@ import (
 	"net/http"
 	"net/url"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 
@@ -17,13 +18,28 @@ import (
 	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/store"
+	"capbank/web/store/postgres"
+	"capbank/web/store/sqlite"
 )
 
-// OpenStore opens (creating on first start) the database in dataDir and
-// writes the built-in demo cells into it, so a fresh data directory needs
-// no set-up step.
-func OpenStore(ctx context.Context, dataDir string) (*store.Store, error) {
-	st, err := store.Open(ctx, filepath.Join(dataDir, store.FileName))
+// OpenStore opens (creating on first start) the SQLite database in
+// dataDir and writes the built-in demo cells into it, so a fresh data
+// directory needs no set-up step.
+func OpenStore(ctx context.Context, dataDir string) (store.Store, error) {
+	return OpenDatabase(ctx, dataDir, "")
+}
+
+// OpenDatabase opens the PostgreSQL database at databaseURL (postgres://…)
+// or, when it is empty, the SQLite database in dataDir, migrates it and
+// writes the built-in demo cells into it.
+func OpenDatabase(ctx context.Context, dataDir, databaseURL string) (store.Store, error) {
+	var st store.Store
+	var err error
+	if databaseURL != "" {
+		st, err = postgres.Open(ctx, databaseURL)
+	} else {
+		st, err = sqlite.Open(ctx, filepath.Join(dataDir, store.FileName))
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -387,6 +403,7 @@ func (s *Server) cellPageProps(rec *store.CellRecord, vals url.Values, problems 
 			}
 		}
 		p.Merit = meritRows(rec.Cell)
+		p.Version = rec.Version
 	}
 	for _, fl := range cellFormFields {
 		fp := fieldProps(fl, vals.Get(fl.Name), msg[fl.Name])
@@ -530,7 +547,19 @@ func (s *Server) postCellPage(c echo.Context) error {
 		problems = sizing.ValidationError{{Field: "id", Rule: "fixed", Message: fmt.Sprintf("stays %q when editing; to change it, duplicate the cell under the new id and delete this one", id)}}
 	}
 	if len(problems) == 0 {
-		if err := s.store.UpdateCell(ctx, cell); err != nil {
+		// The version the form was opened at; a form without one (older
+		// than versions) saves over whatever is there.
+		version, _ := strconv.ParseInt(savedVersion(vals.Get("version")), 10, 64)
+		_, err := s.store.UpdateCellIf(ctx, cell, version)
+		var stale *store.StaleError
+		if errors.As(err, &stale) {
+			// The engineer's figures stay in the form, at the version
+			// they opened, so that saving again is refused again.
+			p := s.cellPageProps(&rec, vals, nil, false)
+			p.Version, p.Stale = version, libraryPath(id)
+			return s.render(c, http.StatusConflict, components.CellPage(p))
+		}
+		if err != nil {
 			return err
 		}
 		return c.Redirect(http.StatusSeeOther, libraryPath(id)+"?done=saved")
@@ -550,7 +579,8 @@ func (s *Server) postDuplicateCell(c echo.Context) error {
 // postDeleteCell is POST /library/{id}/delete.
 func (s *Server) postDeleteCell(c echo.Context) error {
 	id := cellIDParam(c)
-	if err := s.store.DeleteCell(c.Request().Context(), id); err != nil {
+	version, _ := strconv.ParseInt(savedVersion(c.FormValue("version")), 10, 64)
+	if err := s.store.DeleteCellIf(c.Request().Context(), id, version); err != nil {
 		return err
 	}
 	return c.Redirect(http.StatusSeeOther, "/library?done=deleted&id="+url.QueryEscape(id))

@@ -20,11 +20,26 @@ import (
 )
 
 // do sends a request with an optional body of the given type.
+// do sends a request; a change to a versioned record (PUT, PATCH, DELETE)
+// goes with If-Match: *, whatever the version (doMatch names one).
 func do(t testing.TB, s http.Handler, method, target, ctype, body string) *httptest.ResponseRecorder {
+	t.Helper()
+	match := ""
+	if method == http.MethodPut || method == http.MethodPatch || method == http.MethodDelete {
+		match = "*"
+	}
+	return doMatch(t, s, method, target, ctype, body, match)
+}
+
+// doMatch sends a request with the If-Match header ifMatch (none when "").
+func doMatch(t testing.TB, s http.Handler, method, target, ctype, body, ifMatch string) *httptest.ResponseRecorder {
 	t.Helper()
 	req := httptest.NewRequest(method, target, strings.NewReader(body))
 	if ctype != "" {
 		req.Header.Set("Content-Type", ctype)
+	}
+	if ifMatch != "" {
+		req.Header.Set("If-Match", ifMatch)
 	}
 	return serve(s, req)
 }

@@ -3,6 +3,7 @@ package web
 import (
 	"bytes"
 	"compress/gzip"
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
@@ -48,7 +49,7 @@ type Config struct {
 	// Store is the cell library and the saved designs, opened by the caller
 	// (OpenStore). Nil: the library is the built-in demo cells, read-only,
 	// and saving answers 503.
-	Store *store.Store
+	Store store.Store
 	// Logger receives errors and panics; nil discards them.
 	Logger *slog.Logger
 	// ComputeTimeout is the most one request may spend sizing or writing
@@ -79,7 +80,7 @@ type Server struct {
 	echo    *echo.Echo
 	log     *slog.Logger
 	dataDir string
-	store   *store.Store
+	store   store.Store
 	css, js string // versioned URLs of the stylesheet and htmx
 	// now dates the PDF report; tests fix it.
 	now func() time.Time
@@ -246,7 +247,22 @@ func (s *Server) staticFile(c echo.Context) error {
 	return c.Blob(http.StatusOK, a.ctype, body)
 }
 
+// healthPing bounds how long /healthz waits for the database.
+const healthPing = 2 * time.Second
+
+// healthz is GET /healthz: 200 {"status": "ok"} when the server and its
+// database answer; 503 {"status": "unavailable"} when the database does
+// not, with the reason in the log only (a load balancer's probe needs no
+// more, and the reason may name hosts).
 func (s *Server) healthz(c echo.Context) error {
+	if s.store != nil {
+		ctx, cancel := context.WithTimeout(c.Request().Context(), healthPing)
+		defer cancel()
+		if err := s.store.Ping(ctx); err != nil {
+			s.log.Error("health check: the database does not answer", "database", s.store.Describe(), "err", err)
+			return c.JSON(http.StatusServiceUnavailable, map[string]string{"status": "unavailable"})
+		}
+	}
 	return c.JSON(http.StatusOK, map[string]string{"status": "ok"})
 }
 

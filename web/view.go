@@ -113,7 +113,8 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		return out
 	}
 	p := components.FormProps{
-		SavedID: f.SavedID(), SavedName: f.Value("saved_name"),
+		SavedID: f.SavedID(), SavedName: f.Value("saved_name"), SavedVersion: savedVersion(f.Value("saved_version")),
+		Stale:          staleLink(f.Value("stale")),
 		Name:           fieldProps(form.NameField, f.Value("name"), msg["name"]),
 		Window:         group(form.WindowFields),
 		Load:           group(form.LoadFields),
@@ -302,7 +303,7 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 
 func resultsProps(ev *evaluation) components.ResultsProps {
 	p := components.ResultsProps{Sort: ev.form.Sort, LastGood: ev.form.LastGood,
-		SavedID: ev.form.SavedID(), SavedName: ev.form.Value("saved_name"), DesignName: strings.TrimSpace(ev.form.Value("name"))}
+		SavedID: ev.form.SavedID(), SavedName: ev.form.Value("saved_name"), SavedVersion: savedVersion(ev.form.Value("saved_version")), DesignName: strings.TrimSpace(ev.form.Value("name"))}
 	n := len(ev.problems)
 	switch {
 	case ev.pristine:

@@ -20,6 +20,7 @@ import (
 	"time"
 
 	"capbank/web/store"
+	"capbank/web/store/sqlite"
 )
 
 // These tests run the real capbank binary: only a separate process can be
@@ -222,7 +223,7 @@ func TestCrashKeepsAcknowledgedWrites(t *testing.T) {
 	}
 
 	ctx := context.Background()
-	st, err := store.Open(ctx, filepath.Join(data, store.FileName))
+	st, err := sqlite.Open(ctx, filepath.Join(data, store.FileName))
 	if err != nil {
 		t.Fatalf("the database does not open after the kills: %v", err)
 	}
@@ -395,7 +396,7 @@ func TestFullDiskIsAClearErrorAtWrite(t *testing.T) {
 	t.Logf("%d writes saved, %d refused as the disk filled", len(saved), refused)
 
 	ctx := context.Background()
-	st, err := store.Open(ctx, filepath.Join(data, store.FileName))
+	st, err := sqlite.Open(ctx, filepath.Join(data, store.FileName))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -19,7 +19,7 @@ import (
 	"capbank/sizing"
 )
 
-const loadtestUsage = `usage: capbank loadtest --url URL [--concurrency N] [--duration D] [--design FILE]
+const loadtestUsage = `usage: capbank loadtest --url URL[,URL…] [--concurrency N] [--duration D] [--design FILE] [--writes PERCENT]
 
 Drives a running capbank server for a while and prints, for POST
 /api/v1/size (with a demo design, or the design file --design names) and
@@ -29,6 +29,12 @@ evenly between the two endpoints, which run at the same time; each
 connection sends its next request as soon as the last is answered. Any
 error (a refused connection, a timeout, a status other than 200, a sizing
 answer without candidates) is counted, and makes the exit status 1.
+
+Several URLs (instances of one capbank behind no proxy) share the
+connections in turn. With --writes PERCENT, that share of the
+connections writes saved designs instead (its line, POST
+/api/v1/designs, counts a save and the DELETE of what it saved, with its
+If-Match, as one request) and the rest size: no health checks.
 
 flags:
 `
@@ -63,6 +69,9 @@ type loadEndpoint struct {
 	// should give.
 	check func(body []byte) error
 
+	// designWrite makes a request a saved design's POST and DELETE.
+	designWrite bool
+
 	mu        sync.Mutex
 	latencies []time.Duration // of the answered requests
 	errors    int
@@ -84,6 +93,9 @@ func (e *loadEndpoint) record(d time.Duration, err error) {
 
 // once sends one request and reads the whole answer.
 func (e *loadEndpoint) once(ctx context.Context, client *http.Client, base string) error {
+	if e.designWrite {
+		return e.writeOnce(ctx, client, base)
+	}
 	var body io.Reader
 	if e.body != nil {
 		body = bytes.NewReader(e.body)
@@ -129,6 +141,7 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	duration := flags.Duration("duration", 20*time.Second, "how long to drive the server, as 20s or 1m")
 	designFile := flags.String("design", "", "size the design in `FILE` instead of the built-in demo design")
 	timeout := flags.Duration("timeout", 10*time.Second, "count a request as an error after this long")
+	writes := flags.Float64("writes", 0, "`PERCENT` of the connections that save and delete designs instead (0: none, and half check health)")
 	cl, err := parseCommand(flags, args, loadtestUsage)
 	if err != nil {
 		return err
@@ -137,7 +150,16 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if len(cl.pos) > 0 {
 		return usageFailure(stderr, usage, "capbank loadtest: takes no arguments (got %q); the server goes in --url", cl.pos[0])
 	}
-	u, err := url.Parse(*target)
+	targets := strings.Split(*target, ",")
+	u, err := url.Parse(targets[0])
+	for _, t := range targets[1:] {
+		if err == nil {
+			var ut *url.URL
+			if ut, err = url.Parse(t); err == nil && ((ut.Scheme != "http" && ut.Scheme != "https") || ut.Host == "") {
+				err = errors.New("not an http:// address")
+			}
+		}
+	}
 	switch {
 	case *target == "":
 		return usageFailure(stderr, usage, "capbank loadtest: --url is required (the running server, as http://127.0.0.1:8080)")
@@ -149,6 +171,8 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 		return usageFailure(stderr, usage, "capbank loadtest: --duration must be positive (got %v)", *duration)
 	case *timeout <= 0:
 		return usageFailure(stderr, usage, "capbank loadtest: --timeout must be positive (got %v)", *timeout)
+	case !(*writes >= 0 && *writes < 100):
+		return usageFailure(stderr, usage, "capbank loadtest: --writes must be a percentage from 0 to below 100 (got %v)", *writes)
 	}
 	design := []byte(loadtestDesign)
 	if *designFile != "" {
@@ -160,7 +184,11 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 	if _, err := sizing.DecodeDesign(bytes.NewReader(design)); err != nil {
 		return err
 	}
-	base := strings.TrimSuffix(u.String(), "/")
+	var bases []string
+	for _, t := range targets {
+		bases = append(bases, strings.TrimSuffix(strings.TrimSpace(t), "/"))
+	}
+	base := strings.Join(bases, ",")
 
 	size := &loadEndpoint{name: "POST /api/v1/size", method: http.MethodPost, path: "/api/v1/size",
 		body: design, ctype: "application/json", check: func(b []byte) error {
@@ -176,22 +204,40 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 		return nil
 	}}
 	endpoints := []*loadEndpoint{size, health}
+	// pick gives connection i its endpoint.
+	pick := func(i int) *loadEndpoint { return endpoints[i%2] }
+	if *writes > 0 {
+		w := &loadEndpoint{name: "POST /api/v1/designs", designWrite: true, body: designWriteBody(design)}
+		endpoints = []*loadEndpoint{size, w}
+		nw := max(1, int(math.Round(float64(*conns)**writes/100)))
+		pick = func(i int) *loadEndpoint {
+			if i < nw {
+				return w
+			}
+			return size
+		}
+	}
 	client := &http.Client{Timeout: *timeout, Transport: &http.Transport{
 		Proxy: nil, MaxIdleConns: *conns, MaxIdleConnsPerHost: *conns, IdleConnTimeout: time.Minute}}
 	defer client.CloseIdleConnections()
 
+	counts := map[*loadEndpoint]int{}
+	for i := range *conns {
+		counts[pick(i)]++
+	}
 	fmt.Fprintf(stderr, "capbank loadtest: %s for %v, %d connections (%d on %s, %d on %s)\n",
-		base, *duration, *conns, *conns-*conns/2, size.name, *conns/2, health.name)
+		base, *duration, *conns, counts[endpoints[0]], endpoints[0].name, counts[endpoints[1]], endpoints[1].name)
 	runCtx, cancel := context.WithTimeout(ctx, *duration)
 	defer cancel()
 	start := time.Now()
 	var wg sync.WaitGroup
 	for i := range *conns {
-		e := endpoints[i%2]
+		e := pick(i)
+		b := bases[i%len(bases)]
 		wg.Go(func() {
 			for runCtx.Err() == nil {
 				t0 := time.Now()
-				err := e.once(runCtx, client, base)
+				err := e.once(runCtx, client, b)
 				if runCtx.Err() != nil {
 					return // cut short by the end of the run: not the server's fault
 				}
@@ -213,7 +259,7 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 			ms(percentile(e.latencies, 0.5)), ms(percentile(e.latencies, 0.99)), e.errors)
 		failed += e.errors
 	}
-	if rps[1] > 0 {
+	if rps[1] > 0 && endpoints[1] == health {
 		fmt.Fprintf(stdout, "sizing throughput: %.1f %% of the health check's\n", 100*rps[0]/rps[1])
 	}
 	if ctx.Err() != nil {
@@ -232,3 +278,46 @@ func runLoadtest(ctx context.Context, args []string, stdout, stderr io.Writer) e
 }
 
 func ms(d time.Duration) float64 { return d.Seconds() * 1e3 }
+
+// designWriteBody is the body that saves design under a load-test name.
+func designWriteBody(design []byte) []byte {
+	return []byte(`{"name":"Load test (invented demo data)","design":` + string(design) + `}`)
+}
+
+// writeOnce saves a design and deletes it again with the ETag it was
+// saved at: both must succeed (201, 204).
+func (e *loadEndpoint) writeOnce(ctx context.Context, client *http.Client, base string) error {
+	send := func(method, target string, body []byte, header map[string]string, want int) (*http.Response, error) {
+		var r io.Reader
+		if body != nil {
+			r = bytes.NewReader(body)
+		}
+		req, err := http.NewRequestWithContext(ctx, method, target, r)
+		if err != nil {
+			return nil, err
+		}
+		for k, v := range header {
+			req.Header.Set(k, v)
+		}
+		resp, err := client.Do(req)
+		if err != nil {
+			return nil, err
+		}
+		io.Copy(io.Discard, resp.Body)
+		resp.Body.Close()
+		if resp.StatusCode != want {
+			return nil, fmt.Errorf("%s: status %d", method, resp.StatusCode)
+		}
+		return resp, nil
+	}
+	resp, err := send(http.MethodPost, base+"/api/v1/designs", e.body, map[string]string{"Content-Type": "application/json"}, http.StatusCreated)
+	if err != nil {
+		return err
+	}
+	loc, tag := resp.Header.Get("Location"), resp.Header.Get("ETag")
+	if loc == "" || tag == "" {
+		return errors.New("POST: a saved design without Location or ETag")
+	}
+	_, err = send(http.MethodDelete, base+loc, nil, map[string]string{"If-Match": tag}, http.StatusNoContent)
+	return err
+}

@@ -43,6 +43,9 @@ var commands = []command{
 	{"serve", "start the web server (the default)", runServe},
 	{"measure", "characterise a cell from test data (capacitance, ESR, leakage)", runMeasure},
 	{"loadtest", "drive a running server and print its throughput and latency", runLoadtest},
+	{"migrate", "apply the database migrations without serving", runMigrate},
+	{"export-library", "write every cell and saved design to one JSON file", runExportLibrary},
+	{"import-library", "read a library file into a new database", runImportLibrary},
 }
 
 // run is capbank without the process around it: it parses args (without the

@@ -16,6 +16,7 @@ import (
 	"capbank/components/export"
 	"capbank/sizing"
 	"capbank/web/store"
+	"capbank/web/store/sqlite"
 )
 
 // stdin is where the design comes from when the design file is "-"; tests
@@ -314,7 +315,7 @@ func openLibrary(ctx context.Context, dataDir string, explicit bool) (func(strin
 		}
 		return store.DemoCell, func() {}, nil
 	}
-	st, err := store.Open(ctx, path)
+	st, err := sqlite.Open(ctx, path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("--data %s: %w", dataDir, err)
 	}

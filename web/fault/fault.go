@@ -33,6 +33,12 @@ const (
 	// Conflict: the change clashes with what is stored (an id taken, a
 	// read-only cell).
 	Conflict Code = "conflict"
+	// Stale: the change was made on a version of the record that is no
+	// longer the current one (If-Match).
+	Stale Code = "stale"
+	// PreconditionRequired: a change to a versioned record without the
+	// version it was made on (If-Match).
+	PreconditionRequired Code = "precondition_required"
 	// Unauthorized: a write without the access token.
 	Unauthorized Code = "unauthorized"
 	// Forbidden: a write from another site's page.
@@ -51,17 +57,19 @@ type status struct{ http, exit int }
 // exits 2 for anything the user can fix in what they gave (the usage
 // convention of most Unix tools), 1 for the rest.
 var table = map[Code]status{
-	Malformed:        {400, 2},
-	Invalid:          {422, 2},
-	TooLarge:         {413, 2},
-	MediaType:        {415, 2},
-	NotFound:         {404, 1},
-	MethodNotAllowed: {405, 1},
-	Conflict:         {409, 1},
-	Unauthorized:     {401, 1},
-	Forbidden:        {403, 1},
-	Unavailable:      {503, 1},
-	Internal:         {500, 1},
+	Malformed:            {400, 2},
+	Invalid:              {422, 2},
+	TooLarge:             {413, 2},
+	MediaType:            {415, 2},
+	NotFound:             {404, 1},
+	MethodNotAllowed:     {405, 1},
+	Conflict:             {409, 1},
+	Stale:                {412, 1},
+	PreconditionRequired: {428, 1},
+	Unauthorized:         {401, 1},
+	Forbidden:            {403, 1},
+	Unavailable:          {503, 1},
+	Internal:             {500, 1},
 }
 
 // Codes lists every code, in no particular order.

@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"bytes"
 	"context"
-	"database/sql"
 	"encoding/csv"
 	"encoding/json"
 	"errors"
@@ -141,6 +140,8 @@ type parsedCell struct {
 	cell   sizing.Cell
 	err    string
 	action string
+	// parseErr is err before the library was consulted.
+	parseErr string
 }
 
 // ImportCellsCSV reads cells from CSV (RFC 4180, a header row of the
@@ -148,7 +149,7 @@ type parsedCell struct {
 // others optional; numbers plain, in the unit the column names) and adds
 // them to the library — all of them, or, if any row is bad, none. mode
 // says what a row whose id is already in the library does (ImportMode).
-func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
+func (s *library) ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	rows, fileErr := parseCellsCSV(r)
 	if fileErr != "" {
 		return ImportReport{Error: fileErr}, nil
@@ -159,7 +160,7 @@ func (s *Store) ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode
 // ImportCellsJSON reads cells as a JSON list of design-file cells (or an
 // object {"cells": [...]}) and imports them as ImportCellsCSV does; the
 // report's Line is the item's position in the list, from 1.
-func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
+func (s *library) ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
 		return ImportReport{Error: "could not read the file: " + err.Error()}, nil
@@ -187,7 +188,7 @@ func (s *Store) ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMod
 // bad. Whether an id is already in the library is checked in the write
 // transaction itself, so a cell added by someone else meanwhile is a
 // rejected row, never a failed insert.
-func (s *Store) importRows(ctx context.Context, rows []parsedCell, mode ImportMode) (ImportReport, error) {
+func (s *library) importRows(ctx context.Context, rows []parsedCell, mode ImportMode) (ImportReport, error) {
 	if mode == "" {
 		mode = ImportAdd
 	}
@@ -210,17 +211,25 @@ func (s *Store) importRows(ctx context.Context, rows []parsedCell, mode ImportMo
 			}
 		}
 	}
+	for i := range rows {
+		rows[i].parseErr = rows[i].err
+	}
 	rejected := false
-	err := s.tx(ctx, func(tx *sql.Tx) error {
+	err := s.b.Write(ctx, func(tx Querier) error {
+		// A backend may run this again after a conflict: start afresh.
+		rejected = false
+		for i := range rows {
+			rows[i].err, rows[i].action = rows[i].parseErr, ""
+		}
 		for i := range rows {
 			p := &rows[i]
 			if p.err != "" {
 				rejected = true
 				continue
 			}
-			old, err := scanCell(tx.QueryRowContext(ctx, `SELECT cell_json, read_only, created_at, updated_at FROM cells WHERE id = ?`, p.cell.ID))
+			old, err := scanCell(tx.QueryRow(ctx, `SELECT cell_json, read_only, created_at, updated_at, version FROM cells WHERE id = ?`, p.cell.ID))
 			switch {
-			case errors.Is(err, sql.ErrNoRows):
+			case errors.Is(err, ErrNoRows):
 				p.action = ActionAdded
 			case err != nil:
 				return err

@@ -1,31 +1,22 @@
-// Package store keeps capbank's cell library and saved designs in an
-// embedded SQLite database (modernc.org/sqlite, pure Go): one file in the
-// data directory, created on first open with no set-up step.
+// Package store is capbank's cell library and saved designs: the Store
+// interface the web handlers and the command line use, the records and
+// errors they see, the import and export of cells, the built-in demo
+// cells, and the one implementation of the library's rules (demo cells are
+// read-only, imports are all or nothing, copies are named, versions are
+// bumped) over a Backend.
 //
-// The schema is a numbered list of embedded SQL migrations, applied in order
-// at open and recorded in schema_migrations. The database runs in WAL mode
-// with foreign keys on; every query takes a context.
-//
-// Writes queue: every write is one transaction on the store's single
-// writer connection, begun IMMEDIATE. In WAL mode a deferred transaction
-// that reads first and then writes cannot wait for the write lock — SQLite
-// calls the busy handler only for a connection that holds no transaction
-// yet, so the upgrade fails at once with SQLITE_BUSY (or
-// SQLITE_BUSY_SNAPSHOT when another writer committed since its read) and
-// busy_timeout never applies. BEGIN IMMEDIATE takes the write lock first,
-// where busy_timeout does apply (another process writing the same file);
-// the one writer connection makes this process's own writes wait their
-// turn in Go instead of polling SQLite's lock. A write that still cannot
-// start is an error for which Busy is true: nothing of it was kept, and it
-// may be sent again.
+// Two backends hold the data: web/store/sqlite, the embedded default (one
+// file in the data directory, no set-up), and web/store/postgres, a shared
+// PostgreSQL database for several capbank instances. Each writes every
+// change as one transaction (Backend.Write) and has its own numbered
+// migrations; the rules live here once, so the two cannot drift.
 package store
 
 import (
 	"context"
-	"database/sql"
-	"embed"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"path"
 	"sort"
@@ -33,194 +24,203 @@ import (
 	"strings"
 	"time"
 
-	_ "modernc.org/sqlite" // registers the "sqlite" driver
+	"capbank/sizing"
 )
-
-//go:embed migrations/*.sql
-var migrationFiles embed.FS
 
 // Errors a caller maps to a status: ErrNotFound (404), ErrExists and
-// ErrReadOnly (409), ErrInvalid (422), ErrBusy (503, send it again).
+// ErrReadOnly (409), ErrInvalid (422), ErrBusy (503, send it again),
+// ErrUnavailable (503, the database cannot be reached), ErrStale (412, the
+// record changed since the version the caller read).
 var (
-	ErrNotFound = errors.New("not found")
-	ErrExists   = errors.New("already exists")
-	ErrReadOnly = errors.New("read-only")
-	ErrInvalid  = errors.New("invalid")
-	ErrBusy     = errors.New("the database is busy with other writes")
+	ErrNotFound    = errors.New("not found")
+	ErrExists      = errors.New("already exists")
+	ErrReadOnly    = errors.New("read-only")
+	ErrInvalid     = errors.New("invalid")
+	ErrBusy        = errors.New("the database is busy with other writes")
+	ErrUnavailable = errors.New("the database cannot be reached")
+	ErrStale       = errors.New("changed by someone else")
 )
 
-// Store is an open capbank database.
-type Store struct {
-	// db reads: any number of connections, each reading its own snapshot
-	// of the WAL alongside the writer.
-	db *sql.DB
-	// writer is the one connection that writes, its transactions begun
-	// IMMEDIATE (see the package comment).
-	writer *sql.DB
-}
+// ErrNoRows is what a backend's Row.Scan returns when the query found no
+// row (each backend maps its driver's own to it).
+var ErrNoRows = errors.New("store: no row")
 
-// writeWait bounds how long a write waits for its turn on the writer
-// connection before it is ErrBusy. A write here is a person saving a cell or
-// a design, a few milliseconds with its commit synced; busyTimeout bounds
-// the wait for another process's write lock once it is its turn.
-const (
-	writeWait   = 15 * time.Second
-	busyTimeout = 5 * time.Second
-)
-
-// FileName is the database file's name in the data directory.
+// FileName is the SQLite database file's name in the data directory.
 const FileName = "capbank.db"
 
-// Open opens (creating if needed) the database file at path and applies
-// any migrations it lacks.
-func Open(ctx context.Context, path string) (*Store, error) {
-	return openTo(ctx, path, 0)
+// Row is one row of a query.
+type Row interface{ Scan(dest ...any) error }
+
+// Rows are the rows of a query; Close must be called.
+type Rows interface {
+	Next() bool
+	Scan(dest ...any) error
+	Err() error
+	Close()
 }
 
-// openTo opens the database and migrates it to version upTo (0: the
-// latest); tests use it to build older versions.
-func openTo(ctx context.Context, dbPath string, upTo int) (*Store, error) {
-	// _pragma parameters apply to every connection the pool opens.
-	// synchronous(FULL): in WAL mode NORMAL syncs the log only at a
-	// checkpoint, so a commit already answered could roll back after a
-	// power loss; FULL syncs it at every commit (SQLite, PRAGMA
-	// synchronous). Writes here are a person saving a cell or a design.
-	// _txlock=immediate: every transaction the writer begins is BEGIN
-	// IMMEDIATE (modernc.org/sqlite's DSN parameter).
-	dsn := "file:" + dbPath + "?_pragma=journal_mode(WAL)&_pragma=foreign_keys(1)&_pragma=synchronous(FULL)" +
-		fmt.Sprintf("&_pragma=busy_timeout(%d)", busyTimeout.Milliseconds())
-	// The writer opens first: it creates the file and turns on WAL.
-	writer, err := openPool(ctx, dbPath, dsn+"&_txlock=immediate")
+// Querier runs SQL on a backend: a connection pool for reads, or the
+// transaction of a write. Queries are written with ? placeholders; a
+// backend whose driver numbers them ($1, $2…) rewrites them. Errors come
+// back classified: ErrNoRows, or wrapped in ErrBusy or ErrUnavailable, or a
+// *StorageError.
+type Querier interface {
+	QueryRow(ctx context.Context, q string, args ...any) Row
+	Query(ctx context.Context, q string, args ...any) (Rows, error)
+	// Exec runs a statement and returns the rows it changed.
+	Exec(ctx context.Context, q string, args ...any) (int64, error)
+}
+
+// Backend is a database that holds a capbank library.
+type Backend interface {
+	// Reader runs reads outside any write.
+	Reader() Querier
+	// Write runs f in one transaction, committed when f returns nil and
+	// rolled back whole otherwise. Writes are serialisable: f may be run
+	// again when the backend's database says it conflicted with another
+	// write, so f must only touch the database.
+	Write(ctx context.Context, f func(Querier) error) error
+	// Ping checks that the database answers.
+	Ping(ctx context.Context) error
+	// SchemaVersion is the highest migration applied.
+	SchemaVersion(ctx context.Context) (int, error)
+	// Describe names the database for the log, without any password.
+	Describe() string
+	Close() error
+}
+
+// StorageError is a write the disk or the file system refused (full,
+// read-only, failing); Reason says so in plain words.
+type StorageError struct {
+	Reason string
+	Err    error
+}
+
+func (e *StorageError) Error() string { return e.Reason + ": " + e.Err.Error() }
+func (e *StorageError) Unwrap() error { return e.Err }
+
+// StorageFault says in plain words why the database could not be written
+// when err is a fault of the disk or the file system rather than of the
+// request, and "" for any other error. A write that failed so was rolled
+// back whole: nothing of it was kept.
+func StorageFault(err error) string {
+	var se *StorageError
+	if errors.As(err, &se) {
+		return se.Reason
+	}
+	return ""
+}
+
+// Busy is true when err is a write or a read that could not run because
+// the database was busy: nothing of it was kept and it may be sent again.
+func Busy(err error) bool { return errors.Is(err, ErrBusy) }
+
+// Unavailable is true when err is a database that could not be reached:
+// nothing of the write was kept.
+func Unavailable(err error) bool { return errors.Is(err, ErrUnavailable) }
+
+// Store is the cell library and the saved designs, as the web handlers
+// and the command line use them. Versions: every cell and design has one,
+// 1 when written first and one more at each change; a write given
+// ifVersion > 0 is refused with a *StaleError (ErrStale) when the record's
+// version is another, and ifVersion 0 writes whatever the version.
+type Store interface {
+	SeedDemo(ctx context.Context, cells []sizing.Cell) error
+	ListCells(ctx context.Context, f CellFilter) ([]CellRecord, error)
+	GetCell(ctx context.Context, id string) (CellRecord, error)
+	Lookup(ctx context.Context) func(id string) (sizing.Cell, bool)
+	CreateCell(ctx context.Context, c sizing.Cell) error
+	UpdateCell(ctx context.Context, c sizing.Cell) error
+	UpdateCellIf(ctx context.Context, c sizing.Cell, ifVersion int64) (int64, error)
+	DeleteCell(ctx context.Context, id string) error
+	DeleteCellIf(ctx context.Context, id string, ifVersion int64) error
+	DuplicateCell(ctx context.Context, id, newID string) (CellRecord, error)
+	ImportCellsCSV(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error)
+	ImportCellsJSON(ctx context.Context, r io.Reader, mode ImportMode) (ImportReport, error)
+
+	SaveDesign(ctx context.Context, name string, designJSON []byte) (int64, error)
+	GetDesign(ctx context.Context, id int64) (DesignRecord, error)
+	ListDesigns(ctx context.Context) ([]DesignRecord, error)
+	UpdateDesign(ctx context.Context, id int64, designJSON []byte) error
+	ReplaceDesign(ctx context.Context, id int64, name string, designJSON []byte) error
+	ReplaceDesignIf(ctx context.Context, id int64, name string, designJSON []byte, ifVersion int64) (int64, error)
+	RenameDesign(ctx context.Context, id int64, name string) error
+	RenameDesignIf(ctx context.Context, id int64, name string, ifVersion int64) (int64, error)
+	DeleteDesign(ctx context.Context, id int64) error
+	DeleteDesignIf(ctx context.Context, id int64, ifVersion int64) error
+	DuplicateDesign(ctx context.Context, id int64, name string) (int64, error)
+
+	// Library is every cell and every design, for export-library.
+	Library(ctx context.Context) (LibraryFile, error)
+	// RestoreLibrary writes a library file into an empty store, keeping
+	// ids, names, times and versions.
+	RestoreLibrary(ctx context.Context, lib LibraryFile) error
+
+	Ping(ctx context.Context) error
+	SchemaVersion(ctx context.Context) (int, error)
+	Describe() string
+	Close() error
+}
+
+// StaleError is a write refused because the record changed since the
+// version the caller read: Current is its version now.
+type StaleError struct {
+	What    string
+	Current int64
+}
+
+func (e *StaleError) Error() string {
+	return fmt.Sprintf("%s was changed by someone else since you opened it (it is at version %d now)", e.What, e.Current)
+}
+
+func (e *StaleError) Unwrap() error { return ErrStale }
+
+// New is the library kept in backend b.
+func New(b Backend) Store { return &library{b: b} }
+
+// library implements Store over a Backend.
+type library struct{ b Backend }
+
+func (s *library) Ping(ctx context.Context) error                 { return s.b.Ping(ctx) }
+func (s *library) SchemaVersion(ctx context.Context) (int, error) { return s.b.SchemaVersion(ctx) }
+func (s *library) Describe() string                               { return s.b.Describe() }
+func (s *library) Close() error                                   { return s.b.Close() }
+
+// Migration is one numbered schema step of a backend.
+type Migration struct {
+	Version int
+	Name    string
+	SQL     string
+}
+
+// Migrations reads the files NNNN_name.sql in dir of fsys, in order.
+func Migrations(fsys fs.FS, dir string) ([]Migration, error) {
+	entries, err := fs.ReadDir(fsys, dir)
 	if err != nil {
 		return nil, err
 	}
-	writer.SetMaxOpenConns(1)
-	db, err := openPool(ctx, dbPath, dsn)
-	if err != nil {
-		writer.Close()
-		return nil, err
-	}
-	s := &Store{db: db, writer: writer}
-	if err := s.migrate(ctx, upTo); err != nil {
-		s.Close()
-		return nil, err
-	}
-	return s, nil
-}
-
-func openPool(ctx context.Context, dbPath, dsn string) (*sql.DB, error) {
-	db, err := sql.Open("sqlite", dsn)
-	if err != nil {
-		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
-	}
-	if err := db.PingContext(ctx); err != nil {
-		db.Close()
-		return nil, fmt.Errorf("store: open %s: %w", dbPath, err)
-	}
-	return db, nil
-}
-
-// Close closes the database.
-func (s *Store) Close() error { return errors.Join(s.db.Close(), s.writer.Close()) }
-
-type migration struct {
-	version int
-	name    string
-	sql     string
-}
-
-func migrations() ([]migration, error) {
-	entries, err := fs.ReadDir(migrationFiles, "migrations")
-	if err != nil {
-		return nil, err
-	}
-	var ms []migration
+	var ms []Migration
 	for _, e := range entries {
 		num, _, ok := strings.Cut(e.Name(), "_")
 		v, err := strconv.Atoi(num)
 		if !ok || err != nil {
 			return nil, fmt.Errorf("store: migration %s is not named NNNN_name.sql", e.Name())
 		}
-		b, err := migrationFiles.ReadFile(path.Join("migrations", e.Name()))
+		b, err := fs.ReadFile(fsys, path.Join(dir, e.Name()))
 		if err != nil {
 			return nil, err
 		}
-		ms = append(ms, migration{version: v, name: e.Name(), sql: string(b)})
+		ms = append(ms, Migration{Version: v, Name: e.Name(), SQL: string(b)})
 	}
-	sort.Slice(ms, func(i, j int) bool { return ms[i].version < ms[j].version })
+	sort.Slice(ms, func(i, j int) bool { return ms[i].Version < ms[j].Version })
 	return ms, nil
 }
 
-// SchemaVersion returns the highest migration applied.
-func (s *Store) SchemaVersion(ctx context.Context) (int, error) {
-	var v sql.NullInt64
-	err := s.db.QueryRowContext(ctx, `SELECT MAX(version) FROM schema_migrations`).Scan(&v)
-	return int(v.Int64), err
-}
+// Now is the time a write records, as stored: UTC, RFC 3339 with
+// nanoseconds.
+func Now() string { return time.Now().UTC().Format(time.RFC3339Nano) }
 
-func (s *Store) migrate(ctx context.Context, upTo int) error {
-	if _, err := s.writer.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
-		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
-		return fmt.Errorf("store: migrations table: %w", err)
-	}
-	ms, err := migrations()
-	if err != nil {
-		return err
-	}
-	for _, m := range ms {
-		if upTo > 0 && m.version > upTo {
-			break
-		}
-		err := s.tx(ctx, func(tx *sql.Tx) error {
-			var n int
-			if err := tx.QueryRowContext(ctx, `SELECT COUNT(*) FROM schema_migrations WHERE version = ?`, m.version).Scan(&n); err != nil {
-				return err
-			}
-			if n > 0 {
-				return nil
-			}
-			if _, err := tx.ExecContext(ctx, m.sql); err != nil {
-				return err
-			}
-			_, err := tx.ExecContext(ctx, `INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)`,
-				m.version, m.name, now())
-			return err
-		})
-		if err != nil {
-			return fmt.Errorf("store: migration %s: %w", m.name, err)
-		}
-	}
-	return nil
-}
-
-// tx runs f in one write transaction on the writer connection, committing
-// when f returns nil. It waits at most writeWait for the connection (other
-// writes of this process before it), then at most busyTimeout for the
-// write lock (another process's write); either wait that runs out is an
-// error for which Busy is true, with nothing written.
-func (s *Store) tx(ctx context.Context, f func(*sql.Tx) error) error {
-	wait, cancel := context.WithTimeout(ctx, writeWait)
-	conn, err := s.writer.Conn(wait)
-	cancel()
-	if err != nil {
-		if ctx.Err() == nil && errors.Is(err, context.DeadlineExceeded) {
-			return fmt.Errorf("store: waited %v for the writes before this one: %w", writeWait, ErrBusy)
-		}
-		return err
-	}
-	defer conn.Close()
-	tx, err := conn.BeginTx(ctx, nil)
-	if err != nil {
-		return err
-	}
-	if err := f(tx); err != nil {
-		tx.Rollback()
-		return err
-	}
-	return tx.Commit()
-}
-
-func now() string { return time.Now().UTC().Format(time.RFC3339Nano) }
+func now() string { return Now() }
 
 func parseTime(s string) time.Time {
 	t, _ := time.Parse(time.RFC3339Nano, s)

@@ -1,4 +1,4 @@
-package store
+package sqlite
 
 import (
 	"context"
@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"capbank/sizing"
+	"capbank/web/store"
 )
 
 // faultCell is an invented cell for the tests below.
@@ -25,7 +26,7 @@ func faultCell(id string) sizing.Cell {
 // each commit so an answered save survives one.
 func TestCommitsAreSyncedToDisk(t *testing.T) {
 	t.Parallel()
-	s := mustOpen(t, filepath.Join(t.TempDir(), FileName))
+	s := mustOpen(t, filepath.Join(t.TempDir(), store.FileName))
 	journal, sync, err := s.durability(context.Background())
 	if err != nil {
 		t.Fatal(err)
@@ -41,7 +42,7 @@ func TestCommitsAreSyncedToDisk(t *testing.T) {
 func TestIntegrityCheck(t *testing.T) {
 	t.Parallel()
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), FileName)
+	path := filepath.Join(t.TempDir(), store.FileName)
 	s, err := Open(ctx, path)
 	if err != nil {
 		t.Fatal(err)
@@ -89,7 +90,7 @@ func itoa(i int) string { return strconv.Itoa(i) }
 func TestStorageFault(t *testing.T) {
 	t.Parallel()
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), FileName)
+	path := filepath.Join(t.TempDir(), store.FileName)
 	s := mustOpen(t, path)
 
 	full, err := sql.Open("sqlite", "file:"+path+"?_pragma=busy_timeout(5000)")
@@ -101,14 +102,14 @@ func TestStorageFault(t *testing.T) {
 	if _, err := full.ExecContext(ctx, `PRAGMA max_page_count = 1`); err != nil {
 		t.Fatal(err)
 	}
-	fs := &Store{db: full, writer: full}
+	fs := store.New(&backend{db: full, writer: full})
 	var fullErr error
 	for i := 0; i < 50 && fullErr == nil; i++ {
 		c := faultCell("full-" + itoa(i))
 		c.Notes = strings.Repeat("y", 1500)
 		fullErr = fs.CreateCell(ctx, c)
 	}
-	if got := StorageFault(fullErr); !strings.Contains(got, "full") {
+	if got := store.StorageFault(fullErr); !strings.Contains(got, "full") {
 		t.Errorf("full database: error %v, fault %q", fullErr, got)
 	}
 
@@ -117,8 +118,8 @@ func TestStorageFault(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer ro.Close()
-	roErr := (&Store{db: ro, writer: ro}).CreateCell(ctx, faultCell("read-only"))
-	if got := StorageFault(roErr); !strings.Contains(got, "read-only") {
+	roErr := store.New(&backend{db: ro, writer: ro}).CreateCell(ctx, faultCell("read-only"))
+	if got := store.StorageFault(roErr); !strings.Contains(got, "read-only") {
 		t.Errorf("read-only database: error %v, fault %q", roErr, got)
 	}
 
@@ -127,19 +128,19 @@ func TestStorageFault(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, err := range []error{s.CreateCell(ctx, faultCell("twice")), func() error { _, err := s.GetCell(ctx, "none"); return err }(), os.ErrNotExist} {
-		if got := StorageFault(err); got != "" {
+		if got := store.StorageFault(err); got != "" {
 			t.Errorf("%v: fault %q, want none", err, got)
 		}
 	}
 }
 
 // A write that cannot get the write lock within the busy timeout — another
-// process holds it — is Busy, not a storage fault, and writes nothing.
+// process holds it — is store.Busy, not a storage fault, and writes nothing.
 // (The writer here waits 50 ms instead of the store's five seconds.)
 func TestBusyWrite(t *testing.T) {
 	t.Parallel()
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), FileName)
+	path := filepath.Join(t.TempDir(), store.FileName)
 	s := mustOpen(t, path)
 
 	holder, err := sql.Open("sqlite", "file:"+path)
@@ -162,20 +163,20 @@ func TestBusyWrite(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer impatient.Close()
-	busy := &Store{db: impatient, writer: impatient}
+	busy := store.New(&backend{db: impatient, writer: impatient})
 	err = busy.CreateCell(ctx, faultCell("while-locked"))
-	if !Busy(err) || StorageFault(err) != "" {
-		t.Errorf("write while another connection holds the lock: %v; Busy %v, fault %q", err, Busy(err), StorageFault(err))
+	if !store.Busy(err) || store.StorageFault(err) != "" {
+		t.Errorf("write while another connection holds the lock: %v; store.Busy %v, fault %q", err, store.Busy(err), store.StorageFault(err))
 	}
-	if _, err := s.GetCell(ctx, "while-locked"); !errors.Is(err, ErrNotFound) {
+	if _, err := s.GetCell(ctx, "while-locked"); !errors.Is(err, store.ErrNotFound) {
 		t.Errorf("the refused cell: %v, want not found", err)
 	}
-	for _, err := range []error{nil, ErrNotFound, os.ErrNotExist} {
-		if Busy(err) {
-			t.Errorf("Busy(%v) is true", err)
+	for _, err := range []error{nil, store.ErrNotFound, os.ErrNotExist} {
+		if store.Busy(err) {
+			t.Errorf("store.Busy(%v) is true", err)
 		}
 	}
-	if !Busy(fmt.Errorf("saving: %w", ErrBusy)) {
-		t.Error("Busy(ErrBusy wrapped) is false")
+	if !store.Busy(fmt.Errorf("saving: %w", store.ErrBusy)) {
+		t.Error("store.Busy(store.ErrBusy wrapped) is false")
 	}
 }

@@ -1,10 +1,13 @@
-package store
+package sqlite
 
 import (
 	"context"
+	"database/sql"
 	"errors"
 	"fmt"
 	"strings"
+
+	"capbank/web/store"
 
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
@@ -13,8 +16,8 @@ import (
 // IntegrityCheck runs SQLite's PRAGMA integrity_check over the whole
 // database: nil when SQLite answers "ok", else an error listing what it
 // found (at most the first ten problems).
-func (s *Store) IntegrityCheck(ctx context.Context) error {
-	rows, err := s.db.QueryContext(ctx, `PRAGMA integrity_check(10)`)
+func (d *DB) IntegrityCheck(ctx context.Context) error {
+	rows, err := d.b.db.QueryContext(ctx, `PRAGMA integrity_check(10)`)
 	if err != nil {
 		return fmt.Errorf("store: integrity check: %w", err)
 	}
@@ -38,8 +41,8 @@ func (s *Store) IntegrityCheck(ctx context.Context) error {
 
 // durability is what the connection that commits runs with: the journal
 // mode and the synchronous level (0 OFF, 1 NORMAL, 2 FULL, 3 EXTRA).
-func (s *Store) durability(ctx context.Context) (journal string, synchronous int, err error) {
-	conn, err := s.writer.Conn(ctx)
+func (d *DB) durability(ctx context.Context) (journal string, synchronous int, err error) {
+	conn, err := d.b.writer.Conn(ctx)
 	if err != nil {
 		return "", 0, err
 	}
@@ -51,13 +54,35 @@ func (s *Store) durability(ctx context.Context) (journal string, synchronous int
 	return journal, synchronous, err
 }
 
-// StorageFault says in plain words why the database could not be written
+// Classify is classify, for a driver error met outside the store.
+func Classify(err error) error { return classify(err) }
+
+// classify maps SQLite's errors to the store's: no row to
+// store.ErrNoRows, a lock held too long to store.ErrBusy, a fault of the
+// disk or the file system to a *store.StorageError.
+func classify(err error) error {
+	if err == nil {
+		return nil
+	}
+	if errors.Is(err, sql.ErrNoRows) {
+		return store.ErrNoRows
+	}
+	if reason := storageFault(err); reason != "" {
+		return &store.StorageError{Reason: reason, Err: err}
+	}
+	if busy(err) {
+		return fmt.Errorf("%w: %w", store.ErrBusy, err)
+	}
+	return err
+}
+
+// storageFault says in plain words why the database could not be written
 // when err is a fault of the disk or the file system rather than of the
 // request: the disk is full, the database or its directory is read-only,
 // a write failed. It returns "" for any other error. A write that failed
 // so was rolled back whole: nothing of it was kept, and what was saved
 // before is intact.
-func StorageFault(err error) string {
+func storageFault(err error) string {
 	var se *sqlite.Error
 	if !errors.As(err, &se) {
 		return ""
@@ -77,14 +102,11 @@ func StorageFault(err error) string {
 	return ""
 }
 
-// Busy is true when err is a write, or a read, that could not run because
+// busy is true when err is a write, or a read, that could not run because
 // the database was busy: ErrBusy, or SQLite's SQLITE_BUSY or SQLITE_LOCKED
 // (another process held the lock for longer than the busy timeout). A
 // write that failed so was rolled back whole: it may simply be sent again.
-func Busy(err error) bool {
-	if errors.Is(err, ErrBusy) {
-		return true
-	}
+func busy(err error) bool {
 	var se *sqlite.Error
 	if !errors.As(err, &se) {
 		return false
