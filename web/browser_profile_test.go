@@ -1,39 +1,18 @@
 package web
 
 import (
-	"math"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/chromedp/chromedp"
+
+	"capbank/sizing/sizingtest"
 )
 
-// loggedDayCSV is an invented logged day (demo data, not a measurement),
-// the one of sizing's tests: one power_w row a second for rows seconds, a
-// slow swing of the base load with a 1.8 W burst of 4 s every 10 min
-// and a minute of charging at 3 W five minutes after it,
-// rounded to the milliwatt as a logger would write it.
-func loggedDayCSV(rows int) string {
-	var b strings.Builder
-	b.WriteString("# invented demo data: a logged day\ntime_s,power_w\n")
-	for i := range rows {
-		p := 0.2 + 0.15*math.Sin(2*math.Pi*float64(i)/86400) + 0.01*math.Sin(float64(i))
-		switch t := i % 600; {
-		case t < 4:
-			p = 1.8
-		case t >= 300 && t < 360:
-			p = -3 // the charger's minute
-		}
-		b.WriteString(strconv.Itoa(i))
-		b.WriteByte(',')
-		b.WriteString(strconv.FormatFloat(p, 'f', 3, 64))
-		b.WriteByte('\n')
-	}
-	return b.String()
-}
+// loggedDayCSV is the shared invented logged day (sizingtest.LoggedDayCSV).
+var loggedDayCSV = sizingtest.LoggedDayCSV
 
 // A user loads a logged profile of 2 000 rows into the example design: the
 // page shows it as a profile (its rows, a chart), not as steps, and sizes
