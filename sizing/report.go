@@ -132,8 +132,12 @@ type Candidate struct {
 	// Thermal is the ESR heating of a cell; nil when the cell gives no
 	// thermal resistance.
 	Thermal *Thermal `json:"thermal"`
-	// Spread is the worst cell voltage from the capacitance tolerance.
+	// Spread is the worst cell voltage from the capacitance tolerance, an
+	// extreme-stack bound (see Spread).
 	Spread *Spread `json:"spread"`
+	// Statistics are the lot figures: nil for a candidate not analysed
+	// (by default only the recommended one is; see Design.Statistics).
+	Statistics *LotStatistics `json:"statistics"`
 	// Balancing is the balancing chosen for the strings.
 	Balancing *BalancingResult `json:"balancing"`
 	// Life is the expected life; nil when the cell gives no rated life.
@@ -176,7 +180,9 @@ type Thermal struct {
 
 // Spread is the voltage of the worst cell when a string is charged with no
 // balancing acting: the cell of lowest capacitance among cells of the
-// highest, all carrying the same charge.
+// highest, all carrying the same charge. It is a bound that no real lot
+// reaches (its cells spread far less than their tolerance band); the
+// cell-overvoltage flag judges the lot figures (LotStatistics) instead.
 type Spread struct {
 	// WorstCellV, in V, at the window top.
 	WorstCellV float64 `json:"worst_cell_v"`
@@ -220,7 +226,9 @@ type BalancingResult struct {
 	// LeakageSpreadA, in A, is the spread the resistor was sized for.
 	LeakageSpreadA float64 `json:"leakage_spread_a"`
 	// WorstStaticCellV, in V, is the highest cell voltage after a long hold
-	// at the window top with that leakage spread (REFERENCES.md 5.5).
+	// at the window top with that leakage spread (REFERENCES.md 5.5): every
+	// other cell leaking the spread more than one, a bound; the lot figure
+	// is LotStatistics.StandbyMaxCellV.
 	WorstStaticCellV *float64 `json:"worst_static_cell_v"`
 	// Alternatives, given with the balancing-loss warning, are the same
 	// cell sized with one more cell in series (passive) and with active

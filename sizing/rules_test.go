@@ -482,9 +482,8 @@ func fpInt(n int) *int { return &n }
 // (charge conservation, REFERENCES.md 5.1), so a string balanced at the top
 // comes back to the same cell voltages. Two cells of 900 F and 1200 F at
 // 2.5 V each give Q = 1000 C: 900 F falls by 1.111 V, 1200 F by 0.833 V;
-// the same Q back restores 2.5 V on both. The first-charge bound is
-// therefore a warning past the surge voltage for an unbalanced string, a
-// note otherwise, never a danger on every bank.
+// the same Q back restores 2.5 V on both. The first-charge extreme stack
+// is a bound only; the flag is judged on the lot (TestOvervoltageFlag).
 func TestSpreadIsAFirstChargeMatter(t *testing.T) {
 	t.Parallel()
 	caps := []float64{900, 1200}
@@ -500,34 +499,17 @@ func TestSpreadIsAFirstChargeMatter(t *testing.T) {
 	near(t, "900 F after the recharge", v[0], 2.5, 1e-12)
 	near(t, "1200 F after the recharge", v[1], 2.5, 1e-12)
 
-	// 20 cells of −10 %/+20 % at 2.4 V each: the worst lot's first charge
-	// takes one to 48/(1 + 19·0.9/1.2) = 3.148 V (5.2), past a 2.85 V surge.
+	// 20 cells of −10 %/+20 % at 2.4 V each: the extreme stack (one cell
+	// at −10 %, the rest at +20 %) takes one to 48/(1 + 19·0.9/1.2) =
+	// 3.148 V (5.2), past a 2.85 V surge. It stays in the report as a
+	// bound; the flag is judged on the lot (issue 18), whose highest cell
+	// at σ 2 % is near 2.4·(1 + 2·2 %) ≈ 2.5 V: no flag.
 	d := &Design{Window: Window{MaxV: 48, MinV: 24}, Load: Load{Steps: []Step{{PowerW: fp(400), DurationS: 20}}},
 		Cells: []Cell{{ID: "c", RatedV: 2.7, SurgeV: fp(2.85), CapacitanceF: 650, ESROhm: 1e-3, CapacitanceTolerancePct: []float64{-10, 20}}}}
 	d.CellMaxV = fp(2.4)
 	c := rulesCand(t, d, "c")
-	f := flagOf(c, "cell-overvoltage")
-	near(t, "worst cell on the first charge", c.Spread.WorstCellV, 48/(1+19*0.9/1.2), 1e-12)
-	if f == nil || f.Severity != Warning || !strings.Contains(f.Message, "first charge from empty") {
-		t.Errorf("flag %+v, want a warning about the first charge of an unbalanced string", f)
-	}
-	// With passive balancing (the cell gives its leakage) a slow first
-	// charge lets the resistors act: a note of the procedure.
-	d.Cells[0].LeakageA = fp(0.0012)
-	if f := flagOf(rulesCand(t, d, "c"), "cell-overvoltage"); f == nil || f.Severity != Info {
-		t.Errorf("balanced string: flag %+v, want a note", f)
-	}
-	d.Cells[0].LeakageA = nil
-	// ±8 %: 48/(1 + 19·0.92/1.08) = 2.793 V, past the 2.7 V rating, within
-	// the surge: a note. ±2 %: 2.492 V, within the rating: no flag.
-	d.Cells[0].CapacitanceTolerancePct = []float64{-8, 8}
-	c = rulesCand(t, d, "c")
-	near(t, "worst cell at ±8 %", c.Spread.WorstCellV, 48/(1+19*0.92/1.08), 1e-12)
-	if f := flagOf(c, "cell-overvoltage"); f == nil || f.Severity != Info {
-		t.Errorf("±8 %%: flag %+v, want a note", f)
-	}
-	d.Cells[0].CapacitanceTolerancePct = []float64{-2, 2}
-	if c := rulesCand(t, d, "c"); flagOf(c, "cell-overvoltage") != nil {
-		t.Errorf("worst cell %v V within the rating, flags %v", c.Spread.WorstCellV, c.Flags)
+	near(t, "extreme-stack bound on the first charge", c.Spread.WorstCellV, 48/(1+19*0.9/1.2), 1e-12)
+	if f := flagOf(c, "cell-overvoltage"); f != nil {
+		t.Errorf("flag %+v from the extreme stack; the lot's p99.9 is %v V", f, c.Statistics.FirstChargeMaxCellV.P999)
 	}
 }

@@ -227,6 +227,7 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 		r.Recommended = &id
 		r.Curve = p.curveOf(&cands[0])
 	}
+	p.analyseCandidates(cands)
 	if p.halt.Load() {
 		return nil, 0, fmt.Errorf("sizing: %w", context.Cause(ctx))
 	}
@@ -234,6 +235,23 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 		return nil, 0, err
 	}
 	return r, p.work.Load(), nil
+}
+
+// analyseCandidates runs the lot analysis on the recommended candidate, on
+// every feasible one when the design asks for "all", or on none.
+func (p *plan) analyseCandidates(cands []Candidate) {
+	which := statOptions(p.d).which
+	for i := range cands {
+		if which == "none" || !cands[i].Feasible || (i > 0 && which != "all") || p.halt.Load() {
+			continue
+		}
+		for j := range p.d.Cells {
+			if c := &p.d.Cells[j]; c.ID == cands[i].CellID {
+				p.analyseLots(&cands[i], c)
+				break
+			}
+		}
+	}
 }
 
 // curveOf traces the worst-case pass of a candidate's bank.
@@ -1037,39 +1055,10 @@ func (p *plan) fillSafety(cand *Candidate, c *Cell, l *cellLimits, m bankModel) 
 	}
 	cand.Spread = sp
 	// Charge sharing only spreads the cells on a charge from empty: within
-	// the window every cell gives and takes back the same charge, so a
-	// string balanced at the top returns to the same cell voltages each
-	// cycle (charge conservation, REFERENCES.md 5.1). The worst lot on the
-	// first charge (or after a service discharge) is a commissioning
-	// matter: past the surge voltage a warning for an unbalanced string
-	// and a note for a balanced one (a slow first charge lets the
-	// balancing act); past the rating only, a note.
-	const spreadSrc = "charge sharing in series, worst lot: one cell at the bottom of the tolerance, the rest at the top; cycling within the window adds nothing, each cell giving and taking back the same charge"
-	balanced := cand.Balancing != nil && (cand.Balancing.Kind == "passive" || cand.Balancing.Kind == "active")
-	switch {
-	case l.s > 1 && c.SurgeV != nil && sp.WorstCellV > *c.SurgeV:
-		// With balancing in place a slow first charge lets it act: a note
-		// of the commissioning procedure. With none, nothing does.
-		sev := Warning
-		if balanced {
-			sev = Info
-		}
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: sev, Message: fmt.Sprintf(
-			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, past its %g V surge voltage (%s).",
-			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, *c.SurgeV, spreadSrc),
-			Caution: "A cell past its surge voltage can vent or rupture. Make the first charge slow enough for the balancing to act (hours, about the balancing's R·C), charge with per-cell voltage limits, or sort the cells by measured capacitance. " + cautionCodes})
-	case l.s > 1 && sp.WorstCellV > c.RatedV*(1+1e-9):
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Info, Message: fmt.Sprintf(
-			"On the first charge from empty (and after a service discharge), charging the string to %.4g V with the capacitance tolerance (%s %%, +%g %%) can take one cell to %.4g V before balancing acts, above its %g V rating but within its surge voltage (%s).",
-			p.maxV, minusText(sp.MinusPct), sp.PlusPct, sp.WorstCellV, c.RatedV, spreadSrc),
-			Caution: "Make the first charge slow enough for the balancing to act, or use active balancing that limits each cell. " + cautionCodes})
-	}
-	if b := cand.Balancing; b.WorstStaticCellV != nil && *b.WorstStaticCellV > c.RatedV*(1+1e-9) {
-		cand.Flags = append(cand.Flags, Flag{Code: "cell-overvoltage", Severity: Warning, Message: fmt.Sprintf(
-			"After a long hold at %.4g V, a leakage spread of %.3g A can leave one cell at %.4g V with the %s balancing, above its %g V rating (worst case in series: every other cell leaks the spread more than this one).",
-			p.maxV, b.LeakageSpreadA, *b.WorstStaticCellV, b.Kind, c.RatedV),
-			Caution: "Lower the balancing resistor, add a cell in series, or use active balancing. " + cautionCodes})
-	}
+	// the window every cell gives and takes back the same charge (charge
+	// conservation, REFERENCES.md 5.1). Spread is the extreme stack of the
+	// tolerance, a bound; the cell-overvoltage flag is judged on the lot
+	// figures instead (analyseLots, overvoltageFlags).
 	// Shelf hold: the charged bank, no load and no charger, at worst-case
 	// capacitance, from the window top to the window bottom.
 	vTop, vMin := p.maxV/float64(l.s), p.minV/float64(l.s)
