@@ -94,7 +94,7 @@ func TestFirstCharge180Cells(t *testing.T) {
 // cells of 2.4 V in series, 1.2 kW for 8 s, then a 10 s, 150 W tail.
 func lotDesign() *Design {
 	return &Design{Name: "lot test", Window: Window{MaxV: 48, MinV: 24}, CellMaxV: fp(2.4),
-		Load: Load{Steps: []Step{{PowerW: fp(1200), DurationS: 8}, {PowerW: fp(150), DurationS: 10}}},
+		Load:      Load{Steps: []Step{{PowerW: fp(1200), DurationS: 8}, {PowerW: fp(150), DurationS: 10}}},
 		Balancing: &Balancing{Kind: "passive"},
 		Cells: []Cell{{ID: "c", RatedV: 2.7, SurgeV: fp(2.85), CapacitanceF: 110, ESROhm: 12e-3, LeakageA: fp(0.3e-3),
 			CapacitanceTolerancePct: []float64{-10, 20}, MaxCurrentA: fp(60), PeakCurrentA: fp(120)}}}
