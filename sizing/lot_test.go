@@ -304,6 +304,12 @@ func TestOvervoltageFlag(t *testing.T) {
 	if strings.Contains(f.Caution, "first charge limited") {
 		t.Errorf("a slow charge recommended with a 30 h balancing time constant: %q", f.Caution)
 	}
+	// Active balancing that clamps each cell clears the first charge: a
+	// note of what it must do, not a danger.
+	if f := overvoltageFlags(48, 20, c, st(2.9, 2.6), &BalancingResult{Kind: "active"}); len(f) != 1 || f[0].Severity != Info ||
+		!strings.Contains(f[0].Caution, "bypass current") {
+		t.Errorf("active balancing: flags %+v, want one note for the first charge", f)
+	}
 	tau = 2 * 3600
 	if f := overvoltageFlags(48, 20, c, st(2.9, 2.6), passive)[0]; !strings.Contains(f.Caution, "first charge limited") {
 		t.Errorf("no slow-charge remedy with a 2 h balancing time constant: %q", f.Caution)

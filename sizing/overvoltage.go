@@ -28,7 +28,14 @@ func overvoltageFlags(maxV float64, s int, c *Cell, st *LotStatistics, bal *Bala
 		return "", "", 0, false
 	}
 	fc := st.FirstChargeMaxCellV
-	if sev, what, limit, ok := judge(fc.P999); ok {
+	if sev, what, limit, ok := judge(fc.P999); ok && bal != nil && bal.Kind == "active" {
+		// Active balancing that clamps each cell during the charge clears
+		// the case, provided its bypass carries the charge current.
+		flags = append(flags, Flag{Code: "cell-overvoltage", Severity: Info, Message: fmt.Sprintf(
+			"On a first charge from empty to %s, a string from this lot (%s) left to itself would take one cell in a thousand banks to %s, past its %g V %s voltage (V = Q/C, charge conservation in series); the active balancing must clamp each cell during the charge.",
+			Quantity(maxV, "V", 4), lot, Quantity(fc.P999, "V", 4), limit, what),
+			Caution: "Check that the balancing circuit clamps each cell while charging and that its bypass current is at least the charge current, or charge the bank that slowly the first time. " + cautionCodes})
+	} else if ok {
 		remedy := "Active balancing that clamps each cell during the charge clears this case; so does one more cell in series."
 		if bal != nil && bal.Kind == "passive" && bal.TimeConstantS != nil && *bal.TimeConstantS <= slowChargeMaxTauS {
 			remedy += fmt.Sprintf(" A first charge limited to a current the balancing resistors can steer (a charge taking several times their R·C of %s) also works.",

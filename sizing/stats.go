@@ -197,7 +197,7 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	if q.halt.Load() {
 		return
 	}
-	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: w.notes}
+	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: append([]string{}, w.notes...)}
 	fails := failures(out)
 	st.Yield = 1 - float64(fails)/float64(samples)
 	st.YieldStdErr = math.Sqrt(st.Yield * (1 - st.Yield) / float64(samples))
