@@ -22,6 +22,10 @@ type Chart struct {
 	XTicks, YTicks           []Tick
 	Series                   []Series
 	Refs                     []RefLine
+	// Bars and VRefs draw a histogram: its bars, and labelled vertical
+	// lines (Y of a VRef is its x position).
+	Bars  []Bar
+	VRefs []RefLine
 	// Zero is the y position of 0 when the range crosses it, else -1.
 	Zero float64
 	sc   scale
@@ -38,6 +42,9 @@ type Tick struct {
 type Series struct {
 	Name, Class, Points string
 }
+
+// Bar is one bar of a histogram, in user units.
+type Bar struct{ X, Y, W, H float64 }
 
 // RefLine is a labelled horizontal line, such as the window top.
 type RefLine struct {
@@ -149,6 +156,99 @@ func ProfileChart(p *sizing.ProfileCSV) Chart {
 	ch.Desc = name + " of the logged load profile, each row held until the next; negative is charging."
 	ch.Series = []Series{{Name: name, Class: "s-profile", Points: ch.points(t, v)}}
 	return ch
+}
+
+// HistogramChart draws a histogram of the lots (counts over equal bins),
+// with vertical reference lines at refs (data values with labels and
+// classes). The x axis is the data divided by xScale, labelled xLabel; the
+// axis takes in the reference lines so that each can be seen against the
+// bars.
+func HistogramChart(id, title, desc, xLabel string, h sizing.Histogram, xScale float64, refs []RefLine) Chart {
+	ch := Chart{ID: id, Title: title, Desc: desc, XLabel: xLabel, YLabel: "Lots", W: chartW, H: chartH,
+		Left: chartLeft, Right: chartW - chartRight, Top: chartTop, Bottom: chartH - chartBottom, Zero: -1}
+	lo, hi := h.Lo/xScale, h.Hi/xScale
+	for _, r := range refs {
+		lo, hi = min(lo, r.Y/xScale), max(hi, r.Y/xScale)
+	}
+	// At least 1 % of the value from edge to edge: a spread of a
+	// thousandth (every lot ending at the same step) is one bar, centred.
+	if span := max(math.Abs(lo), math.Abs(hi)) * 0.01; hi-lo < span {
+		mid := (lo + hi) / 2
+		lo, hi = mid-max(span, 1e-9)/2, mid+max(span, 1e-9)/2
+	}
+	xt, x0, x1 := niceTicks(lo, hi, 6, false)
+	ch.sc.x0, ch.sc.x1, ch.sc.tScale = x0, x1, 1
+	peak := 0
+	for _, c := range h.Counts {
+		peak = max(peak, c)
+	}
+	yt, y0, y1 := niceTicks(0, float64(max(peak, 1)), 4, false)
+	ch.sc.y0, ch.sc.y1 = y0, y1
+	for _, v := range xt {
+		ch.XTicks = append(ch.XTicks, Tick{Pos: ch.xu(v), Label: tickLabel(v, xt)})
+	}
+	for _, v := range yt {
+		ch.YTicks = append(ch.YTicks, Tick{Pos: ch.y(v), Label: tickLabel(v, yt)})
+	}
+	w := (h.Hi - h.Lo) / float64(len(h.Counts)) / xScale
+	for k, c := range h.Counts {
+		if c == 0 {
+			continue
+		}
+		a := h.Lo/xScale + float64(k)*w
+		xa, xb := ch.xu(a), ch.xu(a+w)
+		if xb-xa < 3 {
+			mid := (xa + xb) / 2
+			xa, xb = mid-1.5, mid+1.5 // a bar at least three units wide
+		}
+		ch.Bars = append(ch.Bars, Bar{X: xa, Y: ch.y(float64(c)), W: xb - xa, H: ch.Bottom - ch.y(float64(c))})
+	}
+	for _, r := range refs {
+		ch.VRefs = append(ch.VRefs, RefLine{Y: ch.xu(r.Y / xScale), Label: r.Label, Class: r.Class})
+	}
+	return ch
+}
+
+// RuntimeHistogram draws the runtimes of the candidate's lots.
+func RuntimeHistogram(c *sizing.Candidate) Chart {
+	st := c.Statistics
+	h := *st.Histograms.RuntimeS
+	ts, label := timeAxis(h.Hi)
+	desc := "Runtime of each of " + strconv.Itoa(st.Samples) + " banks built from the lot, at end of life."
+	if h.Beyond > 0 {
+		desc += " " + strconv.Itoa(h.Beyond) + " ran beyond the time followed and are not drawn."
+	}
+	return HistogramChart("lot-runtime", "Runtime of banks from the lot", desc, label, h, ts, nil)
+}
+
+// FirstChargeHistogram draws the highest cell voltage of each lot's first
+// charge from empty, against the cell's rated and surge voltage.
+func FirstChargeHistogram(c *sizing.Candidate) Chart {
+	st := c.Statistics
+	refs := []RefLine{{Y: c.CellV, Label: "even share " + figures.SI(c.CellV, "V", 4), Class: "ref-pass"}}
+	refs = append(refs, RefLine{Y: st.CellRatedV, Label: "rated " + figures.SI(st.CellRatedV, "V", 4), Class: "ref-rated"})
+	if st.CellSurgeV != nil {
+		refs = append(refs, RefLine{Y: *st.CellSurgeV, Label: "surge " + figures.SI(*st.CellSurgeV, "V", 4), Class: "ref-surge"})
+	}
+	desc := "Highest cell voltage of each of " + strconv.Itoa(st.Samples) + " banks built from the lot when the string is charged from empty to the window top before balancing acts; the 99.9th percentile is " +
+		figures.SI(st.FirstChargeMaxCellV.P999, "V", 4) + "."
+	return HistogramChart("lot-first-charge", "Highest cell on a first charge", desc, "Cell voltage (V)", st.Histograms.FirstChargeMaxCellV, 1, refs)
+}
+
+// vrefLabelX and vrefAnchor place a vertical line's label beside it: to
+// its right in the left half of the plot, to its left in the right half.
+func vrefLabelX(c Chart, r RefLine) float64 {
+	if r.Y < (c.Left+c.Right)/2 {
+		return r.Y + 4
+	}
+	return r.Y - 4
+}
+
+func vrefAnchor(c Chart, r RefLine) string {
+	if r.Y < (c.Left+c.Right)/2 {
+		return "start"
+	}
+	return "end"
 }
 
 // chart scales: data to user units.

@@ -327,3 +327,27 @@ func TestLotAllocatesNothing(t *testing.T) {
 		t.Errorf("%v allocations per lot, want 0", a)
 	}
 }
+
+// A histogram counts every value once, the greatest in the last bin, and
+// a runtime beyond the range followed apart.
+func TestHistogramOf(t *testing.T) {
+	t.Parallel()
+	h := histogramOf([]float64{1, 1.5, 2, 2, 4, math.Inf(1)})
+	if h.Lo != 1 || h.Hi != 4 || h.Beyond != 1 || h.Counts[0] != 1 || h.Counts[HistogramBins-1] != 1 {
+		t.Errorf("histogram %+v", h)
+	}
+	total := 0
+	for _, c := range h.Counts {
+		total += c
+	}
+	if total != 5 {
+		t.Errorf("%d counted, want 5", total)
+	}
+	// 1.5 lies 1/6 of the way: bin 5 of 30; 2 a third: bin 10.
+	if h.Counts[5] != 1 || h.Counts[10] != 2 {
+		t.Errorf("counts %v", h.Counts)
+	}
+	if one := histogramOf([]float64{3, 3}); one.Counts[HistogramBins-1] != 2 {
+		t.Errorf("equal values: %+v", one)
+	}
+}

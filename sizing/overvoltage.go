@@ -76,7 +76,8 @@ func cautionFor(sev Severity) string {
 
 // lotText says the lot model in words.
 func lotText(m LotModel) string {
-	parts := []string{fmt.Sprintf("capacitance σ %g %% within %+g…%+g %%", m.CapacitanceSigmaPct, m.CapacitanceBandPct[0], m.CapacitanceBandPct[1]),
+	signed := func(v float64) string { return strings.Replace(fmt.Sprintf("%+g", v), "-", "−", 1) }
+	parts := []string{fmt.Sprintf("capacitance σ %g %% within %s…%s %%", m.CapacitanceSigmaPct, signed(m.CapacitanceBandPct[0]), signed(m.CapacitanceBandPct[1])),
 		fmt.Sprintf("ESR σ %g %%", m.ESRSigmaPct), fmt.Sprintf("leakage σ %g %%", m.LeakageSigmaPct)}
 	s := strings.Join(parts, ", ")
 	if len(m.Defaulted) > 0 {

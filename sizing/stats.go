@@ -37,6 +37,10 @@ type LotStatistics struct {
 	// DischargeMinCellV, in V: the lowest cell terminal voltage during the
 	// pass, its 1st and 0.1th percentiles over the lots.
 	DischargeMinCellV LowerPercentiles `json:"discharge_min_cell_v"`
+	// CellRatedV and CellSurgeV (nil: not given) are the thresholds the
+	// cell-overvoltage flag judges the cell voltages against, in V.
+	CellRatedV float64  `json:"cell_rated_v"`
+	CellSurgeV *float64 `json:"cell_surge_v"`
 	// Samples and Seed reproduce the analysis; Model is the lot model.
 	Samples int      `json:"samples"`
 	Seed    int64    `json:"seed"`
@@ -44,6 +48,51 @@ type LotStatistics struct {
 	// Notes say where the analysis drew fewer lots than asked, or left
 	// the runtime out, to keep to its work budget.
 	Notes []string `json:"notes"`
+	// Histograms hold the lots' runtime (nil where left out) and highest
+	// first-charge cell voltage, for drawing.
+	Histograms LotHistograms `json:"histograms"`
+}
+
+// LotHistograms are the distributions the page draws.
+type LotHistograms struct {
+	RuntimeS            *Histogram `json:"runtime_s"`
+	FirstChargeMaxCellV Histogram  `json:"first_charge_max_cell_v"`
+}
+
+// Histogram counts values in HistogramBins equal bins from Lo to Hi (the
+// least and greatest finite value); Beyond counts the values past the
+// range followed (a runtime beyond RuntimeLimitS).
+type Histogram struct {
+	Lo     float64 `json:"lo"`
+	Hi     float64 `json:"hi"`
+	Counts []int   `json:"counts"`
+	Beyond int     `json:"beyond"`
+}
+
+// HistogramBins is the number of bins of a Histogram.
+const HistogramBins = 30
+
+// histogramOf bins sorted values (+Inf counted as Beyond).
+func histogramOf(sorted []float64) Histogram {
+	h := Histogram{Counts: make([]int, HistogramBins)}
+	n := len(sorted)
+	for n > 0 && !Finite(sorted[n-1]) {
+		n--
+	}
+	h.Beyond = len(sorted) - n
+	if n == 0 {
+		return h
+	}
+	h.Lo, h.Hi = sorted[0], sorted[n-1]
+	w := (h.Hi - h.Lo) / HistogramBins
+	for _, v := range sorted[:n] {
+		k := HistogramBins - 1
+		if w > 0 {
+			k = min(int((v-h.Lo)/w), HistogramBins-1)
+		}
+		h.Counts[k]++
+	}
+	return h
 }
 
 // RuntimePercentiles are the 1st, 50th and 99th percentiles, in s.
@@ -197,7 +246,8 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	if q.halt.Load() {
 		return
 	}
-	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: append([]string{}, w.notes...)}
+	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: append([]string{}, w.notes...),
+		CellRatedV: c.RatedV, CellSurgeV: c.SurgeV}
 	fails := failures(out)
 	st.Yield = 1 - float64(fails)/float64(samples)
 	st.YieldStdErr = math.Sqrt(st.Yield * (1 - st.Yield) / float64(samples))
@@ -212,9 +262,12 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	if w.runtime {
 		rt := collect(func(o *lotOutcome) float64 { return o.runtime })
 		st.RuntimeS = RuntimePercentiles{P01: finitePtr(percentile(rt, 0.01)), P50: finitePtr(percentile(rt, 0.5)), P99: finitePtr(percentile(rt, 0.99))}
+		h := histogramOf(rt)
+		st.Histograms.RuntimeS = &h
 	}
 	fc := collect(func(o *lotOutcome) float64 { return o.firstMax })
 	st.FirstChargeMaxCellV = UpperPercentiles{P50: percentile(fc, 0.5), P99: percentile(fc, 0.99), P999: percentile(fc, 0.999)}
+	st.Histograms.FirstChargeMaxCellV = histogramOf(fc)
 	mc := collect(func(o *lotOutcome) float64 { return o.minCell })
 	st.DischargeMinCellV = LowerPercentiles{P01: percentile(mc, 0.01), P001: percentile(mc, 0.001)}
 	if sb := collect(func(o *lotOutcome) float64 { return o.standbyMax }); !math.IsNaN(sb[0]) {

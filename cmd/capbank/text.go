@@ -107,7 +107,32 @@ func assumptions(r *sizing.Report) string {
 			fmt.Fprintf(&b, "\nWorst case of %s: %s", c.CellID, c.WorstCase)
 		}
 	}
+	for _, c := range r.Candidates {
+		if st := c.Statistics; st != nil {
+			b.WriteString("\n" + lotLine(c.CellID, st))
+		}
+	}
 	return b.String()
+}
+
+// lotLine is one candidate's lot analysis in a line: yield, strings for
+// the target, runtime and the cell voltages one bank in a thousand reaches.
+func lotLine(id string, st *sizing.LotStatistics) string {
+	s := fmt.Sprintf("Banks of %s built from a lot (%s banks, seed %d): yield %s (target %s", id, figures.Count(st.Samples), st.Seed,
+		figures.ASCII(figures.YieldText(st.Yield)), figures.ASCII(figures.YieldText(st.TargetYield)))
+	if p := st.ParallelForTarget; p != nil {
+		s += fmt.Sprintf(", reached with %d strings)", *p)
+	} else {
+		s += ", not searched or not within twice the strings)"
+	}
+	if p := st.RuntimeS.P01; p != nil {
+		s += fmt.Sprintf("; runtime 1st percentile %s s", number(*p, sigFigs))
+	}
+	s += fmt.Sprintf("; highest cell on a first charge, 99.9th percentile %s V", number(st.FirstChargeMaxCellV.P999, 4))
+	if v := st.StandbyMaxCellV; v != nil {
+		s += fmt.Sprintf("; after a long hold %s V", number(*v, 4))
+	}
+	return s + fmt.Sprintf("; lowest cell in the pass, 0.1th percentile %s V", number(st.DischargeMinCellV.P001, 4))
 }
 
 // table is rows of cells, the first row the header; right marks the

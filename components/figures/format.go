@@ -190,6 +190,20 @@ func Money(v float64) string {
 	return b.String() + "." + frac
 }
 
+// Count writes a whole number of things with its thousands grouped by
+// commas, as Money does: 10,000.
+func Count(n int) string {
+	s := strconv.Itoa(n)
+	var b strings.Builder
+	for i, r := range s {
+		if i > 0 && r != '-' && s[i-1] != '-' && (len(s)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
+}
+
 // Fixed writes v with dec decimals and the minus sign U+2212; −0 reads 0.
 // NaN and ±Inf read None.
 func Fixed(v float64, dec int) string {

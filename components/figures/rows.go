@@ -2,9 +2,11 @@ package figures
 
 import (
 	"fmt"
+	"math"
 	"slices"
 	"sort"
 	"strconv"
+	"strings"
 
 	"capbank/sizing"
 )
@@ -110,6 +112,9 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 	if c.Spread != nil || c.Balancing != nil {
 		groups = append(groups, balancing(c.Spread, c.Balancing))
 	}
+	if st := c.Statistics; st != nil {
+		groups = append(groups, Lot(st, c))
+	}
 	if l := c.Life; l != nil {
 		g := Group{Title: "Life", Rows: []Row{lifeRow(l)}}
 		if l.DesignYears != nil {
@@ -129,6 +134,61 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		optQuantity("Mass", c.MassKg, "kg", 3, "cells only"),
 		optQuantity("Volume", c.VolumeL, "L", 3, "cells only, no spacing"),
 	}})
+}
+
+// Lot lays out the lot analysis of a candidate: the yield, the strings
+// for the target, the percentiles and the lot model.
+func Lot(st *sizing.LotStatistics, c *sizing.Candidate) Group {
+	lots := Count(st.Samples) + " lots, seed " + strconv.FormatInt(st.Seed, 10)
+	forTarget := text("Strings for the target yield", None, "not within "+strconv.Itoa(2*c.Parallel)+" strings, or not searched (see the notes)")
+	if p := st.ParallelForTarget; p != nil {
+		forTarget = plain("Strings for the target yield", float64(*p), strconv.Itoa(*p), "", "the fewest whose yield reaches "+YieldText(st.TargetYield))
+	}
+	g := Group{Title: "Banks built from a production lot", Rows: []Row{
+		Row{Label: "Yield", Value: YieldText(st.Yield), Note: "share of " + lots + " that carry the whole pass at end of life (standard error " + Number(100*st.YieldStdErr, 2) + nbsp + "%)",
+			Num: st.Yield, HasNum: true},
+		forTarget,
+		duration("Runtime, 1st percentile", st.RuntimeS.P01, 3, "one lot in a hundred runs shorter"),
+		duration("Runtime, median", st.RuntimeS.P50, 3, ""),
+		quantity("Highest cell on a first charge, median", st.FirstChargeMaxCellV.P50, "V", 4, "from empty to the window top, before balancing acts"),
+		quantity("Highest cell on a first charge, 99.9th percentile", st.FirstChargeMaxCellV.P999, "V", 4, "one bank in a thousand reaches this"),
+		optQuantity("Highest cell after a long hold, 99.9th percentile", st.StandbyMaxCellV, "V", 4, "from the leakage spread, with the chosen balancing"),
+		quantity("Lowest cell during the pass, 0.1th percentile", st.DischargeMinCellV.P001, "V", 4, "one bank in a thousand goes this low"),
+		text("Lot model", LotModelText(st.Model), "standard deviations within a lot, % of nominal"),
+	}}
+	for _, n := range st.Notes {
+		g.Rows = append(g.Rows, text("Note", n, ""))
+	}
+	return g
+}
+
+// YieldText is a share as a percentage with enough digits to tell 99.9 %
+// from 99.99 %: "99.97 %".
+func YieldText(y float64) string {
+	if y >= 1 {
+		return "100" + nbsp + "%"
+	}
+	d := 1
+	for d < 4 && 100*(1-y) < math.Pow10(1-d) {
+		d++
+	}
+	return Fixed(100*y, d) + nbsp + "%"
+}
+
+// LotModelText is the lot model in words.
+func LotModelText(m sizing.LotModel) string {
+	signed := func(v float64) string {
+		if v > 0 {
+			return "+" + Number(v, 3)
+		}
+		return strings.Replace(Number(v, 3), "-", "−", 1)
+	}
+	s := fmt.Sprintf("capacitance σ %s %% within %s…%s %%, ESR σ %s %%, leakage σ %s %%", Number(m.CapacitanceSigmaPct, 3),
+		signed(m.CapacitanceBandPct[0]), signed(m.CapacitanceBandPct[1]), Number(m.ESRSigmaPct, 3), Number(m.LeakageSigmaPct, 3))
+	if len(m.Defaulted) > 0 {
+		s += "; capbank's defaults where the cell gives none"
+	}
+	return s
 }
 
 // LifeText is the expected life as a table cell shows it: "8.2 years",
@@ -241,8 +301,8 @@ func heat(t *sizing.Thermal) Group {
 func balancing(s *sizing.Spread, b *sizing.BalancingResult) Group {
 	g := Group{Title: "Balancing"}
 	if s != nil {
-		g.Rows = append(g.Rows, quantity("Worst cell on a first charge from empty", s.WorstCellV, "V", 4,
-			fmt.Sprintf("tolerance %s %% / +%s %%", Number(s.MinusPct, 3), Number(s.PlusPct, 3))))
+		g.Rows = append(g.Rows, quantity("Bound on a first charge from empty", s.WorstCellV, "V", 4,
+			fmt.Sprintf("extreme stack: one cell at %s %%, the rest at +%s %%, which no real lot does; the findings judge the lot instead", Number(s.MinusPct, 3), Number(s.PlusPct, 3))))
 	}
 	if b == nil {
 		return g

@@ -220,3 +220,15 @@ func TestArrangementWords(t *testing.T) {
 		t.Errorf("BankText %q", got)
 	}
 }
+
+// A yield shows the digits that tell 99.9 % from 99.99 %.
+func TestYieldText(t *testing.T) {
+	for _, tc := range []struct {
+		y    float64
+		want string
+	}{{1, "100 %"}, {0.5, "50.0 %"}, {0.999, "99.90 %"}, {0.9997, "99.970 %"}, {0.99995, "99.9950 %"}, {0.95, "95.0 %"}} {
+		if got := strings.ReplaceAll(YieldText(tc.y), nbsp, " "); got != tc.want {
+			t.Errorf("YieldText(%v) = %q, want %q", tc.y, got, tc.want)
+		}
+	}
+}
