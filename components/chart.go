@@ -167,8 +167,16 @@ func HistogramChart(id, title, desc, xLabel string, h sizing.Histogram, xScale f
 	ch := Chart{ID: id, Title: title, Desc: desc, XLabel: xLabel, YLabel: "Lots", W: chartW, H: chartH,
 		Left: chartLeft, Right: chartW - chartRight, Top: chartTop, Bottom: chartH - chartBottom, Zero: -1}
 	lo, hi := h.Lo/xScale, h.Hi/xScale
+	kept := refs[:0:0]
 	for _, r := range refs {
-		lo, hi = min(lo, r.Y/xScale), max(hi, r.Y/xScale)
+		if finite(r.Y) {
+			kept = append(kept, r)
+			lo, hi = min(lo, r.Y/xScale), max(hi, r.Y/xScale)
+		}
+	}
+	refs = kept
+	if !finite(lo) || !finite(hi) {
+		lo, hi = 0, 1
 	}
 	// At least 1 % of the value from edge to edge: a spread of a
 	// thousandth (every lot ending at the same step) is one bar, centred.

@@ -130,3 +130,22 @@ func TestTemperatureChartMinimumSpan(t *testing.T) {
 		}
 	}
 }
+
+// A histogram's chart never writes NaN: a reference line without a value
+// is left out, and a single value gets an axis around it.
+func TestHistogramChartFinite(t *testing.T) {
+	h := sizing.Histogram{Lo: 2.5, Hi: 2.5, Counts: make([]int, sizing.HistogramBins)}
+	h.Counts[sizing.HistogramBins-1] = 100
+	ch := HistogramChart("x", "t", "d", "V", h, 1, []RefLine{{Y: math.NaN(), Label: "none"}, {Y: 2.7, Label: "rated"}})
+	if len(ch.VRefs) != 1 || len(ch.Bars) != 1 {
+		t.Fatalf("refs %v, bars %v", ch.VRefs, ch.Bars)
+	}
+	for _, v := range []float64{ch.VRefs[0].Y, ch.Bars[0].X, ch.Bars[0].W, ch.Bars[0].Y, ch.Bars[0].H} {
+		if !finite(v) {
+			t.Fatalf("chart %+v", ch)
+		}
+	}
+	if ch.Bars[0].W < 3 {
+		t.Errorf("bar %v units wide, want at least 3", ch.Bars[0].W)
+	}
+}

@@ -287,15 +287,6 @@ type Cell struct {
 	CapacitanceF float64 `json:"capacitance_f" validate:"finite,gt=0,gte=1e-6,lte=1e6"`
 	// CapacitanceTolerancePct is [minus, plus] in percent, e.g. [-10, 20].
 	CapacitanceTolerancePct []float64 `json:"capacitance_tolerance_pct,omitempty" validate:"omitempty,len=2,dive,finite"`
-	// CapacitanceSigmaPct, ESRSigmaPct and LeakageSigmaPct are the standard
-	// deviations of a production lot around the nominal capacitance, ESR
-	// and leakage, in percent of nominal, for the lot analysis (see
-	// Statistics). nil: DefaultCapacitanceSigmaPct (2 %),
-	// DefaultESRSigmaPct (5 %), DefaultLeakageSigmaPct (30 %). Capacitance
-	// draws are truncated to the tolerance band where the cell gives one.
-	CapacitanceSigmaPct *float64 `json:"capacitance_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
-	ESRSigmaPct         *float64 `json:"esr_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
-	LeakageSigmaPct     *float64 `json:"leakage_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=100"`
 	// ESROhm, in Ω, is the rated DC ESR (the datasheet maximum): at least
 	// 1 µΩ, a hundredth of the lowest-ESR cells made. The floor keeps the
 	// bank's short-circuit current max_v/R finite (10⁵ V over
@@ -349,6 +340,15 @@ type Cell struct {
 	// SpecificHeatJPerKgK, in J/(kg·K), with MassKg gives the cell's heat
 	// capacity. nil: DefaultSpecificHeat.
 	SpecificHeatJPerKgK *float64 `json:"specific_heat_j_per_kg_k,omitempty" validate:"omitempty,finite,gte=100,lte=10000"`
+	// CapacitanceSigmaPct, ESRSigmaPct and LeakageSigmaPct are the standard
+	// deviations of a production lot around the nominal capacitance, ESR
+	// and leakage, in percent of nominal, for the lot analysis (see
+	// Statistics). nil: DefaultCapacitanceSigmaPct (2 %),
+	// DefaultESRSigmaPct (5 %), DefaultLeakageSigmaPct (30 %). Capacitance
+	// draws are truncated to the tolerance band where the cell gives one.
+	CapacitanceSigmaPct *float64 `json:"capacitance_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
+	ESRSigmaPct         *float64 `json:"esr_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
+	LeakageSigmaPct     *float64 `json:"leakage_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=100"`
 	// Electrolyte: "organic" (flammable solvent, the usual EDLC), "aqueous",
 	// "ionic-liquid" or "hybrid". Empty: not given, taken as organic for the
 	// fire check (the usual and the more cautious case), with a flag.

@@ -156,8 +156,8 @@ func Lot(st *sizing.LotStatistics, c *sizing.Candidate) Group {
 		quantity("Lowest cell during the pass, 0.1th percentile", st.DischargeMinCellV.P001, "V", 4, "one bank in a thousand goes this low"),
 		text("Lot model", LotModelText(st.Model), "standard deviations within a lot, % of nominal"),
 	}}
-	for _, n := range st.Notes {
-		g.Rows = append(g.Rows, text("Note", n, ""))
+	if len(st.Notes) > 0 {
+		g.Rows = append(g.Rows, text("Notes", strings.Join(st.Notes, " "), "where the analysis kept to its work budget"))
 	}
 	return g
 }

@@ -518,7 +518,7 @@ func testImportUpsert(t *testing.T, open Factory) {
 		if row["id"] == "mine-a" {
 			row["esr_ohm"], row["name"] = "0.003", "mine A, remeasured"
 		}
-	}) + "mine-c,new cell,,2.7,,50,,,0.02,,,,,,,,,,,,,,,,\r\n"
+	}) + "mine-c,new cell,,2.7,,50,,,0.02,,,,,,,,,,,,,,,,,,,\r\n"
 	rep, err = s.ImportCellsCSV(ctx, strings.NewReader(csvText), store.ImportUpsert)
 	if err != nil || !rep.Imported {
 		t.Fatalf("upsert: %+v, %v", rep, err)
