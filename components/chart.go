@@ -180,9 +180,12 @@ func HistogramChart(id, title, desc, xLabel string, h sizing.Histogram, xScale f
 	}
 	// At least 1 % of the value from edge to edge: a spread of a
 	// thousandth (every lot ending at the same step) is one bar, centred.
-	if span := max(math.Abs(lo), math.Abs(hi)) * 0.01; hi-lo < span {
+	if span := max(math.Abs(lo), math.Abs(hi)) * 0.01; !(hi-lo >= span) || span == 0 {
+		if span == 0 {
+			span = 1
+		}
 		mid := (lo + hi) / 2
-		lo, hi = mid-max(span, 1e-9)/2, mid+max(span, 1e-9)/2
+		lo, hi = mid-span/2, mid+span/2
 	}
 	xt, x0, x1 := niceTicks(lo, hi, 6, false)
 	ch.sc.x0, ch.sc.x1, ch.sc.tScale = x0, x1, 1

@@ -149,3 +149,11 @@ func TestHistogramChartFinite(t *testing.T) {
 		t.Errorf("bar %v units wide, want at least 3", ch.Bars[0].W)
 	}
 }
+
+// An empty histogram (no finite value) still draws finite axes.
+func TestHistogramChartEmpty(t *testing.T) {
+	ch := HistogramChart("x", "t", "d", "V", sizing.Histogram{Counts: make([]int, sizing.HistogramBins)}, 1, []RefLine{{Y: 0, Label: "zero"}})
+	if len(ch.VRefs) != 1 || !finite(ch.VRefs[0].Y) {
+		t.Fatalf("refs %+v", ch.VRefs)
+	}
+}
