@@ -142,11 +142,12 @@ func Lot(st *sizing.LotStatistics, c *sizing.Candidate) Group {
 	lots := Count(st.Samples) + " lots, seed " + strconv.FormatInt(st.Seed, 10)
 	forTarget := text("Strings for the target yield", None, "not within "+strconv.Itoa(2*c.Parallel)+" strings, or not searched (see the notes)")
 	if p := st.ParallelForTarget; p != nil {
-		forTarget = plain("Strings for the target yield", float64(*p), strconv.Itoa(*p), "", "the fewest whose yield reaches "+YieldText(st.TargetYield))
+		forTarget = plain("Strings for the target yield", float64(*p), strconv.Itoa(*p), "strings", "the fewest whose yield reaches "+YieldText(st.TargetYield))
 	}
 	g := Group{Title: "Banks built from a production lot", Rows: []Row{
-		Row{Label: "Yield", Value: YieldText(st.Yield), Note: "share of " + lots + " that carry the whole pass at end of life (standard error " + Number(100*st.YieldStdErr, 2) + nbsp + "%)",
-			Num: st.Yield, HasNum: true},
+		Row{Label: "Yield", Value: strings.TrimSuffix(YieldText(st.Yield), nbsp+"%"), Unit: "%",
+			Note: "share of " + lots + " that carry the whole pass at end of life (standard error " + Number(100*st.YieldStdErr, 2) + nbsp + "%)",
+			Num: 100 * st.Yield, Base: "%", HasNum: true},
 		forTarget,
 		duration("Runtime, 1st percentile", st.RuntimeS.P01, 3, "one lot in a hundred runs shorter"),
 		duration("Runtime, median", st.RuntimeS.P50, 3, ""),
