@@ -147,7 +147,7 @@ func Lot(st *sizing.LotStatistics, c *sizing.Candidate) Group {
 	g := Group{Title: "Banks built from a production lot", Rows: []Row{
 		Row{Label: "Yield", Value: strings.TrimSuffix(YieldText(st.Yield), nbsp+"%"), Unit: "%",
 			Note: "share of " + lots + " that carry the whole pass at end of life (standard error " + Number(100*st.YieldStdErr, 2) + nbsp + "%)",
-			Num: 100 * st.Yield, Base: "%", HasNum: true},
+			Num:  100 * st.Yield, Base: "%", HasNum: true},
 		forTarget,
 		duration("Runtime, 1st percentile", st.RuntimeS.P01, 3, "one lot in a hundred runs shorter"),
 		duration("Runtime, median", st.RuntimeS.P50, 3, ""),
