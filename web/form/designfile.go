@@ -67,6 +67,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Load.ProfileCSV != "" {
 		return nil, fmt.Errorf("names the profile file %q, which this page cannot read; load that CSV with \"Logged profile (CSV)\" instead, or size the design with capbank size", d.Load.ProfileCSV)
 	}
+	if d.Statistics != nil {
+		return nil, fmt.Errorf("sets the lot analysis (statistics), which this page does not edit yet; size it with the JSON API or capbank size, or remove the key to use its defaults here")
+	}
 	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}
@@ -173,6 +176,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 				v.Add("cells.pick", c.ID)
 				continue
 			}
+		}
+		if !inline && (c.CapacitanceSigmaPct != nil || c.ESRSigmaPct != nil || c.LeakageSigmaPct != nil) {
+			return nil, fmt.Errorf("cell %q gives its lot spread (capacitance_sigma_pct, esr_sigma_pct, leakage_sigma_pct), which this page's cell fields do not edit yet; add the cell to the cell library and pick it, or size the design with the JSON API or capbank size", c.ID)
 		}
 		if !inline {
 			if t := c.CapacitanceTolerancePct; len(t) != 0 && len(t) != 2 {
