@@ -231,6 +231,12 @@ func (ls *lotSim) plan(o lotOptions, par int) lotWork {
 // cell c, and judges the cell-overvoltage flag on it.
 func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	o := statOptions(p.d)
+	if steps := float64(len(p.steps) * p.repeat); !o.explicit && minLotSamples*steps > 2*lotWorkBudget {
+		cand.Flags = append(cand.Flags, Flag{Code: "lot-analysis-skipped", Severity: Info, Message: fmt.Sprintf(
+			"The lot analysis (yield, and the cell voltages of banks built from a production lot that the cell-overvoltage check judges) was not run: %d steps per pass is too long a profile for it within about a second. Set statistics.samples to run it anyway, or size a shorter stretch of the profile.",
+			int(steps))})
+		return
+	}
 	q := p.forSeries(c, cand.Series)
 	var discard []Flag
 	l := q.limits(c, &discard)
