@@ -195,12 +195,7 @@ func HistogramChart(id, title, desc, xLabel string, h sizing.Histogram, xScale f
 	}
 	yt, y0, y1 := niceTicks(0, float64(max(peak, 1)), 4, false)
 	ch.sc.y0, ch.sc.y1 = y0, y1
-	for _, v := range xt {
-		ch.XTicks = append(ch.XTicks, Tick{Pos: ch.xu(v), Label: tickLabel(v, xt)})
-	}
-	for _, v := range yt {
-		ch.YTicks = append(ch.YTicks, Tick{Pos: ch.y(v), Label: tickLabel(v, yt)})
-	}
+	ch.setTicks(xt, yt)
 	w := (h.Hi - h.Lo) / float64(len(h.Counts)) / xScale
 	for k, c := range h.Counts {
 		if c == 0 {
@@ -293,16 +288,22 @@ func newChart(id, title, yLabel string, t []float64, lo, hi float64) Chart {
 	}
 	yt, y0, y1 := niceTicks(lo, hi, 5, false)
 	ch.sc.y0, ch.sc.y1 = y0, y1
-	for _, v := range xt {
-		ch.XTicks = append(ch.XTicks, Tick{Pos: ch.xu(v), Label: tickLabel(v, xt)})
-	}
-	for _, v := range yt {
-		ch.YTicks = append(ch.YTicks, Tick{Pos: ch.y(v), Label: tickLabel(v, yt)})
-	}
+	ch.setTicks(xt, yt)
 	if y0 < 0 && y1 > 0 {
 		ch.Zero = ch.y(0)
 	}
 	return ch
+}
+
+// setTicks places the ticks at the axis values xt and yt, once the
+// scales are set.
+func (c *Chart) setTicks(xt, yt []float64) {
+	for _, v := range xt {
+		c.XTicks = append(c.XTicks, Tick{Pos: c.xu(v), Label: tickLabel(v, xt)})
+	}
+	for _, v := range yt {
+		c.YTicks = append(c.YTicks, Tick{Pos: c.y(v), Label: tickLabel(v, yt)})
+	}
 }
 
 // xu is the x position of a time in axis units; y of a data value.

@@ -12,20 +12,17 @@ type SampledLot struct {
 	RuntimeS, MinTerminalV float64
 }
 
-// SampleLot draws lot n of par strings of d's first cell (seed) and runs it.
+// SampleLot draws lot n of par strings of d's first cell (seed) and runs
+// it. The design has no balancing key: its strings drain by the cells'
+// leakage alone.
 func SampleLot(d *Design, par, n int, seed int64) SampledLot {
-	if err := Validate(d); err != nil {
+	ls, _, err := lotSimOf(d, seed)
+	if err != nil {
 		panic(err)
 	}
-	p := newPlan(d)
-	c := &d.Cells[0]
-	var discard []Flag
-	l := p.limits(c, &discard)
-	bal := &BalancingResult{Kind: "none"}
-	ls := newLotSim(p, &l, c, bal, seed)
 	var b lotBuf
 	out := ls.sample(n, par, lotRuntime, &b)
 	tr := ls.run(&b.m)
-	return SampledLot{Series: l.s, StringF: append([]float64(nil), b.ck[:par]...), StringOhm: append([]float64(nil), b.rk[:par]...),
-		DrainS: ls.gDrain / float64(l.s), RuntimeS: out.runtime, MinTerminalV: tr.stats.minU}
+	return SampledLot{Series: ls.s, StringF: append([]float64(nil), b.ck[:par]...), StringOhm: append([]float64(nil), b.rk[:par]...),
+		DrainS: ls.gDrain / float64(ls.s), RuntimeS: out.runtime, MinTerminalV: tr.stats.minU}
 }

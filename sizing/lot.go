@@ -1,6 +1,7 @@
 package sizing
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 )
@@ -60,6 +61,13 @@ type LotModel struct {
 	// Defaulted lists the keys the cell left out, for which the defaults
 	// were used.
 	Defaulted []string `json:"defaulted"`
+}
+
+// SpreadText is the lot model's spreads in words: "capacitance σ 2 %
+// within −10…+20 %, ESR σ 5 %, leakage σ 30 %".
+func (m LotModel) SpreadText() string {
+	return fmt.Sprintf("capacitance σ %g %% within %s…+%g %%, ESR σ %g %%, leakage σ %g %%", m.CapacitanceSigmaPct,
+		minusText(m.CapacitanceBandPct[0]), m.CapacitanceBandPct[1], m.ESRSigmaPct, m.LeakageSigmaPct)
 }
 
 // lotModel returns the spread of cell c's lot.

@@ -25,18 +25,10 @@ func lotBenchDesign() *Design {
 // over a 100-step profile, the pass and the first-charge, standby and
 // lowest-cell figures of each lot (target under 1 s on 2 cores).
 func BenchmarkLots(b *testing.B) {
-	d := lotBenchDesign()
-	if err := Validate(d); err != nil {
-		b.Fatal(err)
+	ls, _ := lotSimFor(b, lotBenchDesign(), 1)
+	if ls.s != 20 {
+		b.Fatalf("series %d, want 20", ls.s)
 	}
-	p := newPlan(d)
-	c := &d.Cells[0]
-	var discard []Flag
-	l := p.limits(c, &discard)
-	if l.s != 20 {
-		b.Fatalf("series %d, want 20", l.s)
-	}
-	ls := newLotSim(p, &l, c, &BalancingResult{Kind: "active"}, 1)
 	b.ReportAllocs()
 	for b.Loop() {
 		ls.lots(10000, 3, lotRuntime)

@@ -15,8 +15,17 @@ import (
 // series count, as analyseLots does.
 func lotSimFor(t testing.TB, d *Design, seed int64) (*lotSim, *plan) {
 	t.Helper()
-	if err := Validate(d); err != nil {
+	ls, p, err := lotSimOf(d, seed)
+	if err != nil {
 		t.Fatal(err)
+	}
+	return ls, p
+}
+
+// lotSimOf is lotSimFor without a test to fail.
+func lotSimOf(d *Design, seed int64) (*lotSim, *plan, error) {
+	if err := Validate(d); err != nil {
+		return nil, nil, err
 	}
 	p := newPlan(d)
 	c := &d.Cells[0]
@@ -26,7 +35,7 @@ func lotSimFor(t testing.TB, d *Design, seed int64) (*lotSim, *plan) {
 	if d.Balancing != nil {
 		bal.Kind = d.Balancing.Kind
 	}
-	return newLotSim(p, &l, c, bal, seed), p
+	return newLotSim(p, &l, c, bal, seed), p, nil
 }
 
 // Two cells in series charged together from empty to V take the same

@@ -74,12 +74,10 @@ func cautionFor(sev Severity) string {
 	return "A cell held above its rated voltage ages fast. "
 }
 
-// lotText says the lot model in words.
+// lotText says the lot model in words, naming the keys left at their
+// defaults.
 func lotText(m LotModel) string {
-	signed := func(v float64) string { return strings.Replace(fmt.Sprintf("%+g", v), "-", "−", 1) }
-	parts := []string{fmt.Sprintf("capacitance σ %g %% within %s…%s %%", m.CapacitanceSigmaPct, signed(m.CapacitanceBandPct[0]), signed(m.CapacitanceBandPct[1])),
-		fmt.Sprintf("ESR σ %g %%", m.ESRSigmaPct), fmt.Sprintf("leakage σ %g %%", m.LeakageSigmaPct)}
-	s := strings.Join(parts, ", ")
+	s := m.SpreadText()
 	if len(m.Defaulted) > 0 {
 		s += "; " + strings.Join(m.Defaulted, ", ") + " at capbank's defaults"
 	}

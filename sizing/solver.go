@@ -245,24 +245,30 @@ func (p *plan) analyseCandidates(cands []Candidate) {
 		if which == "none" || !cands[i].Feasible || (i > 0 && which != "all") || p.halt.Load() {
 			continue
 		}
-		for j := range p.d.Cells {
-			if c := &p.d.Cells[j]; c.ID == cands[i].CellID {
-				p.analyseLots(&cands[i], c)
-				break
-			}
+		if c := p.cell(cands[i].CellID); c != nil {
+			p.analyseLots(&cands[i], c)
 		}
 	}
 }
 
 // curveOf traces the worst-case pass of a candidate's bank.
 func (p *plan) curveOf(c *Candidate) *Curve {
+	cell := p.cell(c.CellID)
+	if cell == nil {
+		return nil
+	}
+	q := p.forCell(cell)
+	var flags []Flag
+	l := q.limits(cell, &flags)
+	m := l.bank(c.Parallel)
+	return m.curve(q.steps, q.repeat, q.maxV, q.minV, curvePoints, l.heatModel(c.Parallel), q.ambientC)
+}
+
+// cell is the design's cell of the id, nil when there is none.
+func (p *plan) cell(id string) *Cell {
 	for i := range p.d.Cells {
-		if cell := &p.d.Cells[i]; cell.ID == c.CellID {
-			q := p.forCell(cell)
-			var flags []Flag
-			l := q.limits(cell, &flags)
-			m := l.bank(c.Parallel)
-			return m.curve(q.steps, q.repeat, q.maxV, q.minV, curvePoints, l.heatModel(c.Parallel), q.ambientC)
+		if p.d.Cells[i].ID == id {
+			return &p.d.Cells[i]
 		}
 	}
 	return nil

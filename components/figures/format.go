@@ -177,31 +177,32 @@ func Money(v float64) string {
 	frac += strings.Repeat("0", max(0, 2-len(frac)))
 	neg := strings.HasPrefix(intPart, "-")
 	intPart = strings.TrimPrefix(intPart, "-")
-	var b strings.Builder
+	sign := ""
 	if neg && strings.Trim(intPart+frac, "0") != "" {
-		b.WriteString("−")
+		sign = "−"
 	}
-	for i, r := range intPart {
-		if i > 0 && (len(intPart)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(r)
-	}
-	return b.String() + "." + frac
+	return sign + grouped(intPart) + "." + frac
 }
 
-// Count writes a whole number of things with its thousands grouped by
-// commas, as Money does: 10,000.
-func Count(n int) string {
-	s := strconv.Itoa(n)
+// grouped writes digits with their thousands grouped by commas.
+func grouped(digits string) string {
 	var b strings.Builder
-	for i, r := range s {
-		if i > 0 && r != '-' && s[i-1] != '-' && (len(s)-i)%3 == 0 {
+	for i, r := range digits {
+		if i > 0 && (len(digits)-i)%3 == 0 {
 			b.WriteByte(',')
 		}
 		b.WriteRune(r)
 	}
 	return b.String()
+}
+
+// Count writes a whole number of things with its thousands grouped by
+// commas, as Money does: 10,000.
+func Count(n int) string {
+	if n < 0 {
+		return "−" + grouped(strconv.Itoa(-n))
+	}
+	return grouped(strconv.Itoa(n))
 }
 
 // Fixed writes v with dec decimals and the minus sign U+2212; −0 reads 0.

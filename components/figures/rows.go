@@ -178,14 +178,7 @@ func YieldText(y float64) string {
 
 // LotModelText is the lot model in words.
 func LotModelText(m sizing.LotModel) string {
-	signed := func(v float64) string {
-		if v > 0 {
-			return "+" + Number(v, 3)
-		}
-		return strings.Replace(Number(v, 3), "-", "−", 1)
-	}
-	s := fmt.Sprintf("capacitance σ %s %% within %s…%s %%, ESR σ %s %%, leakage σ %s %%", Number(m.CapacitanceSigmaPct, 3),
-		signed(m.CapacitanceBandPct[0]), signed(m.CapacitanceBandPct[1]), Number(m.ESRSigmaPct, 3), Number(m.LeakageSigmaPct, 3))
+	s := m.SpreadText()
 	if len(m.Defaulted) > 0 {
 		s += "; capbank's defaults where the cell gives none"
 	}
