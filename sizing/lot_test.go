@@ -360,3 +360,20 @@ func TestHistogramOf(t *testing.T) {
 		t.Errorf("equal values: %+v", one)
 	}
 }
+
+// A pass of more than 800 000 steps is too long for the lot analysis
+// within its budget: it is left out with a note saying so, unless the
+// design asks for it by statistics.samples.
+func TestLotAnalysisSkippedOnLongPass(t *testing.T) {
+	t.Parallel()
+	d := lotDesign()
+	d.Load.Steps = []Step{{PowerW: fp(40), DurationS: 0.01}, {PowerW: fp(0), DurationS: 0.01}}
+	d.Load.Repeat = fpInt(400_001) // 800 002 steps per pass
+	cand := rulesCand(t, d, "c")
+	if cand.Statistics != nil || flagOf(cand, "lot-analysis-skipped") == nil || flagOf(cand, "cell-overvoltage") != nil {
+		t.Errorf("statistics %v, flags %v; want none, and the lot-analysis-skipped note", cand.Statistics, cand.Flags)
+	}
+	if f := flagOf(cand, "lot-analysis-skipped"); f != nil && !strings.Contains(f.Message, "800002 steps per pass") {
+		t.Errorf("message %q does not give the pass's steps", f.Message)
+	}
+}
