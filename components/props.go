@@ -118,6 +118,10 @@ type FormProps struct {
 	// MoreOpen unfolds them when one is set or has a problem.
 	Balancing, Life []FieldProps
 	MoreOpen        bool
+	// Statistics are the lot analysis's settings; LotOpen unfolds them
+	// when one is set or has a problem.
+	Statistics []FieldProps
+	LotOpen    bool
 	// BOQ are the purchasing inputs of the bill of quantities, Extras the
 	// user's own lines (the last one blank, to type into); BOQOpen unfolds
 	// them when one is set.

@@ -377,3 +377,12 @@ func TestLotAnalysisSkippedOnLongPass(t *testing.T) {
 		t.Errorf("message %q does not give the pass's steps", f.Message)
 	}
 }
+
+// A target yield typed as a percentage is refused by name, saying what to
+// give instead.
+func TestTargetYieldAsPercent(t *testing.T) {
+	t.Parallel()
+	d := lotDesign()
+	d.Statistics = &Statistics{TargetYield: fp(99.9)}
+	fieldErr(t, Validate(d), "statistics.target_yield", "e.g. 0.999 for 99.9 %")
+}

@@ -90,7 +90,7 @@ func Validate(d *Design) error {
 			errs = append(errs, FieldError{
 				Field:   fieldPath(fe.Namespace()),
 				Rule:    fe.Tag(),
-				Message: ruleMessage(fe),
+				Message: ruleMessage(fe) + rangeHints[fieldPath(fe.Namespace())],
 			})
 		}
 	}
@@ -109,6 +109,12 @@ func asValidationErrors(err error, out *validator.ValidationErrors) bool {
 		*out = ves
 	}
 	return ok
+}
+
+// rangeHints follow the range message of a field whose unit is easy to
+// mistake.
+var rangeHints = map[string]string{
+	"statistics.target_yield": ": give a share, e.g. 0.999 for 99.9 %",
 }
 
 // fieldPath turns the validator's namespace "Design.load.steps[2].duration_s"

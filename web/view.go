@@ -130,6 +130,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		InlineToleranceID: "msg-inline-capacitance_tolerance_pct", InlineToleranceMessage: msg["inline.capacitance_tolerance_pct"],
 		RankBy:          fieldProps(form.RankField, f.Value("rank_by"), msg["rank_by"]),
 		Balancing:       group(form.BalancingFields),
+		Statistics:      group(form.StatisticsFields),
 		Life:            group(form.LifeFields),
 		BOQ:             group(form.BOQFields),
 		ExtrasMessageID: "msg-boq-extras", ExtrasMessage: msg["boq.extras"],
@@ -161,6 +162,9 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		for _, fp := range group {
 			p.MoreOpen = p.MoreOpen || fp.Value != "" || fp.Message != ""
 		}
+	}
+	for _, fp := range p.Statistics {
+		p.LotOpen = p.LotOpen || fp.Value != "" || fp.Message != ""
 	}
 	for _, fp := range p.BOQ {
 		p.BOQOpen = p.BOQOpen || fp.Value != "" || fp.Message != ""

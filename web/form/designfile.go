@@ -67,9 +67,6 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Load.ProfileCSV != "" {
 		return nil, fmt.Errorf("names the profile file %q, which this page cannot read; load that CSV with \"Logged profile (CSV)\" instead, or size the design with capbank size", d.Load.ProfileCSV)
 	}
-	if d.Statistics != nil {
-		return nil, fmt.Errorf("sets the lot analysis (statistics), which this page does not edit yet; size it with the JSON API or capbank size, or remove the key to use its defaults here")
-	}
 	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}
@@ -144,6 +141,16 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 		opt("balancing.max_loss_share", b.MaxLossShare)
 		opt("balancing.min_time_constant_h", b.MinTimeConstantH)
 	}
+	if st := d.Statistics; st != nil {
+		if st.Samples != nil {
+			v.Set("statistics.samples", fmt.Sprint(*st.Samples))
+		}
+		if st.Seed != nil {
+			v.Set("statistics.seed", fmt.Sprint(*st.Seed))
+		}
+		opt("statistics.target_yield", st.TargetYield)
+		text("statistics.candidates", st.Candidates)
+	}
 	if l := d.Life; l != nil {
 		opt("life.temp_step_k", l.TempStepK)
 		opt("life.voltage_step_v", l.VoltageStepV)
@@ -176,9 +183,6 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 				v.Add("cells.pick", c.ID)
 				continue
 			}
-		}
-		if !inline && (c.CapacitanceSigmaPct != nil || c.ESRSigmaPct != nil || c.LeakageSigmaPct != nil) {
-			return nil, fmt.Errorf("cell %q gives its lot spread (capacitance_sigma_pct, esr_sigma_pct, leakage_sigma_pct), which this page's cell fields do not edit yet; add the cell to the cell library and pick it, or size the design with the JSON API or capbank size", c.ID)
 		}
 		if !inline {
 			if t := c.CapacitanceTolerancePct; len(t) != 0 && len(t) != 2 {
@@ -238,6 +242,9 @@ func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	set("cold_esr_temp_c", c.ColdESRTempC)
 	set("cold_capacitance_factor", c.ColdCapacitanceFactor)
 	set("leakage_a", c.LeakageA)
+	set("capacitance_sigma_pct", c.CapacitanceSigmaPct)
+	set("esr_sigma_pct", c.ESRSigmaPct)
+	set("leakage_sigma_pct", c.LeakageSigmaPct)
 	set("max_current_a", c.MaxCurrentA)
 	set("peak_current_a", c.PeakCurrentA)
 	set("thermal_resistance_k_per_w", c.ThermalResistanceKPerW)

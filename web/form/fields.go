@@ -85,6 +85,20 @@ var (
 			Hint: "R·C of a cell with its resistor; empty: 24 h"},
 	}
 
+	// StatisticsFields set the lot analysis (banks built from cells drawn
+	// from a production lot).
+	StatisticsFields = []Field{
+		{Name: "statistics.samples", Label: "Lots drawn", Kind: KindCount, Units: UnitCount,
+			Hint: "100 to 1 000 000; empty: 10 000, fewer on a long profile"},
+		{Name: "statistics.seed", Label: "Random seed", Kind: KindCount, Units: UnitCount,
+			Hint: "the same seed gives the same figures; empty: 1"},
+		{Name: "statistics.target_yield", Label: "Target yield", Units: UnitFraction,
+			Hint: "share of lots that must carry the load; empty: 99.9 %"},
+		{Name: "statistics.candidates", Label: "Analyse", Kind: KindChoice, Choices: []Choice{
+			{"", "the recommended bank (default)"}, {"recommended", "the recommended bank"}, {"all", "every feasible bank"}, {"none", "no bank"},
+		}},
+	}
+
 	LifeFields = []Field{
 		{Name: "life.temp_step_k", Label: "Life halves every", Units: UnitKelvin, Hint: "of cell temperature; empty: 10 K"},
 		{Name: "life.voltage_step_v", Label: "Life halves every", Units: UnitVolt, Hint: "of cell voltage; empty: 0.2 V"},
@@ -150,11 +164,14 @@ func CellFields(prefix string) []Field {
 		{Name: prefix + "capacitance_f", Label: "Capacitance", Units: UnitFarad},
 		{Name: prefix + "capacitance_tolerance_pct[0]", Label: "Capacitance tolerance, minus", Units: UnitPercent, Hint: "e.g. -10"},
 		{Name: prefix + "capacitance_tolerance_pct[1]", Label: "Capacitance tolerance, plus", Units: UnitPercent, Hint: "e.g. 20"},
+		{Name: prefix + "capacitance_sigma_pct", Label: "Capacitance spread in a lot", Units: UnitPercent, Hint: "standard deviation; empty: 2 %"},
 		{Name: prefix + "esr_ohm", Label: "ESR (DC)", Units: UnitOhm},
+		{Name: prefix + "esr_sigma_pct", Label: "ESR spread in a lot", Units: UnitPercent, Hint: "standard deviation; empty: 5 %"},
 		{Name: prefix + "cold_esr_factor", Label: "Cold ESR factor", Units: UnitFactor, Hint: "ESR cold ÷ ESR at 25 °C"},
 		{Name: prefix + "cold_esr_temp_c", Label: "Cold ESR measured at", Units: UnitCelsius},
 		{Name: prefix + "cold_capacitance_factor", Label: "Cold capacitance factor", Units: UnitFactor, Hint: "capacitance cold ÷ at 25 °C, at the same temperature"},
 		{Name: prefix + "leakage_a", Label: "Leakage current", Units: UnitAmp},
+		{Name: prefix + "leakage_sigma_pct", Label: "Leakage spread in a lot", Units: UnitPercent, Hint: "standard deviation; empty: 30 %"},
 		{Name: prefix + "max_current_a", Label: "Continuous current", Units: UnitAmp},
 		{Name: prefix + "peak_current_a", Label: "Peak current", Units: UnitAmp},
 		{Name: prefix + "thermal_resistance_k_per_w", Label: "Thermal resistance", Units: UnitKPerW},
@@ -206,7 +223,7 @@ var FieldLabels = func() map[string]string {
 		"balancing.max_loss_share":         "Balancing loss threshold",
 		"balancing.min_time_constant_h":    "Balancing self-discharge threshold",
 	}
-	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, LifeFields, BOQFields} {
+	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, StatisticsFields, LifeFields, BOQFields} {
 		for _, f := range group {
 			if _, ok := m[f.Name]; !ok {
 				m[f.Name] = f.Label

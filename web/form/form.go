@@ -511,6 +511,18 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	if bal != (sizing.Balancing{}) {
 		d.Balancing = &bal
 	}
+	st := sizing.Statistics{
+		Samples:     optionalCount("statistics.samples"),
+		TargetYield: optional("statistics.target_yield", UnitFraction),
+		Candidates:  f.Value("statistics.candidates"),
+	}
+	if seed := optionalCount("statistics.seed"); seed != nil {
+		v := int64(*seed)
+		st.Seed = &v
+	}
+	if st != (sizing.Statistics{}) {
+		d.Statistics = &st
+	}
 	life := sizing.LifeModel{
 		TempStepK:    optional("life.temp_step_k", UnitKelvin),
 		VoltageStepV: optional("life.voltage_step_v", UnitVolt),
@@ -626,6 +638,9 @@ func TypedCell(value func(string) string, prefix string, required func(string, U
 		RatedLifeH:             optional(k("rated_life_h"), UnitHour),
 		RatedLifeTempC:         optional(k("rated_life_temp_c"), UnitCelsius),
 		SpecificHeatJPerKgK:    optional(k("specific_heat_j_per_kg_k"), UnitJPerKgK),
+		CapacitanceSigmaPct:    optional(k("capacitance_sigma_pct"), UnitPercent),
+		ESRSigmaPct:            optional(k("esr_sigma_pct"), UnitPercent),
+		LeakageSigmaPct:        optional(k("leakage_sigma_pct"), UnitPercent),
 		Electrolyte:            value(k("electrolyte")),
 	}
 	minus := optional(k("capacitance_tolerance_pct[0]"), UnitPercent)
