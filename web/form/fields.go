@@ -88,14 +88,14 @@ var (
 	// StatisticsFields set the lot analysis (banks built from cells drawn
 	// from a production lot).
 	StatisticsFields = []Field{
-		{Name: "statistics.samples", Label: "Lots drawn", Kind: KindCount, Units: UnitCount,
+		{Name: "statistics.samples", Label: "Lots drawn", Kind: KindCount, Units: UnitNone,
 			Hint: "100 to 1 000 000; empty: 10 000, fewer on a long profile"},
-		{Name: "statistics.seed", Label: "Random seed", Kind: KindCount, Units: UnitCount,
+		{Name: "statistics.seed", Label: "Random seed", Kind: KindCount, Units: UnitNone,
 			Hint: "the same seed gives the same figures; empty: 1"},
 		{Name: "statistics.target_yield", Label: "Target yield", Units: UnitFraction,
 			Hint: "share of lots that must carry the load; empty: 99.9 %"},
 		{Name: "statistics.candidates", Label: "Analyse", Kind: KindChoice, Choices: []Choice{
-			{"", "the recommended bank (default)"}, {"recommended", "the recommended bank"}, {"all", "every feasible bank"}, {"none", "no bank"},
+			{"", "recommended bank (default)"}, {"recommended", "recommended bank"}, {"all", "every feasible bank"}, {"none", "none"},
 		}},
 	}
 
