@@ -130,13 +130,26 @@ func (s *Server) comparePicks(ctx context.Context, cells []sizing.Cell) ([]compo
 	return picks, nil
 }
 
+// withoutLots is d with the lot analysis turned off, for a view that does
+// not show it (the comparison, the saved designs' summaries): it would
+// cost tens of milliseconds a design for nothing.
+func withoutLots(d sizing.Design) *sizing.Design {
+	st := sizing.Statistics{}
+	if d.Statistics != nil {
+		st = *d.Statistics
+	}
+	st.Candidates = "none"
+	d.Statistics = &st
+	return &d
+}
+
 // sizeCompare sizes d with cells under the compute deadline and fills the
 // comparison; a design that does not size with them is a message (422),
 // a deadline or a busy server the error itself.
 func (s *Server) sizeCompare(c echo.Context, d *sizing.Design, cells []sizing.Cell, p *components.CompareProps) (int, error) {
-	dd := *d
+	dd := withoutLots(*d)
 	dd.Cells = cells
-	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, &dd) })
+	rep, err := compute(s, c, func(ctx context.Context) (*sizing.Report, error) { return sizing.SizeContext(ctx, dd) })
 	if fe := fault.As(err); (fe != nil && fe.Code == fault.Unavailable) || errors.Is(err, errClientGone) {
 		return 0, err
 	}
@@ -145,7 +158,7 @@ func (s *Server) sizeCompare(c echo.Context, d *sizing.Design, cells []sizing.Ce
 		return http.StatusUnprocessableEntity, nil
 	}
 	p.Summary = designSummary(rep, len(dd.Load.StepList()))
-	fillCompare(p, &dd, rep)
+	fillCompare(p, dd, rep)
 	return http.StatusOK, nil
 }
 

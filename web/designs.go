@@ -142,7 +142,7 @@ func (s *Server) savedSummaries(c echo.Context, recs []store.DesignRecord) []com
 			if d == nil || ctx.Err() != nil {
 				continue
 			}
-			r, err := sizing.SizeContext(ctx, d)
+			r, err := sizing.SizeContext(ctx, withoutLots(*d))
 			if err != nil {
 				continue
 			}
