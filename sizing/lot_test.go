@@ -386,3 +386,36 @@ func TestTargetYieldAsPercent(t *testing.T) {
 	d.Statistics = &Statistics{TargetYield: fp(99.9)}
 	fieldErr(t, Validate(d), "statistics.target_yield", "e.g. 0.999 for 99.9 %")
 }
+
+// The same analysis inputs give the same figures without running the lots
+// again; a change to anything the analysis reads (here the seed, or the
+// load) runs them again; a change it does not read (a price) does not.
+// Each caller gets a copy of its own.
+func TestLotMemo(t *testing.T) {
+	// Not parallel: it counts the analyses run in the whole package.
+	d := lotDesign()
+	d.Statistics = &Statistics{Samples: fpInt(300), Seed: new(int64)}
+	*d.Statistics.Seed = 4242 // a seed no other test uses
+	before := lotRuns.Load()
+	first := rulesCand(t, d, "c").Statistics
+	if lotRuns.Load() != before+1 {
+		t.Fatalf("%d analyses for the first sizing, want 1", lotRuns.Load()-before)
+	}
+	d.Cells[0].UnitPrice = fp(9.5)
+	again := rulesCand(t, d, "c").Statistics
+	if lotRuns.Load() != before+1 || !reflect.DeepEqual(first, again) {
+		t.Errorf("after a price change: %d analyses, figures equal %v; want the kept one", lotRuns.Load()-before, reflect.DeepEqual(first, again))
+	}
+	again.Notes = append(again.Notes, "changed")
+	again.Histograms.FirstChargeMaxCellV.Counts[0] = -1
+	if third := rulesCand(t, d, "c").Statistics; !reflect.DeepEqual(first, third) {
+		t.Error("a caller's change to its copy reached the kept analysis")
+	}
+	*d.Statistics.Seed = 4243
+	rulesCand(t, d, "c")
+	d.Load.Steps[1].DurationS = 11
+	rulesCand(t, d, "c")
+	if got := lotRuns.Load() - before; got != 3 {
+		t.Errorf("%d analyses after a new seed and a new load, want 3", got)
+	}
+}

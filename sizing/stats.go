@@ -241,7 +241,24 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	var discard []Flag
 	l := q.limits(c, &discard)
 	ls := newLotSim(q, &l, c, cand.Balancing, o.seed)
-	par := cand.Parallel
+	k := ls.key(o, cand.Parallel)
+	st := memoLots(k)
+	if st == nil {
+		if st = ls.analyse(o, cand.Parallel); st == nil {
+			return // cancelled
+		}
+		keepLots(k, st)
+	}
+	st.CellRatedV, st.CellSurgeV = c.RatedV, c.SurgeV
+	cand.Statistics = st
+	cand.Flags = append(cand.Flags, overvoltageFlags(q.maxV, cand.Series, c, st, cand.Balancing)...)
+}
+
+// analyse runs the lot analysis of par strings with options o; nil when
+// the sizing was cancelled. The cell's thresholds (CellRatedV, CellSurgeV)
+// are the caller's to fill.
+func (ls *lotSim) analyse(o lotOptions, par int) *LotStatistics {
+	lotRuns.Add(1)
 	w := ls.plan(o, par)
 	samples := w.samples
 	mode := lotFigures
@@ -249,11 +266,10 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 		mode = lotRuntime
 	}
 	out := ls.lots(samples, par, mode)
-	if q.halt.Load() {
-		return
+	if ls.q.halt.Load() {
+		return nil
 	}
-	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: append([]string{}, w.notes...),
-		CellRatedV: c.RatedV, CellSurgeV: c.SurgeV}
+	st := &LotStatistics{Samples: samples, Seed: o.seed, TargetYield: o.target, Model: ls.model, Notes: append([]string{}, w.notes...)}
 	fails := failures(out)
 	st.Yield = 1 - float64(fails)/float64(samples)
 	st.YieldStdErr = math.Sqrt(st.Yield * (1 - st.Yield) / float64(samples))
@@ -282,11 +298,10 @@ func (p *plan) analyseLots(cand *Candidate, c *Cell) {
 	if w.search {
 		st.ParallelForTarget = ls.parallelForTarget(samples, par, fails <= allowedFailures(samples, o.target), o.target)
 	}
-	if q.halt.Load() {
-		return
+	if ls.q.halt.Load() {
+		return nil
 	}
-	cand.Statistics = st
-	cand.Flags = append(cand.Flags, overvoltageFlags(q.maxV, cand.Series, c, st, cand.Balancing)...)
+	return st
 }
 
 // parallelForTarget is the fewest strings whose yield reaches target,
