@@ -118,6 +118,11 @@ type bankModel struct {
 	// halt, when set, stops every step at once (see solveStep); nil for
 	// a model that cannot be cancelled.
 	halt *atomic.Bool
+	// imax is the converter's input current limit, A (0: none), and curve
+	// its efficiency against input voltage (nil: flat, already in the
+	// steps): see solveStep.
+	imax     float64
+	effCurve *efficiencyCurve
 }
 
 // haltEvery is how often (in steps) the loops over the steps check the

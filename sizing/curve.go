@@ -12,7 +12,7 @@ const curvePoints = 2000
 // passes are decimated into time buckets that each keep their first, last,
 // lowest and highest terminal voltage and current, so every extreme of the
 // pass stays in the curve. Every point is on the exact solution.
-func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, budget int, heat *heatModel, ambientC float64) *Curve {
+func (m *bankModel) curve(steps []compiledStep, repeat int, v0, maxV, minV float64, budget int, heat *heatModel, ambientC float64) *Curve {
 	n := len(steps) * repeat
 	total := 0.0
 	for _, s := range steps {
@@ -42,7 +42,7 @@ func (m *bankModel) curve(steps []compiledStep, repeat int, maxV, minV float64, 
 			interior = min(24, (budget-2*n-1)/(bends*repeat))
 		}
 	}
-	v, t := maxV, 0.0
+	v, t := v0, 0.0
 	// rise is the cell's temperature rise at the start of the step; riseAt
 	// the rise d seconds into a step of mean loss w.
 	rise, w := 0.0, 0.0

@@ -44,6 +44,17 @@ type Design struct {
 	// Statistics sets the lot analysis (see Statistics). nil: the
 	// defaults, on the recommended candidate only.
 	Statistics *Statistics `json:"statistics,omitempty"`
+	// Charger charges the bank between events (see Charger). nil: no
+	// charge figures.
+	Charger *Charger `json:"charger,omitempty"`
+	// Converter sets the limits of the converter between the bank and a
+	// power load (see Converter). nil: none but load.efficiency.
+	Converter *Converter `json:"converter,omitempty"`
+	// Wiring adds the resistance of links and connections (see Wiring).
+	// nil: none.
+	Wiring *Wiring `json:"wiring,omitempty"`
+	// System is what the bank connects to (see System). nil: nothing known.
+	System *System `json:"system,omitempty"`
 	// Cells are the candidate cells, each sized on its own.
 	Cells []Cell `json:"cells" validate:"min=1,max=1000,dive"`
 }
@@ -205,6 +216,11 @@ type Load struct {
 	// taken as repeating back to back, the cautious assumption, and the
 	// report says so.
 	PeriodS *float64 `json:"period_s,omitempty" validate:"omitempty,finite,gt=0,lte=1e9"`
+	// StartV, in V, is the capacitor voltage at rest when the sizing pass
+	// starts, between window.min_v and window.max_v: a buffer or
+	// regenerative bank starts part-charged so that it can absorb its
+	// first charging step. nil: window.max_v.
+	StartV *float64 `json:"start_v,omitempty" validate:"omitempty,finite,gt=0,lte=100000"`
 	// Steps are the profile's steps in order. A load gives exactly one of
 	// Steps, ProfileCSV or ProfileCSVText (see Validate).
 	Steps []Step `json:"steps,omitempty" validate:"max=1000000,dive"`

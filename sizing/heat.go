@@ -57,8 +57,8 @@ type heatResult struct {
 //   - with none and repeating steps, the steps repeat back to back, the
 //     losses of the pass's last repeat (the most drained and so the most
 //     lossy) standing for every repeat.
-func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h heatModel, periodS float64) heatResult {
-	res := m.heatFrom(steps, repeat, maxV, minV, h, 0, periodS == 0)
+func (m *bankModel) heat(steps []compiledStep, repeat int, v0, maxV, minV float64, h heatModel, periodS float64) heatResult {
+	res := m.heatFrom(steps, repeat, v0, maxV, minV, h, 0, periodS == 0)
 	if periodS == 0 || res.stopped {
 		return res
 	}
@@ -71,18 +71,19 @@ func (m *bankModel) heat(steps []compiledStep, repeat int, maxV, minV float64, h
 	pass := res.t
 	idle := max(0, periodS-pass)
 	start := res.end * math.Exp(-idle/h.tau) / -expm1(-periodS/h.tau)
-	again := m.heatFrom(steps, repeat, maxV, minV, h, start, false)
+	again := m.heatFrom(steps, repeat, v0, maxV, minV, h, start, false)
 	peak := math.Max(start, again.peak)
 	res.dutyPeak = &peak
 	return res
 }
 
-// heatFrom runs the pass from a rise x0 (K) and returns its peak rise,
+// heatFrom runs the pass from capacitor voltage v0 and a rise x0 (K) and
+// returns its peak rise,
 // its rise at the end and, when backToBack, the periodic steady state of
 // the steps repeating back to back.
-func (m *bankModel) heatFrom(steps []compiledStep, repeat int, maxV, minV float64, h heatModel, x0 float64, backToBack bool) heatResult {
+func (m *bankModel) heatFrom(steps []compiledStep, repeat int, v0, maxV, minV float64, h heatModel, x0 float64, backToBack bool) heatResult {
 	var o stepOutcome
-	v, x := maxV, x0
+	v, x := v0, x0
 	res := heatResult{}
 	last := make([]float64, len(steps))
 	for k := range repeat {

@@ -48,7 +48,13 @@ func (ls *lotSim) key(o lotOptions, par int) lotKey {
 	f(float64(ls.s), float64(par), float64(o.samples), float64(o.seed), o.target, b2f(o.explicit),
 		ls.cNom, ls.rNom, ls.gDrain, ls.gBal, ls.gLeak, b2f(ls.active), b2f(ls.hasLeak), ls.peakA, ls.contA, ls.rmsTime,
 		m.CapacitanceSigmaPct, m.ESRSigmaPct, m.LeakageSigmaPct, m.CapacitanceBandPct[0], m.CapacitanceBandPct[1],
-		q.maxV, q.minV, q.period, float64(q.repeat), float64(len(q.steps)))
+		q.maxV, q.minV, q.period, float64(q.repeat), float64(len(q.steps)),
+		q.startV, ls.rWire, ls.l.wBank, ls.l.imax)
+	if c := ls.l.effCurve; c != nil {
+		f(float64(len(c.v)))
+		f(c.v...)
+		f(c.eta...)
+	}
 	for _, st := range q.steps {
 		f(float64(st.kind), st.x, st.dur, st.toLoad)
 	}

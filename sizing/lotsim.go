@@ -38,6 +38,7 @@ type lotSim struct {
 	seed   int64
 	cNom   float64 // worst-case cell capacitance without the tolerance: the draws replace it, F
 	rNom   float64 // worst-case cell ESR, Ω
+	rWire  float64 // a string's links and end connections, Ω
 	gDrain float64 // the drain of one cell during the pass (leakage and balancing), S
 	// The standby hold at the window top: the balancing's conductance per
 	// cell (S), the cell's nominal leakage conductance (S), and whether
@@ -85,6 +86,7 @@ func newLotSim(q *plan, l *cellLimits, c *Cell, bal *BalancingResult, seed int64
 	ls.draw = newLotDraw(ls.model)
 	ls.cNom = c.CapacitanceF * q.capF * l.coldCK
 	ls.rNom = l.rw
+	ls.rWire = float64(l.s-1)*l.wLink + l.wStr
 	ls.gDrain = l.gCell
 	ls.gLeak = l.gLeak
 	ls.hasLeak = l.gLeak > 0
@@ -134,7 +136,7 @@ func (ls *lotSim) sample(n, par int, mode lotMode, b *lotBuf) lotOutcome {
 		}
 		inv, xMin := stringSpread(x[k*s : (k+1)*s])
 		ck[k] = ls.cNom / inv
-		rk[k] = ls.rNom * rs
+		rk[k] = ls.rNom*rs + ls.rWire
 		cBank += ck[k]
 		out.firstMax = max(out.firstMax, maxV/xMin/inv)
 	}
@@ -145,9 +147,9 @@ func (ls *lotSim) sample(n, par int, mode lotMode, b *lotBuf) lotOutcome {
 		shMax = max(shMax, sh)
 	}
 	out.standbyMax = ls.standby(w)
-	b.m = newBankModel(cBank, rBank, ls.gDrain*float64(par)/float64(s))
+	b.m = newBankModel(cBank, rBank+ls.l.wBank, ls.gDrain*float64(par)/float64(s))
 	m := &b.m
-	m.halt = ls.q.halt
+	m.halt, m.imax, m.effCurve = ls.q.halt, ls.l.imax, ls.l.effCurve
 	tr := ls.run(m)
 	out.passWork += tr.stats.steps
 	// The string of most capacitance carries the largest share of the
@@ -213,9 +215,9 @@ type lotRun struct {
 // run is bankModel.run over the sizing pass, keeping the two states.
 func (ls *lotSim) run(m *bankModel) lotRun {
 	q := ls.q
-	tr := lotRun{uV: q.maxV, qV: q.maxV}
+	tr := lotRun{uV: q.startV, qV: q.startV}
 	s := &tr.stats
-	s.v, s.minU = q.maxV, math.Inf(1)
+	s.v, s.minU = q.startV, math.Inf(1)
 	var o stepOutcome
 	for range q.repeat {
 		for j := range q.steps {
@@ -252,7 +254,7 @@ func (ls *lotSim) run(m *bankModel) lotRun {
 // capacitor voltage v and current i (see the comment at the top).
 func (ls *lotSim) lowestCell(x, y, ck []float64, cBank, v, i float64) float64 {
 	s := ls.s
-	q := cBank * (ls.q.maxV - v)
+	q := cBank * (ls.q.startV - v)
 	worst := math.Inf(-1)
 	for k := range ck {
 		sh := ck[k] / cBank

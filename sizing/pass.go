@@ -53,7 +53,11 @@ func (m *bankModel) run(steps []compiledStep, repeat int, v0, minV, maxV float64
 				s.maxI2 = max(s.maxI2, o.i2dt/o.t)
 			}
 			s.eLoad += o.eLoad
-			s.eOut += o.eLoad * steps[j].toLoad
+			if m.effCurve != nil && steps[j].kind == kindPower {
+				s.eOut += o.eOut // the efficiency moved with the voltage
+			} else {
+				s.eOut += o.eLoad * steps[j].toLoad
+			}
 			s.reject += o.reject
 			s.steps++
 			if o.stop != stopNone {

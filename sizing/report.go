@@ -120,9 +120,13 @@ type Candidate struct {
 	// and an efficiency of 1), lost in the ESR, lost in the leakage, and
 	// offered by charging steps but not absorbed because the bank was held
 	// at the window top.
-	BankEnergyJ     float64 `json:"bank_energy_j"`
-	LoadEnergyJ     float64 `json:"load_energy_j"`
-	ESRLossJ        float64 `json:"esr_loss_j"`
+	BankEnergyJ float64 `json:"bank_energy_j"`
+	LoadEnergyJ float64 `json:"load_energy_j"`
+	ESRLossJ    float64 `json:"esr_loss_j"`
+	// WiringLossJ, in J, is what the wiring (links, string ends, bank
+	// resistance) loses over the pass at worst case, apart from the cells'
+	// ESRLossJ; 0 without wiring.
+	WiringLossJ     float64 `json:"wiring_loss_j"`
 	LeakageLossJ    float64 `json:"leakage_loss_j"`
 	RejectedEnergyJ float64 `json:"rejected_energy_j"`
 	// Totals for the whole bank; nil when the cell does not give the figure.

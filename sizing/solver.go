@@ -39,6 +39,15 @@ type plan struct {
 	floors   map[float64]*plan // the plans of raised window bottoms (forSeries)
 	floorsMu sync.Mutex
 	root     *plan // the plan this one raised the bottom of; nil for the root
+	// startV is the capacitor voltage the pass starts from (load.start_v,
+	// else maxV).
+	startV float64
+	// The wiring's link, string-end and bank resistances, Ω (Wiring).
+	wLink, wStr, wBank float64
+	// imax is the converter's input current limit, A (0: none); curve its
+	// efficiency against input voltage (nil: load.efficiency, flat).
+	imax  float64
+	curve *efficiencyCurve
 }
 
 func newPlan(d *Design) *plan {
@@ -70,7 +79,19 @@ func newPlan(d *Design) *plan {
 	if d.Load.Efficiency != nil {
 		eff = *d.Load.Efficiency
 	}
-	p.steps = compileSteps(d.Load.StepList(), eff)
+	if cv := d.Converter; cv != nil {
+		if cv.MinInputV != nil {
+			p.minV = max(p.minV, *cv.MinInputV)
+		}
+		p.imax = ptr0(cv.MaxInputCurrentA)
+		p.curve = newEfficiencyCurve(cv.EfficiencyCurve)
+	}
+	p.startV = p.maxV
+	if d.Load.StartV != nil {
+		p.startV = *d.Load.StartV
+	}
+	p.wLink, p.wStr, p.wBank = d.wiringOhm()
+	p.steps = compileSteps(d.Load.StepList(), eff, p.curve != nil)
 	for _, s := range p.steps {
 		p.period += s.dur
 	}
@@ -108,7 +129,8 @@ func (p *plan) forSeries(c *Cell, s int) *plan {
 	}
 	q := &plan{d: root.d, steps: root.steps, repeat: root.repeat, period: root.period, maxV: root.maxV, minV: floor,
 		capF: root.capF, esrF: root.esrF, tolOn: root.tolOn, periodS: root.periodS, rankBy: root.rankBy, ambientC: root.ambientC,
-		work: root.work, halt: root.halt, root: root}
+		work: root.work, halt: root.halt, root: root, startV: root.startV,
+		wLink: root.wLink, wStr: root.wStr, wBank: root.wBank, imax: root.imax, curve: root.curve}
 	q.gatherBound()
 	if root.floors == nil {
 		root.floors = map[float64]*plan{}
@@ -119,8 +141,13 @@ func (p *plan) forSeries(c *Cell, s int) *plan {
 
 // compileSteps turns the design's steps into what the bank sees. A
 // discharging power step draws P/η from the bank; a charging one delivers
-// |P|·η into it. Zero power or current is a rest.
-func compileSteps(steps []Step, eff float64) []compiledStep {
+// |P|·η into it. Zero power or current is a rest. With an efficiency
+// curve (curved) a power step keeps the load's own power P, and the bank
+// model applies the curve at each terminal voltage (powerCurveStep).
+func compileSteps(steps []Step, eff float64, curved bool) []compiledStep {
+	if curved {
+		eff = 1
+	}
 	out := make([]compiledStep, len(steps))
 	for i, s := range steps {
 		c := compiledStep{kind: kindRest, dur: s.DurationS, toLoad: 1}
@@ -261,7 +288,7 @@ func (p *plan) curveOf(c *Candidate) *Curve {
 	var flags []Flag
 	l := q.limits(cell, &flags)
 	m := l.bank(c.Parallel)
-	return m.curve(q.steps, q.repeat, q.maxV, q.minV, curvePoints, l.heatModel(c.Parallel), q.ambientC)
+	return m.curve(q.steps, q.repeat, q.startV, q.maxV, q.minV, curvePoints, l.heatModel(c.Parallel), q.ambientC)
 }
 
 // cell is the design's cell of the id, nil when there is none.
@@ -314,6 +341,11 @@ type cellLimits struct {
 	maxTempC float64    // the cell's maximum temperature, a sizing limit with heat; NaN: none
 	ambientC float64
 	halt     *atomic.Bool // the plan's cancel flag, passed to every bank model
+	// The wiring (Ω) and the converter's input current limit and
+	// efficiency curve, passed to every bank model.
+	wLink, wStr, wBank float64
+	imax               float64
+	effCurve           *efficiencyCurve
 }
 
 // limitOptions change what limits assumes, for the alternatives a report
@@ -329,7 +361,8 @@ func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
 
 func (p *plan) limitsWith(c *Cell, o limitOptions, flags *[]Flag) cellLimits {
 	l := cellLimits{ceiling: c.RatedV, coldK: 1, coldCK: 1, tolK: 1, passTime: p.period * float64(p.repeat),
-		maxTempC: math.NaN(), ambientC: p.ambientC, halt: p.halt}
+		maxTempC: math.NaN(), ambientC: p.ambientC, halt: p.halt,
+		wLink: p.wLink, wStr: p.wStr, wBank: p.wBank, imax: p.imax, effCurve: p.curve}
 	l.rmsTime = max(l.passTime, p.periodS)
 	if p.d.CellMaxV != nil {
 		if *p.d.CellMaxV <= c.RatedV {
@@ -419,9 +452,15 @@ func (l *cellLimits) heatModel(par int) *heatModel {
 	return &h
 }
 
+// bankESR is the series resistance (Ω) of par strings of cells of ESR
+// cellOhm with the design's wiring.
+func (l *cellLimits) bankESR(cellOhm float64, par int) float64 {
+	return WiredBankESR(cellOhm, l.s, par, l.wLink, l.wStr, l.wBank)
+}
+
 func (l *cellLimits) bank(par int) bankModel {
-	m := newBankModel(BankCapacitance(l.cw, l.s, par), BankESR(l.rw, l.s, par), l.gCell*float64(par)/float64(l.s))
-	m.halt = l.halt
+	m := newBankModel(BankCapacitance(l.cw, l.s, par), l.bankESR(l.rw, par), l.gCell*float64(par)/float64(l.s))
+	m.halt, m.imax, m.effCurve = l.halt, l.imax, l.effCurve
 	return m
 }
 
@@ -429,7 +468,7 @@ func (l *cellLimits) bank(par int) bankModel {
 // pass and returns its result and the hot spot, °C: ambient plus the
 // larger of the pass's peak rise and the periodic steady state's.
 func (p *plan) hotSpot(l *cellLimits, m *bankModel, par int) (heatResult, float64) {
-	hr := m.heat(p.steps, p.repeat, p.maxV, p.minV, *l.heatModel(par), p.periodS)
+	hr := m.heat(p.steps, p.repeat, p.startV, p.maxV, p.minV, *l.heatModel(par), p.periodS)
 	return hr, l.ambientC + math.Max(hr.peak, ptr0(hr.dutyPeak))
 }
 
@@ -447,7 +486,7 @@ type trial struct {
 // thermal resistance and a maximum temperature, the hot spot.
 func (p *plan) try(l *cellLimits, par int) trial {
 	m := l.bank(par)
-	s := m.run(p.steps, p.repeat, p.maxV, p.minV, p.maxV)
+	s := m.run(p.steps, p.repeat, p.startV, p.minV, p.maxV)
 	p.work.Add(int64(s.steps))
 	tr := trial{par: par, stats: s, ok: true}
 	switch {
@@ -511,7 +550,7 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 	}
 	if t, ok := p.drainAlone(&l); ok {
 		cand.Reason = fmt.Sprintf("The leakage and balancing drain alone (time constant C/g = %.3g h, the same for any string count) brings the bank from %g V to the window bottom (%g V) in %.4g s, within the %.4g s pass, and no step charges it; no number of strings helps. Choose active balancing (balancing.kind), a cell with less leakage, or a shorter pass.",
-			l.cw/l.gCell/3600, p.maxV, p.minV, t, l.passTime)
+			l.cw/l.gCell/3600, p.startV, p.minV, t, l.passTime)
 		p.fillFigures(&cand, c, &l, p.try(&l, MaxParallel))
 		return cand
 	}
@@ -734,7 +773,7 @@ func nanTo0(x float64) float64 {
 // bound fails; the bound is taken 1e-9 low so rounding never skips the
 // answer.
 func (p *plan) stringBound(l *cellLimits) (int, string, int) {
-	rString := l.rw * float64(l.s) // one string: the largest R of any count
+	rString := l.bankESR(l.rw, 1) // one string: the largest R of any count
 	b := &p.bound
 	need := b.need
 	if b.chargeCurrent {
@@ -805,7 +844,7 @@ func (p *plan) drainAlone(l *cellLimits) (float64, bool) {
 			return 0, false
 		}
 	}
-	t := l.cw / l.gCell * math.Log(p.maxV/p.minV)
+	t := l.cw / l.gCell * math.Log(p.startV/p.minV)
 	return t, t < l.passTime
 }
 
@@ -824,6 +863,17 @@ func (p *plan) infeasibleReason(l *cellLimits, t trial) string {
 		return fmt.Sprintf("Even %d strings reach the window bottom (%g V) %s.", t.par, p.minV, at)
 	case "power":
 		return fmt.Sprintf("Even %d strings pass the maximum-power point of the load %s.", t.par, at)
+	case "input_current":
+		st := p.steps[j]
+		need := st.x / l.imax
+		if p.curve != nil {
+			need = st.x / p.curve.max() / l.imax
+		}
+		if need >= p.startV {
+			return fmt.Sprintf("The converter's input current limit (%g A) needs at least %s at its input for step %d (%s ÷ %g A), at or above the voltage the bank starts from (%s): no number of strings helps. Raise converter.max_input_current_a or the bank voltage.",
+				l.imax, Quantity(need, "V", 4), j+1, Quantity(st.x, "W", 4), l.imax, Quantity(p.startV, "V", 4))
+		}
+		return fmt.Sprintf("Even %d strings let the terminal voltage fall to where the converter would draw more than its input current limit (%g A) %s.", t.par, l.imax, at)
 	case "peak_current":
 		return fmt.Sprintf("Even with %d strings the cell current peaks at %.4g A, above its peak rating of %g A.", t.par, t.stats.peakI/float64(t.par), l.peakA)
 	case "temperature":
@@ -840,7 +890,7 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 	cand.Parallel = par
 	cand.Cells = s * par
 	cand.CapacitanceF = BankCapacitance(c.CapacitanceF, s, par)
-	cand.ESROhm = BankESR(c.ESROhm, s, par)
+	cand.ESROhm = l.bankESR(c.ESROhm, par)
 	m := l.bank(par)
 	cand.WorstCapacitanceF, cand.WorstESROhm = m.c, m.r
 	if m.g > 0 {
@@ -866,9 +916,13 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 	cand.CellRMSCurrentA = cand.RMSCurrentA / float64(par)
 	cand.BankEnergyJ = st.eLoad
 	cand.LoadEnergyJ = st.eOut
-	cand.ESRLossJ = m.r * st.i2dt
-	// The leakage loss by energy balance: ½C(v0² − v1²) = load + ESR + leakage.
-	cand.LeakageLossJ = math.Max(0, 0.5*m.c*(p.maxV-st.v)*(p.maxV+st.v)-st.eLoad-cand.ESRLossJ)
+	// The series loss splits between the cells' ESR and the wiring.
+	cellR := BankESR(l.rw, s, par)
+	cand.ESRLossJ = cellR * st.i2dt
+	cand.WiringLossJ = (m.r - cellR) * st.i2dt
+	// The leakage loss by energy balance: ½C(v0² − v1²) = load + series
+	// loss + leakage.
+	cand.LeakageLossJ = math.Max(0, 0.5*m.c*(p.startV-st.v)*(p.startV+st.v)-st.eLoad-m.r*st.i2dt)
 	if m.g == 0 {
 		cand.LeakageLossJ = 0
 	}

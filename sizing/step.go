@@ -62,14 +62,15 @@ type compiledStep struct {
 type stopReason uint8
 
 const (
-	stopNone    stopReason = iota
-	stopVoltage            // terminal voltage reached min_v
-	stopPower              // maximum-power point of a constant-power load
-	stopHalted             // the sizing was cancelled (SizeContext); nothing was solved
+	stopNone         stopReason = iota
+	stopVoltage                 // terminal voltage reached min_v
+	stopPower                   // maximum-power point of a constant-power load
+	stopHalted                  // the sizing was cancelled (SizeContext); nothing was solved
+	stopInputCurrent            // the converter's input current limit
 )
 
 func (s stopReason) String() string {
-	return [...]string{"", "voltage", "power", "halted"}[s]
+	return [...]string{"", "voltage", "power", "halted", "input_current"}[s]
 }
 
 // stepOutcome is what a step did to the bank.
@@ -83,6 +84,7 @@ type stepOutcome struct {
 	iPeak  float64    // largest |i| in the step, A
 	i2dt   float64    // ∫ i² dt, A²·s
 	eLoad  float64    // ∫ u·i dt, J: energy delivered at the terminals
+	eOut   float64    // energy delivered to the load after the converter, J; set only by powerCurveStep
 	reject float64    // energy offered by a charging source but not absorbed, J
 	tTop   float64    // time at which a charging step reached the window top (−1: never)
 	stop   stopReason // why it ended early, if it did
@@ -92,12 +94,27 @@ type stepOutcome struct {
 // terminal voltage minV and holding charging steps at capacitor voltage
 // maxV, and writes what happened to o. It never produces NaN or Inf for
 // finite, physical inputs, and allocates nothing.
+//
+// A discharging power step through a converter with an input current
+// limit (m.imax) stops where the current P/u would pass it, at the
+// terminal voltage P/imax when that is above minV (stopInputCurrent).
 func (m *bankModel) solveStep(st compiledStep, v0, minV, maxV float64, o *stepOutcome) {
 	*o = stepOutcome{t: st.dur, tTop: -1}
 	switch st.kind {
 	case kindCurrent:
 		m.currentStep(st.x, st.dur, v0, minV, maxV, o)
 	case kindPower:
+		if m.effCurve != nil {
+			m.powerCurveStep(st.x, st.dur, v0, minV, maxV, o)
+			break
+		}
+		if m.imax > 0 && st.x > m.imax*minV {
+			m.powerStep(st.x, st.dur, v0, st.x/m.imax, maxV, o)
+			if o.stop == stopVoltage {
+				o.stop = stopInputCurrent
+			}
+			break
+		}
 		m.powerStep(st.x, st.dur, v0, minV, maxV, o)
 	case kindResistance:
 		m.resistorStep(st.x, st.dur, v0, minV, o)
