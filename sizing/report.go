@@ -57,8 +57,11 @@ type Candidate struct {
 	// series × that floor where it is higher.
 	MinV float64 `json:"min_v"`
 	// Limit names what set the parallel count: "voltage" (terminal voltage
-	// reaches min_v), "power" (maximum-power point), "peak_current",
-	// "rms_current", or "" when one string is enough with margin.
+	// reaches min_v), "power" (maximum-power point), "input_current" (the
+	// converter's input current limit), "peak_current", "rms_current",
+	// "temperature", or "" when one string is enough with margin; or, for
+	// a bank that carries the pass but cannot be recharged between events,
+	// "recharge".
 	Limit string `json:"limit,omitempty"`
 	// CapacitanceF, in F, and ESROhm, in Ω: the bank at beginning of life.
 	CapacitanceF float64 `json:"capacitance_f"`
@@ -129,6 +132,24 @@ type Candidate struct {
 	WiringLossJ     float64 `json:"wiring_loss_j"`
 	LeakageLossJ    float64 `json:"leakage_loss_j"`
 	RejectedEnergyJ float64 `json:"rejected_energy_j"`
+	// The charger's figures (nil without charger): RechargeS, in s, from
+	// the end of the sizing pass at worst case back to the end of the
+	// constant-voltage phase; FirstChargeS, in s, a new bank (nominal
+	// capacitance and ESR) from 0 V to the same end; ChargeEnergyJ, in J,
+	// what the recharge draws from the charger's supply (after
+	// charger.efficiency); ChargeSeriesLossJ, in J, what it loses in the
+	// cells' ESR and the wiring.
+	RechargeS         *float64 `json:"recharge_s"`
+	FirstChargeS      *float64 `json:"first_charge_s"`
+	ChargeEnergyJ     *float64 `json:"charge_energy_j"`
+	ChargeSeriesLossJ *float64 `json:"charge_series_loss_j"`
+	// InrushCurrentA, in A, is the current into the empty bank when it is
+	// connected: max_v over the bank's ESR and wiring at beginning of life
+	// (a short through them), or the charger's current limit where lower.
+	InrushCurrentA float64 `json:"inrush_current_a"`
+	// Precharge is the resistor system.inrush_limit_a asks for; nil
+	// without the limit.
+	Precharge *Precharge `json:"precharge"`
 	// Totals for the whole bank; nil when the cell does not give the figure.
 	TotalPrice *float64 `json:"total_price"`
 	MassKg     *float64 `json:"mass_kg"`

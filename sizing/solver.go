@@ -48,6 +48,8 @@ type plan struct {
 	// efficiency against input voltage (nil: load.efficiency, flat).
 	imax  float64
 	curve *efficiencyCurve
+	// charger charges the bank between events; nil: none.
+	charger *chargerPlan
 }
 
 func newPlan(d *Design) *plan {
@@ -91,6 +93,7 @@ func newPlan(d *Design) *plan {
 		p.startV = *d.Load.StartV
 	}
 	p.wLink, p.wStr, p.wBank = d.wiringOhm()
+	p.charger = newChargerPlan(d.Charger)
 	p.steps = compileSteps(d.Load.StepList(), eff, p.curve != nil)
 	for _, s := range p.steps {
 		p.period += s.dur
@@ -130,7 +133,8 @@ func (p *plan) forSeries(c *Cell, s int) *plan {
 	q := &plan{d: root.d, steps: root.steps, repeat: root.repeat, period: root.period, maxV: root.maxV, minV: floor,
 		capF: root.capF, esrF: root.esrF, tolOn: root.tolOn, periodS: root.periodS, rankBy: root.rankBy, ambientC: root.ambientC,
 		work: root.work, halt: root.halt, root: root, startV: root.startV,
-		wLink: root.wLink, wStr: root.wStr, wBank: root.wBank, imax: root.imax, curve: root.curve}
+		wLink: root.wLink, wStr: root.wStr, wBank: root.wBank, imax: root.imax, curve: root.curve,
+		charger: root.charger}
 	q.gatherBound()
 	if root.floors == nil {
 		root.floors = map[float64]*plan{}
@@ -947,6 +951,7 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 	bal.BankLossW = bal.LossW * float64(par)
 	cand.Balancing = &bal
 	p.fillSafety(cand, c, l, m)
+	p.fillCharge(cand, c, l, m, st, t.ok)
 	if !t.ok {
 		return
 	}

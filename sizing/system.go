@@ -143,7 +143,7 @@ func systemRules(d *Design) ValidationError {
 	}
 	w := d.Window
 	windowOK := Finite(w.MaxV) && Finite(w.MinV) && w.MinV > 0 && w.MinV < w.MaxV
-	if sv := d.Load.StartV; sv != nil && Finite(*sv) && windowOK {
+	if sv := d.Load.StartV; sv != nil && Finite(*sv) && *sv > 0 && windowOK {
 		switch {
 		case *sv > w.MaxV*(1+1e-12):
 			add("load.start_v", "within_window", "is %g V, above window.max_v (%g V): the bank cannot start above the window top", *sv, w.MaxV)
@@ -151,20 +151,17 @@ func systemRules(d *Design) ValidationError {
 			add("load.start_v", "within_window", "is %g V, below window.min_v (%g V): the bank would start below the window bottom", *sv, w.MinV)
 		}
 	}
-	if sv := d.Load.StartV; sv != nil && !(Finite(*sv) && *sv > 0) {
-		add("load.start_v", "gt", "must be a number above 0 V, the capacitor voltage at rest when the pass starts")
-	}
 	if cv := d.Converter; cv != nil {
 		if mv := cv.MinInputV; mv != nil && Finite(*mv) && Finite(w.MaxV) && *mv >= w.MaxV {
 			add("converter.min_input_v", "below_max_v", "is %g V, at or above window.max_v (%g V): the converter would never run; check both", *mv, w.MaxV)
 		}
 		if d.Load.Efficiency != nil && len(cv.EfficiencyCurve) > 0 {
-			add("converter.efficiency_curve", "one_efficiency", "and load.efficiency are both given; give the converter's efficiency once: the curve, or one figure")
+			add("converter.efficiency_curve", "one_efficiency", "is given with load.efficiency; give the converter's efficiency once: the curve, or load.efficiency alone")
 		}
 		for i, pt := range cv.EfficiencyCurve {
 			f := fmt.Sprintf("converter.efficiency_curve[%d]", i)
 			if len(pt) != 2 {
-				add(f, "pair", "must be a pair [input_v, efficiency], e.g. [48, 0.95]; found %d numbers", len(pt))
+				add(f, "pair", "must be a pair [input_v, efficiency], e.g. [48, 0.95]; found %d number(s)", len(pt))
 				continue
 			}
 			switch {
