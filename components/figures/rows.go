@@ -95,9 +95,12 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		quantity("Capacitor voltage at the end of the pass", c.EndCapacitorV, "V", 4, ""),
 		quantity("Energy out of the bank terminals", c.BankEnergyJ, "J", 4, "over the sizing pass, before the converter"),
 		quantity("Energy delivered to the load", c.LoadEnergyJ, "J", 4, "over the sizing pass, after the converter's efficiency"),
-		quantity("Lost in the ESR", c.ESRLossJ, "J", 3, ""),
+		quantity("Lost in the ESR", c.ESRLossJ, "J", 3, "the cells' own"),
 		quantity("Lost in leakage and balancing", c.LeakageLossJ, "J", 3, ""),
 	}}
+	if c.WiringLossJ > 0 {
+		energy.Rows = append(energy.Rows, quantity("Lost in the wiring", c.WiringLossJ, "J", 3, "links, string ends and bank resistance"))
+	}
 	if c.RejectedEnergyJ > 0 {
 		energy.Rows = append(energy.Rows, quantity("Charge refused at the window top", c.RejectedEnergyJ, "J", 3, ""))
 	}
@@ -105,7 +108,7 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		quantity("Peak current", c.PeakCurrentA, "A", 3, "per cell "+SI(c.CellPeakCurrentA, "A", 3)),
 		quantity("RMS current", c.RMSCurrentA, "A", 3, "per cell "+SI(c.CellRMSCurrentA, "A", 3)+", "+rmsOver(c, r)),
 	}}
-	groups := []Group{bank, energy, current}
+	groups := []Group{bank, energy, current, connection(c)}
 	if t := c.Thermal; t != nil {
 		groups = append(groups, heat(t))
 	}
@@ -221,6 +224,8 @@ func runtimeRow(c *sizing.Candidate) Row {
 		note = "until the window bottom"
 	case "power":
 		note = "until the maximum-power point"
+	case "input_current":
+		note = "until the converter's input current limit"
 	}
 	if c.RuntimeEstimated {
 		note += ", " + EstimatedNote
@@ -399,6 +404,10 @@ func limitNote(limit string) string {
 		return "strings set by the cell's continuous current"
 	case "temperature":
 		return "strings set by the cell's maximum temperature"
+	case "input_current":
+		return "strings set by the converter's input current limit"
+	case "recharge":
+		return "not rechargeable between events"
 	}
 	return "one string carries the load"
 }
@@ -435,4 +444,33 @@ func steadyNote(t *sizing.Thermal) string {
 		return "at the pass's RMS loss, as if the pass repeated back to back for ever (no period given): a bound a one-shot event never reaches"
 	}
 	return "at the RMS loss over the period between events"
+}
+
+// connection lays out how the bank is charged and connected: the
+// charger's times and energy, the inrush and the precharge resistor.
+func connection(c *sizing.Candidate) Group {
+	g := Group{Title: "Charging and connection"}
+	if c.FirstChargeS != nil || c.RechargeS != nil {
+		g.Rows = append(g.Rows,
+			duration("Recharge after the event", c.RechargeS, 3, "worst case, from the end of the pass to the end of the constant-voltage phase"),
+			duration("First charge from empty", c.FirstChargeS, 3, "a new bank, nominal capacitance and ESR"),
+			optQuantity("Energy from the charger's supply", c.ChargeEnergyJ, "J", 4, "for the recharge"),
+			optQuantity("Lost in ESR and wiring while recharging", c.ChargeSeriesLossJ, "J", 3, ""),
+		)
+	}
+	g.Rows = append(g.Rows, quantity("Inrush current", c.InrushCurrentA, "A", 3, "into the empty bank when connected"))
+	if pc := c.Precharge; pc != nil {
+		if pc.ResistanceOhm == 0 {
+			g.Rows = append(g.Rows, text("Precharge resistor", "none needed", "the bank's ESR alone keeps the inrush within the limit"))
+		} else {
+			g.Rows = append(g.Rows,
+				quantity("Precharge resistor", pc.ResistanceOhm, "Ω", 3, "E24, at least "+SI(pc.NeededOhm, "Ω", 3)),
+				quantity("Precharge peak current", pc.PeakCurrentA, "A", 3, "at connection"),
+				quantity("Precharge peak power", pc.PeakPowerW, "W", 3, "in the resistor at connection"),
+				quantity("Precharge pulse energy", pc.EnergyJ, "J", 3, "½·C·V², what the resistor must absorb at most"),
+				duration("Precharge time to 99 %", &pc.TimeTo99S, 3, "(R + ESR)·C·ln 100"),
+			)
+		}
+	}
+	return g
 }

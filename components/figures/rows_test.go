@@ -25,7 +25,7 @@ func busHoldUp() (*sizing.Candidate, *sizing.Report) {
 		WorstCase:    "end of life: capacitance ×0.8, ESR ×2; no minus tolerance given; at −20 °C: ESR ×1.5, capacitance not derated (the cell gives no cold factor)",
 		PeakCurrentA: 141.67, CellPeakCurrentA: 35.42, RMSCurrentA: 98.2, CellRMSCurrentA: 24.5,
 		Hazards:    sizing.Hazards{MaxV: 48, StoredEnergyJ: 89600, ShortCircuitCurrentA: 48 / 0.0072, CellEnergyWh: 350 * 2.7 * 2.7 / 2 / 3600},
-		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6),
+		TotalPrice: ptr(468), MassKg: ptr(4.536), VolumeL: ptr(3.6), InrushCurrentA: 48 / 0.0072,
 	}
 	return c, &sizing.Report{MaxV: 48, MinV: 24, ColdC: ptr(-20)}
 }
@@ -55,11 +55,13 @@ func TestCandidate(t *testing.T) {
 		"Capacitor voltage at the end of the pass | 26.1 | V | ",
 		"Energy out of the bank terminals | 48 | kJ | over the sizing pass, before the converter",
 		"Energy delivered to the load | 45.6 | kJ | over the sizing pass, after the converter's efficiency",
-		"Lost in the ESR | 512 | J | ",
+		"Lost in the ESR | 512 | J | the cells' own",
 		"Lost in leakage and balancing | 400 | mJ | ",
 		"# Current, worst case",
 		"Peak current | 142 | A | per cell 35.4_A",
 		"RMS current | 98.2 | A | per cell 24.5_A, over the pass, as if it repeated back to back (no period given)",
+		"# Charging and connection",
+		"Inrush current | 6.67 | kA | into the empty bank when connected",
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
 		"Stored energy | 89.6 | kJ | ",
@@ -79,6 +81,38 @@ func TestCandidate(t *testing.T) {
 	}
 	if strings.Join(got, "\n") != strings.Join(want, "\n") {
 		t.Errorf("rows:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+	}
+}
+
+// TestChargingRows: the charger's times and energies, the wiring's loss
+// and a precharge resistor, as the page, the PDF and the XLSX show them.
+func TestChargingRows(t *testing.T) {
+	t.Parallel()
+	c, r := busHoldUp()
+	c.RechargeS, c.FirstChargeS, c.ChargeEnergyJ, c.ChargeSeriesLossJ = ptr(412.5), ptr(1330), ptr(23456), ptr(81.2)
+	c.WiringLossJ, c.InrushCurrentA = 40.5, 20
+	c.Precharge = &sizing.Precharge{NeededOhm: 2.39, ResistanceOhm: 2.4, PeakCurrentA: 19.94, PeakPowerW: 954, EnergyJ: 89600, TimeTo99S: 859.6}
+	want := map[string]string{
+		"Recharge after the event":                "6.88 | min",
+		"First charge from empty":                 "22.2 | min",
+		"Energy from the charger's supply":        "23.46 | kJ",
+		"Lost in ESR and wiring while recharging": "81.2 | J",
+		"Lost in the wiring":                      "40.5 | J",
+		"Inrush current":                          "20 | A",
+		"Precharge resistor":                      "2.4 | Ω",
+		"Precharge pulse energy":                  "89.6 | kJ",
+		"Precharge time to 99 %":                  "14.3 | min",
+	}
+	got := map[string]string{}
+	for _, g := range Candidate(c, r) {
+		for _, row := range g.Rows {
+			got[row.Label] = row.Value + " | " + row.Unit
+		}
+	}
+	for label, w := range want {
+		if got[label] != w {
+			t.Errorf("%s: %q, want %q", label, got[label], w)
+		}
 	}
 }
 
