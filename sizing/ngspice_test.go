@@ -130,8 +130,9 @@ func ngspiceOrSkip(t *testing.T) string {
 var ngspiceMeasRE = regexp.MustCompile(`(?m)^\s*([a-z]\w*)\s*=\s*([-+]?[0-9.]+(?:[eE][-+]?[0-9]+)?)`)
 
 // runNgspice writes netlist into dir, runs ngspice in batch mode on it and
-// returns the .meas results by name.
-func runNgspice(t *testing.T, bin, dir, name, netlist string) map[string]float64 {
+// returns the .meas results by name; each name of want (by default umin,
+// vcend and trun) must be among them.
+func runNgspice(t *testing.T, bin, dir, name, netlist string, want ...string) map[string]float64 {
 	t.Helper()
 	file := filepath.Join(dir, name+".cir")
 	if err := os.WriteFile(file, []byte(netlist), 0o644); err != nil {
@@ -155,7 +156,10 @@ func runNgspice(t *testing.T, bin, dir, name, netlist string) map[string]float64
 			got[m[1]] = x
 		}
 	}
-	for _, k := range []string{"umin", "vcend", "trun"} {
+	if len(want) == 0 {
+		want = []string{"umin", "vcend", "trun"}
+	}
+	for _, k := range want {
 		if _, ok := got[k]; !ok {
 			t.Fatalf("ngspice gave no measurement %q (a figure far off, or a failed run)\n%s\nnetlist:\n%s", k, out, netlist)
 		}
