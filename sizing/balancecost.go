@@ -56,8 +56,10 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 		Quantity(b.BankLossW, "W", 3), b.BankCount, Quantity(*b.ResistorOhm, "Ω", 3), Quantity(b.BankLossW/float64(max(1, b.BankCount)), "W", 3),
 		Quantity(b.LossW, "W", 3), strings.Join(why, "; and "), hold)
 
-	// One more cell in series, passive: more headroom, larger resistors.
-	more := p.forSeries(c, cand.Series+1).sizeCellWith(c, limitOptions{series: cand.Series + 1})
+	// One more cell (one more module) in series, passive: more headroom,
+	// larger resistors.
+	step, _ := p.d.seriesStep(c)
+	more := p.forSeries(c, cand.Series+step).sizeCellWith(c, limitOptions{series: cand.Series + step, hotC: cand.CeilingTempC})
 	alt := alternativeOf("passive", &more)
 	b.Alternatives = append(b.Alternatives, alt)
 	msg += " " + alternativeText(fmt.Sprintf("%d in series", more.Series), alt)
@@ -69,7 +71,7 @@ func (p *plan) balancingAlternatives(cand *Candidate, c *Cell) {
 		q, assumed = *d.QuiescentA, false
 	}
 	act.QuiescentA = &q
-	active := p.sizeCellWith(c, limitOptions{series: cand.Series, balancing: &act})
+	active := p.sizeCellWith(c, limitOptions{series: cand.Series, balancing: &act, hotC: cand.CeilingTempC})
 	alt = alternativeOf("active", &active)
 	alt.QuiescentAssumed = assumed
 	b.Alternatives = append(b.Alternatives, alt)

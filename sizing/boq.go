@@ -130,8 +130,25 @@ func BillOfQuantities(d *Design, r *Report, cellID string) (*BOQ, error) {
 	if name == "" {
 		name = cell.ID
 	}
-	add("cell", fmt.Sprintf("%s: %g F, %g V, ESR %s; %d in series × %d strings", name, cell.CapacitanceF, cell.RatedV,
-		ohms(cell.ESROhm), cand.Series, cand.Parallel), float64(cand.Cells), "pc", cell.UnitPrice)
+	cellDesc := fmt.Sprintf("%s: %g F, %g V, ESR %s; %d in series × %d strings", name, cell.CapacitanceF, cell.RatedV,
+		ohms(cell.ESROhm), cand.Series, cand.Parallel)
+	if m := cand.Modules; m != nil {
+		// The cells come in the modules: the modules are what is ordered.
+		mname := m.Name
+		if mname == "" {
+			mname = "module"
+		}
+		add("module", fmt.Sprintf("%s: %d in series × %d in parallel of %s; %d modules in series × %d strings of modules",
+			mname, m.Series, m.Parallel, name, m.InSeries, m.Strings), float64(m.Count), "pc", cell.Module.UnitPrice)
+		if cell.Module.UnitPrice == nil && cell.UnitPrice != nil {
+			// An unpriced module of priced cells: the cells carry the price.
+			add("cell", cellDesc+", in the modules", float64(cand.Cells), "pc", cell.UnitPrice)
+		} else {
+			b.Lines = append(b.Lines, BOQLine{Item: "cell", Description: cellDesc + ", in the modules (not ordered apart)", Quantity: float64(cand.Cells), Unit: "pc"})
+		}
+	} else {
+		add("cell", cellDesc, float64(cand.Cells), "pc", cell.UnitPrice)
+	}
 
 	if bal := cand.Balancing; bal != nil {
 		switch {
@@ -149,9 +166,15 @@ func BillOfQuantities(d *Design, r *Report, cellID string) (*BOQ, error) {
 		}
 	}
 
-	links := cand.Parallel*(cand.Series-1) + 2*cand.Parallel
-	add("interconnect link", fmt.Sprintf("%d cell-to-cell links per string (series − 1) × %d strings, plus 2 string-end connections per string to the bank busbars",
-		cand.Series-1, cand.Parallel), float64(links), "pc", opt.LinkUnitPrice)
+	if m := cand.Modules; m != nil {
+		links := m.Strings*(m.InSeries-1) + 2*m.Strings
+		add("interconnect link", fmt.Sprintf("%d module-to-module links per string of modules × %d strings, plus 2 string-end connections per string to the bank busbars (the links inside the modules come with them)",
+			m.InSeries-1, m.Strings), float64(links), "pc", opt.LinkUnitPrice)
+	} else {
+		links := cand.Parallel*(cand.Series-1) + 2*cand.Parallel
+		add("interconnect link", fmt.Sprintf("%d cell-to-cell links per string (series − 1) × %d strings, plus 2 string-end connections per string to the bank busbars",
+			cand.Series-1, cand.Parallel), float64(links), "pc", opt.LinkUnitPrice)
+	}
 
 	bt := DefaultBleederTimeS
 	if opt.BleederTimeS != nil {

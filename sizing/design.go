@@ -44,6 +44,10 @@ type Design struct {
 	// Statistics sets the lot analysis (see Statistics). nil: the
 	// defaults, on the recommended candidate only.
 	Statistics *Statistics `json:"statistics,omitempty"`
+	// SeriesMultiple rounds every candidate's series count up to a
+	// multiple of it (modules of that many cells; a cell's own module
+	// takes precedence). nil: 1.
+	SeriesMultiple *int `json:"series_multiple,omitempty" validate:"omitempty,gte=1,lte=1000"`
 	// Charger charges the bank between events (see Charger). nil: no
 	// charge figures.
 	Charger *Charger `json:"charger,omitempty"`
@@ -365,6 +369,15 @@ type Cell struct {
 	CapacitanceSigmaPct *float64 `json:"capacitance_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
 	ESRSigmaPct         *float64 `json:"esr_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=30"`
 	LeakageSigmaPct     *float64 `json:"leakage_sigma_pct,omitempty" validate:"omitempty,finite,gte=0,lte=100"`
+	// Module, when the cell comes in modules, rounds the bank to whole
+	// modules (see Module). nil: single cells.
+	Module *Module `json:"module,omitempty"`
+	// VoltageDerating is [[temp_c, max_cell_v], …] sorted by temperature:
+	// the per-cell ceiling at the design's hottest cell temperature
+	// (ambient plus the ESR heating), linear between the points and flat
+	// outside them (see the report's ceiling_temp_c). nil: the rated
+	// voltage at every temperature.
+	VoltageDerating [][]float64 `json:"voltage_derating,omitempty" validate:"omitempty,max=100"`
 	// Electrolyte: "organic" (flammable solvent, the usual EDLC), "aqueous",
 	// "ionic-liquid" or "hybrid". Empty: not given, taken as organic for the
 	// fire check (the usual and the more cautious case), with a flag.

@@ -51,7 +51,14 @@ type Candidate struct {
 	// CellCeilingV, in V, is the per-cell ceiling the series count used;
 	// CellV the per-cell voltage at the window top (max_v / series).
 	CellCeilingV float64 `json:"cell_ceiling_v"`
-	CellV        float64 `json:"cell_v"`
+	// CeilingTempC, in °C, is the cell temperature the cell's voltage
+	// derating was read at for CellCeilingV (the hottest cell: ambient
+	// plus the ESR heating); nil for a cell without voltage_derating.
+	CeilingTempC *float64 `json:"ceiling_temp_c"`
+	// Modules is how the bank is built of the cell's modules; nil for
+	// single cells.
+	Modules *ModuleCount `json:"modules"`
+	CellV   float64      `json:"cell_v"`
 	// MinV, in V, is the window bottom this candidate was sized to: the
 	// design's window.min_v, or, for a cell with its own floor (min_v),
 	// series × that floor where it is higher.

@@ -345,6 +345,12 @@ type cellLimits struct {
 	maxTempC float64    // the cell's maximum temperature, a sizing limit with heat; NaN: none
 	ambientC float64
 	halt     *atomic.Bool // the plan's cancel flag, passed to every bank model
+	// ceilingTempC is the cell temperature (°C) the voltage derating was
+	// read at, and derated whether it lowered the ceiling; parStep the
+	// whole number of strings a module holds (1: single cells).
+	ceilingTempC float64
+	derated      bool
+	parStep      int
 	// The wiring (Ω) and the converter's input current limit and
 	// efficiency curve, passed to every bank model.
 	wLink, wStr, wBank float64
@@ -357,6 +363,9 @@ type cellLimits struct {
 type limitOptions struct {
 	series    int        // cells in series; 0: SeriesCount at the ceiling
 	balancing *Balancing // nil: the design's balancing
+	// hotC is the cell temperature (°C) the voltage derating is read at;
+	// nil: the ambient.
+	hotC *float64
 }
 
 func (p *plan) limits(c *Cell, flags *[]Flag) cellLimits {
@@ -377,7 +386,18 @@ func (p *plan) limitsWith(c *Cell, o limitOptions, flags *[]Flag) cellLimits {
 				*p.d.CellMaxV, c.RatedV)})
 		}
 	}
-	l.s = SeriesCount(p.maxV, l.ceiling)
+	if len(c.VoltageDerating) > 0 {
+		l.ceilingTempC = p.ambientC
+		if o.hotC != nil {
+			l.ceilingTempC = *o.hotC
+		}
+		if v := derate(c.VoltageDerating, l.ceilingTempC); v < l.ceiling {
+			l.ceiling, l.derated = v, true
+		}
+	}
+	var ms int
+	ms, l.parStep = p.d.seriesStep(c)
+	l.s = roundUp(SeriesCount(p.maxV, l.ceiling), ms)
 	if o.series > 0 {
 		l.s = o.series
 	}
@@ -521,6 +541,9 @@ func (p *plan) try(l *cellLimits, par int) trial {
 // beside it.
 func (p *plan) sizeCell(c *Cell) Candidate {
 	cand := p.sizeCellWith(c, limitOptions{})
+	if len(c.VoltageDerating) > 0 {
+		cand = p.deratedAtHotSpot(c, cand)
+	}
 	p.balancingAlternatives(&cand, c)
 	return cand
 }
@@ -530,6 +553,10 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 	l := p.limitsWith(c, o, &cand.Flags)
 	cand.Series = l.s
 	cand.CellCeilingV = l.ceiling
+	if len(c.VoltageDerating) > 0 {
+		t := l.ceilingTempC
+		cand.CeilingTempC = &t
+	}
 	cand.CellV = p.maxV / float64(l.s)
 	cand.MinV = p.minV
 	cand.ColdESRFactor = l.coldK
@@ -563,6 +590,10 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 		cand.Reason = p.infeasibleReason(&l, lo)
 		p.fillFigures(&cand, c, &l, lo)
 		return cand
+	}
+	if hi.par%l.parStep != 0 {
+		// Whole modules: more strings carry the pass too.
+		hi = p.try(&l, roundUp(hi.par, l.parStep))
 	}
 	cand.Feasible = true
 	cand.Limit = lo.limit
@@ -931,20 +962,28 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		cand.LeakageLossJ = 0
 	}
 	cand.RejectedEnergyJ = st.reject
-	if c.UnitPrice != nil {
-		v := *c.UnitPrice * float64(cand.Cells)
-		cand.TotalPrice = &v
-	} else {
+	// Totals: the modules' own figures where the module gives them (cells
+	// included), else the cells'.
+	cand.Modules = moduleCount(c, s, par)
+	total := func(cell, module *float64) *float64 {
+		if m := cand.Modules; m != nil && module != nil {
+			v := *module * float64(m.Count)
+			return &v
+		}
+		if cell != nil {
+			v := *cell * float64(cand.Cells)
+			return &v
+		}
+		return nil
+	}
+	var mod Module
+	if c.Module != nil {
+		mod = *c.Module
+	}
+	cand.TotalPrice, cand.MassKg, cand.VolumeL = total(c.UnitPrice, mod.UnitPrice), total(c.MassKg, mod.MassKg), total(c.VolumeL, mod.VolumeL)
+	if cand.TotalPrice == nil {
 		cand.Flags = append(cand.Flags, Flag{Code: "no-price", Severity: Info,
 			Message: "The cell has no unit price, so it ranks after priced candidates when ranking by price."})
-	}
-	if c.MassKg != nil {
-		v := *c.MassKg * float64(cand.Cells)
-		cand.MassKg = &v
-	}
-	if c.VolumeL != nil {
-		v := *c.VolumeL * float64(cand.Cells)
-		cand.VolumeL = &v
 	}
 	bal := l.bal.res
 	bal.BankCount = bal.Count * par

@@ -151,6 +151,20 @@ func systemRules(d *Design) ValidationError {
 			add("load.start_v", "within_window", "is %g V, below window.min_v (%g V): the bank would start below the window bottom", *sv, w.MinV)
 		}
 	}
+	for i, c := range d.Cells {
+		if len(c.VoltageDerating) == 0 || len(cellSystemRules(&c, "")) > 0 || !Finite(w.MaxV) || !(w.MaxV > 0) {
+			continue
+		}
+		lowest := math.Inf(1)
+		for _, pt := range c.VoltageDerating {
+			lowest = math.Min(lowest, pt[1])
+		}
+		ms, _ := d.seriesStep(&c)
+		if n := SeriesCount(w.MaxV, lowest); n == 0 || roundUp(n, ms) > MaxSeries {
+			add(fmt.Sprintf("cells[%d].voltage_derating", i), "series_count",
+				"goes down to %g V per cell, which would need more than %d cells in series to hold window.max_v (%g V); check the table's unit (V per cell)", lowest, MaxSeries, w.MaxV)
+		}
+	}
 	if cv := d.Converter; cv != nil {
 		if mv := cv.MinInputV; mv != nil && Finite(*mv) && Finite(w.MaxV) && *mv >= w.MaxV {
 			add("converter.min_input_v", "below_max_v", "is %g V, at or above window.max_v (%g V): the converter would never run; check both", *mv, w.MaxV)
@@ -175,4 +189,165 @@ func systemRules(d *Design) ValidationError {
 		}
 	}
 	return errs
+}
+
+// Module is a cell bought as part of a module: Series cells in series by
+// Parallel in parallel in one housing. A bank of such cells has a series
+// count that is a whole number of modules' Series and a string count that
+// is a whole number of modules' Parallel.
+type Module struct {
+	// Name labels the module in the bill of quantities.
+	Name string `json:"name,omitempty" validate:"max=200"`
+	// Series and Parallel are the module's cells in series and in
+	// parallel; Parallel nil: 1.
+	Series   int  `json:"series" validate:"gte=1,lte=1000"`
+	Parallel *int `json:"parallel,omitempty" validate:"omitempty,gte=1,lte=1000"`
+	// MassKg, VolumeL and UnitPrice are one module's, cells included;
+	// where given they take the place of the cells' in the bank's totals.
+	MassKg    *float64 `json:"mass_kg,omitempty" validate:"omitempty,finite,gt=0,lte=100000"`
+	VolumeL   *float64 `json:"volume_l,omitempty" validate:"omitempty,finite,gt=0,lte=100000"`
+	UnitPrice *float64 `json:"unit_price,omitempty" validate:"omitempty,finite,gte=0,lte=1e9"`
+}
+
+// ModuleCount is how a candidate's bank is built of modules.
+type ModuleCount struct {
+	Name string `json:"name,omitempty"`
+	// Series and Parallel are one module's cells; InSeries the modules in
+	// series in a string of modules, Strings the strings of modules, Count
+	// all the modules (InSeries × Strings).
+	Series   int `json:"series"`
+	Parallel int `json:"parallel"`
+	InSeries int `json:"in_series"`
+	Strings  int `json:"strings"`
+	Count    int `json:"count"`
+}
+
+// seriesStep returns the whole number the series count of cell c must be
+// a multiple of, and the string count's: the cell's module, else the
+// design's series_multiple, else 1.
+func (d *Design) seriesStep(c *Cell) (series, parallel int) {
+	series, parallel = 1, 1
+	if m := c.Module; m != nil {
+		series = max(1, m.Series)
+		if m.Parallel != nil {
+			parallel = max(1, *m.Parallel)
+		}
+		return series, parallel
+	}
+	if d.SeriesMultiple != nil {
+		series = max(1, *d.SeriesMultiple)
+	}
+	return series, parallel
+}
+
+// roundUp returns the least multiple of step at least n.
+func roundUp(n, step int) int {
+	if step <= 1 {
+		return n
+	}
+	return (n + step - 1) / step * step
+}
+
+// cellSystemRules are the rules of a cell's module and voltage derating;
+// p is the cell's path ("cells[2]", or "" for a cell on its own).
+func cellSystemRules(c *Cell, p string) ValidationError {
+	var errs ValidationError
+	add := func(field, rule, format string, a ...any) {
+		if p != "" {
+			field = p + "." + field
+		}
+		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
+	}
+	for i, pt := range c.VoltageDerating {
+		f := fmt.Sprintf("voltage_derating[%d]", i)
+		if len(pt) != 2 {
+			add(f, "pair", "must be a pair [temp_c, max_cell_v], e.g. [65, 2.5]; found %d number(s)", len(pt))
+			continue
+		}
+		prev := c.VoltageDerating[max(i-1, 0)]
+		switch {
+		case !Finite(pt[0]) || pt[0] < -100 || pt[0] > 200:
+			add(f, "temp_c", "has temperature %g; give one between -100 and 200 °C", pt[0])
+		case !Finite(pt[1]) || pt[1] < 0.1 || pt[1] > 1000:
+			add(f, "max_cell_v", "has cell voltage %g; give one between 0.1 and 1000 V", pt[1])
+		case i > 0 && len(prev) == 2 && !(pt[0] > prev[0]):
+			add(f, "sorted", "has temperature %g °C, not above the point before it (%g °C); sort the points by rising temperature, each once", pt[0], prev[0])
+		}
+	}
+	return errs
+}
+
+// derate returns the per-cell ceiling the table [[temp_c, max_cell_v], …]
+// gives at tempC: linear between the points, flat outside them.
+func derate(table [][]float64, tempC float64) float64 {
+	n := len(table)
+	if tempC <= table[0][0] {
+		return table[0][1]
+	}
+	if tempC >= table[n-1][0] {
+		return table[n-1][1]
+	}
+	i := sort.Search(n, func(i int) bool { return table[i][0] >= tempC })
+	a, b := table[i-1], table[i]
+	return a[1] + (tempC-a[0])/(b[0]-a[0])*(b[1]-a[1])
+}
+
+// moduleCount is the modules of a bank of s × par cells of cell c; nil for
+// a cell without a module.
+func moduleCount(c *Cell, s, par int) *ModuleCount {
+	m := c.Module
+	if m == nil {
+		return nil
+	}
+	mp := 1
+	if m.Parallel != nil {
+		mp = *m.Parallel
+	}
+	mc := &ModuleCount{Name: m.Name, Series: m.Series, Parallel: mp, InSeries: s / m.Series, Strings: par / mp}
+	mc.Count = mc.InSeries * mc.Strings
+	return mc
+}
+
+// deratedAtHotSpot sizes cell c again where its voltage derating, read at
+// the hottest cell temperature of the bank first sized (ambient plus the
+// ESR heating), asks for more cells in series than the bank has; it stops
+// when the bank's own hot spot allows its cell voltage. The series count
+// only grows, so the answer is a bank whose cells are within the derated
+// ceiling at its own hot spot. The report says at which temperature the
+// ceiling was read (ceiling_temp_c).
+func (p *plan) deratedAtHotSpot(c *Cell, cand Candidate) Candidate {
+	ms, _ := p.d.seriesStep(c)
+	for range 6 {
+		if !cand.Feasible || cand.Thermal == nil {
+			break
+		}
+		hot := cand.Thermal.HotSpotC
+		if !(hot > *cand.CeilingTempC) || derate(c.VoltageDerating, hot) >= cand.CellV*(1-1e-12) {
+			break
+		}
+		ceiling := math.Min(c.RatedV, derate(c.VoltageDerating, hot))
+		if p.d.CellMaxV != nil && *p.d.CellMaxV <= c.RatedV {
+			ceiling = math.Min(ceiling, *p.d.CellMaxV)
+		}
+		s := max(roundUp(SeriesCount(p.maxV, ceiling), ms), cand.Series)
+		if s == cand.Series || s > MaxSeries {
+			break
+		}
+		cand = p.forSeries(c, s).sizeCellWith(c, limitOptions{series: s, hotC: &hot})
+	}
+	if cand.Thermal != nil && cand.CeilingTempC != nil {
+		// The ceiling as the final bank's own hot spot reads it.
+		hot := cand.Thermal.HotSpotC
+		ceiling := math.Min(c.RatedV, derate(c.VoltageDerating, hot))
+		if p.d.CellMaxV != nil && *p.d.CellMaxV <= c.RatedV {
+			ceiling = math.Min(ceiling, *p.d.CellMaxV)
+		}
+		cand.CeilingTempC, cand.CellCeilingV = &hot, ceiling
+	}
+	if cand.CeilingTempC != nil && cand.CellCeilingV < c.RatedV {
+		cand.Flags = append(cand.Flags, Flag{Code: "voltage-derated", Severity: Info, Message: fmt.Sprintf(
+			"At %.4g °C, the hottest cell's temperature (ambient plus the ESR heating), the cell's derating table allows %s per cell, below its %s rating; the bank has %d in series (%s per cell at the window top).",
+			*cand.CeilingTempC, Quantity(cand.CellCeilingV, "V", 4), Quantity(c.RatedV, "V", 4), cand.Series, Quantity(cand.CellV, "V", 4))})
+	}
+	return cand
 }

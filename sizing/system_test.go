@@ -295,6 +295,16 @@ func TestSystemKeysRefusedByField(t *testing.T) {
 		{"negative link", func(d *Design) { d.Wiring = &Wiring{LinkResistanceOhm: fp(-0.001)} }, "wiring.link_resistance_ohm"},
 		{"NaN bank wiring", func(d *Design) { d.Wiring = &Wiring{BankResistanceOhm: fp(math.NaN())} }, "wiring.bank_resistance_ohm"},
 		{"zero inrush limit", func(d *Design) { d.System = &System{InrushLimitA: fp(0)} }, "system.inrush_limit_a"},
+		{"module of no cells", func(d *Design) { d.Cells[0].Module = &Module{Series: 0} }, "cells[0].module.series"},
+		{"module parallel 0", func(d *Design) { d.Cells[0].Module = &Module{Series: 2, Parallel: ip(0)} }, "cells[0].module.parallel"},
+		{"series multiple 0", func(d *Design) { d.SeriesMultiple = ip(0) }, "series_multiple"},
+		{"derating unsorted", func(d *Design) { d.Cells[0].VoltageDerating = [][]float64{{65, 2.5}, {25, 2.7}} }, "cells[0].voltage_derating[1]"},
+		{"derating not a pair", func(d *Design) { d.Cells[0].VoltageDerating = [][]float64{{65}} }, "cells[0].voltage_derating[0]"},
+		{"derating in mV", func(d *Design) { d.Cells[0].VoltageDerating = [][]float64{{25, 2.7}, {65, 2500}} }, "cells[0].voltage_derating[1]"},
+		{"derating too low for the window", func(d *Design) {
+			d.Window.MaxV = 2000
+			d.Cells[0].VoltageDerating = [][]float64{{25, 2.7}, {65, 0.1}}
+		}, "cells[0].voltage_derating"},
 		{"start above top", func(d *Design) { d.Load.StartV = fp(28) }, "load.start_v"},
 		{"start below bottom", func(d *Design) { d.Load.StartV = fp(11) }, "load.start_v"},
 	}
@@ -306,5 +316,97 @@ func TestSystemKeysRefusedByField(t *testing.T) {
 		if !errors.As(err, &ve) || len(ve) != 1 || ve[0].Field != c.field {
 			t.Errorf("%s: %v, want one problem at %s", c.name, err, c.field)
 		}
+	}
+}
+
+// Modules: the series count rounds up to whole modules of 6 and the string
+// count to whole modules of 2 strings; the totals are the modules' own
+// figures and the bill of quantities orders modules, with the cells in
+// them listed but not priced apart.
+func TestModules(t *testing.T) {
+	t.Parallel()
+	d := plainDesign(Step{PowerW: fp(2500), DurationS: 20})
+	d.Window = Window{MaxV: 42, MinV: 21}
+	d.Cells[0].UnitPrice = fp(4)
+	plain := mustSize(t, d).Candidates[0]
+	if plain.Series != 16 { // ⌈42/2.7⌉
+		t.Fatalf("single cells: %d in series, want 16", plain.Series)
+	}
+	d.Cells[0].Module = &Module{Name: "six-pack", Series: 6, Parallel: ip(2), UnitPrice: fp(30), MassKg: fp(0.5)}
+	c := mustSize(t, d).Candidates[0]
+	if c.Series != 18 || c.Parallel%2 != 0 || !c.Feasible {
+		t.Fatalf("modules: %d s × %d p (feasible %v), want 18 in series and an even string count", c.Series, c.Parallel, c.Feasible)
+	}
+	near(t, "cell voltage", c.CellV, 42.0/18, 1e-12)
+	// The fewest strings at 18 in series, rounded up to whole modules.
+	d18 := plainDesign(Step{PowerW: fp(2500), DurationS: 20})
+	d18.Window = d.Window
+	d18.SeriesMultiple = ip(18)
+	p18 := mustSize(t, d18).Candidates[0]
+	if p18.Series != 18 || c.Parallel != roundUp(p18.Parallel, 2) {
+		t.Errorf("modules: %d strings, want %d rounded up to 2 (%d)", c.Parallel, p18.Parallel, roundUp(p18.Parallel, 2))
+	}
+	m := c.Modules
+	if m == nil || m.InSeries != 3 || m.Strings != c.Parallel/2 || m.Count != 3*c.Parallel/2 {
+		t.Fatalf("module count %+v for %d s × %d p", m, c.Series, c.Parallel)
+	}
+	near(t, "price", *c.TotalPrice, 30*float64(m.Count), 1e-12)
+	near(t, "mass", *c.MassKg, 0.5*float64(m.Count), 1e-12)
+	r := mustSize(t, d)
+	b, err := BillOfQuantities(d, r, "sys")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b.Lines[0].Item != "module" || b.Lines[0].Quantity != float64(m.Count) || *b.Lines[0].ExtendedPrice != 30*float64(m.Count) {
+		t.Errorf("first line %+v, want %d modules at 30", b.Lines[0], m.Count)
+	}
+	if b.Lines[1].Item != "cell" || b.Lines[1].Quantity != float64(c.Cells) || b.Lines[1].UnitPrice != nil {
+		t.Errorf("second line %+v, want the %d cells, unpriced", b.Lines[1], c.Cells)
+	}
+	// series_multiple alone: 16 rounds up to 20.
+	d.Cells[0].Module = nil
+	d.SeriesMultiple = ip(5)
+	if c := mustSize(t, d).Candidates[0]; c.Series != 20 || c.Modules != nil {
+		t.Errorf("series_multiple 5: %d in series (modules %v), want 20", c.Series, c.Modules)
+	}
+}
+
+// Voltage derating: the per-cell ceiling follows the table at the hottest
+// cell temperature. At 45 °C ambient with no heating figure the table
+// [[25, 2.7], [65, 2.3]] gives 2.5 V, so 42 V needs ⌈42/2.5⌉ = 17 cells
+// (16 at the rating); with the ESR heating the hot spot reads the table
+// hotter, and the bank's cells stay within the ceiling at its own hot
+// spot.
+func TestVoltageDerating(t *testing.T) {
+	t.Parallel()
+	d := plainDesign(Step{PowerW: fp(2500), DurationS: 20})
+	d.Window = Window{MaxV: 42, MinV: 21}
+	d.AmbientC = fp(45)
+	d.Cells[0].VoltageDerating = [][]float64{{25, 2.7}, {65, 2.3}}
+	c := mustSize(t, d).Candidates[0]
+	if c.Series != 17 || c.CeilingTempC == nil || *c.CeilingTempC != 45 {
+		t.Fatalf("%d in series, ceiling read at %v °C; want 17 at 45 °C", c.Series, c.CeilingTempC)
+	}
+	near(t, "ceiling", c.CellCeilingV, 2.5, 1e-12)
+	if !hasFlag(c.Flags, "voltage-derated") {
+		t.Error("no voltage-derated note")
+	}
+	// A hot cell: 12 K/W, a heavy pulse load; its hot spot (about 52 °C)
+	// reads 2.43 V from the table, below the 2.47 V of 17 cells, so the
+	// bank grows to 18.
+	d.Cells[0].ThermalResistanceKPerW = fp(12)
+	d.Load.Steps = []Step{{PowerW: fp(6000), DurationS: 30}}
+	d.Load.PeriodS = fp(40)
+	h := mustSize(t, d).Candidates[0]
+	if h.Thermal == nil || h.CeilingTempC == nil {
+		t.Fatalf("no thermal figures or ceiling temperature: %+v", h.Thermal)
+	}
+	if *h.CeilingTempC != h.Thermal.HotSpotC || h.Thermal.HotSpotC <= 45 {
+		t.Errorf("ceiling read at %g °C, hot spot %g °C; want the hot spot, above the 45 °C ambient", *h.CeilingTempC, h.Thermal.HotSpotC)
+	}
+	near(t, "ceiling at the hot spot", h.CellCeilingV, 2.7-0.4*(h.Thermal.HotSpotC-25)/40, 1e-12)
+	t.Logf("hot: %d s × %d p, hot spot %.2f °C, ceiling %.4f V, cell %.4f V", h.Series, h.Parallel, h.Thermal.HotSpotC, h.CellCeilingV, h.CellV)
+	if h.CellV > h.CellCeilingV*(1+1e-12) || h.Series < 18 {
+		t.Errorf("%d in series at %g V per cell, above the %g V ceiling at the hot spot", h.Series, h.CellV, h.CellCeilingV)
 	}
 }

@@ -369,6 +369,7 @@ func cellRules(c *Cell, p string) ValidationError {
 		add("cold_esr_temp_c", "cold_point",
 			"is needed with cold_capacitance_factor: give the cold temperature both factors were measured at (with cold_esr_factor)")
 	}
+	errs = append(errs, cellSystemRules(c, p)...)
 	return errs
 }
 

@@ -152,7 +152,8 @@ func TestReportPDFBankFigures(t *testing.T) {
 		}
 		for _, w := range want {
 			if w := pdfTextPlain(w); !strings.Contains(text, w) {
-				t.Errorf("%s: PDF text has no %q", g.Title, w)
+				i := strings.Index(text, g.Title)
+				t.Errorf("%s: PDF text has no %q; near the title: %.300s", g.Title, w, text[max(0, i):])
 			}
 		}
 	}

@@ -83,6 +83,17 @@ func Candidate(c *sizing.Candidate, r *sizing.Report) []Group {
 		quantity("ESR", c.ESROhm, "Ω", 3, "worst case "+SI(c.WorstESROhm, "Ω", 3)+coldNote(c.ColdESRFactor)),
 		optQuantity("Leakage and balancing drain", c.LeakageOhm, "Ω", 3, "as one resistance across the bank"),
 	}}
+	if t := c.CeilingTempC; t != nil {
+		bank.Rows[1].Note += " at " + SI(*t, "°C", 3) + ", the hottest cell (voltage derating)"
+	}
+	if m := c.Modules; m != nil {
+		name := m.Name
+		if name == "" {
+			name = "module"
+		}
+		bank.Rows = slices.Insert(bank.Rows, 1, text("Modules", fmt.Sprintf("%d × %s (%d in series × %d in parallel): %d in series × %d strings",
+			m.Count, name, m.Series, m.Parallel, m.InSeries, m.Strings), "whole modules"))
+	}
 	if c.WorstCase != "" {
 		bank.Rows = slices.Insert(bank.Rows, 1, text("Worst case", c.WorstCase, "what the worst-case figures apply"))
 	}
@@ -457,6 +468,13 @@ func connection(c *sizing.Candidate) Group {
 			optQuantity("Energy from the charger's supply", c.ChargeEnergyJ, "J", 4, "for the recharge"),
 			optQuantity("Lost in ESR and wiring while recharging", c.ChargeSeriesLossJ, "J", 3, ""),
 		)
+	}
+	if c.FirstChargeS == nil && c.RechargeS == nil {
+		note := "give the charger to see the recharge time"
+		if slices.ContainsFunc(c.Flags, func(f sizing.Flag) bool { return f.Code == "charge-never-ends" }) {
+			note = "the charger cannot finish: see its flag"
+		}
+		g.Rows = append(g.Rows, text("Recharge", None, note))
 	}
 	g.Rows = append(g.Rows, quantity("Inrush current", c.InrushCurrentA, "A", 3, "into the empty bank when connected"))
 	if pc := c.Precharge; pc != nil {

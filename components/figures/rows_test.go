@@ -61,6 +61,7 @@ func TestCandidate(t *testing.T) {
 		"Peak current | 142 | A | per cell 35.4_A",
 		"RMS current | 98.2 | A | per cell 24.5_A, over the pass, as if it repeated back to back (no period given)",
 		"# Charging and connection",
+		"Recharge | — |  | give the charger to see the recharge time",
 		"Inrush current | 6.67 | kA | into the empty bank when connected",
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
