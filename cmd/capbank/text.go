@@ -112,7 +112,38 @@ func assumptions(r *sizing.Report) string {
 			b.WriteString("\n" + lotLine(c.CellID, st))
 		}
 	}
+	if c := recommended(r); c != nil {
+		if l := chargeLine(c); l != "" {
+			b.WriteString("\n" + l)
+		}
+	}
 	return b.String()
+}
+
+// chargeLine is the recommended bank's charging and connection in a line:
+// the recharge and first charge with a charger, the inrush and the
+// precharge resistor; empty for a design that gives no charger,
+// inrush limit or wiring.
+func chargeLine(c *sizing.Candidate) string {
+	if c.RechargeS == nil && c.FirstChargeS == nil && c.Precharge == nil && c.WiringLossJ == 0 {
+		return ""
+	}
+	s := fmt.Sprintf("Charging and connection of %s: ", c.CellID)
+	if c.RechargeS != nil {
+		s += fmt.Sprintf("recharge %s s, ", number(*c.RechargeS, sigFigs))
+	}
+	if c.FirstChargeS != nil {
+		s += fmt.Sprintf("first charge from empty %s s, ", number(*c.FirstChargeS, sigFigs))
+	}
+	s += "inrush " + quantity(c.InrushCurrentA, "A")
+	if pc := c.Precharge; pc != nil && pc.ResistanceOhm > 0 {
+		s += fmt.Sprintf("; precharge resistor %s (E24), peak %s, pulse energy %s, 99 %% in %s s",
+			quantity(pc.ResistanceOhm, "Ω"), quantity(pc.PeakPowerW, "W"), quantity(pc.EnergyJ, "J"), number(pc.TimeTo99S, sigFigs))
+	}
+	if c.WiringLossJ > 0 {
+		s += fmt.Sprintf("; wiring loss over the pass %s", quantity(c.WiringLossJ, "J"))
+	}
+	return s
 }
 
 // lotLine is one candidate's lot analysis in a line: yield, strings for

@@ -211,3 +211,24 @@ func TestSafetyTableColumnPrefixes(t *testing.T) {
 		}
 	}
 }
+
+// The recommended bank's charging line: recharge, first charge, inrush,
+// precharge and wiring loss, each with its unit.
+func TestWriteTextCharging(t *testing.T) {
+	t.Parallel()
+	r := sampleReport()
+	c := &r.Candidates[0]
+	c.RechargeS, c.FirstChargeS, c.InrushCurrentA, c.WiringLossJ = ptr(244.6), ptr(999.4), 10, 578.8
+	c.Precharge = &sizing.Precharge{ResistanceOhm: 0.82, PeakPowerW: 2779, EnergyJ: 283800, TimeTo99S: 935.2}
+	var buf bytes.Buffer
+	writeText(&buf, r)
+	want := "Charging and connection of c350: recharge 244.6 s, first charge from empty 999.4 s, inrush 10 A; precharge resistor 820 mΩ (E24), peak 2.779 kW, pulse energy 283.8 kJ, 99 % in 935.2 s; wiring loss over the pass 578.8 J"
+	if !strings.Contains(buf.String(), want+"\n") {
+		t.Errorf("no line %q in:\n%s", want, buf.String())
+	}
+	buf.Reset()
+	writeText(&buf, sampleReport())
+	if strings.Contains(buf.String(), "Charging and connection") {
+		t.Error("a charging line for a design with no charger, inrush limit or wiring")
+	}
+}
