@@ -311,23 +311,28 @@ func (ls *lotSim) analyse(o lotOptions, par int) *LotStatistics {
 // count is found by bisection, as the deterministic string count is:
 // between 1 and par when par reaches the target, else between par and
 // 2·par. nil: not within 2·par.
+//
+// A cell in modules of several strings is searched in whole modules: the
+// counts are multiples of the module's strings (par is one).
 func (ls *lotSim) parallelForTarget(samples, par int, reached bool, target float64) *int {
-	lo, hi := 0, par // 0 strings carry nothing; par reaches the target
+	step := max(1, ls.l.parStep)
+	lo, hi := 0, par/step // in modules' strings: 0 carry nothing; par reaches the target
 	if !reached {
 		if !ls.reaches(samples, 2*par, target) {
 			return nil
 		}
-		lo, hi = par, 2*par
+		lo, hi = par/step, 2*par/step
 	}
 	for hi-lo > 1 && !ls.q.halt.Load() {
 		mid := lo + (hi-lo)/2
-		if ls.reaches(samples, mid, target) {
+		if ls.reaches(samples, mid*step, target) {
 			hi = mid
 		} else {
 			lo = mid
 		}
 	}
-	return &hi
+	n := hi * step
+	return &n
 }
 
 func finitePtr(x float64) *float64 {

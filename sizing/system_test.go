@@ -350,6 +350,9 @@ func TestModules(t *testing.T) {
 	if m == nil || m.InSeries != 3 || m.Strings != c.Parallel/2 || m.Count != 3*c.Parallel/2 {
 		t.Fatalf("module count %+v for %d s × %d p", m, c.Series, c.Parallel)
 	}
+	if st := c.Statistics; st == nil || st.ParallelForTarget == nil || *st.ParallelForTarget%2 != 0 {
+		t.Errorf("lot analysis of a module of 2 strings: %+v, want a string count for the target in whole modules", st)
+	}
 	near(t, "price", *c.TotalPrice, 30*float64(m.Count), 1e-12)
 	near(t, "mass", *c.MassKg, 0.5*float64(m.Count), 1e-12)
 	r := mustSize(t, d)
