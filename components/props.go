@@ -37,6 +37,8 @@ type FieldProps struct {
 	Required bool
 	// Text is true for free text (no number keyboard).
 	Text bool
+	// Full spans the field across its grid, for a long value.
+	Full bool
 }
 
 // StepProps is one row of the load steps.

@@ -380,6 +380,9 @@ func TestShareLinkWithSystemKeys(t *testing.T) {
 	if got, _ := doc.Find(`input[name="converter.efficiency_curve"]`).Attr("value"); got != "20 V: 88 %, 36 V: 93 %, 48 V: 95 %" {
 		t.Errorf("the curve shows %q", got)
 	}
+	if doc.Find(`.grid > .field.full input[name="converter.efficiency_curve"]`).Length() != 1 {
+		t.Error("the curve's input does not span its section")
+	}
 	if got := text(doc, "#msg-converter-efficiency_curve"); !strings.Contains(got, "is given with the converter efficiency (0.93)") {
 		t.Errorf("the curve's message %q", got)
 	}

@@ -91,7 +91,7 @@ func fieldProps(fl form.Field, value, msg string) components.FieldProps {
 	fp := components.FieldProps{
 		Name: fl.Name, ID: "f-" + id, MessageID: "msg-" + id,
 		Label: fl.Label, Unit: fl.Units.Unit, Hint: fl.Hint, Value: value, Message: msg,
-		Required: fl.Required, Text: fl.Kind == form.KindText,
+		Required: fl.Required, Text: fl.Kind == form.KindText, Full: fl.Wide,
 	}
 	if fl.Kind == form.KindChoice {
 		fp.Select = true

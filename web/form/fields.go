@@ -25,6 +25,8 @@ type Field struct {
 	Units    UnitSpec
 	Required bool
 	Choices  []Choice
+	// Wide spans the input across its section, for a long value.
+	Wide bool
 }
 
 // The design-wide fields, by form section.
@@ -121,7 +123,7 @@ var (
 			Hint: "the converter stops below it, raising the window bottom; empty: the window bottom"},
 		{Name: "converter.max_input_current_a", Label: "Converter input current limit", Units: UnitAmp,
 			Hint: "a power step fails where it would draw more; empty: none"},
-		{Name: "converter.efficiency_curve", Label: "Converter efficiency curve", Kind: KindText,
+		{Name: "converter.efficiency_curve", Label: "Converter efficiency curve", Kind: KindText, Wide: true,
 			Hint: "input voltage: efficiency, points separated by commas, e.g. 20 V: 88 %, 36 V: 93 %, 48 V: 95 % (or 48: 0.95); straight lines between the points; replaces Converter efficiency, which is then left empty; empty: that one figure"},
 	}
 
