@@ -387,3 +387,34 @@ func TestShareLinkWithSystemKeys(t *testing.T) {
 		t.Errorf("the curve's message %q", got)
 	}
 }
+
+// TestLiveUpdateReachesFoldedFields: the answer to typing (POST /results
+// from htmx) carries the message slot of every field of the folded
+// sections, so a problem typed there shows beside its field and a fixed
+// one clears; the lot analysis's slots were missing before.
+func TestLiveUpdateReachesFoldedFields(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v.Set("statistics.samples", "many")
+	v.Set("wiring.bank_resistance_ohm", "1 mA")
+	v.Set("charger.end_current_pct", "3")
+	rec := postForm(t, s, "/results", v, true)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	for id, want := range map[string]string{
+		"#msg-statistics-samples":         form.NotANumber,
+		"#msg-wiring-bank_resistance_ohm": "(this field is in Ω)",
+		"#msg-charger-current_a":          "is required when any charger field is given",
+	} {
+		if got := text(doc, id+"[hx-swap-oob]"); !strings.Contains(got, want) {
+			t.Errorf("out-of-band %s %q, want %q", id, got, want)
+		}
+	}
+	fields := append(systemFields(), form.StatisticsFields...)
+	for _, fl := range fields {
+		if doc.Find("#msg-"+form.DomID(fl.Name)+"[hx-swap-oob]").Length() != 1 {
+			t.Errorf("no out-of-band slot for %s", fl.Name)
+		}
+	}
+}
