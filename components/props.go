@@ -37,6 +37,8 @@ type FieldProps struct {
 	Required bool
 	// Text is true for free text (no number keyboard).
 	Text bool
+	// Full spans the field across its grid, for a long value.
+	Full bool
 }
 
 // StepProps is one row of the load steps.
@@ -122,6 +124,10 @@ type FormProps struct {
 	// when one is set or has a problem.
 	Statistics []FieldProps
 	LotOpen    bool
+	// Charger, Converter, Wiring and System are the bank in its system;
+	// SystemOpen unfolds them when one is set or has a problem.
+	Charger, Converter, Wiring, System []FieldProps
+	SystemOpen                         bool
 	// BOQ are the purchasing inputs of the bill of quantities, Extras the
 	// user's own lines (the last one blank, to type into); BOQOpen unfolds
 	// them when one is set.

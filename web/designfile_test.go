@@ -113,7 +113,12 @@ func formValues(t *testing.T, f *form.Form) [][2]string {
 	if rec.Code != http.StatusOK && rec.Code != http.StatusUnprocessableEntity {
 		t.Fatalf("status %d", rec.Code)
 	}
-	doc := parse(t, rec)
+	return postedValues(parse(t, rec))
+}
+
+// postedValues reads what a browser would post from a page holding the
+// design form.
+func postedValues(doc *goquery.Document) [][2]string {
 	var out [][2]string
 	doc.Find(`#design-form input, #design-form select, input[form=design-form]`).Each(func(_ int, e *goquery.Selection) {
 		name, _ := e.Attr("name")

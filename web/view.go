@@ -91,7 +91,7 @@ func fieldProps(fl form.Field, value, msg string) components.FieldProps {
 	fp := components.FieldProps{
 		Name: fl.Name, ID: "f-" + id, MessageID: "msg-" + id,
 		Label: fl.Label, Unit: fl.Units.Unit, Hint: fl.Hint, Value: value, Message: msg,
-		Required: fl.Required, Text: fl.Kind == form.KindText,
+		Required: fl.Required, Text: fl.Kind == form.KindText, Full: fl.Wide,
 	}
 	if fl.Kind == form.KindChoice {
 		fp.Select = true
@@ -131,6 +131,10 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		RankBy:          fieldProps(form.RankField, f.Value("rank_by"), msg["rank_by"]),
 		Balancing:       group(form.BalancingFields),
 		Statistics:      group(form.StatisticsFields),
+		Charger:         group(form.ChargerFields),
+		Converter:       group(form.ConverterFields),
+		Wiring:          group(form.WiringFields),
+		System:          group(form.SystemFields),
 		Life:            group(form.LifeFields),
 		BOQ:             group(form.BOQFields),
 		ExtrasMessageID: "msg-boq-extras", ExtrasMessage: msg["boq.extras"],
@@ -165,6 +169,11 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 	}
 	for _, fp := range p.Statistics {
 		p.LotOpen = p.LotOpen || fp.Value != "" || fp.Message != ""
+	}
+	for _, group := range [][]components.FieldProps{p.Charger, p.Converter, p.Wiring, p.System} {
+		for _, fp := range group {
+			p.SystemOpen = p.SystemOpen || fp.Value != "" || fp.Message != ""
+		}
 	}
 	for _, fp := range p.BOQ {
 		p.BOQOpen = p.BOQOpen || fp.Value != "" || fp.Message != ""
@@ -287,6 +296,11 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 	fields(p.Inline)
 	fields(p.Balancing)
 	fields(p.Life)
+	fields(p.Statistics)
+	fields(p.Charger)
+	fields(p.Converter)
+	fields(p.Wiring)
+	fields(p.System)
 	fields(p.BOQ)
 	for _, r := range p.Extras {
 		fields(r.Fields)

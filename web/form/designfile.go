@@ -55,8 +55,8 @@ func OneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", ";
 // fields (the first such cell) or is kept as the file gave it. Library
 // references the library does not know stay picked, and the form reports
 // them. A design the form cannot show in full is an error, never a guess:
-// a step that is not exactly one kind, a tolerance that is not a pair, more
-// steps or own lines than the form edits.
+// a step that is not exactly one kind, a tolerance or an efficiency-curve
+// point that is not a pair, more steps or own lines than the form edits.
 func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if n := len(d.Load.Steps); n > MaxSteps {
 		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, MaxSteps)
@@ -88,6 +88,7 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	opt("cell_max_v", d.CellMaxV)
 	opt("load.efficiency", d.Load.Efficiency)
 	opt("load.period_s", d.Load.PeriodS)
+	opt("load.start_v", d.Load.StartV)
 	if d.Load.Repeat != nil {
 		v.Set("load.repeat", fmt.Sprint(*d.Load.Repeat))
 	}
@@ -150,6 +151,29 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 		}
 		opt("statistics.target_yield", st.TargetYield)
 		text("statistics.candidates", st.Candidates)
+	}
+	if c := d.Charger; c != nil {
+		num("charger.current_a", c.CurrentA)
+		opt("charger.power_w", c.PowerW)
+		opt("charger.end_current_pct", c.EndCurrentPct)
+		opt("charger.efficiency", c.Efficiency)
+	}
+	if c := d.Converter; c != nil {
+		opt("converter.min_input_v", c.MinInputV)
+		opt("converter.max_input_current_a", c.MaxInputCurrentA)
+		curve, err := FormatEfficiencyCurve(c.EfficiencyCurve)
+		if err != nil {
+			return nil, err
+		}
+		text("converter.efficiency_curve", curve)
+	}
+	if w := d.Wiring; w != nil {
+		opt("wiring.link_resistance_ohm", w.LinkResistanceOhm)
+		opt("wiring.string_resistance_ohm", w.StringResistanceOhm)
+		opt("wiring.bank_resistance_ohm", w.BankResistanceOhm)
+	}
+	if sy := d.System; sy != nil {
+		opt("system.inrush_limit_a", sy.InrushLimitA)
 	}
 	if l := d.Life; l != nil {
 		opt("life.temp_step_k", l.TempStepK)

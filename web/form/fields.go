@@ -25,6 +25,8 @@ type Field struct {
 	Units    UnitSpec
 	Required bool
 	Choices  []Choice
+	// Wide spans the input across its section, for a long value.
+	Wide bool
 }
 
 // The design-wide fields, by form section.
@@ -33,7 +35,7 @@ var (
 
 	WindowFields = []Field{
 		{Name: "window.max_v", Label: "Window top", Units: UnitVolt, Required: true,
-			Hint: "charge voltage: the bank starts here, full"},
+			Hint: "charge voltage: the bank starts here, full, unless a start voltage is given"},
 		{Name: "window.min_v", Label: "Window bottom", Units: UnitVolt, Required: true,
 			Hint: "converter cut-off: the terminal voltage stays at or above it"},
 		{Name: "cell_max_v", Label: "Per-cell ceiling", Units: UnitVolt,
@@ -42,11 +44,13 @@ var (
 
 	LoadFields = []Field{
 		{Name: "load.efficiency", Label: "Converter efficiency", Units: UnitFraction,
-			Hint: "0.94 or 94 %; applies to power steps; empty: 1"},
+			Hint: "0.94 or 94 %; applies to power steps; empty: 1, or the converter's efficiency curve"},
 		{Name: "load.repeat", Label: "Repeat the steps", Kind: KindCount, Units: UnitCount,
 			Hint: "times back to back; empty: 1"},
 		{Name: "load.period_s", Label: "Time between events", Units: UnitSecond,
 			Hint: "start of one event (steps × repeat) to the next, for RMS current and heat; empty: back to back"},
+		{Name: "load.start_v", Label: "Start voltage", Units: UnitVolt,
+			Hint: "bank voltage at rest when the load starts, e.g. a charger that stops short of the top; empty: the window top"},
 	}
 
 	ConditionFields = []Field{
@@ -97,6 +101,44 @@ var (
 		{Name: "statistics.candidates", Label: "Analyse", Kind: KindChoice, Choices: []Choice{
 			{"", "recommended bank (default)"}, {"recommended", "recommended bank"}, {"all", "every feasible bank"}, {"none", "none"},
 		}},
+	}
+
+	// ChargerFields, ConverterFields, WiringFields and SystemFields are the
+	// bank in its system: its charger, the converter it feeds, the
+	// resistance of what connects its cells and the supply it is connected
+	// to.
+	ChargerFields = []Field{
+		{Name: "charger.current_a", Label: "Charger current limit", Units: UnitAmp,
+			Hint: "constant-current setting; needed when any charger field is given; empty: no charger"},
+		{Name: "charger.power_w", Label: "Charger power limit", Units: UnitWatt,
+			Hint: "the current is then at most this power ÷ the bank voltage; empty: none"},
+		{Name: "charger.end_current_pct", Label: "Charge ends at", Units: UnitPercent,
+			Hint: "current, in % of the current limit at the window top, that ends the constant-voltage phase; empty: 5 %"},
+		{Name: "charger.efficiency", Label: "Charger efficiency", Units: UnitFraction,
+			Hint: "0.9 or 90 %, for the energy drawn from the supply; empty: 1"},
+	}
+
+	ConverterFields = []Field{
+		{Name: "converter.min_input_v", Label: "Converter minimum input", Units: UnitVolt,
+			Hint: "the converter stops below it, raising the window bottom; empty: the window bottom"},
+		{Name: "converter.max_input_current_a", Label: "Converter input current limit", Units: UnitAmp,
+			Hint: "a power step fails where it would draw more; empty: none"},
+		{Name: "converter.efficiency_curve", Label: "Converter efficiency curve", Kind: KindText, Wide: true,
+			Hint: "input voltage: efficiency, points separated by commas, e.g. 20 V: 88 %, 36 V: 93 %, 48 V: 95 % (or 48: 0.95); straight lines between the points; replaces Converter efficiency, which is then left empty; empty: that one figure"},
+	}
+
+	WiringFields = []Field{
+		{Name: "wiring.link_resistance_ohm", Label: "Cell-to-cell link", Units: UnitOhm,
+			Hint: "one link with its two contacts, e.g. 200 µΩ; a string of n cells has n − 1; empty: 0"},
+		{Name: "wiring.string_resistance_ohm", Label: "String end connections", Units: UnitOhm,
+			Hint: "both ends of one string together; empty: 0"},
+		{Name: "wiring.bank_resistance_ohm", Label: "Bank series resistance", Units: UnitOhm,
+			Hint: "busbar, fuse and cable in series with the whole bank; empty: 0"},
+	}
+
+	SystemFields = []Field{
+		{Name: "system.inrush_limit_a", Label: "Inrush current limit", Units: UnitAmp,
+			Hint: "most current the supply may see when an empty bank is connected; a precharge resistor is sized for it; empty: not limited"},
 	}
 
 	LifeFields = []Field{
@@ -223,7 +265,8 @@ var FieldLabels = func() map[string]string {
 		"balancing.max_loss_share":         "Balancing loss threshold",
 		"balancing.min_time_constant_h":    "Balancing self-discharge threshold",
 	}
-	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, StatisticsFields, LifeFields, BOQFields} {
+	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, StatisticsFields,
+		ChargerFields, ConverterFields, WiringFields, SystemFields, LifeFields, BOQFields} {
 		for _, f := range group {
 			if _, ok := m[f.Name]; !ok {
 				m[f.Name] = f.Label

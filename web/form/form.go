@@ -2,6 +2,7 @@ package form
 
 import (
 	"fmt"
+	"math"
 	"net/url"
 	"regexp"
 	"slices"
@@ -444,6 +445,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	d.Load.Efficiency = optional("load.efficiency", UnitFraction)
 	d.Load.Repeat = optionalCount("load.repeat")
 	d.Load.PeriodS = optional("load.period_s", UnitSecond)
+	d.Load.StartV = optional("load.start_v", UnitVolt)
 	d.Load.ProfileCSVText = f.Profile
 	for i, r := range f.Steps {
 		p := fmt.Sprintf("load.steps[%d]", i)
@@ -523,6 +525,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	if st != (sizing.Statistics{}) {
 		d.Statistics = &st
 	}
+	f.decodeSystem(d, r)
 	life := sizing.LifeModel{
 		TempStepK:    optional("life.temp_step_k", UnitKelvin),
 		VoltageStepV: optional("life.voltage_step_v", UnitVolt),
@@ -581,6 +584,50 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	}
 	out.Problems = r.Problems
 	return out
+}
+
+// decodeSystem reads the charger, converter, wiring and system fields;
+// each group is nil when all its fields are empty. A charger given in
+// part without its current limit is a problem on the current limit, never
+// dropped.
+func (f *Form) decodeSystem(d *sizing.Design, r *FieldReader) {
+	cur := r.Optional("charger.current_a", UnitAmp)
+	ch := sizing.Charger{
+		PowerW:        r.Optional("charger.power_w", UnitWatt),
+		EndCurrentPct: r.Optional("charger.end_current_pct", UnitPercent),
+		Efficiency:    r.Optional("charger.efficiency", UnitFraction),
+	}
+	if cur != nil {
+		ch.CurrentA = *cur
+		d.Charger = &ch
+	} else if ch != (sizing.Charger{}) {
+		r.Bad("charger.current_a", "required", "is required when any charger field is given; enter the charger's current limit in A, or clear the other charger fields")
+		ch.CurrentA = math.NaN()
+		d.Charger = &ch
+	}
+	cv := sizing.Converter{
+		MinInputV:        r.Optional("converter.min_input_v", UnitVolt),
+		MaxInputCurrentA: r.Optional("converter.max_input_current_a", UnitAmp),
+	}
+	curve, err := ParseEfficiencyCurve(f.Value("converter.efficiency_curve"))
+	if err != nil {
+		r.Bad("converter.efficiency_curve", "curve", err.Error())
+	}
+	cv.EfficiencyCurve = curve
+	if cv.MinInputV != nil || cv.MaxInputCurrentA != nil || len(cv.EfficiencyCurve) > 0 {
+		d.Converter = &cv
+	}
+	w := sizing.Wiring{
+		LinkResistanceOhm:   r.Optional("wiring.link_resistance_ohm", UnitOhm),
+		StringResistanceOhm: r.Optional("wiring.string_resistance_ohm", UnitOhm),
+		BankResistanceOhm:   r.Optional("wiring.bank_resistance_ohm", UnitOhm),
+	}
+	if w != (sizing.Wiring{}) {
+		d.Wiring = &w
+	}
+	if lim := r.Optional("system.inrush_limit_a", UnitAmp); lim != nil {
+		d.System = &sizing.System{InrushLimitA: lim}
+	}
 }
 
 // ExtraEmpty reports whether every field of own line i is empty.
@@ -667,6 +714,7 @@ var (
 	stepValuePath = regexp.MustCompile(`^load\.steps\[(\d+)\]\.(power_w|current_a|resistance_ohm|rest)$`)
 	cellPath      = regexp.MustCompile(`^cells\[(\d+)\](.*)$`)
 	extraPath     = regexp.MustCompile(`^boq\.extras\[(\d+)\](.*)$`)
+	curvePoint    = regexp.MustCompile(`^converter\.efficiency_curve\[(\d+)\]`)
 )
 
 // MergeProblems translates sizing's field paths into the form's inputs: a
@@ -700,6 +748,10 @@ func MergeProblems(dec Decoded, validation sizing.ValidationError) sizing.Valida
 func formPath(path, msg string, sources []string, extraIndex []int) (string, string) {
 	if m := stepValuePath.FindStringSubmatch(path); m != nil {
 		return "load.steps[" + m[1] + "].value", msg
+	}
+	if m := curvePoint.FindStringSubmatch(path); m != nil {
+		k, _ := strconv.Atoi(m[1])
+		return "converter.efficiency_curve", fmt.Sprintf("point %d %s", k+1, msg)
 	}
 	if m := extraPath.FindStringSubmatch(path); m != nil {
 		k, _ := strconv.Atoi(m[1])

@@ -43,7 +43,8 @@ var cellKeys = func() map[string]Field {
 // designKeys are the design-wide fields by key.
 var designKeys = func() map[string]Field {
 	m := map[string]Field{}
-	for _, group := range [][]Field{WindowFields, LoadFields, ConditionFields, EOLFields, BalancingFields, LifeFields, BOQFields, PulseFields} {
+	for _, group := range [][]Field{WindowFields, LoadFields, ConditionFields, EOLFields, BalancingFields, LifeFields, BOQFields, PulseFields,
+		ChargerFields, ConverterFields, WiringFields, SystemFields} {
 		for _, f := range group {
 			m[f.Name] = f
 		}
