@@ -60,9 +60,9 @@ func TestPowerCurveFlatEqualsPowerStep(t *testing.T) {
 	dry := newBankModel(10, 0.05, 0)
 	leaky := newBankModel(10, 0.05, 0.01)
 	cases := []struct {
-		name                 string
-		m                    bankModel
-		imax                 float64
+		name                  string
+		m                     bankModel
+		imax                  float64
 		pl, dur, v0, minV, vt float64
 	}{
 		{"discharge, whole step", dry, 0, 50, 5, 24, 10, 24},
@@ -234,11 +234,11 @@ func TestPowerCurveAgainstRK4(t *testing.T) {
 	dry := newBankModel(10, 0.05, 0)
 	leaky := newBankModel(10, 0.05, 0.01)
 	cases := []struct {
-		name                 string
-		m                    bankModel
-		imax                 float64
+		name                  string
+		m                     bankModel
+		imax                  float64
 		pl, dur, v0, minV, vt float64
-		stop                 stopReason
+		stop                  stopReason
 	}{
 		{"discharge across the 20 V corner", dry, 0, 50, 20, 24, 5, 24, stopNone},
 		{"discharge with leakage across the 20 V corner", leaky, 0, 50, 20, 24, 5, 24, stopNone},
@@ -311,5 +311,95 @@ func TestPowerCurveAgainstRK4(t *testing.T) {
 	}
 }
 
-var _ = fmt.Sprint
-var _ = quad.Legendre{}
+// TestGaussKronrodTable checks the 7/15-point table of powerCurveStep's
+// quadrature (QUADPACK qk15, REFERENCES.md 12.7): the embedded 7 nodes and
+// weights are gonum's Gauss–Legendre rule (REFERENCES.md 12.2) within
+// 1e-15, and the 15-point rule integrates x^k over [−1, 1] exactly, 2/(k+1)
+// for even k and 0 for odd k by symmetry, for every k ≤ 22 (3·7 + 1, the
+// degree of a Kronrod extension of a 7-point rule) within 1e-15.
+func TestGaussKronrodTable(t *testing.T) {
+	t.Parallel()
+	x, w := make([]float64, 7), make([]float64, 7)
+	quad.Legendre{}.FixedLocations(x, w, -1, 1)
+	// The table's Gauss nodes fall from 1 to 0: match each to gonum's node
+	// nearest it.
+	for j := range 4 {
+		best := 0
+		for k := range x {
+			if math.Abs(x[k]-gkX[2*j+1]) < math.Abs(x[best]-gkX[2*j+1]) {
+				best = k
+			}
+		}
+		near(t, fmt.Sprintf("Gauss node %d", j), gkX[2*j+1]+1, x[best]+1, 1e-15)
+		near(t, fmt.Sprintf("Gauss weight %d", j), gkG[j], w[best], 1e-15)
+	}
+	for k := 0; k <= 22; k += 2 {
+		sum := gkW[7] * math.Pow(0, float64(k))
+		for j := range 7 {
+			sum += 2 * gkW[j] * math.Pow(gkX[j], float64(k))
+		}
+		near(t, fmt.Sprintf("Kronrod ∫x^%d", k), sum, 2/float64(k+1), 1e-15)
+	}
+	// The degree is no higher: x^24 is not integrated exactly.
+	sum := 0.0
+	for j := range 7 {
+		sum += 2 * gkW[j] * math.Pow(gkX[j], 24)
+	}
+	if math.Abs(sum-2.0/25) < 1e-12 {
+		t.Errorf("Kronrod ∫x^24 = %.15g is exact; the table is not the 15-point one", sum)
+	}
+}
+
+// curveBenchCurve is an invented converter curve for the benchmarks and
+// the allocation test: 85 % at 30 V rising to 95 % at 48 V.
+var curveBenchCurve = [][2]float64{{30, 0.85}, {40, 0.92}, {48, 0.95}}
+
+// TestPowerCurveStepAllocatesNothing: the step runs inside the sizing's
+// inner loop, which allocates nothing (TestInnerLoopAllocatesNothing).
+func TestPowerCurveStepAllocatesNothing(t *testing.T) {
+	// Not parallel: AllocsPerRun counts every allocation in the process.
+	m := withCurve(newBankModel(40, 0.02, 1e-5), 3, curveBenchCurve...)
+	var o stepOutcome
+	for _, st := range []compiledStep{
+		{kind: kindPower, x: 60, dur: 1}, {kind: kindPower, x: 60, dur: 1e4},
+		{kind: kindPower, x: -15, dur: 1}, {kind: kindPower, x: -15, dur: 1e5},
+	} {
+		if n := testing.AllocsPerRun(100, func() { m.solveStep(st, 40, 1, 48, &o) }); n != 0 {
+			t.Errorf("a curve step of %g W for %g s allocates %v times", st.x, st.dur, n)
+		}
+	}
+}
+
+// BenchmarkPowerCurveStep times one constant-power step through the
+// invented converter curve on the leaky bank of BenchmarkStepKinds, from
+// the states a long logged profile visits (1 s steps), beside the closed
+// form of the same step at a flat efficiency (powerStep), and a step run
+// down to the window bottom across the curve's points.
+func BenchmarkPowerCurveStep(b *testing.B) {
+	bank := newBankModel(40, 0.02, 1e-5)
+	curved := withCurve(bank, 0, curveBenchCurve...)
+	for _, k := range []struct {
+		name string
+		m    bankModel
+		st   compiledStep
+	}{
+		{"closed_form_flat", bank, compiledStep{kind: kindPower, x: 60 / 0.92, dur: 1}},
+		{"curve", curved, compiledStep{kind: kindPower, x: 60, dur: 1}},
+		{"curve_charging", curved, compiledStep{kind: kindPower, x: -15, dur: 1}},
+		{"curve_to_bottom", curved, compiledStep{kind: kindPower, x: 60, dur: 1e4}},
+	} {
+		b.Run(k.name, func(b *testing.B) {
+			b.ReportAllocs()
+			v := 40.0
+			var o stepOutcome
+			for b.Loop() {
+				k.m.solveStep(k.st, v, 24, 48, &o)
+				v = o.v1
+				if v < 30 || v > 47 || o.stop != stopNone {
+					v = 40
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/step")
+		})
+	}
+}
