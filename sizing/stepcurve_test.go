@@ -3,6 +3,7 @@ package sizing
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/integrate/quad"
@@ -401,5 +402,81 @@ func BenchmarkPowerCurveStep(b *testing.B) {
 			}
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/step")
 		})
+	}
+}
+
+// TestPowerCurveStepStaysPhysical runs seeded random steps through random
+// curves (steep pieces, efficiencies from 0.01 to 1, corners on either
+// side of the window) and checks what any step must satisfy, whatever
+// its figures (circuit physics; REFERENCES.md 3.11 for the energy): every
+// figure finite; 0 ≤ t ≤ dur; a discharge never raises the capacitor
+// voltage and ends above the window bottom (its terminal at or above
+// min_v) unless it stopped at once; ∫i²dt ≥ 0; the energy balance
+// ½C(v0² − v1²) = ∫u·i dt + R·∫i²dt + leakage loss, with a leakage loss
+// between 0 and g·max(v0, v1)²·t; and, for a step that ran, the load
+// energy P_L·t.
+func TestPowerCurveStepStaysPhysical(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(19, 3))
+	for n := range 5000 {
+		npts := 1 + rng.IntN(5)
+		pts := make([][2]float64, npts)
+		v := 2 + 20*rng.Float64()
+		for k := range pts {
+			pts[k] = [2]float64{v, 0.01 + 0.99*rng.Float64()}
+			v += 0.01 + 15*rng.Float64()
+		}
+		c, r := 1+100*rng.Float64(), 0.001+0.2*rng.Float64()
+		g := 0.0
+		if rng.IntN(2) == 0 {
+			g = 0.05 * rng.Float64()
+		}
+		imax := 0.0
+		if rng.IntN(3) == 0 {
+			imax = 1 + 50*rng.Float64()
+		}
+		m := withCurve(newBankModel(c, r, g), imax, pts...)
+		maxV := 10 + 50*rng.Float64()
+		minV := maxV * (0.1 + 0.6*rng.Float64())
+		v0 := minV + (maxV-minV)*rng.Float64()
+		pl := 500 * rng.Float64() * rng.Float64()
+		if rng.IntN(3) == 0 {
+			pl = -pl
+		}
+		dur := math.Pow(10, -2+5*rng.Float64())
+		o := m.step(compiledStep{kind: kindPower, x: pl, dur: dur, toLoad: 1}, v0, minV, maxV)
+		name := fmt.Sprintf("case %d (P %g W, %g s, v0 %g V, window %g–%g V, C %g F, R %g Ω, g %g S, imax %g A, curve %v)",
+			n, pl, dur, v0, minV, maxV, c, r, g, imax, pts)
+		for _, f := range []float64{o.t, o.v1, o.uStart, o.uEnd, o.iStart, o.iEnd, o.iPeak, o.i2dt, o.eLoad, o.eOut, o.reject, o.tTop} {
+			if !Finite(f) {
+				t.Fatalf("%s: a figure is not finite: %+v", name, o)
+			}
+		}
+		if o.t < 0 || o.t > dur*(1+1e-12) || o.i2dt < 0 {
+			t.Fatalf("%s: t %g, ∫i²dt %g: %+v", name, o.t, o.i2dt, o)
+		}
+		if o.stop == stopPower && o.t == 0 {
+			continue // past the maximum-power point from the start
+		}
+		if pl > 0 {
+			if o.v1 > v0*(1+1e-12) {
+				t.Fatalf("%s: a discharge raised v to %g: %+v", name, o.v1, o)
+			}
+			if o.t > 0 && o.uEnd < minV*(1-1e-9) {
+				t.Fatalf("%s: terminal %g below the window bottom: %+v", name, o.uEnd, o)
+			}
+		}
+		if o.tTop < 0 && o.t > 0 {
+			near(t, name+": load energy", o.eOut, pl*o.t, 1e-12)
+			drawn := 0.5 * c * (v0 - o.v1) * (v0 + o.v1)
+			leak := drawn - o.eLoad - r*o.i2dt
+			// The tolerance: 1e-8 of the energies, and the rounding of
+			// v0² − v1² (a few ulp of v², times C).
+			tol := 1e-8*max(abs(drawn), abs(o.eLoad), r*o.i2dt) + 1e-14*c*max(v0, o.v1)*max(v0, o.v1)
+			if leak < -tol || leak > g*max(v0, o.v1)*max(v0, o.v1)*o.t+tol {
+				t.Fatalf("%s: leakage loss %g outside [0, %g] (drawn %g, terminal %g, series %g)",
+					name, leak, g*max(v0, o.v1)*max(v0, o.v1)*o.t, drawn, o.eLoad, r*o.i2dt)
+			}
+		}
 	}
 }
