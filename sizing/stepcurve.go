@@ -430,21 +430,34 @@ func (m *bankModel) curveDischarge(s *curveStep, dur, v0, minV float64, o *stepO
 	}
 	s.start(o, u0)
 
-	// The first stop on the branch going down from v0: the window bottom,
-	// the input current limit (q(u) = P/imax) or the maximum-power point,
-	// whichever is highest (ties go to the bottom, then to the current
-	// limit, as in solveStep and powerStep); and the least q = u·η met on
-	// the way, for the bound on the current below.
+	// The first stop going down from u0: the window bottom, the input
+	// current limit (q(u) = P/imax) or the maximum-power point, whichever
+	// is highest (ties go to the bottom, then to the current limit, as in
+	// solveStep and powerStep); and the least q = u·η met on the way, for
+	// the bound on the current below.
 	uStop, why := minV, stopVoltage
 	qLim := 0.0
 	if m.imax > 0 {
 		qLim = p / m.imax
 	}
-	qMin := v0 * s.etaAt(v0)
-	if qLim > 0 && qMin <= qLim {
-		uStop, why = v0, stopInputCurrent // over the limit from the start
+	qMin := u0 * s.etaAt(u0)
+	switch {
+	case u0 <= minV:
+		// At or below the bottom from the start: named by the current
+		// limit if the converter would be past it at the bottom already
+		// (with a flat curve: P/η/imax above minV, as solveStep).
+		if qLim > 0 && minV*s.etaAt(minV) < qLim {
+			why = stopInputCurrent
+		}
+		s.finish(o, u0, u0, 0, curveSums{})
+		o.stop = why
+		return
+	case qLim > 0 && qMin <= qLim:
+		s.finish(o, u0, u0, 0, curveSums{})
+		o.stop = stopInputCurrent // over the limit from the start
+		return
 	}
-	for k, b := cv.segBelow(v0), v0; why == stopVoltage; k-- {
+	for k, b := cv.segBelow(u0), u0; why == stopVoltage; k-- {
 		lo, _, al, be := cv.seg(k)
 		a := max(lo, minV)
 		if a >= b {

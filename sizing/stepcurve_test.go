@@ -76,6 +76,8 @@ func TestPowerCurveFlatEqualsPowerStep(t *testing.T) {
 		{"past the maximum-power point at the start", newBankModel(50, 0.1, 0), 0, 18000, 10, 80, 30, 120},
 		{"discharge to the input current limit", leaky, 5, 50, 1000, 24, 5, 24},
 		{"over the input current limit at the start", dry, 5, 50, 10, 11, 5, 24},
+		{"below the window bottom at the start", dry, 0, 50, 10, 9, 10, 24},
+		{"below the window bottom at the start, past the current limit there", dry, 5, 50, 10, 9, 10, 24},
 		{"reference bank 5 kW to 24 V", refBank, 0, 4500, 1000, 48, 24, 48},
 		{"charge, part of the way", dry, 0, -100, 2, 20, 10, 24},
 		{"charge with leakage, part of the way", leaky, 0, -100, 2, 20, 10, 24},
