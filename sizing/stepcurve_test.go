@@ -405,6 +405,31 @@ func BenchmarkPowerCurveStep(b *testing.B) {
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/step")
 		})
 	}
+	// The invented logged day (86 400 one-second steps, bench_test.go) on
+	// the bank of BenchmarkVersusRK4, once at a flat 0.92 (closed forms)
+	// and once through the curve.
+	day := dayProfile()
+	bankDay := newBankModel(200, 0.003, 2e-4)
+	for _, k := range []struct {
+		name  string
+		m     bankModel
+		steps []compiledStep
+	}{
+		{"day_flat_0.92", bankDay, compileSteps(day, 0.92, false)},
+		{"day_curve", withCurve(bankDay, 0, curveBenchCurve...), compileSteps(day, 1, true)},
+	} {
+		b.Run(k.name, func(b *testing.B) {
+			b.ReportAllocs()
+			var s passStats
+			for b.Loop() {
+				s = k.m.run(k.steps, 1, 48, 24, 48)
+			}
+			if s.stop != stopNone {
+				b.Fatalf("the bench bank must carry the day (stopped: %v)", s.stop)
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(k.steps)), "ns/step")
+		})
+	}
 }
 
 // TestPowerCurveStepStaysPhysical runs seeded random steps through random
