@@ -361,14 +361,27 @@ var curveBenchCurve = [][2]float64{{30, 0.85}, {40, 0.92}, {48, 0.95}}
 // inner loop, which allocates nothing (TestInnerLoopAllocatesNothing).
 func TestPowerCurveStepAllocatesNothing(t *testing.T) {
 	// Not parallel: AllocsPerRun counts every allocation in the process.
-	m := withCurve(newBankModel(40, 0.02, 1e-5), 3, curveBenchCurve...)
+	m := withCurve(newBankModel(40, 0.02, 1e-5), 0, curveBenchCurve...)
+	limited := withCurve(newBankModel(40, 0.02, 1e-5), 3, curveBenchCurve...)
 	var o stepOutcome
-	for _, st := range []compiledStep{
-		{kind: kindPower, x: 60, dur: 1}, {kind: kindPower, x: 60, dur: 1e4},
-		{kind: kindPower, x: -15, dur: 1}, {kind: kindPower, x: -15, dur: 1e5},
+	for _, c := range []struct {
+		m  bankModel
+		st compiledStep
+		v0 float64
+	}{
+		{m, compiledStep{kind: kindPower, x: 60, dur: 1}, 40},
+		{m, compiledStep{kind: kindPower, x: 60, dur: 1e4}, 40},        // to the maximum-power point, 1.2 V
+		{limited, compiledStep{kind: kindPower, x: 100, dur: 1e4}, 40}, // to the current limit
+		// To the maximum-power point inside the curve's 30–40 V piece.
+		{m, compiledStep{kind: kindPower, x: 55000, dur: 1e4}, 80},
+		{m, compiledStep{kind: kindPower, x: -15, dur: 1}, 40},
+		{m, compiledStep{kind: kindPower, x: -15, dur: 1e5}, 40}, // to the top, held
 	} {
-		if n := testing.AllocsPerRun(100, func() { m.solveStep(st, 40, 1, 48, &o) }); n != 0 {
-			t.Errorf("a curve step of %g W for %g s allocates %v times", st.x, st.dur, n)
+		m := c.m
+		m.solveStep(c.st, c.v0, 1, 48, &o)
+		t.Logf("%g W for %g s from %g V: stop %q after %.6g s at terminal %.6g V", c.st.x, c.st.dur, c.v0, o.stop, o.t, o.uEnd)
+		if n := testing.AllocsPerRun(100, func() { m.solveStep(c.st, c.v0, 1, 48, &o) }); n != 0 {
+			t.Errorf("a curve step of %g W for %g s allocates %v times", c.st.x, c.st.dur, n)
 		}
 	}
 }
