@@ -92,11 +92,8 @@ var (
 		0.381830050505118944950369775488975, 0.417959183673469387755102040816327}
 )
 
-// segments returns the number of pieces of the curve: below its first
-// point, between each two, above its last.
-func (c *efficiencyCurve) segments() int { return len(c.v) + 1 }
-
-// seg returns piece k: its ends lo < hi (0 and +Inf outside the points)
+// The curve's pieces are numbered 0 (below its first point, flat) to
+// len(v) (above its last, flat). seg returns piece k: its ends lo < hi (0 and +Inf outside the points)
 // and η = al + be·u on it.
 func (c *efficiencyCurve) seg(k int) (lo, hi, al, be float64) {
 	n := len(c.v)
@@ -521,9 +518,8 @@ func (m *bankModel) curveDischarge(s *curveStep, dur, v0, minV float64, o *stepO
 // startRoot returns the root of v(u) = v0 in [a, b] on a sloped piece of a
 // discharge, where v(a) ≤ v0 < v(b) and v is convex and rising: Newton's
 // method from b comes down to the root without passing it (each tangent
-// of a convex function lies below it), a few steps from the first
-// estimate u = v0 − R·i(v0); regula falsi (rootBracket) if rounding makes
-// an iterate leave [a, b].
+// of a convex function lies below it); regula falsi (rootBracket) if
+// rounding makes an iterate leave [a, b].
 func (s *curveStep) startRoot(v0, a, b, al, be float64) float64 {
 	u := b
 	for range 50 {
@@ -602,8 +598,7 @@ func (m *bankModel) curveCharge(s *curveStep, dur, v0, minV, maxV float64, o *st
 		return
 	case d0 == 0:
 		// At the equilibrium: nothing moves.
-		f := s.integrands(u0, al0, be0)
-		s.finish(o, u0, u0, dur, curveSums{dur, f.i2 / f.t * dur, f.e / f.t * dur})
+		s.finish(o, u0, u0, dur, curveSums{dur, i0 * i0 * dur, u0 * i0 * dur})
 		return
 	}
 	// Rising: to the top (v = maxV) or to an equilibrium below it.

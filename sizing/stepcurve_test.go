@@ -290,6 +290,9 @@ func TestPowerCurveAgainstRK4(t *testing.T) {
 			if c.pl < 0 {
 				event = func(y refState) float64 { return c.vt - y.v }
 			}
+			if got.stop != stopPower || got.t > 0 {
+				near(t, "start terminal voltage (bisection of u + R·i(u) = v0)", got.uStart, ref.uOf(c.v0), 1e-12)
+			}
 			y, tRef, hit := ref.run(c.v0, c.dur, 20000, event)
 			tRun := got.t
 			if got.tTop >= 0 {
@@ -299,6 +302,12 @@ func TestPowerCurveAgainstRK4(t *testing.T) {
 				}
 				near(t, "time to the top", tRun, tRef, 1e-6)
 				near(t, "∫i²dt to the top", got.i2dt-m.g*c.vt*m.g*c.vt*(c.dur-tRun), y.i2, 1e-6)
+				// Held at the top of a bank without leakage, the bank takes
+				// nothing: everything the source offers, |P|·η at the held
+				// terminal voltage (the top), is rejected.
+				if m.g == 0 {
+					near(t, "rejected while held", got.reject, -c.pl*m.effCurve.at(c.vt)*(c.dur-tRun), 1e-12)
+				}
 				return
 			}
 			near(t, "time", tRun, tRef, 1e-6)
@@ -519,4 +528,21 @@ func TestPowerCurveStepStaysPhysical(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestPowerCurveChargeAtEquilibrium: a charge that exactly balances the
+// leakage at the start (R = 0, |P|·η = g·v²: 2 W × 0.5 = 0.01 S × (10 V)²)
+// leaves the bank where it is, C·dv/dt = −(i + g·v) = 0 (circuit physics,
+// REFERENCES.md 3.11): v1 = v0, ∫i²dt = i²·t with i = −|P|·η/v = −0.1 A,
+// ∫u·i dt = −1 W × 3 s and the source gives 2 W × 3 s. The integrand
+// dt/du is infinite there, so the step must not integrate it.
+func TestPowerCurveChargeAtEquilibrium(t *testing.T) {
+	t.Parallel()
+	m := withCurve(newBankModel(5, 0, 0.01), 0, [2]float64{5, 0.5})
+	o := m.step(compiledStep{kind: kindPower, x: -2, dur: 3, toLoad: 1}, 10, 1, 20)
+	near(t, "v1", o.v1, 10, 1e-15)
+	near(t, "t", o.t, 3, 1e-15)
+	near(t, "∫i²dt", o.i2dt, 0.1*0.1*3, 1e-15)
+	near(t, "∫u·i dt", o.eLoad, -3, 1e-15)
+	near(t, "energy from the source", o.eOut, -6, 1e-15)
 }
