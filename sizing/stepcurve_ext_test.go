@@ -83,7 +83,8 @@ func TestSizeFlatCurveEqualsLoadEfficiency(t *testing.T) {
 // at least as many strings as with that best efficiency flat and, on the
 // same bank, run for a shorter time and give more energy at its terminals
 // for the same load energy (the bank power P/η(u) is at least P/η_best at
-// every voltage; follows from P_b = P/η, REFERENCES.md 3.11). At 6 outage
+// every voltage, so the capacitor empties at least as fast; own
+// derivation from the converter's balance P_b = P/η). At 6 outage
 // steps both need the same string count, so the runtimes compare on one
 // bank; at 5 the curve needs a string more, and the runtime is not compared.
 func TestSizeFallingCurveCostsStrings(t *testing.T) {
