@@ -59,8 +59,8 @@ import (
 //
 // The end voltage of a step of given duration is the root of t(u) = dur,
 // found by Newton's method with the analytic t′(u) = w(u), safeguarded by
-// bisection of the bracket; each iterate adds the integral from the previous
-// one. Once a correction is below 1e-8 of the distance travelled, it is
+// bisection of the bracket, from a second-order start (w and the analytic
+// w′ at u0); each iterate adds the integral from the previous one. Once a correction is below 1e-8 of the distance travelled, it is
 // added with the integrands at the iterate (a rectangle over it: second-order
 // error below 1e-16 relative).
 //
@@ -175,6 +175,38 @@ func (s *curveStep) at(u, towards float64) curveSums {
 	}
 	_, _, al, be := s.cv.seg(k)
 	return s.integrands(u, al, be)
+}
+
+// rate returns w = dt/du at u and its derivative w′, on the piece a path
+// going towards `towards` is on:
+//
+//	w′ = −C·(v″·D − v′·D′)/D²,  v″ = R·i″,  D′ = (1 + R·g)·i′ + g,
+//	i″ = i·(2q′² − q·q″)/q² (discharging, q″ = 2β),  2·P·α/u³ (charging)
+func (s *curveStep) rate(u, towards float64) (w, dw float64) {
+	k := s.cv.segBelow(u)
+	if towards > u {
+		k = s.cv.segAbove(u)
+	}
+	_, _, al, be := s.cv.seg(k)
+	var i, di, d2i float64
+	if s.dis {
+		eta := al + be*u
+		q := u * eta
+		dq := eta + be*u
+		iq := 1 / q
+		i = s.p * iq
+		di = -i * dq * iq
+		d2i = i * (2*dq*dq - 2*be*q) * iq * iq
+	} else {
+		iu := 1 / u
+		i = s.p * (al*iu + be)
+		di = -s.p * al * iu * iu
+		d2i = -2 * di * iu
+	}
+	dv, d2v := 1+s.r*di, s.r*d2i
+	D, dD := s.rg1*i+s.g*u, s.rg1*di+s.g
+	iD := 1 / D
+	return -s.c * dv * iD, -s.c * (d2v*D - dv*dD) * iD * iD
 }
 
 // gk15 returns the 15-point Kronrod results over [a, b] (b < a allowed:
@@ -664,11 +696,18 @@ func (s *curveStep) solve(u0, far, dur float64) (float64, curveSums) {
 	if !falling {
 		lo, hi = u0, far
 	}
-	// First-order start: du/dt = 1/w(u0).
-	f0 := s.at(u0, far)
-	u := u0 + dur/f0.t
+	// Second-order start from t(u) ≈ w0·Δ + ½·w0′·Δ² = dur: the error of
+	// the first iterate is of third order in the step, so for the short
+	// steps of a logged profile Newton's first correction is already
+	// small enough to be added as it is.
+	w0, dw0 := s.rate(u0, far)
+	d1 := dur / w0
+	u := u0 + d1 - 0.5*dw0/w0*d1*d1
 	if !(u > lo && u < hi) {
-		u = lo + (hi-lo)/2
+		u = u0 + d1
+		if !(u > lo && u < hi) {
+			u = lo + (hi-lo)/2
+		}
 	}
 	sum := s.integral(u0, u)
 	for i := 0; ; i++ {

@@ -546,3 +546,24 @@ func TestPowerCurveChargeAtEquilibrium(t *testing.T) {
 	near(t, "∫u·i dt", o.eLoad, -3, 1e-15)
 	near(t, "energy from the source", o.eOut, -6, 1e-15)
 }
+
+// TestPowerCurveRateDerivative: the analytic dw/du that starts the search
+// for a step's end voltage against a central difference of w itself
+// (h = 1e-5 V; the difference's own error, of order h², is far below the
+// 1e-6 relative asked), discharging and charging, on a sloped piece and a
+// flat one. A wrong derivative would only cost Newton iterations, so it
+// is checked here rather than through the results.
+func TestPowerCurveRateDerivative(t *testing.T) {
+	t.Parallel()
+	m := withCurve(newBankModel(10, 0.05, 0.01), 0, [2]float64{10, 0.80}, [2]float64{20, 0.90}, [2]float64{40, 0.95})
+	for _, pl := range []float64{50, -100} {
+		s := curveStep{c: m.c, r: m.r, g: m.g, rg1: 1 + m.r*m.g, p: pl, dis: pl > 0, cv: m.effCurve}
+		for _, u := range []float64{8, 15, 25, 45} {
+			_, dw := s.rate(u, u-1)
+			const h = 1e-5
+			wp, _ := s.rate(u+h, u-1)
+			wm, _ := s.rate(u-h, u-1)
+			near(t, fmt.Sprintf("dw/du at %g V, %g W", u, pl), dw, (wp-wm)/(2*h), 1e-6)
+		}
+	}
+}
