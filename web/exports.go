@@ -127,7 +127,7 @@ func makeExport(ctx context.Context, d *sizing.Design, f export.Format, cellID s
 	}
 	var buf bytes.Buffer
 	if f.Name == designFormat.Name {
-		if err := jsonEncode(&buf, d); err != nil {
+		if err := jsonEncode(&buf, d, true); err != nil {
 			return exported{}, err
 		}
 		return exported{buf.Bytes(), "design"}, nil
