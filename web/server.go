@@ -280,11 +280,30 @@ func (s *Server) healthz(c echo.Context) error {
 // render writes a component with the status, buffered so that a failure
 // while rendering still gets a proper error response.
 func (s *Server) render(c echo.Context, status int, comp templ.Component) error {
-	var buf bytes.Buffer
-	if err := comp.Render(c.Request().Context(), &buf); err != nil {
+	buf := renderBuffers.Get().(*bytes.Buffer)
+	defer putRenderBuffer(buf)
+	if err := comp.Render(c.Request().Context(), buf); err != nil {
 		return fmt.Errorf("rendering: %w", err)
 	}
 	return c.HTMLBlob(status, buf.Bytes())
+}
+
+// renderBuffers keep the buffers pages are rendered into: a page of the
+// design tool is over 100 kB, and a buffer grown to it afresh each time
+// allocated twice that. The response copies the bytes out before the
+// buffer goes back.
+var renderBuffers = sync.Pool{New: func() any { return new(bytes.Buffer) }}
+
+// maxPooledRender is the largest buffer kept for the next page: a page
+// carrying a long logged profile (megabytes) is not worth holding.
+const maxPooledRender = 1 << 20
+
+func putRenderBuffer(b *bytes.Buffer) {
+	if b.Cap() > maxPooledRender {
+		return
+	}
+	b.Reset()
+	renderBuffers.Put(b)
 }
 
 // recoverPanics turns a panic in a handler into an internal error: the
