@@ -14,7 +14,7 @@ import (
 // string, a library cell's id (see Cell.IsReference). DecodeDesign does not
 // validate; call Validate next.
 func DecodeDesign(r io.Reader) (*Design, error) {
-	data, err := io.ReadAll(r)
+	data, err := readAll(r)
 	if err != nil {
 		return nil, ValidationError{{Field: "design", Rule: "read", Message: "could not be read: " + err.Error()}}
 	}
@@ -23,6 +23,19 @@ func DecodeDesign(r io.Reader) (*Design, error) {
 		return nil, err
 	}
 	return &d, nil
+}
+
+// readAll is io.ReadAll, reading into a buffer of the right size at once
+// when r knows how much it holds (a bytes or strings Reader).
+func readAll(r io.Reader) ([]byte, error) {
+	sized, ok := r.(interface{ Len() int })
+	if !ok {
+		return io.ReadAll(r)
+	}
+	var b bytes.Buffer
+	b.Grow(sized.Len() + bytes.MinRead) // ReadFrom asks for MinRead free bytes to see the end
+	_, err := b.ReadFrom(r)
+	return b.Bytes(), err
 }
 
 func lineCol(data []byte, offset int64) (line, col int) {

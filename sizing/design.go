@@ -227,7 +227,9 @@ type Load struct {
 	StartV *float64 `json:"start_v,omitempty" validate:"omitempty,finite,gt=0,lte=100000"`
 	// Steps are the profile's steps in order. A load gives exactly one of
 	// Steps, ProfileCSV or ProfileCSVText (see Validate).
-	Steps []Step `json:"steps,omitempty" validate:"max=1000000,dive"`
+	// Validate checks each step's tags with a plain loop (stepRules), not
+	// by diving into the list.
+	Steps []Step `json:"steps,omitempty" validate:"max=1000000"`
 	// ProfileCSV names a logged profile CSV file (read by ParseProfileCSV)
 	// beside the design file, its path relative to the design file's
 	// folder, in place of Steps. sizing reads no files: the program that

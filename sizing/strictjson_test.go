@@ -3,9 +3,12 @@ package sizing
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
+	"unsafe"
 )
 
 // strictProblem returns the one problem err holds, failing otherwise.
@@ -225,4 +228,59 @@ func FuzzDecodeStrict(f *testing.F) {
 			t.Fatalf("%q:\n got %+v\nwant %+v", data, got, want)
 		}
 	})
+}
+
+// A long list is decoded item for item whatever its items hold (strings
+// with commas, brackets and escaped quotes, nested lists and objects), and
+// the slice gets room for the items left once it passes countListFrom,
+// not a quarter more each time.
+func TestDecodeStrictLongList(t *testing.T) {
+	type item struct {
+		S string         `json:"s"`
+		L []float64      `json:"l"`
+		M map[string]any `json:"m"`
+	}
+	const n = 3*countListFrom + 7
+	var b strings.Builder
+	b.WriteString("[")
+	for i := range n {
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, `{"s": "a, [b] {c} \"d,\" \\ %d", "l": [%d, 2, 3], "m": {"k": [1, {"x": "]"}]}}`, i, i)
+	}
+	b.WriteString("]")
+	var got []item
+	if err := DecodeStrict([]byte(b.String()), &got, "items"); err != nil {
+		t.Fatal(err)
+	}
+	// Room for n items, rounded up to the allocator's 8 KiB pages at most.
+	size := int(unsafe.Sizeof(item{}))
+	if len(got) != n || (cap(got)-n)*size >= 8192 {
+		t.Fatalf("%d items in a slice of capacity %d, want %d with under 8 KiB to spare", len(got), cap(got), n)
+	}
+	// A list of 10⁵ numbers: the doublings up to countListFrom, then one
+	// allocation for the rest: 18 in all, where growing by a quarter took
+	// 34.
+	var nums strings.Builder
+	nums.WriteString("[0")
+	for i := 1; i < 100_000; i++ {
+		nums.WriteString("," + strconv.Itoa(i))
+	}
+	nums.WriteString("]")
+	data := []byte(nums.String())
+	allocs := testing.AllocsPerRun(3, func() {
+		var xs []float64
+		if err := DecodeStrict(data, &xs, "numbers"); err != nil || len(xs) != 100_000 || xs[99_999] != 99_999 {
+			t.Fatalf("%d numbers, %v", len(xs), err)
+		}
+	})
+	if allocs > 24 {
+		t.Errorf("%v allocations decoding 10⁵ numbers, want at most 24 (34 growing by a quarter)", allocs)
+	}
+	for i, it := range got {
+		if want := fmt.Sprintf(`a, [b] {c} "d," \ %d`, i); it.S != want || len(it.L) != 3 || it.L[0] != float64(i) || it.M["k"] == nil {
+			t.Fatalf("item %d decoded as %+v", i, it)
+		}
+	}
 }

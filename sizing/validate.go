@@ -94,6 +94,7 @@ func Validate(d *Design) error {
 			})
 		}
 	}
+	errs = append(errs, stepRules(d.Load.Steps)...)
 	errs = append(errs, loadRules(&d.Load)...)
 	errs = append(errs, physicsRules(d)...)
 	errs = append(errs, systemRules(d)...)
@@ -128,9 +129,13 @@ func fieldPath(ns string) string {
 }
 
 func ruleMessage(fe validator.FieldError) string {
-	p := fe.Param()
-	isList := fe.Kind() == reflect.Slice || fe.Kind() == reflect.Array
-	switch fe.Tag() {
+	return rangeMessage(fe.Tag(), fe.Param(), fe.Kind() == reflect.Slice || fe.Kind() == reflect.Array)
+}
+
+// rangeMessage says what a value that breaks the validate tag with its
+// parameter p must be; isList for a list's length.
+func rangeMessage(tag, p string, isList bool) string {
+	switch tag {
 	case "required":
 		return "is required"
 	case "finite":
@@ -164,7 +169,7 @@ func ruleMessage(fe validator.FieldError) string {
 	case "oneof":
 		return "must be one of: " + strings.ReplaceAll(p, " ", ", ")
 	}
-	return "breaks rule " + fe.Tag()
+	return "breaks rule " + tag
 }
 
 func plural(n string) string {

@@ -50,7 +50,7 @@ func TestAPISizeReturnsTheReport(t *testing.T) {
 				t.Fatal(err)
 			}
 			var want bytes.Buffer
-			if err := jsonEncode(&want, rep); err != nil {
+			if err := jsonEncode(&want, rep, false); err != nil {
 				t.Fatal(err)
 			}
 			if rec.Body.String() != want.String() {

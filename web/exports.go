@@ -3,6 +3,7 @@ package web
 import (
 	"bytes"
 	"context"
+	"crypto/sha256"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -47,15 +48,28 @@ func designToken(d *sizing.Design) (token, note, linkNote string) {
 		return "", fmt.Sprintf("This design is too large to carry in a link, a download or a save from this page (its design file would be more than %s); size and export it with %s.",
 			figures.SI(share.MaxDesignBytes, "B", 3), how), ""
 	}
-	tok, err := share.EncodePosted(data)
-	if err != nil {
-		return "", "This design could not be written as a design file.", ""
+	key := sha256.Sum256(data)
+	if r, ok := designTokens.get(key); ok {
+		return r.token, r.note, r.linkNote
 	}
-	// The posted token is compressed for speed; a link's for size, tried
-	// only when it could come near a link's length.
-	if len(tok) <= 2*share.MaxTokenBytes {
+	r := newDesignToken(d, data)
+	designTokens.put(key, r)
+	return r.token, r.note, r.linkNote
+}
+
+// newDesignToken writes the token of design d, whose design file is data.
+// It compresses at the fastest level, which serves as the link too when
+// it is short enough; only a token too long for a link, though within
+// twice its length, is tried again at the best level, which may bring it
+// within a link's length.
+func newDesignToken(d *sizing.Design, data []byte) tokenResult {
+	tok, err := share.EncodeFast(data)
+	if err != nil {
+		return tokenResult{note: "This design could not be written as a design file."}
+	}
+	if len(tok) > share.MaxTokenBytes && len(tok) <= 2*share.MaxTokenBytes {
 		if link, err := share.Encode(data); err == nil {
-			return link, "", ""
+			return tokenResult{token: link}
 		}
 	}
 	if len(tok) > share.MaxTokenBytes {
@@ -63,10 +77,10 @@ func designToken(d *sizing.Design) (token, note, linkNote string) {
 		if d.Load.ProfileCSVText != "" {
 			what = "This design's logged profile makes it"
 		}
-		return tok, "", fmt.Sprintf("%s too large for a link: the link would be %d characters long, and links hold at most %d. Save it here, or download the design file and share that.",
-			what, len(tok), share.MaxTokenBytes)
+		return tokenResult{token: tok, linkNote: fmt.Sprintf("%s too large for a link: the link would be %d characters long, and links hold at most %d. Save it here, or download the design file and share that.",
+			what, len(tok), share.MaxTokenBytes)}
 	}
-	return tok, "", ""
+	return tokenResult{token: tok}
 }
 
 // formParseError is the error of reading the request's form, if any.
@@ -127,7 +141,7 @@ func makeExport(ctx context.Context, d *sizing.Design, f export.Format, cellID s
 	}
 	var buf bytes.Buffer
 	if f.Name == designFormat.Name {
-		if err := jsonEncode(&buf, d); err != nil {
+		if err := jsonEncode(&buf, d, true); err != nil {
 			return exported{}, err
 		}
 		return exported{buf.Bytes(), "design"}, nil

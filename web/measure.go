@@ -187,7 +187,7 @@ func (s *Server) apiMeasure(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	return c.JSONPretty(http.StatusOK, out, "  ")
+	return writeJSON(c, http.StatusOK, echo.MIMEApplicationJSONCharsetUTF8, out)
 }
 
 // getMeasure and postMeasure are the measurement page.

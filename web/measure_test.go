@@ -69,7 +69,7 @@ func TestAPIMeasureBadInput(t *testing.T) {
 	for _, c := range cases {
 		rec := postMultipart(t, s, "/api/v1/measure", c.vals, "log_csv", "log.csv", c.log)
 		wantStatus(t, rec, http.StatusUnprocessableEntity)
-		if !strings.Contains(rec.Body.String(), `"field": "`+c.field+`"`) {
+		if !strings.Contains(rec.Body.String(), `"field":"`+c.field+`"`) {
 			t.Errorf("%s: problem %s does not name %s", c.name, rec.Body.String(), c.field)
 		}
 	}

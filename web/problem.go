@@ -117,9 +117,7 @@ func (s *Server) handleError(err error, c echo.Context) {
 }
 
 func writeProblem(c echo.Context, p problem) error {
-	c.Response().Header().Set(echo.HeaderContentType, problemCharset)
-	c.Response().WriteHeader(p.Status)
-	return jsonEncode(c.Response(), p)
+	return writeJSON(c, p.Status, problemCharset, p)
 }
 
 // wantsHTML is true for a page request from a browser.

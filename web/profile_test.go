@@ -90,7 +90,7 @@ func TestAPISizeMultipart(t *testing.T) {
 				}
 				return
 			}
-			if !strings.Contains(rec.Body.String(), `"field": "`+tc.field+`"`) {
+			if !strings.Contains(rec.Body.String(), `"field":"`+tc.field+`"`) {
 				t.Errorf("problem does not name %s: %s", tc.field, rec.Body.String())
 			}
 		})

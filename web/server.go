@@ -38,10 +38,12 @@ const MaxBodyBytes = 16 << 20
 // level (staticAssets).
 const serverGzipLevel = gzip.BestSpeed
 
-// gzipMinBytes is the smallest answer worth compressing: below about a
-// kilobyte the gzip header and the work cost more than they save (common
-// practice, no source).
-const gzipMinBytes = 1024
+// gzipMinBytes is the smallest answer worth compressing. An answer that
+// fits in one TCP segment on Ethernet (1460 bytes of payload: the
+// 1500-byte MTU of RFC 894 less 40 bytes of IPv4 and TCP headers) leaves
+// in one packet compressed or not, so compressing it costs server time and
+// saves the client nothing worth having (common practice, no source).
+const gzipMinBytes = 1460
 
 // Config is what the server needs from its command line.
 type Config struct {
@@ -120,8 +122,7 @@ func New(cfg Config) *Server {
 	// The security headers first, so that every answer carries them: a
 	// refused body (413) and a recovered panic (500) too.
 	e.Use(securityHeaders, s.recoverPanics, limitBody)
-	e.Use(middleware.GzipWithConfig(middleware.GzipConfig{Level: serverGzipLevel, MinLength: gzipMinBytes,
-		Skipper: func(c echo.Context) bool { return strings.HasPrefix(c.Request().URL.Path, "/static/") }}))
+	e.Use(compressAnswers())
 	s.useGuards(e, cfg)
 
 	e.GET("/", s.getPage)
@@ -138,6 +139,16 @@ func New(cfg Config) *Server {
 	e.GET("/static/*", s.staticFile)
 	s.libraryRoutes(e)
 	return s
+}
+
+// compressAnswers gzips the answers the server writes afresh at
+// serverGzipLevel when the client lists gzip in Accept-Encoding and the
+// answer reaches gzipMinBytes; a client that does not ask (an API client
+// without Accept-Encoding) gets the answer as it is. Static files are
+// skipped: they are compressed once (staticFile).
+func compressAnswers() echo.MiddlewareFunc {
+	return middleware.GzipWithConfig(middleware.GzipConfig{Level: serverGzipLevel, MinLength: gzipMinBytes,
+		Skipper: func(c echo.Context) bool { return strings.HasPrefix(c.Request().URL.Path, "/static/") }})
 }
 
 // ServeHTTP serves a request.
@@ -304,11 +315,30 @@ func runtimeHealth() RuntimeHealth {
 // render writes a component with the status, buffered so that a failure
 // while rendering still gets a proper error response.
 func (s *Server) render(c echo.Context, status int, comp templ.Component) error {
-	var buf bytes.Buffer
-	if err := comp.Render(c.Request().Context(), &buf); err != nil {
+	buf := renderBuffers.Get().(*bytes.Buffer)
+	defer putRenderBuffer(buf)
+	if err := comp.Render(c.Request().Context(), buf); err != nil {
 		return fmt.Errorf("rendering: %w", err)
 	}
 	return c.HTMLBlob(status, buf.Bytes())
+}
+
+// renderBuffers keep the buffers pages are rendered into: a page of the
+// design tool is over 100 kB, and a buffer grown to it afresh each time
+// allocated twice that. The response copies the bytes out before the
+// buffer goes back.
+var renderBuffers = sync.Pool{New: func() any { return new(bytes.Buffer) }}
+
+// maxPooledRender is the largest buffer kept for the next page: a page
+// carrying a long logged profile (megabytes) is not worth holding.
+const maxPooledRender = 1 << 20
+
+func putRenderBuffer(b *bytes.Buffer) {
+	if b.Cap() > maxPooledRender {
+		return
+	}
+	b.Reset()
+	renderBuffers.Put(b)
 }
 
 // recoverPanics turns a panic in a handler into an internal error: the

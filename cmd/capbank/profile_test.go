@@ -67,7 +67,9 @@ func writeFileIn(t *testing.T, path string, data []byte) string {
 // status and the answer.
 func postDesign(t *testing.T, url, contentType string, body []byte) (int, string) {
 	t.Helper()
-	resp, err := http.Post(url+"/api/v1/size", contentType, bytes.NewReader(body))
+	// ?pretty=1: the report indented as the command line writes it, so
+	// that the two compare byte for byte.
+	resp, err := http.Post(url+"/api/v1/size?pretty=1", contentType, bytes.NewReader(body))
 	if err != nil {
 		t.Fatal(err)
 	}

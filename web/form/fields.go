@@ -278,7 +278,8 @@ var FieldLabels = func() map[string]string {
 
 // DomID turns a field name into an HTML id fragment: load.steps[2].value
 // becomes load-steps-2-value.
-func DomID(name string) string {
-	r := strings.NewReplacer(".", "-", "[", "-", "]", "")
-	return r.Replace(name)
-}
+func DomID(name string) string { return domIDReplacer.Replace(name) }
+
+// domIDReplacer is built once: a strings.Replacer builds its tables on
+// first use, which cost more than the replacing on every field of a page.
+var domIDReplacer = strings.NewReplacer(".", "-", "[", "-", "]", "")

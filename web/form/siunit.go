@@ -147,9 +147,11 @@ func ParseCount(text string, u UnitSpec) (int, error) {
 // paste from documents in their plain form: the minus sign, the micro sign
 // and Greek mu, and non-breaking or thin spaces.
 func normalizeNumber(text string) string {
-	r := strings.NewReplacer("\u2212", "-", "µ", "u", "μ", "u", "\u00a0", " ", "\u2009", " ", "\u202f", " ")
-	return strings.TrimSpace(r.Replace(text))
+	return strings.TrimSpace(numberLookalikes.Replace(text))
 }
+
+// numberLookalikes is built once, for every number read.
+var numberLookalikes = strings.NewReplacer("\u2212", "-", "µ", "u", "μ", "u", "\u00a0", " ", "\u2009", " ", "\u202f", " ")
 
 // plainDecimal reports whether s is a decimal number strconv may read
 // without taking hexadecimal, digit separators, NaN or Inf.

@@ -12,6 +12,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"sync"
 )
 
 // MaxDesignBytes bounds the design a token may unpack to, so a small token
@@ -47,15 +48,44 @@ func EncodePosted(designJSON []byte) (string, error) {
 	return encode(designJSON, MaxPostedTokenBytes, flate.DefaultCompression)
 }
 
+// EncodeFast returns the token of a design file for a form to post, up to
+// MaxPostedTokenBytes, compressed at DEFLATE's fastest level, for a page
+// that writes a design's token each time it shows it; a token no longer
+// than MaxTokenBytes serves as a link too. Decode and DecodePosted read
+// it as they read the others.
+func EncodeFast(designJSON []byte) (string, error) {
+	return encode(designJSON, MaxPostedTokenBytes, flate.BestSpeed)
+}
+
+// writers keep a DEFLATE writer of each level for the next token: a new
+// writer allocates some 650 kB of tables, more than a page it serves.
+var writers = map[int]*sync.Pool{}
+
+func init() {
+	for _, level := range []int{flate.BestSpeed, flate.DefaultCompression, flate.BestCompression} {
+		writers[level] = &sync.Pool{New: func() any {
+			w, err := flate.NewWriter(io.Discard, level)
+			if err != nil {
+				panic("share: " + err.Error())
+			}
+			return w
+		}}
+	}
+}
+
 func encode(designJSON []byte, limit, level int) (string, error) {
 	var compact bytes.Buffer
 	if err := json.Compact(&compact, designJSON); err != nil {
 		return "", fmt.Errorf("%w: the design is not valid JSON: %v", ErrToken, err)
 	}
 	var z bytes.Buffer
-	w, _ := flate.NewWriter(&z, level)
+	pool := writers[level]
+	w := pool.Get().(*flate.Writer)
+	w.Reset(&z)
 	w.Write(compact.Bytes())
 	w.Close()
+	w.Reset(io.Discard) // let go of z
+	pool.Put(w)
 	tok := base64.RawURLEncoding.EncodeToString(z.Bytes())
 	if len(tok) > limit {
 		return "", fmt.Errorf("%w: the design is too large for a link (%d characters, at most %d); save it and share the file instead", ErrToken, len(tok), limit)

@@ -112,3 +112,44 @@ func TestBadShareCorpus(t *testing.T) {
 		}
 	}
 }
+
+// EncodeFast's token decodes to the compact design, as Encode's does, and
+// writers shared between goroutines through the pool never mix two
+// designs (go test -race).
+func TestEncodeFastRoundTrip(t *testing.T) {
+	t.Parallel()
+	raw, err := os.ReadFile("../../testdata/ups-ride-through.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error)
+	for i := range 8 {
+		go func() {
+			design := bytes.Replace(raw, []byte(`"name": "`), []byte(`"name": "`+strings.Repeat("x", i)), 1)
+			var want bytes.Buffer
+			json.Compact(&want, design)
+			for range 20 {
+				tok, err := EncodeFast(design)
+				if err != nil {
+					done <- err
+					return
+				}
+				back, err := Decode(tok)
+				if err != nil || !bytes.Equal(back, want.Bytes()) {
+					done <- errors.New("a fast token did not round-trip")
+					return
+				}
+				if _, err := Encode(design); err != nil {
+					done <- err
+					return
+				}
+			}
+			done <- nil
+		}()
+	}
+	for range 8 {
+		if err := <-done; err != nil {
+			t.Error(err)
+		}
+	}
+}
