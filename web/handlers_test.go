@@ -648,7 +648,7 @@ func TestStaticFilesCompressed(t *testing.T) {
 }
 
 // The page with its stylesheet and script stays light: measured as sent
-// (gzip, as browsers ask) and as unpacked. The unpacked bound is 225 kB:
+// (gzip, as browsers ask) and as unpacked. The unpacked bound is 235 kB:
 // the example shows four candidates with their findings, the worst case in
 // words and the balancing alternatives (it was 200 kB before them); what
 // travels is the sent bound.
@@ -668,7 +668,9 @@ func TestFirstPageWeight(t *testing.T) {
 	if sent > 75_000 {
 		t.Errorf("first page sends %d bytes, want well under 150 kB", sent)
 	}
-	if raw > 225_000 {
+	// 235 kB since the folded charger, converter and wiring section (225
+	// kB before it).
+	if raw > 235_000 {
 		t.Errorf("first page unpacks to %d bytes", raw)
 	}
 }
