@@ -71,6 +71,20 @@ type chargeResult struct {
 // any charge (3·10⁷ years), so the step stops at the top first.
 const chargeNever = 1e15
 
+// chargePhase runs the charging step st from capacitor voltage v to vTop
+// and stops there: the step is first run far past any charge to find when
+// it reaches vTop, then again for exactly that long, so that its figures
+// hold no time held at the top. ok is false when it never gets there.
+func (b *bankModel) chargePhase(st compiledStep, v, vTop float64) (stepOutcome, bool) {
+	st.dur = chargeNever
+	o := b.step(st, v, 0, vTop)
+	if o.tTop < 0 {
+		return o, false
+	}
+	st.dur = o.tTop
+	return b.step(st, v, 0, vTop), true
+}
+
 // charge charges bank m from capacitor voltage v0 to the end of the
 // constant-voltage phase at terminal voltage maxV.
 func (m *bankModel) charge(cp *chargerPlan, v0, maxV float64) chargeResult {
@@ -85,14 +99,11 @@ func (m *bankModel) charge(cp *chargerPlan, v0, maxV float64) chargeResult {
 	}
 	// Constant current, to the terminal voltage uSwitch.
 	if vA := uSwitch - I*r; v < vA {
-		st := compiledStep{kind: kindCurrent, x: -I, dur: chargeNever, toLoad: 1}
-		o := b.step(st, v, 0, vA)
-		if o.tTop < 0 {
+		o, ok := b.chargePhase(compiledStep{kind: kindCurrent, x: -I, toLoad: 1}, v, vA)
+		if !ok {
 			res.ends, res.why = false, fmt.Sprintf("the charger's %s does not exceed the bank's leakage and balancing drain below %s", Quantity(I, "A", 4), Quantity(uSwitch, "V", 4))
 			return res
 		}
-		st.dur = o.tTop
-		o = b.step(st, v, 0, vA)
 		res.tCC, res.intoBank, res.seriesLossJ = o.t, -o.eLoad, o.i2dt*r
 		v = vA
 	}
@@ -100,14 +111,11 @@ func (m *bankModel) charge(cp *chargerPlan, v0, maxV float64) chargeResult {
 	if cp.powerW > 0 && uSwitch < maxV {
 		P := cp.powerW
 		if vB := maxV - P*r/maxV; v < vB {
-			st := compiledStep{kind: kindPower, x: -P, dur: chargeNever, toLoad: 1}
-			o := b.step(st, v, 0, vB)
-			if o.tTop < 0 {
+			o, ok := b.chargePhase(compiledStep{kind: kindPower, x: -P, toLoad: 1}, v, vB)
+			if !ok {
 				res.ends, res.why = false, fmt.Sprintf("the charger's %s does not exceed the bank's leakage and balancing drain below %s", Quantity(P, "W", 4), Quantity(maxV, "V", 4))
 				return res
 			}
-			st.dur = o.tTop
-			o = b.step(st, v, 0, vB)
 			res.tCP = o.t
 			res.intoBank += -o.eLoad
 			res.seriesLossJ += o.i2dt * r
