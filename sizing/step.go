@@ -340,7 +340,7 @@ func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64, o *stepOutcome) {
 			cp.finish(o, p, cp.solve(dur, minV), dur)
 			return
 		}
-		cp.finish(o, p, cp.solve(dur, uEq), dur)
+		cp.finishDur(o, p, cp.solve(dur, uEq), dur)
 		return
 	}
 	uTop := (maxV + math.Sqrt(maxV*maxV-4*pr)) / 2
@@ -360,7 +360,7 @@ func (m *bankModel) powerStep(p, dur, v0, minV, maxV float64, o *stepOutcome) {
 	if g > 0 && a+g*uTop*uTop >= 0 {
 		uFar = math.Sqrt(-a / g)
 	}
-	cp.finish(o, p, cp.solve(dur, uFar), dur)
+	cp.finishDur(o, p, cp.solve(dur, uFar), dur)
 }
 
 // clamp returns x limited to [lo, hi].
@@ -487,6 +487,35 @@ func (cp *cpSolution) finish(o *stepOutcome, p, u1, t float64) {
 	o.iPeak = max(abs(o.iStart), abs(o.iEnd))
 	o.eLoad = p * t
 	o.i2dt = cp.integralI2(p, u1, iu1)
+}
+
+// finishDur fills the outcome of a charging step that ran its whole
+// duration t: its ∫ i² dt is taken from the time (integralI2ByTime), which
+// stays exact where the drains balance the charge.
+func (cp *cpSolution) finishDur(o *stepOutcome, p, u1, t float64) {
+	cp.finish(o, p, u1, t)
+	o.i2dt = cp.integralI2ByTime(p, u1, 1/u1, t)
+}
+
+// integralI2ByTime returns the ∫ i² dt of integralI2 for a step that ran t
+// seconds, with Δw/(a + g·w0) taken from the time rather than from u1.
+// Near the drains' balance (a + g·w ≈ 0, a charge no larger than the
+// leakage and balancing take) both Δw and a + g·w0 are rounding noise and
+// their quotient is anything; t is exact. From t(u),
+//
+//	Y = ln((a + g·w0)/(a + g·w1))/g = (2/B)·(t/C − A·ln(u0/u1))
+//	Δw/(a + g·w0) = (1 − e^(−g·Y))/g = Y·(1 − e^(−z))/z,  z = g·Y
+//
+// and the rest is integralI2's form. At the balance itself it gives
+// P²·t/u0², the constant current's.
+func (cp *cpSolution) integralI2ByTime(p, u1, iu1, t float64) float64 {
+	lnRatio := -log1p(-(cp.u0 - u1) * cp.iu0)
+	y := 2 / cp.B * (t*cp.invC - cp.A*lnRatio)
+	dwOverE0 := y * expm1OverX(-cp.g*y)
+	dw := (cp.u0 - u1) * (cp.u0 + u1)
+	iw1 := iu1 * iu1
+	x := cp.a * dwOverE0 * iw1
+	return cp.c * p * p / 2 * iw1 * (cp.B*dwOverE0*log1pOverX(x) + cp.A*dw*cp.iu0*cp.iu0)
 }
 
 // integralI2 returns ∫ i² dt from u0 to u1, i = P/u:

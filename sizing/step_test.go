@@ -258,3 +258,54 @@ func TestChargeWeakerThanDrains(t *testing.T) {
 	vInf := 0.002 / m.g
 	near(t, "current charge weaker than drain", o.v1, vInf+(40-vInf)*math.Exp(-m.g*100/m.c), 1e-12)
 }
+
+// TestChargeAtDrainBalance: a charging power step that starts at, or a few
+// rounding steps from, the voltage where the leakage and balancing drains
+// take exactly what the charge gives (a + g·u² = 0). There both Δw and
+// a + g·w0 of the closed form of ∫ i² dt are rounding noise; capbank once
+// reported NaN, 0 or a hundred times the figure here. The terminal
+// voltage is monotone in the step, so P²·t/max(u0, u1)² ≤ ∫ i² dt ≤
+// P²·t/min(u0, u1)² (mean-value bound, no source needed); further from the
+// balance the figure is checked against quadrature of i²·C/(i + g·v) in v
+// (own derivation, as TestConstantPowerAgainstQuadrature).
+func TestChargeAtDrainBalance(t *testing.T) {
+	t.Parallel()
+	m := newBankModel(100, 0.01, 0.01)
+	const p, dur = -1.0, 5000.0 // k·t ≈ 1: the approach to the balance is well under way
+	a := p * (1 + m.r*m.g)
+	uEq := math.Sqrt(-a / m.g)
+	vEq := uEq + p*m.r/uEq
+	cases := []struct {
+		name string
+		v0   float64
+		quad bool
+	}{
+		{"at the balance", vEq, false},
+		{"3 ulp below", math.Nextafter(math.Nextafter(math.Nextafter(vEq, 0), 0), 0), false},
+		{"4 ulp above", math.Nextafter(math.Nextafter(math.Nextafter(math.Nextafter(vEq, 99), 99), 99), 99), false},
+		{"1e-9 below", vEq * (1 - 1e-9), false},
+		{"1e-6 above", vEq * (1 + 1e-6), false},
+		{"1e-3 below", vEq * (1 - 1e-3), true},
+		{"1e-2 above", vEq * (1 + 1e-2), true},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			o := m.stepOf(kindPower, p, dur, c.v0, 1, 50)
+			if o.stop != stopNone || o.t != dur {
+				t.Fatalf("step stopped (%v) at %v s; want its whole %v s", o.stop, o.t, dur)
+			}
+			lo := p * p * dur / (max(o.uStart, o.uEnd) * max(o.uStart, o.uEnd))
+			hi := p * p * dur / (min(o.uStart, o.uEnd) * min(o.uStart, o.uEnd))
+			if !(o.i2dt >= lo*(1-1e-14) && o.i2dt <= hi*(1+1e-14)) {
+				t.Errorf("∫i²dt = %v, outside the bound [%v, %v]", o.i2dt, lo, hi)
+			}
+			if c.quad {
+				dtdv := func(v float64) float64 { return m.c / (iCP(p, m.r, v) + m.g*v) }
+				lo, hi := min(o.v1, c.v0), max(o.v1, c.v0)
+				near(t, "duration", math.Abs(gl(dtdv, lo, hi, 64)), dur, 1e-9)
+				i2 := math.Abs(gl(func(v float64) float64 { i := iCP(p, m.r, v); return i * i * dtdv(v) }, lo, hi, 64))
+				near(t, "∫i²dt", o.i2dt, i2, 1e-9)
+			}
+		})
+	}
+}
