@@ -168,3 +168,127 @@ func TestNgspiceAgreesWithEfficiencyCurve(t *testing.T) {
 	compareWithNgspice(t, c.CellID, "end_capacitor_v (V)", c.EndCapacitorV, got["vcend"])
 	compareWithNgspice(t, c.CellID, "runtime_s (s)", *c.RuntimeS, got["trun"])
 }
+
+// curveInputStopV returns the terminal voltage where a discharge of loadW
+// through a converter with curve pts draws imaxA from the bank: the root
+// of u·η(u) = loadW/imaxA, by bisection on the linear interpolation of the
+// curve (the converter's input current is P/(η·u): the test's own
+// arithmetic, independent of stepcurve.go's per-piece quadratic).
+func curveInputStopV(pts [][]float64, loadW, imaxA float64) float64 {
+	eta := func(u float64) float64 {
+		if u <= pts[0][0] {
+			return pts[0][1]
+		}
+		for k := 1; k < len(pts); k++ {
+			if u <= pts[k][0] {
+				f := (u - pts[k-1][0]) / (pts[k][0] - pts[k-1][0])
+				return pts[k-1][1] + f*(pts[k][1]-pts[k-1][1])
+			}
+		}
+		return pts[len(pts)-1][1]
+	}
+	lo, hi := 1e-3, 1e4
+	for range 200 {
+		mid := (lo + hi) / 2
+		if mid*eta(mid) < loadW/imaxA {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
+}
+
+// TestNgspiceAgreesWithInputCurrentStop: the converter of
+// TestNgspiceAgreesWithEfficiencyCurve with an input current limit of
+// 90 A. The runtime must end at the input current (issue 19: the voltage
+// where P/η(V)/V reaches the limit), and ngspice's time to that voltage
+// with the behavioural load I = P/(η(V)·V) must agree within
+// ngspiceRelTol (REFERENCES.md 12.1, 12.8).
+func TestNgspiceAgreesWithInputCurrentStop(t *testing.T) {
+	bin := ngspiceOrSkip(t)
+	t.Parallel()
+	const loadW, imaxA = 2000.0, 90.0
+	pts := [][]float64{{24, 0.80}, {36, 0.90}, {48, 0.95}}
+	d := curveHoldUp(&sizing.Converter{EfficiencyCurve: pts, MaxInputCurrentA: spiceF64(imaxA)}, nil)
+	r, err := sizing.Size(&d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := r.Candidates[0]
+	if !c.Feasible || c.RuntimeS == nil || c.RuntimeEnd != "input_current" {
+		t.Fatalf("top candidate: feasible %v, runtime end %q, want a feasible bank whose runtime ends at \"input_current\" (%s)", c.Feasible, c.RuntimeEnd, c.Reason)
+	}
+	uStop := curveInputStopV(pts, loadW, imaxA)
+	if !(uStop > r.MinV) {
+		t.Fatalf("input-current stop %v V is not above the window bottom %v V: the case checks nothing", uStop, r.MinV)
+	}
+	n := spiceBankNetlist{
+		title:      d.Name + " (input current limit)",
+		capF:       c.WorstCapacitanceF,
+		esrOhm:     c.WorstESROhm,
+		leakageOhm: c.LeakageOhm,
+		v0:         r.MaxV,
+		load:       []string{fmt.Sprintf("BLOAD vt 0 I = %s / (%s * max(V(vt), 1e-6))", spiceNum(loadW), spiceEfficiency(pts))},
+		passS:      r.PassDurationS,
+		minV:       uStop, // trun: when the terminal falls to the input-current stop
+		stopS:      1.02*math.Max(*c.RuntimeS, r.PassDurationS) + r.ProfileDurationS,
+	}
+	got := runNgspice(t, bin, t.TempDir(), "imax", n.String())
+	// Expected values: ngspice 39 transient simulation; tolerance ngspiceRelTol.
+	compareWithNgspice(t, c.CellID, "runtime_s to the input-current stop (s)", *c.RuntimeS, got["trun"])
+	compareWithNgspice(t, c.CellID, "min_terminal_v (V)", c.MinTerminalV, got["umin"])
+}
+
+// TestNgspiceAgreesWithCurveRegeneration: a profile that discharges at
+// 2 kW and then takes back 1.5 kW of regenerated power through the same
+// converter curve (the bank then receives |P|·η(V), stepcurve.go), from a
+// start voltage of 40 V so that the regeneration never meets the window
+// top. ngspice's behavioural source I = P/(η·V) while discharging and
+// P·η/V while charging, with P from a piecewise-linear source, must give
+// the same lowest terminal voltage and end capacitor voltage of the pass
+// within ngspiceRelTol (REFERENCES.md 12.1, 12.8). The design is invented.
+func TestNgspiceAgreesWithCurveRegeneration(t *testing.T) {
+	bin := ngspiceOrSkip(t)
+	t.Parallel()
+	pts := [][]float64{{24, 0.80}, {36, 0.90}, {48, 0.95}}
+	d := curveHoldUp(&sizing.Converter{EfficiencyCurve: pts}, nil)
+	d.Load.StartV = spiceF64(40)
+	d.Load.Steps = []sizing.Step{{PowerW: spiceF64(2000), DurationS: 5}, {PowerW: spiceF64(-1500), DurationS: 3}}
+	r, c := sizeTop(t, &d)
+	if c.EndCapacitorV >= 48 || c.MinTerminalV <= r.MinV {
+		t.Fatalf("end %v V, lowest %v V: the case must stay inside the window", c.EndCapacitorV, c.MinTerminalV)
+	}
+	// P(t): 2 kW for 5 s, −1.5 kW for 3 s, repeated; 1 µs edges centred on
+	// each change, so that every plateau carries its energy.
+	const edge = 1e-6
+	reps := *d.Load.Repeat
+	pwl := []string{"0 2000"}
+	for k := 0; k < reps; k++ {
+		t0 := float64(k) * 8
+		pwl = append(pwl,
+			fmt.Sprintf("%s 2000 %s -1500", spiceNum(t0+5-edge/2), spiceNum(t0+5+edge/2)))
+		if k < reps-1 {
+			pwl = append(pwl, fmt.Sprintf("%s -1500 %s 2000", spiceNum(t0+8-edge/2), spiceNum(t0+8+edge/2)))
+		}
+	}
+	eta := spiceEfficiency(pts)
+	n := spiceBankNetlist{
+		title:      d.Name + " (regeneration)",
+		capF:       c.WorstCapacitanceF,
+		esrOhm:     c.WorstESROhm,
+		leakageOhm: c.LeakageOhm,
+		v0:         40,
+		load: []string{
+			fmt.Sprintf("VPW pw 0 PWL(%s)", strings.Join(pwl, " ")),
+			fmt.Sprintf("BLOAD vt 0 I = V(pw) >= 0 ? V(pw) / (%s * max(V(vt), 1e-6)) : V(pw) * %s / max(V(vt), 1e-6)", eta, eta),
+		},
+		passS: r.PassDurationS,
+		minV:  r.MinV,
+		stopS: r.PassDurationS * 1.01,
+	}
+	got := runNgspice(t, bin, t.TempDir(), "regen", n.String(), "umin", "vcend")
+	// Expected values: ngspice 39 transient simulation; tolerance ngspiceRelTol.
+	compareWithNgspice(t, c.CellID, "min_terminal_v (V)", c.MinTerminalV, got["umin"])
+	compareWithNgspice(t, c.CellID, "end_capacitor_v (V)", c.EndCapacitorV, got["vcend"])
+}
