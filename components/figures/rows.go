@@ -476,14 +476,18 @@ func connection(c *sizing.Candidate) Group {
 		}
 		g.Rows = append(g.Rows, text("Recharge", None, note))
 	}
-	g.Rows = append(g.Rows, quantity("Inrush current", c.InrushCurrentA, "A", 3, "into the empty bank when connected"))
+	inrushNote := "into the empty bank connected straight across the window top: max_v ÷ (ESR + wiring)"
+	if c.FirstChargeS != nil || c.RechargeS != nil {
+		inrushNote = "into the empty bank through the charger: its current limit; without it (a stiff bus, a charged DC link) see the precharge resistor"
+	}
+	g.Rows = append(g.Rows, quantity("Inrush current", c.InrushCurrentA, "A", 3, inrushNote))
 	if pc := c.Precharge; pc != nil {
 		if pc.ResistanceOhm == 0 {
 			g.Rows = append(g.Rows, text("Precharge resistor", "none needed", "the bank's ESR alone keeps the inrush within the limit"))
 		} else {
 			g.Rows = append(g.Rows,
 				quantity("Precharge resistor", pc.ResistanceOhm, "Ω", 3, "E24, at least "+SI(pc.NeededOhm, "Ω", 3)),
-				quantity("Precharge peak current", pc.PeakCurrentA, "A", 3, "at connection"),
+				quantity("Precharge peak current", pc.PeakCurrentA, "A", 3, "the empty bank connected across a stiff bus at the window top: max_v ÷ (R + ESR)"),
 				quantity("Precharge peak power", pc.PeakPowerW, "W", 3, "in the resistor at connection"),
 				quantity("Precharge pulse energy", pc.EnergyJ, "J", 3, "½·C·V², what the resistor must absorb at most"),
 				duration("Precharge time to 99 %", &pc.TimeTo99S, 3, "(R + ESR)·C·ln 100"),

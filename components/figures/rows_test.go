@@ -62,7 +62,7 @@ func TestCandidate(t *testing.T) {
 		"RMS current | 98.2 | A | per cell 24.5_A, over the pass, as if it repeated back to back (no period given)",
 		"# Charging and connection",
 		"Recharge | — |  | give the charger to see the recharge time",
-		"Inrush current | 6.67 | kA | into the empty bank when connected",
+		"Inrush current | 6.67 | kA | into the empty bank connected straight across the window top: max_v ÷ (ESR + wiring)",
 		"# Safety figures",
 		"Bank voltage | 48 | V | at the window top",
 		"Stored energy | 89.6 | kJ | ",
