@@ -62,8 +62,12 @@ type CellPageProps struct {
 	ReadOnly, New bool
 	// Action is where the form posts.
 	Action string
-	// Fields are the cell's inputs, with their messages.
-	Fields []FieldProps
+	// Fields are the cell's inputs, with their messages; ModuleFields its
+	// module's, folded, ModuleOpen unfolding them when one is set or has
+	// a problem.
+	Fields       []FieldProps
+	ModuleFields []FieldProps
+	ModuleOpen   bool
 	// ToleranceMessageID and ToleranceMessage are the slot for the
 	// tolerance pair as a whole.
 	ToleranceMessageID, ToleranceMessage string

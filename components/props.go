@@ -111,6 +111,10 @@ type FormProps struct {
 	// CellsMessageID and CellsMessage are the slot for the candidates.
 	CellsMessageID, CellsMessage string
 	Inline                       []FieldProps
+	// InlineModule are the typed cell's module inputs, folded in their own
+	// part; InlineModuleOpen unfolds them when one is set or has a problem.
+	InlineModule     []FieldProps
+	InlineModuleOpen bool
 	// InlineTolerance is the slot for the tolerance pair as a whole.
 	InlineToleranceID, InlineToleranceMessage string
 	InlineOpen                                bool
@@ -124,10 +128,10 @@ type FormProps struct {
 	// when one is set or has a problem.
 	Statistics []FieldProps
 	LotOpen    bool
-	// Charger, Converter, Wiring and System are the bank in its system;
-	// SystemOpen unfolds them when one is set or has a problem.
-	Charger, Converter, Wiring, System []FieldProps
-	SystemOpen                         bool
+	// Charger, Converter, Wiring, System and Modules are the bank in its
+	// system; SystemOpen unfolds them when one is set or has a problem.
+	Charger, Converter, Wiring, System, Modules []FieldProps
+	SystemOpen                                  bool
 	// BOQ are the purchasing inputs of the bill of quantities, Extras the
 	// user's own lines (the last one blank, to type into); BOQOpen unfolds
 	// them when one is set.

@@ -20,8 +20,9 @@ import (
 )
 
 // richDesign sets every key the form has: balancing, the lot analysis, life, the bill of
-// quantities with own lines, a library cell, two cells of its own (one
-// typed, one kept) and a demo cell changed from the library's copy.
+// quantities with own lines, modules (the design's series multiple and a
+// cell's own module), a voltage derating, a library cell, two cells of its
+// own (one typed, one kept) and a demo cell changed from the library's copy.
 const richDesign = `{
   "name": "Rich design",
   "window": {"max_v": 48, "min_v": 21.5},
@@ -34,6 +35,7 @@ const richDesign = `{
   "balancing": {"kind": "active", "quiescent_a": 0.00002, "series": "E96", "current_multiple": 12, "leakage_spread_a": 0.000004},
   "life": {"temp_step_k": 9, "voltage_step_v": 0.15},
   "statistics": {"samples": 2500, "seed": 7, "target_yield": 0.995, "candidates": "all"},
+  "series_multiple": 4,
   "boq": {"currency": "EUR", "link_unit_price": 0.3, "balancer_unit_price": 1.1, "bleeder_unit_price": 4, "bleeder_time_s": 600,
     "extras": [{"item": "enclosure", "description": "vented box", "quantity": 1, "unit": "pc", "unit_price": 80},
                {"item": "cable", "quantity": 2.5, "unit": "m"}]},
@@ -43,8 +45,10 @@ const richDesign = `{
      "capacitance_f": 360, "capacitance_tolerance_pct": [-10, 20], "esr_ohm": 0.0032, "cold_esr_factor": 2, "cold_esr_temp_c": -30,
      "leakage_a": 0.0008, "max_current_a": 40, "peak_current_a": 300, "thermal_resistance_k_per_w": 9, "min_temp_c": -40,
      "max_temp_c": 65, "mass_kg": 0.07, "volume_l": 0.05, "unit_price": 7, "rated_life_h": 1500, "rated_life_temp_c": 65,
-     "specific_heat_j_per_kg_k": 1050, "capacitance_sigma_pct": 1.5, "esr_sigma_pct": 4, "leakage_sigma_pct": 25, "electrolyte": "organic"},
-    {"id": "own-b", "rated_v": 3, "capacitance_f": 100, "esr_ohm": 0.01},
+     "specific_heat_j_per_kg_k": 1050, "capacitance_sigma_pct": 1.5, "esr_sigma_pct": 4, "leakage_sigma_pct": 25, "electrolyte": "organic",
+     "module": {"name": "Own 6S2P module", "series": 6, "parallel": 2, "mass_kg": 0.95, "volume_l": 0.72, "unit_price": 99.5},
+     "voltage_derating": [[-40, 2.7], [25, 2.7], [65, 2.5], [70.5, 2.35]]},
+    {"id": "own-b", "rated_v": 3, "capacitance_f": 100, "esr_ohm": 0.01, "module": {"series": 3}, "voltage_derating": [[60, 2.8]]},
     {"id": "demo-3v0-500f", "rated_v": 3, "capacitance_f": 480, "esr_ohm": 0.0025}
   ]
 }`

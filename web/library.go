@@ -365,12 +365,13 @@ var cellFormFields = form.CellFields("")
 // library's validation of the cell.
 func readCellForm(vals url.Values) (sizing.Cell, sizing.ValidationError) {
 	r := &form.FieldReader{Get: vals.Get}
-	cell, _ := form.TypedCell(vals.Get, "", r.Required, r.Optional)
+	cell, _ := form.TypedCell(r, "")
 	if len(r.Problems) == 0 {
 		if err := sizing.ValidateCell(&cell); err != nil {
 			values := form.ValuesOf(cell)
 			for _, p := range validationErrors(err) {
 				p.Message = form.PageMessage(p.Field, p.Message, values)
+				p.Field, p.Message = form.PointField(p.Field, p.Message)
 				r.Problems = append(r.Problems, p)
 			}
 		}
@@ -409,6 +410,11 @@ func (s *Server) cellPageProps(rec *store.CellRecord, vals url.Values, problems 
 		fp := fieldProps(fl, vals.Get(fl.Name), msg[fl.Name])
 		if fl.Name == "id" || fl.Name == "rated_v" || fl.Name == "capacitance_f" || fl.Name == "esr_ohm" {
 			fp.Required = true
+		}
+		if strings.HasPrefix(fl.Name, "module.") {
+			p.ModuleFields = append(p.ModuleFields, fp)
+			p.ModuleOpen = p.ModuleOpen || fp.Value != "" || fp.Message != ""
+			continue
 		}
 		p.Fields = append(p.Fields, fp)
 	}
@@ -470,7 +476,9 @@ func (s *Server) postNewCellDraft(c echo.Context) error {
 		return badCellJSON("cell_json: " + err.Error())
 	}
 	vals := url.Values{}
-	form.CellValues(vals, "", cell)
+	if err := form.CellValues(vals, "", cell); err != nil {
+		return badCellJSON("cell_json: the cell " + err.Error())
+	}
 	var problems sizing.ValidationError
 	if err := sizing.ValidateCell(&cell); err != nil {
 		problems = validationErrors(err)
@@ -512,7 +520,11 @@ func (s *Server) getCellPage(c echo.Context) error {
 		return err
 	}
 	vals := url.Values{}
-	form.CellValues(vals, "", rec.Cell)
+	if err := form.CellValues(vals, "", rec.Cell); err != nil {
+		// The library validated the cell when it was stored: a point that
+		// is not a pair cannot be in it.
+		return fmt.Errorf("library cell %q: %w", rec.Cell.ID, err)
+	}
 	p := s.cellPageProps(&rec, vals, nil, false)
 	switch c.QueryParam("done") {
 	case "created":

@@ -126,7 +126,8 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		Conditions:     group(form.ConditionFields),
 		EOL:            group(form.EOLFields),
 		CellsMessageID: "msg-cells-pick", CellsMessage: msg["cells.pick"],
-		Inline:            group(form.InlineFields),
+		Inline:            group(form.InlineFigureFields),
+		InlineModule:      group(form.InlineModuleFields),
 		InlineToleranceID: "msg-inline-capacitance_tolerance_pct", InlineToleranceMessage: msg["inline.capacitance_tolerance_pct"],
 		RankBy:          fieldProps(form.RankField, f.Value("rank_by"), msg["rank_by"]),
 		Balancing:       group(form.BalancingFields),
@@ -135,6 +136,7 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 		Converter:       group(form.ConverterFields),
 		Wiring:          group(form.WiringFields),
 		System:          group(form.SystemFields),
+		Modules:         group(form.ModuleFields),
 		Life:            group(form.LifeFields),
 		BOQ:             group(form.BOQFields),
 		ExtrasMessageID: "msg-boq-extras", ExtrasMessage: msg["boq.extras"],
@@ -170,7 +172,10 @@ func formProps(ev *evaluation, picks []components.CellPickProps) components.Form
 	for _, fp := range p.Statistics {
 		p.LotOpen = p.LotOpen || fp.Value != "" || fp.Message != ""
 	}
-	for _, group := range [][]components.FieldProps{p.Charger, p.Converter, p.Wiring, p.System} {
+	for _, fp := range p.InlineModule {
+		p.InlineModuleOpen = p.InlineModuleOpen || fp.Value != "" || fp.Message != ""
+	}
+	for _, group := range [][]components.FieldProps{p.Charger, p.Converter, p.Wiring, p.System, p.Modules} {
 		for _, fp := range group {
 			p.SystemOpen = p.SystemOpen || fp.Value != "" || fp.Message != ""
 		}
@@ -294,6 +299,7 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 	fields(p.Conditions)
 	fields(p.EOL)
 	fields(p.Inline)
+	fields(p.InlineModule)
 	fields(p.Balancing)
 	fields(p.Life)
 	fields(p.Statistics)
@@ -301,6 +307,7 @@ func formSlots(p components.FormProps) (slots, units []components.Slot) {
 	fields(p.Converter)
 	fields(p.Wiring)
 	fields(p.System)
+	fields(p.Modules)
 	fields(p.BOQ)
 	for _, r := range p.Extras {
 		fields(r.Fields)

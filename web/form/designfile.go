@@ -55,8 +55,9 @@ func OneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", ";
 // fields (the first such cell) or is kept as the file gave it. Library
 // references the library does not know stay picked, and the form reports
 // them. A design the form cannot show in full is an error, never a guess:
-// a step that is not exactly one kind, a tolerance or an efficiency-curve
-// point that is not a pair, more steps or own lines than the form edits.
+// a step that is not exactly one kind, a tolerance, an efficiency-curve or
+// a voltage-derating point that is not a pair, more steps or own lines than
+// the form edits.
 func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if n := len(d.Load.Steps); n > MaxSteps {
 		return nil, fmt.Errorf("has %d load steps, more than the %d this form edits; size it with the JSON API or capbank size", n, MaxSteps)
@@ -161,7 +162,7 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if c := d.Converter; c != nil {
 		opt("converter.min_input_v", c.MinInputV)
 		opt("converter.max_input_current_a", c.MaxInputCurrentA)
-		curve, err := FormatEfficiencyCurve(c.EfficiencyCurve)
+		curve, err := EfficiencyCurve.Format(c.EfficiencyCurve)
 		if err != nil {
 			return nil, err
 		}
@@ -174,6 +175,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	}
 	if sy := d.System; sy != nil {
 		opt("system.inrush_limit_a", sy.InrushLimitA)
+	}
+	if d.SeriesMultiple != nil {
+		v.Set("series_multiple", fmt.Sprint(*d.SeriesMultiple))
 	}
 	if l := d.Life; l != nil {
 		opt("life.temp_step_k", l.TempStepK)
@@ -213,7 +217,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 				return nil, fmt.Errorf("cell %q: capacitance_tolerance_pct must be a pair [minus, plus] (found %d values); fix the file first", c.ID, len(t))
 			}
 			inline = true
-			InlineValues(v, c)
+			if err := InlineValues(v, c); err != nil {
+				return nil, fmt.Errorf("cell %q %w", c.ID, err)
+			}
 			continue
 		}
 		carried = append(carried, c)
@@ -230,11 +236,13 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 }
 
 // InlineValues writes cell c into the typed-cell fields.
-func InlineValues(v url.Values, c sizing.Cell) { CellValues(v, "inline.", c) }
+func InlineValues(v url.Values, c sizing.Cell) error { return CellValues(v, "inline.", c) }
 
 // CellValues writes cell c into the inputs named prefix + its keys (see
-// CellFields), each number as typed so that it reads back exactly.
-func CellValues(v url.Values, prefix string, c sizing.Cell) {
+// CellFields), each number as typed so that it reads back exactly. A
+// voltage derating point that is not a pair is an error (the field cannot
+// show it), worded to follow the cell's name.
+func CellValues(v url.Values, prefix string, c sizing.Cell) error {
 	set := func(key string, x *float64) {
 		if x != nil {
 			v.Set(prefix+key, figures.Field(*x))
@@ -280,6 +288,27 @@ func CellValues(v url.Values, prefix string, c sizing.Cell) {
 	set("rated_life_h", c.RatedLifeH)
 	set("rated_life_temp_c", c.RatedLifeTempC)
 	set("specific_heat_j_per_kg_k", c.SpecificHeatJPerKgK)
+	derating, err := VoltageDerating.Format(c.VoltageDerating)
+	if err != nil {
+		return err
+	}
+	if derating != "" {
+		v.Set(prefix+"voltage_derating", derating)
+	}
+	if m := c.Module; m != nil {
+		p := "module."
+		v.Set(prefix+p+"series", fmt.Sprint(m.Series))
+		if m.Parallel != nil {
+			v.Set(prefix+p+"parallel", fmt.Sprint(*m.Parallel))
+		}
+		if m.Name != "" {
+			v.Set(prefix+p+"name", m.Name)
+		}
+		set(p+"mass_kg", m.MassKg)
+		set(p+"volume_l", m.VolumeL)
+		set(p+"unit_price", m.UnitPrice)
+	}
+	return nil
 }
 
 // SameCell reports whether two cells are the same in every key of the

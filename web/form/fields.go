@@ -141,6 +141,13 @@ var (
 			Hint: "most current the supply may see when an empty bank is connected; a precharge resistor is sized for it; empty: not limited"},
 	}
 
+	// ModuleFields round every candidate's series count to whole modules
+	// of the design's own making (a cell's own module takes precedence).
+	ModuleFields = []Field{
+		{Name: "series_multiple", Label: "Series count in multiples of", Kind: KindCount, Units: UnitCount,
+			Hint: "cells per module, e.g. 6: the series count rounds up to whole modules; a cell's own module takes precedence; empty: 1"},
+	}
+
 	LifeFields = []Field{
 		{Name: "life.temp_step_k", Label: "Life halves every", Units: UnitKelvin, Hint: "of cell temperature; empty: 10 K"},
 		{Name: "life.voltage_step_v", Label: "Life halves every", Units: UnitVolt, Hint: "of cell voltage; empty: 0.2 V"},
@@ -177,6 +184,10 @@ var (
 	// InlineFields are the keys of one cell typed into the design form,
 	// named inline.<cell key>.
 	InlineFields = CellFields("inline.")
+	// InlineFigureFields and InlineModuleFields are InlineFields in the two
+	// parts the form shows them in.
+	InlineFigureFields = CellFigureFields("inline.")
+	InlineModuleFields = CellModuleFields("inline.")
 
 	// cellSources are where a cell's figures come from.
 	cellSources = []Choice{{"", "not said"}, {"datasheet", "a datasheet"}, {"measured", "a measurement"}, {"demo", "demo (invented)"}}
@@ -194,8 +205,28 @@ var (
 
 // CellFields are the inputs of one cell, named prefix + its design-file key
 // (the design form types one cell under "inline."; the library's cell form
-// uses the bare keys).
+// uses the bare keys): CellFigureFields, then CellModuleFields.
 func CellFields(prefix string) []Field {
+	return append(CellFigureFields(prefix), CellModuleFields(prefix)...)
+}
+
+// CellModuleFields are the keys of a cell's module, the folded "Module"
+// part of a cell's inputs.
+func CellModuleFields(prefix string) []Field {
+	p := prefix + "module."
+	return []Field{
+		{Name: p + "series", Label: "Cells in series per module", Kind: KindCount, Units: UnitCount,
+			Hint: "needed when any module field is given; the series count rounds up to whole modules; empty: single cells"},
+		{Name: p + "parallel", Label: "Cells in parallel per module", Kind: KindCount, Units: UnitCount, Hint: "empty: 1"},
+		{Name: p + "name", Label: "Module name", Kind: KindText, Hint: "labels the module in the bill of quantities"},
+		{Name: p + "mass_kg", Label: "Module mass", Units: UnitKilogram, Hint: "cells included; empty: the cells' mass"},
+		{Name: p + "volume_l", Label: "Module volume", Units: UnitLitre, Hint: "cells included; empty: the cells' volume"},
+		{Name: p + "unit_price", Label: "Module unit price", Units: UnitCurrencyEa, Hint: "cells included; empty: the cells' price"},
+	}
+}
+
+// CellFigureFields are a cell's inputs other than its module.
+func CellFigureFields(prefix string) []Field {
 	return []Field{
 		{Name: prefix + "id", Label: "Id", Kind: KindText, Hint: "short and unique, e.g. my-cell"},
 		{Name: prefix + "name", Label: "Name", Kind: KindText},
@@ -219,6 +250,8 @@ func CellFields(prefix string) []Field {
 		{Name: prefix + "thermal_resistance_k_per_w", Label: "Thermal resistance", Units: UnitKPerW},
 		{Name: prefix + "min_temp_c", Label: "Lowest operating temperature", Units: UnitCelsius},
 		{Name: prefix + "max_temp_c", Label: "Highest operating temperature", Units: UnitCelsius},
+		{Name: prefix + "voltage_derating", Label: "Voltage derating", Kind: KindText, Wide: true,
+			Hint: "cell temperature: highest cell voltage, points separated by commas, e.g. 25 °C: 2.7 V, 65 °C: 2.5 V; read at the hottest cell, straight lines between the points, flat outside them; empty: the rated voltage at every temperature"},
 		{Name: prefix + "mass_kg", Label: "Mass", Units: UnitKilogram},
 		{Name: prefix + "volume_l", Label: "Volume", Units: UnitLitre},
 		{Name: prefix + "unit_price", Label: "Unit price", Units: UnitCurrencyEa, Hint: "in your currency"},
@@ -266,7 +299,7 @@ var FieldLabels = func() map[string]string {
 		"balancing.min_time_constant_h":    "Balancing self-discharge threshold",
 	}
 	for _, group := range [][]Field{{NameField, RankField}, WindowFields, LoadFields, ConditionFields, EOLFields, PulseFields, InlineFields, BalancingFields, StatisticsFields,
-		ChargerFields, ConverterFields, WiringFields, SystemFields, LifeFields, BOQFields} {
+		ChargerFields, ConverterFields, WiringFields, SystemFields, ModuleFields, LifeFields, BOQFields} {
 		for _, f := range group {
 			if _, ok := m[f.Name]; !ok {
 				m[f.Name] = f.Label

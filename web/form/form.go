@@ -446,6 +446,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	d.Load.Repeat = optionalCount("load.repeat")
 	d.Load.PeriodS = optional("load.period_s", UnitSecond)
 	d.Load.StartV = optional("load.start_v", UnitVolt)
+	d.SeriesMultiple = optionalCount("series_multiple")
 	d.Load.ProfileCSVText = f.Profile
 	for i, r := range f.Steps {
 		p := fmt.Sprintf("load.steps[%d]", i)
@@ -572,7 +573,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 		d.Cells = append(d.Cells, c)
 		out.Sources = append(out.Sources, id)
 	}
-	if c, ok := f.inlineCell(required, optional); ok {
+	if c, ok := TypedCell(r, "inline."); ok {
 		d.Cells = append(d.Cells, c)
 		out.Sources = append(out.Sources, "")
 	}
@@ -609,7 +610,7 @@ func (f *Form) decodeSystem(d *sizing.Design, r *FieldReader) {
 		MinInputV:        r.Optional("converter.min_input_v", UnitVolt),
 		MaxInputCurrentA: r.Optional("converter.max_input_current_a", UnitAmp),
 	}
-	curve, err := ParseEfficiencyCurve(f.Value("converter.efficiency_curve"))
+	curve, err := EfficiencyCurve.Parse(f.Value("converter.efficiency_curve"))
 	if err != nil {
 		r.Bad("converter.efficiency_curve", "curve", err.Error())
 	}
@@ -640,16 +641,12 @@ func (f *Form) ExtraEmpty(i int) bool {
 	return true
 }
 
-// inlineCell reads the cell typed into the form; ok is false when every
-// one of its fields is empty.
-func (f *Form) inlineCell(required func(string, UnitSpec) float64, optional func(string, UnitSpec) *float64) (sizing.Cell, bool) {
-	return TypedCell(f.Value, "inline.", required, optional)
-}
-
 // TypedCell reads a cell from the inputs named prefix + its keys (see
-// CellFields); ok is false when every one of them is empty. required and
-// optional parse a number by its input name, noting any problem.
-func TypedCell(value func(string) string, prefix string, required func(string, UnitSpec) float64, optional func(string, UnitSpec) *float64) (sizing.Cell, bool) {
+// CellFields) through r, which notes every problem by its input; ok is
+// false when every one of them is empty. A module given in part without
+// its cells in series is a problem on that field, never dropped.
+func TypedCell(r *FieldReader, prefix string) (sizing.Cell, bool) {
+	value, required, optional := r.Get, r.Required, r.Optional
 	any := false
 	for _, fl := range CellFields(prefix) {
 		if strings.TrimSpace(value(fl.Name)) != "" {
@@ -700,7 +697,37 @@ func TypedCell(value func(string) string, prefix string, required func(string, U
 	case plus != nil:
 		c.CapacitanceTolerancePct = []float64{*plus}
 	}
+	pts, err := VoltageDerating.Parse(value(k("voltage_derating")))
+	if err != nil {
+		r.Bad(k("voltage_derating"), "points", err.Error())
+	}
+	c.VoltageDerating = pts
+	c.Module = typedModule(r, prefix+"module.")
 	return c, true
+}
+
+// typedModule reads a cell's module from the inputs named prefix + its
+// keys; nil when all are empty.
+func typedModule(r *FieldReader, prefix string) *sizing.Module {
+	m := sizing.Module{
+		Name:      strings.TrimSpace(r.Get(prefix + "name")),
+		Parallel:  r.OptionalCount(prefix + "parallel"),
+		MassKg:    r.Optional(prefix+"mass_kg", UnitKilogram),
+		VolumeL:   r.Optional(prefix+"volume_l", UnitLitre),
+		UnitPrice: r.Optional(prefix+"unit_price", UnitCurrencyEa),
+	}
+	seriesText := strings.TrimSpace(r.Get(prefix + "series"))
+	if series := r.OptionalCount(prefix + "series"); series != nil {
+		m.Series = *series
+		return &m
+	}
+	if m == (sizing.Module{}) && seriesText == "" && strings.TrimSpace(r.Get(prefix+"parallel")) == "" {
+		return nil
+	}
+	if seriesText == "" {
+		r.Bad(prefix+"series", "required", "is required when any module field is given; enter the module's cells in series, or clear the other module fields")
+	}
+	return &m // Series 0: the problem above, or the number's own, is already noted
 }
 
 func RuleOf(err error) string {
@@ -714,8 +741,20 @@ var (
 	stepValuePath = regexp.MustCompile(`^load\.steps\[(\d+)\]\.(power_w|current_a|resistance_ohm|rest)$`)
 	cellPath      = regexp.MustCompile(`^cells\[(\d+)\](.*)$`)
 	extraPath     = regexp.MustCompile(`^boq\.extras\[(\d+)\](.*)$`)
-	curvePoint    = regexp.MustCompile(`^converter\.efficiency_curve\[(\d+)\]`)
+	tablePoint    = regexp.MustCompile(`^(.*\b(?:efficiency_curve|voltage_derating))\[(\d+)\]$`)
 )
+
+// PointField is sizing's problem on one point of a point table
+// (converter.efficiency_curve[1], inline.voltage_derating[0]) as the form
+// shows it: on the table's field, naming the point by its number from 1.
+// Any other path is returned as it is.
+func PointField(path, msg string) (string, string) {
+	if m := tablePoint.FindStringSubmatch(path); m != nil {
+		k, _ := strconv.Atoi(m[2])
+		return m[1], fmt.Sprintf("point %d %s", k+1, msg)
+	}
+	return path, msg
+}
 
 // MergeProblems translates sizing's field paths into the form's inputs: a
 // step's power_w, current_a or resistance_ohm is its value input, a typed
@@ -749,10 +788,7 @@ func formPath(path, msg string, sources []string, extraIndex []int) (string, str
 	if m := stepValuePath.FindStringSubmatch(path); m != nil {
 		return "load.steps[" + m[1] + "].value", msg
 	}
-	if m := curvePoint.FindStringSubmatch(path); m != nil {
-		k, _ := strconv.Atoi(m[1])
-		return "converter.efficiency_curve", fmt.Sprintf("point %d %s", k+1, msg)
-	}
+	path, msg = PointField(path, msg)
 	if m := extraPath.FindStringSubmatch(path); m != nil {
 		k, _ := strconv.Atoi(m[1])
 		if k < len(extraIndex) {

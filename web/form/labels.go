@@ -44,7 +44,7 @@ var cellKeys = func() map[string]Field {
 var designKeys = func() map[string]Field {
 	m := map[string]Field{}
 	for _, group := range [][]Field{WindowFields, LoadFields, ConditionFields, EOLFields, BalancingFields, LifeFields, BOQFields, PulseFields,
-		ChargerFields, ConverterFields, WiringFields, SystemFields} {
+		ChargerFields, ConverterFields, WiringFields, SystemFields, ModuleFields} {
 		for _, f := range group {
 			m[f.Name] = f
 		}
