@@ -3,6 +3,7 @@ package web
 import (
 	"encoding/json"
 	"net/http"
+	"net/url"
 	"reflect"
 	"strings"
 	"testing"
@@ -241,5 +242,51 @@ func TestLiveUpdateReachesModuleFields(t *testing.T) {
 		if doc.Find("#msg-"+form.DomID(fl.Name)+"[hx-swap-oob]").Length() != 1 {
 			t.Errorf("no out-of-band slot for %s", fl.Name)
 		}
+	}
+}
+
+// TestLibraryCellFormKeepsModule: the library's cell form shows a cell's
+// module (folded, opened when set) and derating, saves what is typed, and
+// puts a problem on a derating point beside the derating field. Before,
+// saving a library cell from its form dropped both.
+func TestLibraryCellFormKeepsModule(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	vals := url.Values{"id": {"mod-lib"}, "rated_v": {"2.7"}, "capacitance_f": {"650"}, "esr_ohm": {"0.8m"},
+		"voltage_derating": {"25 °C: 2.7 V, 65 °C: 2.5 V"}, "module.series": {"6"}, "module.parallel": {"2"},
+		"module.name": {"Lib 6S2P"}, "module.mass_kg": {"1900 g"}, "module.unit_price": {"120"}}
+	wantStatus(t, postForm(t, s, "/library", vals, false), http.StatusSeeOther)
+	rec := get(t, s, "/library/mod-lib")
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	for name, want := range map[string]string{
+		"voltage_derating": "25 °C: 2.7 V, 65 °C: 2.5 V", "module.series": "6", "module.parallel": "2",
+		"module.name": "Lib 6S2P", "module.mass_kg": "1.9", "module.unit_price": "120", "module.volume_l": "",
+	} {
+		if got, _ := doc.Find(`[data-testid=cell-form] input[name="` + name + `"]`).Attr("value"); got != want {
+			t.Errorf("%s shows %q, want %q", name, got, want)
+		}
+	}
+	if _, open := doc.Find("details#cell-module").Attr("open"); !open {
+		t.Error("the Module part of a cell with a module is folded")
+	}
+	rec = get(t, s, "/api/v1/cells/mod-lib")
+	wantStatus(t, rec, http.StatusOK)
+	for _, want := range []string{`"voltage_derating":[[25,2.7],[65,2.5]]`, `"module":{"name":"Lib 6S2P","series":6,"parallel":2,"mass_kg":1.9,"unit_price":120}`} {
+		if !strings.Contains(rec.Body.String(), want) {
+			t.Errorf("the stored cell %s lacks %s", rec.Body, want)
+		}
+	}
+
+	vals.Set("id", "mod-lib-2")
+	vals.Set("voltage_derating", "65 °C: 2.5 V, 25 °C: 2.7 V")
+	rec = postForm(t, s, "/library", vals, false)
+	wantStatus(t, rec, http.StatusUnprocessableEntity)
+	doc = parse(t, rec)
+	if got := text(doc, "#msg-voltage_derating"); !strings.Contains(got, "point 2 has temperature 25 °C, not above the point before it (65 °C)") {
+		t.Errorf("the derating says %q", got)
+	}
+	if got := text(doc, "#problems"); !strings.Contains(got, "Voltage derating: point 2") {
+		t.Errorf("the summary %q does not name the field by its label", got)
 	}
 }

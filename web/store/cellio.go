@@ -24,8 +24,11 @@ const MaxImportRows = 100_000
 // cellColumns are the cell CSV's columns, in order: id, name and source,
 // then every number key of the design file's cell (sizing.Cell) in its
 // order, units in the names, the capacitance tolerance split in two
-// (capacitance_minus_pct, capacitance_plus_pct), then electrolyte and
-// notes. They come from sizing.Cell's JSON keys, so that a key added to
+// (capacitance_minus_pct, capacitance_plus_pct), the module's keys as
+// module_series, module_parallel, module_mass_kg, module_volume_l,
+// module_unit_price and module_name, the voltage derating as its JSON
+// pairs in one column ([[25,2.7],[65,2.5]]), then electrolyte and notes.
+// They come from sizing.Cell's JSON keys, so that a number key added to
 // the cell is exported and imported back without a change here.
 var cellColumns, numberColumns = cellCSVColumns()
 
@@ -48,6 +51,16 @@ type numberColumn struct {
 // toleranceKey is the cell key whose two values are two CSV columns.
 const toleranceKey = "capacitance_tolerance_pct"
 
+// moduleKey is the cell key whose object is the moduleColumns;
+// deratingKey the cell key whose pairs are one column, as JSON.
+const (
+	moduleKey   = "module"
+	deratingKey = "voltage_derating"
+)
+
+// moduleColumns are the columns of a cell's module (sizing.Module).
+var moduleColumns = []string{"module_series", "module_parallel", "module_mass_kg", "module_volume_l", "module_unit_price", "module_name"}
+
 func cellCSVColumns() ([]string, map[string]numberColumn) {
 	cols := slices.Clone(textFirst)
 	nums := map[string]numberColumn{}
@@ -62,6 +75,10 @@ func cellCSVColumns() ([]string, map[string]numberColumn) {
 				cols = append(cols, name)
 				nums[name] = numberColumn{name, i, part}
 			}
+		case key == moduleKey:
+			cols = append(cols, moduleColumns...)
+		case key == deratingKey:
+			cols = append(cols, deratingKey)
 		case key != "" && key != "-" && (f.Type.Kind() == reflect.Float64 || f.Type == floatPtr):
 			cols = append(cols, key)
 			nums[key] = numberColumn{key, i, -1}
@@ -434,11 +451,79 @@ func cellFromRecord(rec []string, col map[string]int, line int) parsedCell {
 	case minus != nil || plus != nil:
 		problems = append(problems, "capacitance_minus_pct and capacitance_plus_pct go together: give both or neither")
 	}
+	c.Module = moduleFromRecord(get, num, &problems)
+	if v := get(deratingKey); v != "" {
+		var pts [][]float64
+		if err := json.Unmarshal([]byte(v), &pts); err != nil {
+			problems = append(problems, fmt.Sprintf("%s: %q is not a list of [temp_c, max_cell_v] pairs; write it as the design file does, e.g. [[25,2.7],[65,2.5]]", deratingKey, v))
+		} else {
+			c.VoltageDerating = pts // its pairs, order and ranges are ValidateCell's
+		}
+	}
 	p.cell = c
 	if len(problems) > 0 {
 		p.err = strings.Join(problems, "; ")
 	}
 	return p
+}
+
+// moduleFromRecord reads a row's module columns; nil when all are empty.
+// A module given without module_series is a problem, never dropped.
+func moduleFromRecord(get func(string) string, num func(string) *float64, problems *[]string) *sizing.Module {
+	given := false
+	for _, name := range moduleColumns {
+		given = given || get(name) != ""
+	}
+	if !given {
+		return nil
+	}
+	whole := func(name string) *int {
+		x := num(name)
+		if x == nil {
+			return nil
+		}
+		if *x != math.Trunc(*x) || math.Abs(*x) > 1e6 {
+			*problems = append(*problems, fmt.Sprintf("%s: %q is not a whole number of cells", name, get(name)))
+			return nil
+		}
+		n := int(*x)
+		return &n
+	}
+	m := &sizing.Module{Name: get("module_name"), Parallel: whole("module_parallel"),
+		MassKg: num("module_mass_kg"), VolumeL: num("module_volume_l"), UnitPrice: num("module_unit_price")}
+	switch series := whole("module_series"); {
+	case series != nil:
+		m.Series = *series
+	case get("module_series") == "":
+		*problems = append(*problems, "module_series: is required when any module column is given (the module's cells in series)")
+	}
+	return m
+}
+
+// moduleRecord writes cell c's module into its columns of rec.
+func moduleRecord(rec []string, c *sizing.Cell, f func(*float64) string) {
+	m := c.Module
+	if m == nil {
+		return
+	}
+	for j, name := range cellColumns {
+		switch name {
+		case "module_series":
+			rec[j] = strconv.Itoa(m.Series)
+		case "module_parallel":
+			if m.Parallel != nil {
+				rec[j] = strconv.Itoa(*m.Parallel)
+			}
+		case "module_mass_kg":
+			rec[j] = f(m.MassKg)
+		case "module_volume_l":
+			rec[j] = f(m.VolumeL)
+		case "module_unit_price":
+			rec[j] = f(m.UnitPrice)
+		case "module_name":
+			rec[j] = Neutralise(m.Name)
+		}
+	}
 }
 
 // ExportCellsCSV writes cells as CSV with the cellColumns header. Text
@@ -488,8 +573,17 @@ func ExportCellsCSV(w io.Writer, cells []sizing.Cell) error {
 				rec[j] = Neutralise(c.Electrolyte)
 			case "notes":
 				rec[j] = Neutralise(c.Notes)
+			case deratingKey:
+				if len(c.VoltageDerating) > 0 {
+					b, err := json.Marshal(c.VoltageDerating)
+					if err != nil {
+						return fmt.Errorf("cell %q: voltage_derating: %w", c.ID, err)
+					}
+					rec[j] = string(b)
+				}
 			}
 		}
+		moduleRecord(rec, c, f)
 		if err := cw.Write(rec); err != nil {
 			return err
 		}
