@@ -20,7 +20,7 @@ func TestCellCSVCarriesModuleAndDerating(t *testing.T) {
 	f := func(x float64) *float64 { return &x }
 	cells := []sizing.Cell{
 		{ID: "mod-a", Name: "=module cell", RatedV: 2.7, CapacitanceF: 650, ESROhm: 0.0008, UnitPrice: f(9),
-			Module: &sizing.Module{Name: "-6S2P pack", Series: 6, Parallel: ip(2), MassKg: f(1.9), VolumeL: f(1.45), UnitPrice: f(120.25)},
+			Module:          &sizing.Module{Name: "-6S2P pack", Series: 6, Parallel: ip(2), MassKg: f(1.9), VolumeL: f(1.45), UnitPrice: f(120.25)},
 			VoltageDerating: [][]float64{{-40, 2.7}, {25, 2.7}, {65, 2.5}, {70.5, 1.0 / 3}}},
 		{ID: "mod-b", RatedV: 3, CapacitanceF: 100, ESROhm: 0.01, Module: &sizing.Module{Series: 3}},
 		{ID: "plain", RatedV: 2.7, CapacitanceF: 10, ESROhm: 0.1},
