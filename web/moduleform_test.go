@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"net/http"
 	"net/url"
+	"os"
 	"reflect"
 	"strings"
 	"testing"
@@ -13,6 +14,7 @@ import (
 	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/form"
+	"capbank/web/share"
 	"capbank/web/store"
 )
 
@@ -288,5 +290,44 @@ func TestLibraryCellFormKeepsModule(t *testing.T) {
 	}
 	if got := text(doc, "#problems"); !strings.Contains(got, "Voltage derating: point 2") {
 		t.Errorf("the summary %q does not name the field by its label", got)
+	}
+}
+
+// TestDemoWithModulesOnThePage: the invented demo with modules and a
+// derating table, opened as a share link, shows on the page the bank in
+// whole modules and the temperature its derating table was read at, and
+// its bill of quantities (CSV) orders the modules, the cells in them not
+// apart: 18 in series of 6-cell modules is 3 modules, × 5 strings = 15
+// (sizing.moduleCount).
+func TestDemoWithModulesOnThePage(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	data, err := os.ReadFile("../testdata/agv-regen-buffer.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	tok, err := share.Encode(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := get(t, s, "/?d="+tok)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	figs := strings.ReplaceAll(text(doc, "[data-testid=figures]"), "\u00a0", " ")
+	for _, want := range []string{"Modules 15 × Demo 6-cell module", "3 in series × 5 strings", "at 35.4 °C, the hottest cell (voltage derating)"} {
+		if !strings.Contains(figs, want) {
+			t.Errorf("the page's figures lack %q:\n%s", want, figs)
+		}
+	}
+	for name, want := range map[string]string{"series_multiple": "4", "inline.module.series": "6", "inline.voltage_derating": "40 °C: 2.7 V, 65 °C: 2.5 V"} {
+		if got, _ := doc.Find(`input[name="` + name + `"]`).Attr("value"); got != want {
+			t.Errorf("%s shows %q, want %q", name, got, want)
+		}
+	}
+	rec = postExport(t, s, "/export/boq-csv", tok, "")
+	wantStatus(t, rec, http.StatusOK)
+	body := rec.Body.String()
+	if !strings.Contains(body, "module,\"Demo 6-cell module, 6 × 650 F in series (invented): 6 in series × 1 in parallel of Demo cell 650 F 2.7 V (invented); 3 modules in series × 5 strings of modules\",15,pc,56") {
+		t.Errorf("the BOQ CSV orders no 15 modules at 56:\n%s", body)
 	}
 }
