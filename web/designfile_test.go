@@ -7,6 +7,7 @@ import (
 	"capbank/web/store"
 	"encoding/json"
 	"net/http"
+	"net/http/httptest"
 	"net/url"
 	"os"
 	"path/filepath"
@@ -235,15 +236,19 @@ func TestShareLinkTheFormCannotShow(t *testing.T) {
 	t.Parallel()
 	s, _ := newTestServer(t)
 	want := map[string]string{
-		"two-kinds-step.json": "has a step, load.steps[0], that gives 2 of",
-		"501-steps.json":      "has 501 load steps, more than the 500 this form edits",
+		"two-kinds-step.json":        "has a step, load.steps[0], that gives 2 of",
+		"501-steps.json":             "has 501 load steps, more than the 500 this form edits",
+		"derating-triple-point.json": `cell "demo-c650-2v7" has a voltage derating point, voltage_derating[0], of 3 numbers instead of a pair [temp_c, max_cell_v]`,
 	}
 	files, _ := filepath.Glob("../testdata/bad/form/*.json")
-	if len(files) != len(want) {
-		t.Fatalf("%d files in testdata/bad/form, want %d", len(files), len(want))
+	if len(files) != len(want)+len(badFormShown) {
+		t.Fatalf("%d files in testdata/bad/form, want %d", len(files), len(want)+len(badFormShown))
 	}
 	for _, f := range files {
 		name := filepath.Base(f)
+		if _, shown := badFormShown[name]; shown {
+			continue
+		}
 		t.Run(name, func(t *testing.T) {
 			data, err := os.ReadFile(f)
 			if err != nil {
@@ -272,6 +277,56 @@ func TestShareLinkTheFormCannotShow(t *testing.T) {
 			p := decodeProblem(t, rec)
 			if p.Type != typeNoFit || len(p.Errors) != 1 || !strings.Contains(p.Errors[0].Message, want[name]) {
 				t.Errorf("problem %+v, want %s naming %q", p, typeNoFit, want[name])
+			}
+		})
+	}
+}
+
+// badFormShown are the files of testdata/bad/form that the form can show
+// whole but whose design is bad in a way the form reports: the field and
+// its message.
+var badFormShown = map[string][2]string{
+	"derating-unsorted.json":  {"inline.voltage_derating", "point 2 has temperature 40 °C, not above the point before it (65 °C); sort the points by rising temperature"},
+	"module-series-zero.json": {"inline.module.series", "must be at least 1"},
+}
+
+// A design file the form can show but whose design is bad (testdata/bad/
+// form) opens, as a file (422) and as a share link (200), with every value in its
+// field and the problem beside the field it is about, named by its label
+// in the summary; nothing is sized from it.
+func TestBadFormFilesShowTheirProblem(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	for name, w := range badFormShown {
+		t.Run(name, func(t *testing.T) {
+			data, err := os.ReadFile("../testdata/bad/form/" + name)
+			if err != nil {
+				t.Fatal(err)
+			}
+			tok, err := share.Encode(data)
+			if err != nil {
+				t.Fatal(err)
+			}
+			v := designValues()
+			v.Set("action", "open-design")
+			for i, rec := range []*httptest.ResponseRecorder{
+				postMultipart(t, s, "/", v, "design_file", name, string(data)),
+				get(t, s, "/?d="+tok),
+			} {
+				// The file posted with the form is a 422, as any design
+				// with problems; the link opens the page (200) with them.
+				wantStatus(t, rec, []int{http.StatusUnprocessableEntity, http.StatusOK}[i])
+				doc := parse(t, rec)
+				if got := text(doc, "#msg-"+form.DomID(w[0])); !strings.Contains(got, w[1]) {
+					t.Errorf("%s says %q, want %q", w[0], got, w[1])
+				}
+				label := "Own cell, " + strings.ToLower(form.FieldLabels[w[0]][:1]) + form.FieldLabels[w[0]][1:]
+				if got := text(doc, "#problems"); !strings.Contains(got, label+": "+w[1]) {
+					t.Errorf("the summary %q does not name %q", got, label)
+				}
+				if doc.Find("[data-testid=bank]").Length() != 0 {
+					t.Error("a bank was sized from a bad design")
+				}
 			}
 		})
 	}
