@@ -48,6 +48,14 @@ type Design struct {
 	// multiple of it (modules of that many cells; a cell's own module
 	// takes precedence). nil: 1.
 	SeriesMultiple *int `json:"series_multiple,omitempty" validate:"omitempty,gte=1,lte=1000"`
+	// Series forces the number of cells in series for every candidate in
+	// place of the least the window top allows (see SeriesCount): more
+	// cells run each below its ceiling. It is refused, by field, for a
+	// cell whose ceiling it would pass at the window top. nil: the least.
+	Series *int `json:"series,omitempty" validate:"omitempty,gte=1,lte=10000"`
+	// Explore sets the design explorer's sweep (see ExploreOptions). nil:
+	// the defaults; capbank size ignores it.
+	Explore *ExploreOptions `json:"explore,omitempty"`
 	// Charger charges the bank between events (see Charger). nil: no
 	// charge figures.
 	Charger *Charger `json:"charger,omitempty"`

@@ -98,6 +98,7 @@ func Validate(d *Design) error {
 	errs = append(errs, loadRules(&d.Load)...)
 	errs = append(errs, physicsRules(d)...)
 	errs = append(errs, systemRules(d)...)
+	errs = append(errs, seriesRules(d)...)
 	if len(errs) == 0 {
 		return nil
 	}
