@@ -73,24 +73,39 @@ func seriesRules(d *Design) ValidationError {
 		return errs
 	}
 	s := *d.Series
+	// The cell that needs the most in series names the ceiling problem,
+	// once for the field.
+	worst, worstLeast := -1, 0
 	for i := range d.Cells {
 		c := &d.Cells[i]
 		if c.libraryRef || !Finite(c.RatedV) || !(c.RatedV >= 0.1) {
 			continue
 		}
+		ceiling, _ := seriesCeiling(d, c)
+		if least := SeriesCount(d.Window.MaxV, ceiling); least > s && least > worstLeast {
+			worst, worstLeast = i, least
+		}
+	}
+	if worst >= 0 {
+		c := &d.Cells[worst]
 		ceiling, what := seriesCeiling(d, c)
-		if least := SeriesCount(d.Window.MaxV, ceiling); least > s {
-			add("series", "ceiling", "%d cells in series give %s per cell at the window top (%s), above cell %q's ceiling of %s (%s); give at least %d, or leave series out to take the least",
-				s, Quantity(d.Window.MaxV/float64(s), "V", 4), Quantity(d.Window.MaxV, "V", 4), c.ID, Quantity(ceiling, "V", 4), what, least)
+		add("series", "ceiling", "%d cells in series give %s per cell at the window top (%s), above cell %q's ceiling of %s (%s); give at least %d, or leave series out to take the least",
+			s, Quantity(d.Window.MaxV/float64(s), "V", 4), Quantity(d.Window.MaxV, "V", 4), c.ID, Quantity(ceiling, "V", 4), what, worstLeast)
+		return errs
+	}
+	for i := range d.Cells {
+		c := &d.Cells[i]
+		if c.libraryRef || !Finite(c.RatedV) || !(c.RatedV >= 0.1) {
 			continue
 		}
 		if ms, _ := d.seriesStep(c); s%ms != 0 {
 			add("series", "module", "is %d, not a whole number of cell %q's strings of %d in series (its module, or series_multiple); give a multiple of %d", s, c.ID, ms, ms)
-			continue
+			break
 		}
 		if c.MinV != nil && float64(s)**c.MinV >= d.Window.MaxV {
 			add("series", "cell_floor", "%d cells of %q with their floor of %g V (min_v) cannot go below %s, at or above the window top (%s); give fewer in series",
 				s, c.ID, *c.MinV, Quantity(float64(s)**c.MinV, "V", 4), Quantity(d.Window.MaxV, "V", 4))
+			break
 		}
 	}
 	return errs
