@@ -364,7 +364,10 @@ type Cell struct {
 	// RatedLifeTempC (°C).
 	// libraryRef marks a cell the design file named only by id ("cells":
 	// ["id"]); ResolveCells fills it from a cell library.
-	libraryRef     bool
+	libraryRef bool
+	// wholeLibrary marks the one reference a design file's "cells":
+	// "library" decodes to: every cell of the library (see WantsLibrary).
+	wholeLibrary   bool
 	RatedLifeH     *float64 `json:"rated_life_h,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
 	RatedLifeTempC *float64 `json:"rated_life_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
 	// SpecificHeatJPerKgK, in J/(kg·K), with MassKg gives the cell's heat
@@ -416,4 +419,19 @@ func (d *Design) ResolveCells(lookup func(id string) (Cell, bool)) {
 			d.Cells[i] = c
 		}
 	}
+}
+
+// LibraryCells is the design file's value of cells that asks for every
+// cell of the cell library: "cells": "library".
+const LibraryCells = "library"
+
+// WantsLibrary reports whether the design file gave "cells": "library",
+// asking for every cell of the cell library, not yet filled in.
+func (d *Design) WantsLibrary() bool { return len(d.Cells) == 1 && d.Cells[0].wholeLibrary }
+
+// UseLibrary makes the cells of a design that WantsLibrary the library's
+// cells, in the order given.
+func (d *Design) UseLibrary(cells []Cell) {
+	d.Cells = make([]Cell, len(cells))
+	copy(d.Cells, cells)
 }

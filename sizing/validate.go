@@ -263,6 +263,10 @@ func physicsRules(d *Design) ValidationError {
 	ids := map[string]int{}
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)
+		if c.wholeLibrary {
+			add("cells", "library_cells", "asks for every cell of the cell library (%q), which the web page and API resolve; on the command line list the cells instead", LibraryCells)
+			continue
+		}
 		if c.libraryRef {
 			add(p, "library_cell", "names library cell %q, which is not in the cell library; add it to the library or give the cell inline", c.ID)
 			continue
