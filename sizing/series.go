@@ -291,14 +291,14 @@ func (p *plan) seriesWhy(cand *Candidate, c *Cell, l *cellLimits, b *Binding) st
 		b.SeriesSetBy = "module"
 		head = fmt.Sprintf("%d in series: %d hold the window top at the %s ceiling, rounded up to whole strings of %d", s, least, Quantity(l.ceiling, "V", 4), ms)
 	default:
-		what := "rating"
+		what := "the cell's rating"
 		b.SeriesSetBy = "rating"
 		if l.derated {
-			b.SeriesSetBy, what = "derating", fmt.Sprintf("derated ceiling at %.4g °C", l.ceilingTempC)
+			b.SeriesSetBy, what = "derating", fmt.Sprintf("the cell's derated ceiling at %.4g °C", l.ceilingTempC)
 		} else if l.ceiling < c.RatedV {
-			b.SeriesSetBy, what = "cell_max_v", "design's cell_max_v ceiling"
+			b.SeriesSetBy, what = "cell_max_v", "the design's cell_max_v"
 		}
-		head = fmt.Sprintf("%d in series: set by the %s %s, window top %s ÷ %s = %.4g, rounded up", s, Quantity(l.ceiling, "V", 4), what, Quantity(p.maxV, "V", 4), Quantity(l.ceiling, "V", 4), p.maxV/l.ceiling)
+		head = fmt.Sprintf("%d in series: set by %s of %s per cell, window top %s ÷ %s = %.4g, rounded up", s, what, Quantity(l.ceiling, "V", 4), Quantity(p.maxV, "V", 4), Quantity(l.ceiling, "V", 4), p.maxV/l.ceiling)
 	}
 	b.NextSeries = s + ms
 	b.NextCellV = p.maxV / float64(b.NextSeries)
