@@ -161,11 +161,22 @@ func axisLabel(key, currency string) string {
 }
 
 func figureText(v float64, key, currency string) string {
-	if key == "price" {
+	switch key {
+	case "price":
 		if currency != "" {
 			return figures.Money(v) + " " + currency
 		}
 		return figures.Money(v)
+	case "mass_kg":
+		return figures.SI(v, "kg", 3)
+	case "volume_l":
+		return figures.SI(v, "L", 3)
+	case "standing_loss_w":
+		return figures.SI(v, "W", 3)
+	case "rise_k":
+		return figures.Kelvin(v)
+	case "margin_pct":
+		return figures.Fixed(v, 1) + " %"
 	}
 	return figures.Number(v, 3) + " " + axisUnits[key]
 }
