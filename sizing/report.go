@@ -176,8 +176,8 @@ type Candidate struct {
 	Life *Life `json:"life"`
 	// Binding says what set the bank (the limit one string fewer fails
 	// by, what set the series count and what one more series cell would
-	// give), and Why the same in one line; nil and "" for a candidate
-	// ruled out before its strings were searched.
+	// give), and Why the same in one line (for a cell no string count
+	// carries, the reason and the series count).
 	Binding *Binding `json:"binding"`
 	Why     string   `json:"why"`
 	// Hazards are the figures the safety flags judge.

@@ -1,6 +1,7 @@
 package sizing
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"strings"
@@ -196,5 +197,38 @@ func TestWhyPowerCollapse(t *testing.T) {
 	}
 	if c.Parallel < 6 {
 		t.Errorf("%d strings, below the 6 the start of the pulse already needs (91.1 W per string)", c.Parallel)
+	}
+}
+
+// TestEveryCandidateSaysWhy: every candidate of the demo designs, feasible
+// or not, carries a why line and its binding, and the line starts with
+// the string count and gives the series count and the per-cell voltage of
+// one more in series, as the binding holds them.
+func TestEveryCandidateSaysWhy(t *testing.T) {
+	for _, name := range []string{"ups-ride-through.json", "actuator-pulses.json", "agv-regen-buffer.json", "logger-hold-up.json"} {
+		d := demoDesign(t, name)
+		if d.Load.ProfileCSV != "" {
+			continue // names a file beside it; the command line reads it
+		}
+		r, err := Size(d)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		for _, c := range r.Candidates {
+			b := c.Binding
+			if c.Why == "" || b == nil {
+				t.Errorf("%s %s: no why line or binding", name, c.CellID)
+				continue
+			}
+			if c.Feasible && !strings.HasPrefix(c.Why, fmt.Sprintf("%d string", c.Parallel)) {
+				t.Errorf("%s %s: why %q does not start with its %d strings", name, c.CellID, c.Why, c.Parallel)
+			}
+			if b.NextSeries <= c.Series || math.Abs(b.NextCellV-r.MaxV/float64(b.NextSeries)) > 1e-12 {
+				t.Errorf("%s %s: next_series %d, next_cell_v %g for %d in series", name, c.CellID, b.NextSeries, b.NextCellV, c.Series)
+			}
+			if want := fmt.Sprintf("%d in series", b.NextSeries); !strings.Contains(c.Why, want) || !strings.Contains(c.Why, Quantity(b.NextCellV, "V", 4)) {
+				t.Errorf("%s %s: why %q lacks %q at %s", name, c.CellID, c.Why, want, Quantity(b.NextCellV, "V", 4))
+			}
+		}
 	}
 }

@@ -580,12 +580,14 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 		cand.Reason = fmt.Sprintf("The ambient temperature (%g °C) is already at or above the cell's maximum operating temperature (%g °C); no number of strings helps. Cool the bank or choose a cell rated hotter.", l.ambientC, l.maxTempC)
 		cand.Limit = "temperature"
 		p.fillFigures(&cand, c, &l, p.try(&l, 1))
+		p.bind(&cand, c, &l, trial{})
 		return cand
 	}
 	if t, ok := p.drainAlone(&l); ok {
 		cand.Reason = fmt.Sprintf("The leakage and balancing drain alone (time constant C/g = %.3g h, the same for any string count) brings the bank from %g V to the window bottom (%g V) in %.4g s, within the %.4g s pass, and no step charges it; no number of strings helps. Choose active balancing (balancing.kind), a cell with less leakage, or a shorter pass.",
 			l.cw/l.gCell/3600, p.startV, p.minV, t, l.passTime)
 		p.fillFigures(&cand, c, &l, p.try(&l, MaxParallel))
+		p.bind(&cand, c, &l, trial{})
 		return cand
 	}
 	lo, hi, ok := p.search(&l)
