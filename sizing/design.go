@@ -411,7 +411,7 @@ func (c *Cell) IsReference() bool { return c.libraryRef }
 // know stay references, and Validate reports them.
 func (d *Design) ResolveCells(lookup func(id string) (Cell, bool)) {
 	for i := range d.Cells {
-		if !d.Cells[i].libraryRef {
+		if !d.Cells[i].libraryRef || d.Cells[i].wholeLibrary {
 			continue
 		}
 		if c, ok := lookup(d.Cells[i].ID); ok {

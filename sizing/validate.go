@@ -264,7 +264,7 @@ func physicsRules(d *Design) ValidationError {
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)
 		if c.wholeLibrary {
-			add("cells", "library_cells", "asks for every cell of the cell library (%q), which the web page and API resolve; on the command line list the cells instead", LibraryCells)
+			add("cells", "library_cells", "asks for every cell of the cell library (%q), which capbank explore, the web page and the API resolve; for capbank size list the cells instead", LibraryCells)
 			continue
 		}
 		if c.libraryRef {

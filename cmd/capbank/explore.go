@@ -8,11 +8,15 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strings"
 
 	"capbank/components"
 	"capbank/components/figures"
+	"capbank/sizing"
 	"capbank/sizing/explore"
+	"capbank/web/store"
+	"capbank/web/store/sqlite"
 )
 
 const exploreUsage = `usage: capbank explore [--format json|csv|text] [--objectives KEYS] [--data DIR] [--profile LOG.csv] [-o FILE] DESIGN.json
@@ -68,6 +72,13 @@ func runExplore(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	d, err := readDesign(cl.pos[0], *profile, stdin, lookup)
 	if err != nil {
 		return err
+	}
+	if d.WantsLibrary() {
+		cells, err := libraryCellList(ctx, *data)
+		if err != nil {
+			return err
+		}
+		d.UseLibrary(cells)
 	}
 	res, err := explore.Explore(ctx, d, opts)
 	if *profile != "" {
@@ -136,4 +147,29 @@ func writeExploreText(w io.Writer, r *explore.Result) {
 		p := &r.Explore.Points[k]
 		fmt.Fprintf(w, "\n%s, %d in series: %s\n", p.CellID, p.Series, figures.ASCII(p.Why))
 	}
+}
+
+// libraryCellList is every cell of the library openLibrary resolves ids
+// in, for "cells": "library": the database's in dataDir when there is one
+// (openLibrary has already refused a --data without one), else the
+// built-in demo cells.
+func libraryCellList(ctx context.Context, dataDir string) ([]sizing.Cell, error) {
+	path := filepath.Join(dataDir, store.FileName)
+	if _, err := os.Stat(path); err != nil {
+		return store.DemoCells(), nil
+	}
+	st, err := sqlite.Open(ctx, path)
+	if err != nil {
+		return nil, fmt.Errorf("--data %s: %w", dataDir, err)
+	}
+	defer st.Close()
+	recs, err := st.ListCells(ctx, store.CellFilter{})
+	if err != nil {
+		return nil, fmt.Errorf("--data %s: %w", dataDir, err)
+	}
+	cells := make([]sizing.Cell, len(recs))
+	for i := range recs {
+		cells[i] = recs[i].Cell
+	}
+	return cells, nil
 }

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"capbank/sizing/explore"
+	"capbank/web/store"
 )
 
 // TestExploreCommand: capbank explore writes the points and the front as
@@ -81,6 +82,18 @@ func TestExploreCommand(t *testing.T) {
 		if !strings.Contains(out, "\n"+p.CellID+", "+strconv.Itoa(p.Series)+" in series: ") {
 			t.Errorf("--format text lacks the why line of front point %s × %d", p.CellID, p.Series)
 		}
+	}
+
+	// "cells": "library" explores every cell of the library (here the demo
+	// cells: the test's folder has no database).
+	lib := filepath.Join(t.TempDir(), "lib.json")
+	if err := os.WriteFile(lib, []byte(`{"window": {"max_v": 24, "min_v": 12}, "load": {"steps": [{"power_w": 200, "duration_s": 10}]}, "cells": "library", "explore": {"extra_series": 0}}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	status, out, stderr = runCapbank(t, context.Background(), "explore", lib)
+	var lr explore.Result
+	if status != 0 || json.Unmarshal([]byte(out), &lr) != nil || len(lr.Explore.Points) != len(store.DemoCells()) {
+		t.Errorf("cells library: status %d, %d points, want one per demo cell (%d); stderr %s", status, len(lr.Explore.Points), len(store.DemoCells()), stderr)
 	}
 
 	// A bad objective is a design problem: status 2, the field named.
