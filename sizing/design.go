@@ -48,6 +48,14 @@ type Design struct {
 	// multiple of it (modules of that many cells; a cell's own module
 	// takes precedence). nil: 1.
 	SeriesMultiple *int `json:"series_multiple,omitempty" validate:"omitempty,gte=1,lte=1000"`
+	// Series forces the number of cells in series for every candidate in
+	// place of the least the window top allows (see SeriesCount): more
+	// cells run each below its ceiling. It is refused, by field, for a
+	// cell whose ceiling it would pass at the window top. nil: the least.
+	Series *int `json:"series,omitempty" validate:"omitempty,gte=1,lte=10000"`
+	// Explore sets the design explorer's sweep (see ExploreOptions). nil:
+	// the defaults; capbank size ignores it.
+	Explore *ExploreOptions `json:"explore,omitempty"`
 	// Charger charges the bank between events (see Charger). nil: no
 	// charge figures.
 	Charger *Charger `json:"charger,omitempty"`
@@ -356,7 +364,10 @@ type Cell struct {
 	// RatedLifeTempC (°C).
 	// libraryRef marks a cell the design file named only by id ("cells":
 	// ["id"]); ResolveCells fills it from a cell library.
-	libraryRef     bool
+	libraryRef bool
+	// wholeLibrary marks the one reference a design file's "cells":
+	// "library" decodes to: every cell of the library (see WantsLibrary).
+	wholeLibrary   bool
 	RatedLifeH     *float64 `json:"rated_life_h,omitempty" validate:"omitempty,finite,gt=0,lte=1e7"`
 	RatedLifeTempC *float64 `json:"rated_life_temp_c,omitempty" validate:"omitempty,finite,gte=-100,lte=200"`
 	// SpecificHeatJPerKgK, in J/(kg·K), with MassKg gives the cell's heat
@@ -400,7 +411,7 @@ func (c *Cell) IsReference() bool { return c.libraryRef }
 // know stay references, and Validate reports them.
 func (d *Design) ResolveCells(lookup func(id string) (Cell, bool)) {
 	for i := range d.Cells {
-		if !d.Cells[i].libraryRef {
+		if !d.Cells[i].libraryRef || d.Cells[i].wholeLibrary {
 			continue
 		}
 		if c, ok := lookup(d.Cells[i].ID); ok {
@@ -408,4 +419,19 @@ func (d *Design) ResolveCells(lookup func(id string) (Cell, bool)) {
 			d.Cells[i] = c
 		}
 	}
+}
+
+// LibraryCells is the design file's value of cells that asks for every
+// cell of the cell library: "cells": "library".
+const LibraryCells = "library"
+
+// WantsLibrary reports whether the design file gave "cells": "library",
+// asking for every cell of the cell library, not yet filled in.
+func (d *Design) WantsLibrary() bool { return len(d.Cells) == 1 && d.Cells[0].wholeLibrary }
+
+// UseLibrary makes the cells of a design that WantsLibrary the library's
+// cells, in the order given.
+func (d *Design) UseLibrary(cells []Cell) {
+	d.Cells = make([]Cell, len(cells))
+	copy(d.Cells, cells)
 }

@@ -174,6 +174,12 @@ type Candidate struct {
 	Balancing *BalancingResult `json:"balancing"`
 	// Life is the expected life; nil when the cell gives no rated life.
 	Life *Life `json:"life"`
+	// Binding says what set the bank (the limit one string fewer fails
+	// by, what set the series count and what one more series cell would
+	// give), and Why the same in one line (for a cell no string count
+	// carries, the reason and the series count).
+	Binding *Binding `json:"binding"`
+	Why     string   `json:"why"`
 	// Hazards are the figures the safety flags judge.
 	Hazards Hazards `json:"hazards"`
 	Flags   []Flag  `json:"flags"`

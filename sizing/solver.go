@@ -401,6 +401,8 @@ func (p *plan) limitsWith(c *Cell, o limitOptions, flags *[]Flag) cellLimits {
 	l.s = roundUp(SeriesCount(p.maxV, l.ceiling), ms)
 	if o.series > 0 {
 		l.s = o.series
+	} else if p.d.Series != nil {
+		l.s = *p.d.Series
 	}
 	if cold := p.d.ColdC; cold != nil {
 		if c.ColdESRFactor != nil && c.ColdESRTempC != nil {
@@ -578,18 +580,21 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 		cand.Reason = fmt.Sprintf("The ambient temperature (%g °C) is already at or above the cell's maximum operating temperature (%g °C); no number of strings helps. Cool the bank or choose a cell rated hotter.", l.ambientC, l.maxTempC)
 		cand.Limit = "temperature"
 		p.fillFigures(&cand, c, &l, p.try(&l, 1))
+		p.bind(&cand, c, &l, trial{})
 		return cand
 	}
 	if t, ok := p.drainAlone(&l); ok {
 		cand.Reason = fmt.Sprintf("The leakage and balancing drain alone (time constant C/g = %.3g h, the same for any string count) brings the bank from %g V to the window bottom (%g V) in %.4g s, within the %.4g s pass, and no step charges it; no number of strings helps. Choose active balancing (balancing.kind), a cell with less leakage, or a shorter pass.",
 			l.cw/l.gCell/3600, p.startV, p.minV, t, l.passTime)
 		p.fillFigures(&cand, c, &l, p.try(&l, MaxParallel))
+		p.bind(&cand, c, &l, trial{})
 		return cand
 	}
 	lo, hi, ok := p.search(&l)
 	if !ok {
 		cand.Reason = p.infeasibleReason(&l, lo)
 		p.fillFigures(&cand, c, &l, lo)
+		p.bind(&cand, c, &l, trial{})
 		return cand
 	}
 	if hi.par%l.parStep != 0 {
@@ -599,6 +604,7 @@ func (p *plan) sizeCellWith(c *Cell, o limitOptions) Candidate {
 	cand.Feasible = true
 	cand.Limit = lo.limit
 	p.fillFigures(&cand, c, &l, hi)
+	p.bind(&cand, c, &l, lo)
 	if cand.Limit == "rms_current" && p.periodS == 0 {
 		cand.Flags = append(cand.Flags, Flag{Code: "rms-back-to-back", Severity: Info, Message: fmt.Sprintf(
 			"The cell's continuous-current rating (%g A, a heating limit) set the string count, with the RMS current taken over the %s pass as if it repeated back to back for ever. If the event repeats less often, give load.period_s, the time from the start of one event to the start of the next: the RMS is then taken over the period, and a one-shot event may need fewer strings.",
@@ -810,25 +816,14 @@ func nanTo0(x float64) float64 {
 // answer.
 func (p *plan) stringBound(l *cellLimits) (int, string, int) {
 	rString := l.bankESR(l.rw, 1) // one string: the largest R of any count
-	b := &p.bound
-	need := b.need
-	if b.chargeCurrent {
-		need = p.deficit(rString, 0)
-	}
-	peak, i2dt := b.peak, b.i2dt
-	for _, st := range b.resistors {
-		i := p.minV / (st.x + rString)
-		peak = max(peak, i)
-		i2dt += i * i * st.dur * float64(p.repeat)
-	}
+	need, perString, peak, rms := p.boundFigures(l)
 	vMid := (p.maxV + p.minV) / 2
-	i2est := b.i2est // ∫i²dt with the current at mid-window, for the ESR loss
-	perString := 0.5 * l.cw / float64(l.s) * (p.maxV - p.minV) * (p.maxV + p.minV)
+	i2est := p.bound.i2est // ∫i²dt with the current at mid-window, for the ESR loss
 	bound, why := need/perString, "voltage"
 	if l.peakA > 0 && peak/l.peakA > bound {
 		bound, why = peak/l.peakA, "peak_current"
 	}
-	if rms := math.Sqrt(i2dt / l.rmsTime); l.contA > 0 && rms/l.contA > bound {
+	if l.contA > 0 && rms/l.contA > bound {
 		bound, why = rms/l.contA, "rms_current"
 	}
 	n := math.Ceil(bound * (1 - 1e-9))

@@ -200,6 +200,7 @@ var (
 	unmarshalerType     = reflect.TypeFor[json.Unmarshaler]()
 	textUnmarshalerType = reflect.TypeFor[encoding.TextUnmarshaler]()
 	byReferenceType     = reflect.TypeFor[byReference]()
+	cellListType        = reflect.TypeFor[[]Cell]()
 )
 
 func (d *strictDecoder) problem(rule, format string, a ...any) error {
@@ -576,6 +577,13 @@ func (d *strictDecoder) stringValue(v reflect.Value) error {
 			}
 			return nil
 		}
+	}
+	if v.Type() == cellListType {
+		if lit := d.stringLiteral(); lit != LibraryCells {
+			return d.problem("type", "must be a list of cells (each a cell, or a library cell's id), or %q for every cell of the library (got %q)", LibraryCells, lit)
+		}
+		v.Set(reflect.ValueOf([]Cell{{ID: LibraryCells, libraryRef: true, wholeLibrary: true}}))
+		return nil
 	}
 	switch {
 	case v.Kind() == reflect.String:

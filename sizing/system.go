@@ -318,8 +318,8 @@ func moduleCount(c *Cell, s, par int) *ModuleCount {
 func (p *plan) deratedAtHotSpot(c *Cell, cand Candidate) Candidate {
 	ms, _ := p.d.seriesStep(c)
 	for range 6 {
-		if !cand.Feasible || cand.Thermal == nil {
-			break
+		if !cand.Feasible || cand.Thermal == nil || p.d.Series != nil {
+			break // a series count the design forces is never raised
 		}
 		hot := cand.Thermal.HotSpotC
 		if !(hot > *cand.CeilingTempC) || derate(c.VoltageDerating, hot) >= cand.CellV*(1-1e-12) {
@@ -343,6 +343,11 @@ func (p *plan) deratedAtHotSpot(c *Cell, cand Candidate) Candidate {
 			ceiling = math.Min(ceiling, *p.d.CellMaxV)
 		}
 		cand.CeilingTempC, cand.CellCeilingV = &hot, ceiling
+	}
+	if p.d.Series != nil && cand.CeilingTempC != nil && cand.CellV > cand.CellCeilingV*(1+1e-12) {
+		cand.Flags = append(cand.Flags, Flag{Code: "series-over-derated", Severity: Danger, Message: fmt.Sprintf(
+			"At %.4g °C, the hottest cell's temperature, the cell's derating table allows %s per cell, but the design's series key (%d) puts %s on each cell at the window top; give more in series or leave series out.",
+			*cand.CeilingTempC, Quantity(cand.CellCeilingV, "V", 4), cand.Series, Quantity(cand.CellV, "V", 4))})
 	}
 	if cand.CeilingTempC != nil && cand.CellCeilingV < c.RatedV {
 		cand.Flags = append(cand.Flags, Flag{Code: "voltage-derated", Severity: Info, Message: fmt.Sprintf(

@@ -98,6 +98,7 @@ func Validate(d *Design) error {
 	errs = append(errs, loadRules(&d.Load)...)
 	errs = append(errs, physicsRules(d)...)
 	errs = append(errs, systemRules(d)...)
+	errs = append(errs, seriesRules(d)...)
 	if len(errs) == 0 {
 		return nil
 	}
@@ -262,6 +263,10 @@ func physicsRules(d *Design) ValidationError {
 	ids := map[string]int{}
 	for i, c := range d.Cells {
 		p := fmt.Sprintf("cells[%d]", i)
+		if c.wholeLibrary {
+			add("cells", "library_cells", "asks for every cell of the cell library (%q), which capbank explore, the web page and the API resolve; for capbank size list the cells instead", LibraryCells)
+			continue
+		}
 		if c.libraryRef {
 			add(p, "library_cell", "names library cell %q, which is not in the cell library; add it to the library or give the cell inline", c.ID)
 			continue

@@ -11,6 +11,7 @@ import (
 
 	"capbank/sizing"
 	"capbank/web/share"
+	"capbank/web/store"
 )
 
 // readBody reads a request body whole. A body over MaxBodyBytes is the
@@ -113,6 +114,17 @@ func (s *Server) designFrom(c echo.Context, src designSource) (*sizing.Design, [
 			d.Load.ProfileCSV = profilePart
 		}
 		d.Load.AttachProfileFile(string(profile))
+	}
+	if d.WantsLibrary() {
+		recs, err := s.libraryCells(r.Context(), store.CellFilter{})
+		if err != nil {
+			return nil, nil, err
+		}
+		cells := make([]sizing.Cell, len(recs))
+		for i := range recs {
+			cells[i] = recs[i].Cell
+		}
+		d.UseLibrary(cells)
 	}
 	d.ResolveCells(s.lookup(c))
 	return d, data, nil

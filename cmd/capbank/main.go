@@ -2,6 +2,7 @@
 //
 //	capbank size [--format json|text] [-o FILE] DESIGN.json
 //	capbank size --format boq-csv|boq-xlsx|boq-json|pdf [--cell ID] [--paper a4|letter] -o FILE DESIGN.json
+//	capbank explore [--format json|csv|text] DESIGN.json
 //
 // reads a design file (or standard input for "-"), sizes every candidate
 // cell and prints the report, or exports the bank's bill of quantities or
@@ -40,6 +41,7 @@ type command struct {
 
 var commands = []command{
 	{"size", "size a bank from a design file and print the report", runSize},
+	{"explore", "size every cell at several series counts and mark the front", runExplore},
 	{"serve", "start the web server (the default)", runServe},
 	{"measure", "characterise a cell from test data (capacitance, ESR, leakage)", runMeasure},
 	{"loadtest", "drive a running server and print its throughput and latency", runLoadtest},

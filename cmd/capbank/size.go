@@ -211,36 +211,48 @@ func sizeFile(ctx context.Context, name, profile string, lookup func(string) (si
 // for "-", with the logged profile of the file profile when it is not "";
 // lookup resolves the cells the design names by id.
 func readAndSize(name, profile string, stdin io.Reader, lookup func(string) (sizing.Cell, bool)) (d *sizing.Design, rep *sizing.Report, err error) {
-	r := stdin
-	if name != "-" {
-		f, err := os.Open(name)
-		if err != nil {
-			return nil, nil, fmt.Errorf("cannot read the design file %q: %w", name, pathReason(err))
-		}
-		defer f.Close()
-		if st, err := f.Stat(); err == nil && st.IsDir() {
-			return nil, nil, fmt.Errorf("cannot read the design file %q: it is a directory", name)
-		}
-		r = f
-	}
-	d, err = sizing.DecodeDesign(r)
-	if err != nil {
-		return nil, nil, err
-	}
 	defer func() {
 		if p := recover(); p != nil {
 			d, rep, err = nil, nil, &internalError{value: p, stack: debug.Stack()}
 		}
 	}()
-	if err := attachProfile(&d.Load, name, profile); err != nil {
+	d, err = readDesign(name, profile, stdin, lookup)
+	if err != nil {
 		return nil, nil, err
 	}
-	d.ResolveCells(lookup)
 	rep, err = sizing.Size(d)
 	if profile != "" {
 		err = flagField(err)
 	}
 	return d, rep, err
+}
+
+// readDesign reads the design in the named file, or in stdin for "-",
+// with the logged profile of the file profile when it is not "", and
+// resolves the cells it names by id with lookup: the one intake of a
+// design file on the command line.
+func readDesign(name, profile string, stdin io.Reader, lookup func(string) (sizing.Cell, bool)) (*sizing.Design, error) {
+	r := stdin
+	if name != "-" {
+		f, err := os.Open(name)
+		if err != nil {
+			return nil, fmt.Errorf("cannot read the design file %q: %w", name, pathReason(err))
+		}
+		defer f.Close()
+		if st, err := f.Stat(); err == nil && st.IsDir() {
+			return nil, fmt.Errorf("cannot read the design file %q: it is a directory", name)
+		}
+		r = f
+	}
+	d, err := sizing.DecodeDesign(r)
+	if err != nil {
+		return nil, err
+	}
+	if err := attachProfile(&d.Load, name, profile); err != nil {
+		return nil, err
+	}
+	d.ResolveCells(lookup)
+	return d, nil
 }
 
 // attachProfile reads the logged profile the design's load names

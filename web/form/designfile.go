@@ -68,6 +68,12 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Load.ProfileCSV != "" {
 		return nil, fmt.Errorf("names the profile file %q, which this page cannot read; load that CSV with \"Logged profile (CSV)\" instead, or size the design with capbank size", d.Load.ProfileCSV)
 	}
+	if d.Series != nil {
+		return nil, fmt.Errorf("sets series (%d in series), which this form has no field for; size it with the JSON API or capbank size, or remove the key to let capbank choose the series count", *d.Series)
+	}
+	if d.Explore != nil {
+		return nil, fmt.Errorf("sets explore, which this form has no field for; choose the explorer's objectives on the explorer page, or remove the key")
+	}
 	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}
