@@ -195,6 +195,44 @@ func (s *Server) postResults(c echo.Context) error {
 	return s.render(c, http.StatusOK, components.ResultsUpdate(p.Results, slots, units, p.Form.Problems))
 }
 
+// postCandidate is POST /results/candidate?cell=ID: the card of one
+// candidate of the results, sized from the share token d they carry (the
+// export form's). htmx asks for it when a folded card opens and swaps in
+// its body; without JavaScript the card's button posts the same and gets
+// the whole page with that card open.
+func (s *Server) postCandidate(c echo.Context) error {
+	_, data, err := s.designFrom(c, fromPostedToken)
+	if err != nil {
+		return err
+	}
+	f, err := s.formFromJSON(c, data)
+	if err != nil {
+		return err
+	}
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	id := c.QueryParam("cell")
+	var cand *sizing.Candidate
+	if ev.report != nil {
+		for i := range ev.report.Candidates {
+			if ev.report.Candidates[i].CellID == id {
+				cand = &ev.report.Candidates[i]
+			}
+		}
+	}
+	if cand == nil {
+		return exportRefused("cell", fmt.Sprintf("%q is not a candidate of this design: pick it among the cells first", id))
+	}
+	if c.Request().Header.Get("HX-Request") == "true" {
+		return s.render(c, http.StatusOK, components.CandidateBody(resultsProps(ev), *cand))
+	}
+	p := s.pageProps(ev, s.cellPicks(c, ev.form))
+	p.Results.OpenCell = id
+	return s.render(c, http.StatusOK, components.Page(p))
+}
+
 // lastGoodJSON is the design file of a design that sized, for the form to
 // carry; "" when it is too large to carry.
 func lastGoodJSON(d *sizing.Design) string {

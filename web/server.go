@@ -129,6 +129,7 @@ func New(cfg Config) *Server {
 	e.POST("/", s.postPage)
 	e.POST("/workspace", s.postWorkspace)
 	e.POST("/results", s.postResults)
+	e.POST("/results/candidate", s.postCandidate)
 	e.POST("/export/:format", s.postExport)
 	e.GET("/healthz", s.healthz)
 	e.GET("/measure", s.getMeasure)
