@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/components"
 	"capbank/web/form"
 	"capbank/web/store"
 	"compress/gzip"
@@ -287,8 +288,12 @@ func TestPostResultsFragment(t *testing.T) {
 	if got, want := text(doc, "#results [data-testid=bank]"), wantBank(t); got != want {
 		t.Errorf("headline %q, want %q", got, want)
 	}
-	if n := doc.Find(`[hx-swap-oob=true]#msg-window-min_v`).Length(); n != 1 {
-		t.Errorf("%d out-of-band slots for window.min_v", n)
+	// A design without problems clears every message at once and sets none.
+	if got, _ := doc.Find(`[hx-swap-oob^="innerHTML:"]`).Attr("hx-swap-oob"); got != "innerHTML:"+components.MessageSlots {
+		t.Errorf("the message-clearing element swaps %q", got)
+	}
+	if n := doc.Find(`.msg[hx-swap-oob]`).Length(); n != 0 {
+		t.Errorf("%d messages sent for a design without problems", n)
 	}
 	if rec.Header().Get("HX-Retarget") != "" {
 		t.Error("a valid design must not retarget")

@@ -6,6 +6,9 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/PuerkitoBio/goquery"
+
+	"capbank/components"
 	"capbank/components/figures"
 	"capbank/web/form"
 	"capbank/web/store"
@@ -107,5 +110,39 @@ func TestCandidateCardsLoadWhenOpened(t *testing.T) {
 	wantStatus(t, rec, http.StatusUnprocessableEntity)
 	if !strings.Contains(rec.Body.String(), "no-such-cell") {
 		t.Errorf("the refusal does not name the cell: %s", rec.Body.String())
+	}
+}
+
+// TestLiveUpdateClearsExactlyTheMessageSlots: the live update's one
+// clearing element (components.MessageSlots) selects on the page exactly
+// the message slots the update used to send one by one (formSlots): none
+// is left with an old message, no other element is emptied.
+func TestLiveUpdateClearsExactlyTheMessageSlots(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v.Set("boq.extras[0].item", "Busbar")
+	page := parse(t, postForm(t, s, "/", v, false))
+	ev := evaluate(t.Context(), form.Read(v), store.DemoCell)
+	slots, _ := formSlots(s.pageProps(ev, nil).Form)
+	want := map[string]bool{}
+	for _, sl := range slots {
+		want[sl.ID] = true
+	}
+	got := map[string]bool{}
+	page.Find(components.MessageSlots).Each(func(_ int, sel *goquery.Selection) {
+		id, _ := sel.Attr("id")
+		got[id] = true
+		if !want[id] {
+			t.Errorf("the clearing element would empty %s, which is no field's message slot", id)
+		}
+	})
+	for id := range want {
+		if !got[id] {
+			t.Errorf("message slot %s is not cleared by %q", id, components.MessageSlots)
+		}
+	}
+	if len(want) < 50 {
+		t.Errorf("only %d message slots: the form lost its fields?", len(want))
 	}
 }
