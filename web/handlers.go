@@ -1,7 +1,9 @@
 package web
 
 import (
+	"bytes"
 	"capbank/web/form"
+	"capbank/web/share"
 	"context"
 	"encoding/json"
 	"errors"
@@ -71,7 +73,7 @@ func evaluateDesign(ctx context.Context, f *form.Form, lib form.CellLookup) *eva
 		return ev
 	}
 	if f.LastGood != "" && len(f.LastGood) <= maxLastGood {
-		if d, err := sizing.DecodeDesign(strings.NewReader(f.LastGood)); err == nil {
+		if d, err := lastGoodDesign(f.LastGood); err == nil {
 			if rep, err := sizing.SizeContext(ctx, d); err == nil {
 				ev.report, ev.sized, ev.stale = rep, d, true
 			}
@@ -233,8 +235,22 @@ func (s *Server) postCandidate(c echo.Context) error {
 	return s.render(c, http.StatusOK, components.Page(p))
 }
 
+// lastGoodDesign decodes the last design that sized as the form carries
+// it back (see resultsProps): the share token of its results, or its
+// design file where it had no token.
+func lastGoodDesign(carried string) (*sizing.Design, error) {
+	data := []byte(carried)
+	if !strings.HasPrefix(strings.TrimSpace(carried), "{") {
+		var err error
+		if data, err = share.DecodePosted(carried); err != nil {
+			return nil, err
+		}
+	}
+	return sizing.DecodeDesign(bytes.NewReader(data))
+}
+
 // lastGoodJSON is the design file of a design that sized, for the form to
-// carry; "" when it is too large to carry.
+// carry where it has no share token; "" when it is too large to carry.
 func lastGoodJSON(d *sizing.Design) string {
 	data, err := json.Marshal(d)
 	if err != nil || len(data) > maxLastGood {
