@@ -82,7 +82,7 @@ func TestBrowserDownloads(t *testing.T) {
 
 	rec := run(t, ctx, chromedp.Evaluate[string](`document.querySelector("[data-testid=downloads] [data-testid=download-bar]").dataset.cell`), "reading the recommended cell")
 	other := run(t, ctx, chromedp.Evaluate[string](
-		`[...document.querySelectorAll("details.cand")].filter(e => !e.querySelector("summary").textContent.includes("not feasible")).map(e => e.dataset.cell)[0] || ""`), "finding another feasible bank")
+		`[...document.querySelectorAll("details.cand")].filter(e => !e.querySelector("summary").textContent.includes("not feasible")).map(e => e.id.replace(/^cand-/, ""))[0] || ""`), "finding another feasible bank")
 	if other == "" {
 		t.Fatal("the example shows no other feasible bank")
 	}

@@ -44,10 +44,17 @@ func TestCandidateCardsLoadWhenOpened(t *testing.T) {
 		if c.CellID == *ev.report.Recommended {
 			continue
 		}
-		card := doc.Find(`details.cand[data-cell="` + c.CellID + `"]`)
+		card := doc.Find(`details.cand[id="cand-` + c.CellID + `"]`)
 		href := "/results/candidate?cell=" + url.QueryEscape(c.CellID)
 		if got, _ := card.Attr("hx-post"); got != href {
 			t.Errorf("%s: hx-post %q, want %q", c.CellID, got, href)
+		}
+		// htmx takes hx-include, hx-target and hx-swap from the nearest
+		// element that sets them.
+		for attr, want := range map[string]string{"hx-include": "#export-form", "hx-target": "find .cand-body", "hx-swap": "outerHTML"} {
+			if got, _ := card.Closest("[" + attr + "]").Attr(attr); got != want {
+				t.Errorf("%s: %s %q, want %q", c.CellID, attr, got, want)
+			}
 		}
 		if got, _ := card.Find(`button[form=export-form]`).Attr("formaction"); got != href+"#cand-"+c.CellID {
 			t.Errorf("%s: the button without JavaScript posts to %q", c.CellID, got)
@@ -91,7 +98,7 @@ func TestCandidateCardsLoadWhenOpened(t *testing.T) {
 		page := postForm(t, s, href, url.Values{"d": {token}}, false)
 		wantStatus(t, page, http.StatusOK)
 		pdoc := parse(t, page)
-		open := pdoc.Find(`details.cand[open][data-cell="` + c.CellID + `"] .cand-body`)
+		open := pdoc.Find(`details.cand[open][id="cand-` + c.CellID + `"] .cand-body`)
 		if open.Length() != 1 {
 			t.Fatalf("%s: the page has no open card", c.CellID)
 		}
