@@ -133,6 +133,9 @@ func (s *Server) getPage(c echo.Context) error {
 		}
 		return s.renderPage(c, http.StatusOK, ev)
 	}
+	if isExamplePage(c.Request()) {
+		return s.getExamplePage(c)
+	}
 	return s.renderPage(c, http.StatusOK, evaluate(c.Request().Context(), exampleForm(), s.lookup(c)))
 }
 
