@@ -153,3 +153,29 @@ func TestLiveUpdateClearsExactlyTheMessageSlots(t *testing.T) {
 		t.Errorf("only %d message slots: the form lost its fields?", len(want))
 	}
 }
+
+// fragmentBudget bounds the results fragment for ten cells, HTML before
+// gzip: 160 kB when every card carried its figures and each of the 99
+// message slots came out of band; 47.1 kB measured with the cards
+// loading when opened, one clearing element, compact chart paths and the
+// token carried as the last design (README, Performance).
+const fragmentBudget = 50_000
+
+// TestResultsFragmentWeight: the answer to typing, for a design comparing
+// ten cells, stays within fragmentBudget and still holds every cell.
+func TestResultsFragmentWeight(t *testing.T) {
+	t.Parallel()
+	s, _ := newTestServer(t)
+	v := designValues()
+	v["cells.pick"] = tenCells
+	rec := postForm(t, s, "/results", v, true)
+	wantStatus(t, rec, http.StatusOK)
+	doc := parse(t, rec)
+	if n := doc.Find("[data-testid=candidate]").Length(); n != len(tenCells) {
+		t.Fatalf("%d candidates in the table, want %d", n, len(tenCells))
+	}
+	t.Logf("results fragment, 10 cells: %d bytes", rec.Body.Len())
+	if rec.Body.Len() > fragmentBudget {
+		t.Errorf("the results fragment for ten cells is %d bytes, over %d", rec.Body.Len(), fragmentBudget)
+	}
+}
