@@ -206,7 +206,7 @@ func (s *Server) postResults(c echo.Context) error {
 // its body; without JavaScript the card's button posts the same and gets
 // the whole page with that card open.
 func (s *Server) postCandidate(c echo.Context) error {
-	_, data, err := s.designFrom(c, fromPostedToken)
+	data, err := postedToken(c)
 	if err != nil {
 		return err
 	}
