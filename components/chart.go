@@ -38,9 +38,11 @@ type Tick struct {
 }
 
 // Series is one line: its legend name, the CSS class that draws it and its
-// points as an SVG points list.
+// points, as SVG path data (Path, which the charts here write) or as an
+// SVG points list (Points, drawn when Path is empty).
 type Series struct {
 	Name, Class, Points string
+	Path                string
 }
 
 // Bar is one bar of a histogram, in user units.
@@ -87,8 +89,8 @@ func VoltageChart(c *sizing.Curve) Chart {
 		{Y: ch.y(c.MinV), Label: "window bottom " + figures.SI(c.MinV, "V", 4), Class: "ref-bottom"},
 	}
 	ch.Series = []Series{
-		{Name: "Capacitor voltage", Class: "s-cap", Points: ch.points(c.TimeS, c.CapacitorV)},
-		{Name: "Terminal voltage", Class: "s-term", Points: ch.points(c.TimeS, c.TerminalV)},
+		{Name: "Capacitor voltage", Class: "s-cap", Path: ch.points(c.TimeS, c.CapacitorV)},
+		{Name: "Terminal voltage", Class: "s-term", Path: ch.points(c.TimeS, c.TerminalV)},
 	}
 	return ch
 }
@@ -99,7 +101,7 @@ func CurrentChart(c *sizing.Curve) Chart {
 	lo, hi := min(0, minOf(c.CurrentA)), max(0, maxOf(c.CurrentA))
 	ch := newChart("current", "Bank current", "Current (A)", c.TimeS, lo, hi)
 	ch.Desc = "Current out of the recommended bank at worst case over the sizing pass; negative is charging."
-	ch.Series = []Series{{Name: "Bank current (+ out of the bank)", Class: "s-current", Points: ch.points(c.TimeS, c.CurrentA)}}
+	ch.Series = []Series{{Name: "Bank current (+ out of the bank)", Class: "s-current", Path: ch.points(c.TimeS, c.CurrentA)}}
 	return ch
 }
 
@@ -122,7 +124,7 @@ func TemperatureChart(c *sizing.Curve) (Chart, bool) {
 	}
 	ch := newChart("temperature", "Cell temperature", "Temperature (°C)", c.TimeS, lo, hi)
 	ch.Desc = "Temperature of the hottest cell of the recommended bank by the thermal model over the sizing pass."
-	ch.Series = []Series{{Name: "Hottest cell", Class: "s-temp", Points: ch.points(c.TimeS, c.TemperatureC)}}
+	ch.Series = []Series{{Name: "Hottest cell", Class: "s-temp", Path: ch.points(c.TimeS, c.TemperatureC)}}
 	return ch, true
 }
 
@@ -154,7 +156,7 @@ func ProfileChart(p *sizing.ProfileCSV) Chart {
 	lo, hi := min(0, minOf(v)), max(0, maxOf(v))
 	ch := newChart("profile", title, yLabel, t, lo, hi)
 	ch.Desc = name + " of the logged load profile, each row held until the next; negative is charging."
-	ch.Series = []Series{{Name: name, Class: "s-profile", Points: ch.points(t, v)}}
+	ch.Series = []Series{{Name: name, Class: "s-profile", Path: ch.points(t, v)}}
 	return ch
 }
 
@@ -315,21 +317,16 @@ func (c *Chart) y(v float64) float64 {
 	return c.Bottom - (v-c.sc.y0)/(c.sc.y1-c.sc.y0)*(c.Bottom-c.Top)
 }
 
-// points lists the curve as SVG points, thinned to what the plot can show:
-// within each column of user units only the first, lowest, highest and last
-// point are kept, in time order, so steps and spikes keep their extremes.
+// points writes the curve as SVG path data, thinned to what the plot can
+// show: within each column of user units only the first, lowest, highest
+// and last point are kept, in time order, so steps and spikes keep their
+// extremes. The first point is absolute (M), each next one relative to the
+// one before (l), in the tenths of a unit coord writes: the offsets are
+// taken between the rounded positions, so the path passes through exactly
+// the points coord would write and no rounding builds up along it.
 func (c *Chart) points(t, v []float64) string {
 	n := min(len(t), len(v))
-	var b strings.Builder
-	b.Grow(n * 12)
-	write := func(i int) {
-		if b.Len() > 0 {
-			b.WriteByte(' ')
-		}
-		b.WriteString(coord(c.xu(t[i] / c.sc.tScale)))
-		b.WriteByte(',')
-		b.WriteString(coord(c.y(v[i])))
-	}
+	var keep []int
 	for i := 0; i < n; {
 		col := math.Floor(c.xu(t[i] / c.sc.tScale))
 		j := i
@@ -343,23 +340,139 @@ func (c *Chart) points(t, v []float64) string {
 				hi = j
 			}
 		}
-		keep := []int{i, lo, hi, j}
 		if hi < lo {
-			keep[1], keep[2] = hi, lo
+			lo, hi = hi, lo
 		}
-		last := -1
-		for _, k := range keep {
-			if k != last {
-				write(k)
-				last = k
+		for _, k := range [4]int{i, lo, hi, j} {
+			if len(keep) == 0 || keep[len(keep)-1] != k {
+				keep = append(keep, k)
 			}
 		}
 		i = j + 1
 	}
+	xs, ys := make([]float64, len(keep)), make([]float64, len(keep))
+	for k, i := range keep {
+		xs[k], ys[k] = c.xu(t[i]/c.sc.tScale), c.y(v[i])
+	}
+	return pathData(xs, ys)
+}
+
+// pathData is the polyline through (xs[i], ys[i]) as SVG path data: M to
+// the first point, then relative moves between the points rounded to a
+// tenth (see points). A position that is not finite makes the path
+// absolute throughout, so that it shows as coord writes it.
+func pathData(xs, ys []float64) string {
+	if len(xs) == 0 {
+		return ""
+	}
+	b := make([]byte, 0, 8*len(xs))
+	for i := range xs {
+		if !finite(xs[i]) || !finite(ys[i]) {
+			for k := range xs {
+				b = append(b, " L"[min(k, 1)])
+				b = append(append(append(b, coord(xs[k])...), ' '), coord(ys[k])...)
+			}
+			return "M" + string(b[1:])
+		}
+	}
+	x0, y0 := tenthsOf(xs[0]), tenthsOf(ys[0])
+	b = append(b, 'M')
+	b = appendTenths(b, x0)
+	b = appendNext(b, y0)
+	cmd := false
+	for i := 1; i < len(xs); i++ {
+		x, y := tenthsOf(xs[i]), tenthsOf(ys[i])
+		if x == x0 && y == y0 {
+			continue // a repeated point draws nothing
+		}
+		if !cmd {
+			b = append(b, 'l')
+			b = appendTenths(b, x-x0)
+			cmd = true
+		} else {
+			b = appendNext(b, x-x0)
+		}
+		b = appendNext(b, y-y0)
+		x0, y0 = x, y
+	}
+	return string(b)
+}
+
+// coord writes a position in user units to a tenth, as briefly as SVG
+// reads it: 58, 19.5, .5, -.5.
+func coord(v float64) string {
+	if !finite(v) {
+		return strconv.FormatFloat(v, 'f', 1, 64)
+	}
+	return string(appendTenths(nil, tenthsOf(v)))
+}
+
+// tenthsOf is v rounded to a tenth, as a count of tenths, rounded as
+// strconv rounds to one decimal (the decimal nearest to v's exact value).
+func tenthsOf(v float64) int64 {
+	var buf [32]byte
+	var n int64
+	neg := false
+	for _, ch := range strconv.AppendFloat(buf[:0], v, 'f', 1, 64) {
+		switch {
+		case ch == '-':
+			neg = true
+		case ch >= '0' && ch <= '9':
+			n = n*10 + int64(ch-'0')
+		}
+	}
+	if neg {
+		return -n
+	}
+	return n
+}
+
+// appendTenths writes n tenths in the fewest characters.
+func appendTenths(b []byte, n int64) []byte {
+	if n < 0 {
+		b = append(b, '-')
+		n = -n
+	}
+	if n >= 10 || n == 0 {
+		b = strconv.AppendInt(b, n/10, 10)
+	}
+	if r := n % 10; r != 0 {
+		b = append(b, '.', byte('0'+r))
+	}
+	return b
+}
+
+// appendNext writes the next number of a list: a minus sign separates
+// it by itself, any other number takes a space.
+func appendNext(b []byte, n int64) []byte {
+	if n >= 0 {
+		b = append(b, ' ')
+	}
+	return appendTenths(b, n)
+}
+
+// gridPath is the grid as one path: a horizontal line at each y tick and a
+// vertical one at each x tick, across the plot.
+func gridPath(left, right, top, bottom float64, xTicks, yTicks []Tick) string {
+	var b strings.Builder
+	for _, t := range yTicks {
+		b.WriteString("M" + coord(left) + " " + coord(t.Pos) + "H" + coord(right))
+	}
+	for _, t := range xTicks {
+		b.WriteString("M" + coord(t.Pos) + " " + coord(top) + "V" + coord(bottom))
+	}
 	return b.String()
 }
 
-func coord(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
+// barsPath is the histogram's bars as one path of closed rectangles, each
+// the one its Bar gives, to a tenth.
+func barsPath(bars []Bar) string {
+	var b strings.Builder
+	for _, r := range bars {
+		b.WriteString("M" + coord(r.X) + " " + coord(r.Y) + "h" + coord(r.W) + "v" + coord(r.H) + "h" + coord(-r.W) + "z")
+	}
+	return b.String()
+}
 
 // niceTicks returns tick values at a 1, 2 or 5 × 10ⁿ step covering
 // [lo, hi] with about n ticks, and the axis range: the outer ticks, or the

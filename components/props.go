@@ -205,6 +205,10 @@ type ResultsProps struct {
 	// SavedVersion is the version it was opened at.
 	SavedID, SavedName, SavedVersion string
 	CanSave                          bool
+	// OpenCell is the candidate whose card is shown open, its figures
+	// written out; the other cards fetch theirs when opened (see
+	// CandidateDetails). "" for none.
+	OpenCell string
 }
 
 // ProfileProps is a logged load profile as the form shows it: a summary

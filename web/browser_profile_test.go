@@ -49,7 +49,7 @@ func TestBrowserProfileSaveReopenShare(t *testing.T) {
 		if n := run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=step-row]").length`), "counting step rows"); n != 0 {
 			t.Errorf("%s: %d step rows beside the profile, want none", when, n)
 		}
-		if n := run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=chart-profile] polyline").length`), "finding the chart"); n != 1 {
+		if n := run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=chart-profile] svg[role=img] .series").length`), "finding the chart"); n != 1 {
 			t.Errorf("%s: %d profile chart lines, want 1", when, n)
 		}
 		return waitText(t, ctx, "[data-testid=bank]", "×", when)

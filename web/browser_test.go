@@ -230,7 +230,7 @@ func TestBrowserSizesABankAsYouType(t *testing.T) {
 			t.Errorf("the voltage chart lacks %q", label)
 		}
 	}
-	if n := run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=chart-voltage] polyline").length`), "counting lines"); n != 2 {
+	if n := run(t, ctx, chromedp.Evaluate[int](`document.querySelectorAll("[data-testid=chart-voltage] svg[role=img] .series").length`), "counting lines"); n != 2 {
 		t.Errorf("voltage chart has %d lines, want terminal and capacitor", n)
 	}
 	saveScreenshot(t, ctx, "results-1280.png")

@@ -205,8 +205,10 @@ func TestExportOtherCandidate(t *testing.T) {
 	if doc.Find("#cand-"+*rep.Recommended).Length() != 0 || strings.Contains(text(doc, ".details-list"), "continue") {
 		t.Error("the recommended bank is listed among the other candidates")
 	}
-	// The page offers a download bar for it.
-	if n := parse(t, page).Find(`[data-testid=download-bar][data-cell="` + other.CellID + `"] button`).Length(); n != 5 {
+	// Its card, once opened (it loads then), offers a download bar for it.
+	card := postExport(t, s, "/results/candidate?cell="+other.CellID, token, "")
+	wantStatus(t, card, http.StatusOK)
+	if n := parse(t, card).Find(`details.cand[open] [data-testid=download-bar][data-cell="` + other.CellID + `"] button`).Length(); n != 5 {
 		t.Errorf("%d download buttons for %s, want 5", n, other.CellID)
 	}
 	rec := postExport(t, s, "/export/boq-json", token, other.CellID)

@@ -82,7 +82,7 @@ func (s *Server) refuseCrossOrigin(next echo.HandlerFunc) echo.HandlerFunc {
 // or measure what the request carries, and need no token. Every other
 // request that is not GET, HEAD or OPTIONS is a write.
 var computeOnly = map[string]bool{
-	"/": true, "/results": true, "/workspace": true, "/export/:format": true, "/measure": true,
+	"/": true, "/results": true, "/results/candidate": true, "/workspace": true, "/export/:format": true, "/measure": true,
 	"/api/v1/size": true, "/api/v1/measure": true, "/unlock": true,
 	// The add-cell form filled from a measured cell's JSON; the add itself
 	// is POST /library.

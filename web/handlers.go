@@ -1,7 +1,9 @@
 package web
 
 import (
+	"bytes"
 	"capbank/web/form"
+	"capbank/web/share"
 	"context"
 	"encoding/json"
 	"errors"
@@ -71,7 +73,7 @@ func evaluateDesign(ctx context.Context, f *form.Form, lib form.CellLookup) *eva
 		return ev
 	}
 	if f.LastGood != "" && len(f.LastGood) <= maxLastGood {
-		if d, err := sizing.DecodeDesign(strings.NewReader(f.LastGood)); err == nil {
+		if d, err := lastGoodDesign(f.LastGood); err == nil {
 			if rep, err := sizing.SizeContext(ctx, d); err == nil {
 				ev.report, ev.sized, ev.stale = rep, d, true
 			}
@@ -130,6 +132,9 @@ func (s *Server) getPage(c echo.Context) error {
 			return err
 		}
 		return s.renderPage(c, http.StatusOK, ev)
+	}
+	if isExamplePage(c.Request()) {
+		return s.getExamplePage(c)
 	}
 	return s.renderPage(c, http.StatusOK, evaluate(c.Request().Context(), exampleForm(), s.lookup(c)))
 }
@@ -195,8 +200,60 @@ func (s *Server) postResults(c echo.Context) error {
 	return s.render(c, http.StatusOK, components.ResultsUpdate(p.Results, slots, units, p.Form.Problems))
 }
 
+// postCandidate is POST /results/candidate?cell=ID: the card of one
+// candidate of the results, sized from the share token d they carry (the
+// export form's). htmx asks for it when a folded card opens and swaps in
+// its body; without JavaScript the card's button posts the same and gets
+// the whole page with that card open.
+func (s *Server) postCandidate(c echo.Context) error {
+	data, err := postedToken(c)
+	if err != nil {
+		return err
+	}
+	f, err := s.formFromJSON(c, data)
+	if err != nil {
+		return err
+	}
+	ev, err := s.evaluateWithin(c, f)
+	if err != nil {
+		return err
+	}
+	id := c.QueryParam("cell")
+	var cand *sizing.Candidate
+	if ev.report != nil {
+		for i := range ev.report.Candidates {
+			if ev.report.Candidates[i].CellID == id {
+				cand = &ev.report.Candidates[i]
+			}
+		}
+	}
+	if cand == nil {
+		return exportRefused("cell", fmt.Sprintf("%q is not a candidate of this design: pick it among the cells first", id))
+	}
+	if c.Request().Header.Get("HX-Request") == "true" {
+		return s.render(c, http.StatusOK, components.CandidateBody(resultsProps(ev), *cand))
+	}
+	p := s.pageProps(ev, s.cellPicks(c, ev.form))
+	p.Results.OpenCell = id
+	return s.render(c, http.StatusOK, components.Page(p))
+}
+
+// lastGoodDesign decodes the last design that sized as the form carries
+// it back (see resultsProps): the share token of its results, or its
+// design file where it had no token.
+func lastGoodDesign(carried string) (*sizing.Design, error) {
+	data := []byte(carried)
+	if !strings.HasPrefix(strings.TrimSpace(carried), "{") {
+		var err error
+		if data, err = share.DecodePosted(carried); err != nil {
+			return nil, err
+		}
+	}
+	return sizing.DecodeDesign(bytes.NewReader(data))
+}
+
 // lastGoodJSON is the design file of a design that sized, for the form to
-// carry; "" when it is too large to carry.
+// carry where it has no share token; "" when it is too large to carry.
 func lastGoodJSON(d *sizing.Design) string {
 	data, err := json.Marshal(d)
 	if err != nil || len(data) > maxLastGood {

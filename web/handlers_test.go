@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"capbank/components"
 	"capbank/web/form"
 	"capbank/web/store"
 	"compress/gzip"
@@ -252,8 +253,8 @@ func TestPostPageKeepsStaleResults(t *testing.T) {
 	s, _ := newTestServer(t)
 	good := parse(t, postForm(t, s, "/", designValues(), false))
 	last, ok := good.Find(`input[name=last_good]`).Attr("value")
-	if !ok || !strings.Contains(last, `"max_v":48`) {
-		t.Fatalf("last_good = %q", last)
+	if d, err := lastGoodDesign(last); !ok || err != nil || d.Window.MaxV != 48 {
+		t.Fatalf("last_good = %q: %v", last, err)
 	}
 	v := designValues()
 	v.Set("window.max_v", "20")
@@ -271,6 +272,14 @@ func TestPostPageKeepsStaleResults(t *testing.T) {
 	if got := text(doc, "#msg-window-min_v"); !strings.Contains(got, "must be below the window top") {
 		t.Errorf("message %q", got)
 	}
+	// The design file in place of the token (a design too large for one)
+	// gives the same stale results.
+	d, _ := lastGoodDesign(last)
+	v.Set("last_good", lastGoodJSON(d))
+	doc = parse(t, postForm(t, s, "/", v, false))
+	if got, want := text(doc, "[data-testid=bank]"), wantBank(t); got != want {
+		t.Errorf("stale headline from the design file %q, want %q", got, want)
+	}
 }
 
 // The htmx update returns the results panel and the field messages out of
@@ -287,8 +296,12 @@ func TestPostResultsFragment(t *testing.T) {
 	if got, want := text(doc, "#results [data-testid=bank]"), wantBank(t); got != want {
 		t.Errorf("headline %q, want %q", got, want)
 	}
-	if n := doc.Find(`[hx-swap-oob=true]#msg-window-min_v`).Length(); n != 1 {
-		t.Errorf("%d out-of-band slots for window.min_v", n)
+	// A design without problems clears every message at once and sets none.
+	if got, _ := doc.Find(`[hx-swap-oob^="innerHTML:"]`).Attr("hx-swap-oob"); got != "innerHTML:"+components.MessageSlots {
+		t.Errorf("the message-clearing element swaps %q", got)
+	}
+	if n := doc.Find(`.msg[hx-swap-oob]`).Length(); n != 0 {
+		t.Errorf("%d messages sent for a design without problems", n)
 	}
 	if rec.Header().Get("HX-Retarget") != "" {
 		t.Error("a valid design must not retarget")

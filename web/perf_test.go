@@ -218,6 +218,28 @@ func BenchmarkResultsFragment10Cells(b *testing.B) {
 	b.ReportMetric(float64(len(body))/1000, "fragment_html_kB")
 }
 
+// BenchmarkCandidateCard is what opening a folded candidate card of the
+// 10-cell results costs: POST /results/candidate?cell=ID from htmx with
+// the results' token, answered with the card's body (server time, and its
+// HTML in kB). The design is sized again for it.
+func BenchmarkCandidateCard(b *testing.B) {
+	s, _ := newTestServer(b)
+	v := designValues()
+	v["cells.pick"] = tenCells
+	token := pageToken(b, postForm(b, s, "/results", v, true))
+	card := url.Values{"d": {token}}
+	target := "/results/candidate?cell=" + tenCells[0]
+	rec := postForm(b, s, target, card, true)
+	wantStatus(b, rec, http.StatusOK)
+	for b.Loop() {
+		if rec := postForm(b, s, target, card, true); rec.Code != http.StatusOK {
+			b.Fatalf("status %d", rec.Code)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N), "ms/card")
+	b.ReportMetric(float64(rec.Body.Len())/1000, "card_html_kB")
+}
+
 // discardWriter is a ResponseWriter that counts the body and keeps none of
 // it, so that a benchmark's allocations are the server's.
 type discardWriter struct {

@@ -97,6 +97,8 @@ type Server struct {
 	assets map[string]staticAsset
 	// guard refuses cross-site writes and, with a token, writes without it.
 	guard *guard
+	// example is the first page as last rendered (examplePage).
+	example examplePage
 }
 
 // New builds the server and its routes.
@@ -129,6 +131,7 @@ func New(cfg Config) *Server {
 	e.POST("/", s.postPage)
 	e.POST("/workspace", s.postWorkspace)
 	e.POST("/results", s.postResults)
+	e.POST("/results/candidate", s.postCandidate)
 	e.POST("/export/:format", s.postExport)
 	e.GET("/healthz", s.healthz)
 	e.GET("/measure", s.getMeasure)
@@ -149,10 +152,13 @@ func New(cfg Config) *Server {
 // serverGzipLevel when the client lists gzip in Accept-Encoding and the
 // answer reaches gzipMinBytes; a client that does not ask (an API client
 // without Accept-Encoding) gets the answer as it is. Static files are
-// skipped: they are compressed once (staticFile).
+// skipped: they are compressed once (staticFile), and so is the first
+// page (examplePage).
 func compressAnswers() echo.MiddlewareFunc {
 	return middleware.GzipWithConfig(middleware.GzipConfig{Level: serverGzipLevel, MinLength: gzipMinBytes,
-		Skipper: func(c echo.Context) bool { return strings.HasPrefix(c.Request().URL.Path, "/static/") }})
+		Skipper: func(c echo.Context) bool {
+			return strings.HasPrefix(c.Request().URL.Path, "/static/") || isExamplePage(c.Request())
+		}})
 }
 
 // ServeHTTP serves a request.

@@ -343,10 +343,15 @@ func resultsProps(ev *evaluation) components.ResultsProps {
 		return p
 	}
 	r := ev.report
-	if !ev.stale {
-		p.LastGood = lastGoodJSON(ev.sized)
-	}
 	p.Token, p.TokenNote, p.LinkNote = designToken(ev.sized)
+	if !ev.stale {
+		// The form carries the design back as its token, a tenth of its
+		// design file written into an attribute.
+		p.LastGood = p.Token
+		if p.LastGood == "" {
+			p.LastGood = lastGoodJSON(ev.sized)
+		}
+	}
 	if ev.stale {
 		p.Stale = true
 		p.Status = staleStatus(n)
