@@ -247,6 +247,10 @@ func (m Model) collapseMargin(l Load, y []float64) float64 {
 	return s*s/(4*g*g) - l.Value/g
 }
 
+// quadratures is the number of integrals carried after the branch
+// voltages (see system.Derivative).
+const quadratures = 4
+
 // system is the ODE of a model under a load.
 type system struct {
 	m   Model
@@ -257,7 +261,11 @@ type system struct {
 func (sy *system) Derivative(_ float64, y, dy []float64) {
 	u, i, _ := sy.m.Terminal(sy.l, y)
 	n := sy.m.Branches()
-	dy[n], dy[n+1] = i, u*i
+	dy[n], dy[n+1], dy[n+2] = i, u*i, i*i
+	dy[n+3] = 0
+	if sy.m.LeakageOhm > 0 {
+		dy[n+3] = u * u / sy.m.LeakageOhm
+	}
 	c0 := sy.m.C0F + sy.m.KvFPerV*y[0]
 	if !(c0 > 0) {
 		sy.bad = y[0]

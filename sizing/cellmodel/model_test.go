@@ -249,3 +249,34 @@ func TestChargeBalanceThreeBranch(t *testing.T) {
 		t.Errorf("terminal after 600 s rest %.6g V, not above %.6g V at the start of the rest", r2.EndTerminalV, r2.StartTerminalV)
 	}
 }
+
+// TestEnergyBalanceWithLeakage checks, for a three-branch model with a
+// leakage and a voltage coefficient under constant power, that the
+// stored energy lost equals the energy out plus the leakage loss plus the
+// branch resistances' loss ≥ 0, and that with one branch (the ideal RC)
+// the resistive loss is exactly R·∫i²dt (energy conservation, circuit
+// theory).
+func TestEnergyBalanceWithLeakage(t *testing.T) {
+	t.Parallel()
+	m := Model{RiOhm: 2e-3, C0F: 500}
+	s := NewSim(m, 2.7, Tolerances{})
+	e0 := m.Energy(s.State())
+	r := mustRun(t, s, Load{Kind: Power, Value: 200}, 3, Limits{})
+	loss := e0 - m.Energy(s.State()) - r.EnergyOutJ
+	if relDiff(loss, m.RiOhm*r.I2dtA2s) > 1e-8 || r.LeakageJ != 0 {
+		t.Errorf("loss %.12g J, want R·∫i²dt = %.12g J (leakage %g J)", loss, m.RiOhm*r.I2dtA2s, r.LeakageJ)
+	}
+	// Peak current at the end: P/u_min.
+	if relDiff(r.PeakCurrentA, 200/r.MinTerminalV) > 1e-12 {
+		t.Errorf("peak %.12g A, want P/u_min = %.12g A", r.PeakCurrentA, 200/r.MinTerminalV)
+	}
+	ml := Model{RiOhm: 2.5e-3, C0F: 1500, KvFPerV: 150, Slow: []Branch{{0.9, 100}, {5.2, 200}}, LeakageOhm: 20}
+	sl := NewSim(ml, 2.7, Tolerances{})
+	r1 := mustRun(t, sl, Load{Kind: Rest}, 100, Limits{})
+	// Rest: nearly all the loss is the leakage; the rest is its current
+	// through the branch resistances (positive, ~1e-4 of it here).
+	fell := ml.Energy(ml.RestState(2.7)) - ml.Energy(sl.State())
+	if d := fell - r1.LeakageJ; !(d > 0 && d < 1e-3*fell) {
+		t.Errorf("leakage loss %.12g J, stored energy fell %.12g J", r1.LeakageJ, ml.Energy(ml.RestState(2.7))-ml.Energy(sl.State()))
+	}
+}

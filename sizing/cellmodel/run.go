@@ -16,10 +16,11 @@ type Sim struct {
 
 // NewSim starts m after a long rest at v0 volts (every branch at v0).
 func NewSim(m Model, v0 float64, tol Tolerances) *Sim {
-	// The state carries two quadratures after the branch voltages: the
-	// charge and the energy out of the terminals.
-	y := append(m.RestState(v0), 0, 0)
-	return &Sim{m: m, y: y, it: newIntegratorQuad(m.Branches(), 2, tol)}
+	// The state carries quadratures after the branch voltages: the
+	// charge and the energy out of the terminals, ∫i²dt and the energy
+	// lost in the leakage.
+	y := append(m.RestState(v0), 0, 0, 0, 0)
+	return &Sim{m: m, y: y, it: newIntegratorQuad(m.Branches(), quadratures, tol)}
 }
 
 // State returns a copy of the branch voltages, in V, immediate first.
@@ -88,6 +89,13 @@ type StepResult struct {
 	// ChargeOutC, in C, and EnergyOutJ, in J, are what left the terminals
 	// (negative: taken in), integrated with the branch voltages.
 	ChargeOutC, EnergyOutJ float64
+	// I2dtA2s, in A²·s, is ∫i²dt of the terminal current; LeakageJ, in J,
+	// the energy lost in the leakage across the terminals.
+	I2dtA2s, LeakageJ float64
+	// PeakCurrentA, in A, is the largest |i| at the terminals seen at the
+	// points where the terminal voltage was tracked (exact for steps whose
+	// current is monotone in time).
+	PeakCurrentA float64
 	// SampleTerminalV are the terminal voltages at the sample times asked
 	// for (NaN for a sample after the stop).
 	SampleTerminalV []float64
@@ -133,16 +141,21 @@ func (s *Sim) Run(l Load, durationS float64, lim Limits, samplesS []float64) (St
 	}
 	t0 := s.t
 	nb := s.m.Branches()
-	s.y[nb], s.y[nb+1] = 0, 0
+	for k := range quadratures {
+		s.y[nb+k] = 0
+	}
 	yq := make([]float64, len(s.y))
 	note := func(u float64) {
 		res.MinTerminalV = math.Min(res.MinTerminalV, u)
 		res.MaxTerminalV = math.Max(res.MaxTerminalV, u)
 	}
+	_, i0, _ := s.m.Terminal(l, s.y)
+	res.PeakCurrentA = math.Abs(i0)
 	onStep := func(st *Step, tEnd float64) {
 		st.At(tEnd, yq)
-		u, _, _ := s.m.Terminal(l, yq)
+		u, i, _ := s.m.Terminal(l, yq)
 		note(u)
+		res.PeakCurrentA = math.Max(res.PeakCurrentA, math.Abs(i))
 		for k, ts := range samplesS {
 			if ta := t0 + ts; ta >= st.T0 && ta <= tEnd {
 				st.At(ta, yq)
@@ -158,7 +171,7 @@ func (s *Sim) Run(l Load, durationS float64, lim Limits, samplesS []float64) (St
 	if sys.bad != 0 || (s.m.C0F+s.m.KvFPerV*s.y[0]) <= 0 {
 		return res, fmt.Errorf("cellmodel: the immediate branch's capacitance C0 + Kv·v fell to zero or below at v = %g V: the model does not hold at this voltage", sys.bad)
 	}
-	res.ChargeOutC, res.EnergyOutJ = s.y[nb], s.y[nb+1]
+	res.ChargeOutC, res.EnergyOutJ, res.I2dtA2s, res.LeakageJ = s.y[nb], s.y[nb+1], s.y[nb+2], s.y[nb+3]
 	res.DurationS = r.t - t0
 	s.t = r.t
 	res.Stop = Completed
