@@ -6,7 +6,7 @@ import (
 	"math"
 )
 
-// The Dormand–Prince 5(4) pair (Dormand & Prince 1980, REFERENCES.md):
+// The Dormand–Prince 5(4) pair (Dormand & Prince 1980, REFERENCES.md 12.9):
 // seven stages, the last evaluated at the new point (first same as last),
 // a fifth-order solution and an embedded fourth-order one whose difference
 // estimates the local error. Dense output is Shampine's quartic

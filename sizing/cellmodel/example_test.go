@@ -6,7 +6,7 @@ import (
 	"capbank/sizing/cellmodel"
 )
 
-// A two-branch cell (REFERENCES.md 11.9) in a 6-series string delivers
+// A two-branch cell (REFERENCES.md 9.2) in a 6-series string delivers
 // 30 W from a long rest at 15 V until its terminals reach 8 V, then rests
 // for a minute while the slow branch lifts the terminal voltage.
 func Example() {

@@ -6,7 +6,7 @@ import (
 )
 
 // Model is a cell or a bank as parallel branches between its terminals
-// (Zubieta & Bonert 2000; Faranda 2007; REFERENCES.md 9.1, 11.8, 11.9):
+// (Zubieta & Bonert 2000; Faranda 2007; REFERENCES.md 9.1, 9.2):
 //
 //   - the immediate branch: resistance RiOhm in series with a capacitance
 //     whose differential value rises with its own voltage v₀,
@@ -42,7 +42,7 @@ type Branch struct {
 // Bank is the model of series cells in a string times parallel strings,
 // all alike: resistances × s/p, capacitances × p/s; the voltage coefficient
 // stays on the per-cell voltage, so the bank's charge p·q(V/s) gives
-// Kv × p/s² on the bank voltage.
+// Kv × p/s² on the bank voltage (REFERENCES.md 9.3).
 func (m Model) Bank(series, parallel int) Model {
 	if series < 1 || parallel < 1 {
 		panic(fmt.Sprintf("cellmodel: bank of %d × %d cells", series, parallel))

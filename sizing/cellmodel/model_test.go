@@ -121,7 +121,7 @@ func TestIdealRCAgainstClosedForms(t *testing.T) {
 
 // TestRagoneConstantPower checks the energy a 3 F, 50 mΩ series RC
 // delivers at constant power from 2.7 V (at rest) to a 1.2 V terminal:
-// REFERENCES.md 11.10, the published closed form
+// REFERENCES.md 10.12, the published closed form
 // E = C/2·(−R·P·ln(U0²/Uf²) + U0² − Uf²), U0 = Ui/2 + √(Ui²/4 − R·P),
 // and the figures computed from it, quoted to 5 digits (1e-4 relative).
 func TestRagoneConstantPower(t *testing.T) {

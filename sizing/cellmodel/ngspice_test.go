@@ -122,7 +122,7 @@ func TestNgspiceAgreesWithModels(t *testing.T) {
 	bin := ngspiceOrSkip(t)
 	t.Parallel()
 	f := func(x float64) *float64 { return &x }
-	// REFERENCES.md 11.9's two-branch set; an invented three-branch cell.
+	// REFERENCES.md 9.2's two-branch set; an invented three-branch cell.
 	two := cellmodel.Spec{Kind: cellmodel.KindTwoBranch, R0Ohm: f(10.0478e-3), C0F: f(89.03), KvFPerV: f(29.1062),
 		R2Ohm: f(17.4976), C2F: f(13.7162), RleakOhm: f(5000)}
 	three := cellmodel.Spec{Kind: cellmodel.KindThreeBranch, RiOhm: f(2.5e-3), Ci0F: f(1100), Ci1FPerV: f(190),

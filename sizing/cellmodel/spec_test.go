@@ -10,7 +10,7 @@ import (
 
 func f64(x float64) *float64 { return &x }
 
-// twoBranchSpec is the two-branch parameter set of REFERENCES.md 11.9.
+// twoBranchSpec is the two-branch parameter set of REFERENCES.md 9.2.
 func twoBranchSpec() Spec {
 	return Spec{Kind: KindTwoBranch, R0Ohm: f64(10.0478e-3), C0F: f64(89.03), KvFPerV: f64(29.1062),
 		R2Ohm: f64(17.4976), C2F: f64(13.7162), RleakOhm: f64(5000)}

@@ -21,8 +21,7 @@ import (
 //
 // This is the same equation as a behavioural source I = ddt(C0·V + Kv·V²/2);
 // ngspice 39 cannot start that form from a charged state (its ddt history
-// starts at zero charge, REFERENCES.md 11.12, and the step size collapses
-// even for a linear charge), while the charge node starts where it should.
+// starts at zero charge, REFERENCES.md 12.10), while the charge node starts where it should.
 func (m Model) WriteSubckt(w io.Writer, name string, v0 float64) error {
 	var b strings.Builder
 	line := func(format string, a ...any) { fmt.Fprintf(&b, format+"\n", a...) }
