@@ -20,9 +20,14 @@ import (
 // leakage_a and the balancing drains sit across the cell terminals, beside
 // the model's rleak_ohm.
 //
+// Charging steps (negative current or power) charge until the immediate
+// branch reaches the window top, then the terminals are held there for
+// the rest of the step (a charger's constant-voltage phase); what the
+// source offered and the bank did not take is reported as rejected.
+//
 // What it does not solve yet, and Validate refuses by field for a cell
-// with a model: resistor steps, charging steps, the converter's efficiency
-// curve and input current limit, wiring resistance and the thermal limit.
+// with a model: the converter's efficiency curve and input current limit,
+// wiring resistance and the thermal limit.
 // The stored-energy, safety and charging figures still use the cell's
 // capacitance_f and esr_ohm (a flag says so), and the lot analysis is not
 // run on such a cell.
@@ -67,20 +72,6 @@ func modelRules(d *Design) ValidationError {
 		return errs
 	}
 	mp := fmt.Sprintf("cells[%d].model", first)
-	for j, s := range d.Load.Steps {
-		sp := fmt.Sprintf("load.steps[%d]", j)
-		switch {
-		case s.ResistanceOhm != nil:
-			add(sp+".resistance_ohm", "model_unsupported",
-				"a resistor step is not yet solved on a cell model (%s): give the load as current or power, or remove the model", mp)
-		case s.PowerW != nil && *s.PowerW < 0:
-			add(sp+".power_w", "model_unsupported",
-				"a charging step is not yet solved on a cell model (%s): remove the step or the model", mp)
-		case s.CurrentA != nil && *s.CurrentA < 0:
-			add(sp+".current_a", "model_unsupported",
-				"a charging step is not yet solved on a cell model (%s): remove the step or the model", mp)
-		}
-	}
 	if cv := d.Converter; cv != nil {
 		if len(cv.EfficiencyCurve) > 0 {
 			add("converter.efficiency_curve", "model_unsupported",
@@ -133,6 +124,8 @@ func modelLoad(st compiledStep) cellmodel.Load {
 		return cellmodel.Load{Kind: cellmodel.Current, Value: st.x}
 	case kindPower:
 		return cellmodel.Load{Kind: cellmodel.Power, Value: st.x}
+	case kindResistance:
+		return cellmodel.Load{Kind: cellmodel.Resistor, Value: st.x}
 	case kindRest:
 		return cellmodel.Load{Kind: cellmodel.Rest}
 	}
@@ -151,25 +144,59 @@ func (p *plan) runModelSteps(r *modelRun, repeat int, minV float64) {
 				return
 			}
 			e0 := r.bank.Energy(r.sim.State())
-			o, err := r.sim.Run(modelLoad(st), st.dur, cellmodel.Limits{MinV: minV}, nil)
+			load := modelLoad(st)
+			lim := cellmodel.Limits{MinV: minV}
+			charging := (st.kind == kindCurrent || st.kind == kindPower) && st.x < 0
+			if charging {
+				// Held at the window top once the immediate branch gets
+				// there, as the ideal RC's capacitor is.
+				lim.MaxBranchV = p.maxV
+			}
+			o, err := r.sim.Run(load, st.dur, lim, nil)
 			if err != nil {
 				r.err = err
 				s.stop, s.stopStep = stopPower, j
 				return
 			}
-			y := r.sim.State()
-			s.t += o.DurationS
-			s.v = y[0]
-			s.minU = min(s.minU, o.MinTerminalV)
-			s.peakI = max(s.peakI, o.PeakCurrentA)
-			s.i2dt += o.I2dtA2s
-			if o.DurationS > 0 {
-				s.maxI2 = max(s.maxI2, o.I2dtA2s/o.DurationS)
+			dur, i2dt, eLoad, eLeak := o.DurationS, o.I2dtA2s, o.EnergyOutJ, o.LeakageJ
+			minU, peakI := o.MinTerminalV, o.PeakCurrentA
+			if rem := st.dur - o.DurationS; charging && o.Stop == cellmodel.Ceiling && rem > 0 {
+				// The charger's constant-voltage hold at the window top
+				// for the rest of the step: what it offered and the bank
+				// did not take is rejected.
+				offered := -st.x * rem // power: |P| over the hold
+				if st.kind == kindCurrent {
+					offered = -st.x * o.EndTerminalV * rem
+				}
+				h, err := r.sim.Run(cellmodel.Load{Kind: cellmodel.Voltage, Value: p.maxV}, rem, cellmodel.Limits{}, nil)
+				if err != nil {
+					r.err = err
+					s.stop, s.stopStep = stopPower, j
+					return
+				}
+				dur += h.DurationS
+				i2dt += h.I2dtA2s
+				eLoad += h.EnergyOutJ
+				eLeak += h.LeakageJ
+				minU, peakI = min(minU, h.MinTerminalV), max(peakI, h.PeakCurrentA)
+				if rej := offered + h.EnergyOutJ; rej > 0 {
+					s.reject += rej
+				}
+				o.Stop = cellmodel.Completed
 			}
-			s.eLoad += o.EnergyOutJ
-			s.eOut += o.EnergyOutJ * st.toLoad
-			r.eLeak += o.LeakageJ
-			r.eBranches += e0 - r.bank.Energy(y) - o.EnergyOutJ - o.LeakageJ
+			y := r.sim.State()
+			s.t += dur
+			s.v = y[0]
+			s.minU = min(s.minU, minU)
+			s.peakI = max(s.peakI, peakI)
+			s.i2dt += i2dt
+			if dur > 0 {
+				s.maxI2 = max(s.maxI2, i2dt/dur)
+			}
+			s.eLoad += eLoad
+			s.eOut += eLoad * st.toLoad
+			r.eLeak += eLeak
+			r.eBranches += e0 - r.bank.Energy(y) - eLoad - eLeak
 			s.steps++
 			switch o.Stop {
 			case cellmodel.WindowBottom:

@@ -280,3 +280,21 @@ func TestEnergyBalanceWithLeakage(t *testing.T) {
 		t.Errorf("leakage loss %.12g J, stored energy fell %.12g J", r1.LeakageJ, ml.Energy(ml.RestState(2.7))-ml.Energy(sl.State()))
 	}
 }
+
+// TestBranchCeilingAndHold charges an ideal RC at constant current until
+// its capacitor reaches 2.5 V (t = C·(2.5 − 2)/I), then holds the
+// terminals at 2.5 V: with no leakage and the capacitor at 2.5 V nothing
+// more flows (circuit theory).
+func TestBranchCeilingAndHold(t *testing.T) {
+	t.Parallel()
+	m := idealRC(0.01, 100)
+	s := NewSim(m, 2, Tolerances{})
+	r := mustRun(t, s, Load{Kind: Current, Value: -10}, 60, Limits{MaxBranchV: 2.5})
+	if want := 100 * 0.5 / 10.0; r.Stop != Ceiling || relDiff(r.DurationS, want) > 1e-9 || relDiff(r.EndTerminalV, 2.6) > 1e-9 {
+		t.Errorf("stop %v after %.12g s at %.12g V, want ceiling after %.12g s at 2.6 V", r.Stop, r.DurationS, r.EndTerminalV, want)
+	}
+	h := mustRun(t, s, Load{Kind: Voltage, Value: 2.5}, 55, Limits{})
+	if math.Abs(h.ChargeOutC) > 1e-9 || relDiff(s.State()[0], 2.5) > 1e-12 {
+		t.Errorf("hold: charge %.3g C, capacitor %.12g V; want 0 C, 2.5 V", h.ChargeOutC, s.State()[0])
+	}
+}

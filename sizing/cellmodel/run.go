@@ -53,7 +53,8 @@ const (
 	// Collapse: the power load asked for more than the branches can
 	// deliver at any terminal voltage (the peak S²/(4G) fell below it).
 	Collapse
-	// Ceiling: the terminal voltage rose to Limits.MaxV.
+	// Ceiling: the terminal voltage rose to Limits.MaxV, or the
+	// immediate branch's voltage to Limits.MaxBranchV.
 	Ceiling
 )
 
@@ -71,9 +72,12 @@ func (s Stop) String() string {
 	return fmt.Sprintf("Stop(%d)", int(s))
 }
 
-// Limits are the terminal voltages, in V, that end a step early; 0: none.
+// Limits are the voltages, in V, that end a step early; 0: none. MinV
+// and MaxV are terminal voltages; MaxBranchV is the immediate branch's
+// capacitor voltage (the counterpart of the ideal RC's capacitor voltage,
+// where a charger's hold at the window top begins).
 type Limits struct {
-	MinV, MaxV float64
+	MinV, MaxV, MaxBranchV float64
 }
 
 // StepResult is what a step did.
@@ -133,6 +137,10 @@ func (s *Sim) Run(l Load, durationS float64, lim Limits, samplesS []float64) (St
 		})
 		kinds = append(kinds, Ceiling)
 	}
+	if lim.MaxBranchV > 0 {
+		events = append(events, func(_ float64, y []float64) float64 { return lim.MaxBranchV - y[0] })
+		kinds = append(kinds, Ceiling)
+	}
 	u0, _, _ := s.m.Terminal(l, s.y)
 	res := StepResult{StartTerminalV: u0, MinTerminalV: u0, MaxTerminalV: u0}
 	res.SampleTerminalV = make([]float64, len(samplesS))
@@ -183,7 +191,9 @@ func (s *Sim) Run(l Load, durationS float64, lim Limits, samplesS []float64) (St
 	case WindowBottom:
 		u1 = lim.MinV
 	case Ceiling:
-		u1 = lim.MaxV
+		if lim.MaxV > 0 && math.Abs(u1-lim.MaxV) < math.Abs(s.y[0]-lim.MaxBranchV) {
+			u1 = lim.MaxV
+		}
 	}
 	res.EndTerminalV = u1
 	note(u1)
