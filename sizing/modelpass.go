@@ -25,9 +25,15 @@ import (
 // the rest of the step (a charger's constant-voltage phase); what the
 // source offered and the bank did not take is reported as rejected.
 //
+// Power steps follow the converter's efficiency curve where the design
+// gives one (the bank power P_L/η(u) at each terminal voltage u; the
+// collapse is taken where the branches' peak power u·(S − G·u) at
+// u = S/(2G) falls below the demand there), and stop at the converter's
+// input current limit where it gives one (flat efficiency only).
+//
 // What it does not solve yet, and Validate refuses by field for a cell
-// with a model: the converter's efficiency curve and input current limit,
-// wiring resistance and the thermal limit.
+// with a model: the input current limit together with an efficiency
+// curve, wiring resistance and the thermal limit.
 // The stored-energy, safety and charging figures still use the cell's
 // capacitance_f and esr_ohm (a flag says so), and the lot analysis is not
 // run on such a cell.
@@ -72,15 +78,9 @@ func modelRules(d *Design) ValidationError {
 		return errs
 	}
 	mp := fmt.Sprintf("cells[%d].model", first)
-	if cv := d.Converter; cv != nil {
-		if len(cv.EfficiencyCurve) > 0 {
-			add("converter.efficiency_curve", "model_unsupported",
-				"an efficiency curve is not yet solved on a cell model (%s): give load.efficiency instead, or remove the model", mp)
-		}
-		if cv.MaxInputCurrentA != nil {
-			add("converter.max_input_current_a", "model_unsupported",
-				"the converter's input current limit is not yet solved on a cell model (%s): remove it or the model", mp)
-		}
+	if cv := d.Converter; cv != nil && len(cv.EfficiencyCurve) > 0 && cv.MaxInputCurrentA != nil {
+		add("converter.max_input_current_a", "model_unsupported",
+			"the converter's input current limit together with an efficiency curve is not yet solved on a cell model (%s): remove one of them or the model", mp)
 	}
 	if w := d.Wiring; w != nil {
 		for _, f := range []struct {
@@ -118,7 +118,18 @@ type modelRun struct {
 	err              error
 }
 
-func modelLoad(st compiledStep) cellmodel.Load {
+// modelLoad is the load of step st on the model; curve, if not nil, is
+// the converter's efficiency against the terminal voltage, applied to
+// power steps as the ideal pass does (P_L/η(u) out of the bank while
+// discharging, |P_L|·η(u) into it while charging).
+func modelLoad(st compiledStep, curve *efficiencyCurve) cellmodel.Load {
+	if st.kind == kindPower && curve != nil {
+		pl := st.x
+		if pl > 0 {
+			return cellmodel.Load{Kind: cellmodel.Power, PowerAt: func(u float64) float64 { return pl / curve.at(u) }}
+		}
+		return cellmodel.Load{Kind: cellmodel.Power, PowerAt: func(u float64) float64 { return pl * curve.at(u) }}
+	}
 	switch st.kind {
 	case kindCurrent:
 		return cellmodel.Load{Kind: cellmodel.Current, Value: st.x}
@@ -144,8 +155,16 @@ func (p *plan) runModelSteps(r *modelRun, repeat int, minV float64) {
 				return
 			}
 			e0 := r.bank.Energy(r.sim.State())
-			load := modelLoad(st)
+			load := modelLoad(st, p.curve)
 			lim := cellmodel.Limits{MinV: minV}
+			// The converter's input current limit (flat efficiency; with a
+			// curve Validate refuses it): a discharging power step stops
+			// where P/u would pass it, at u = P/imax, when that is above
+			// the window bottom, as on the ideal RC.
+			byCurrent := p.imax > 0 && p.curve == nil && st.kind == kindPower && st.x > p.imax*minV
+			if byCurrent {
+				lim.MinV = st.x / p.imax
+			}
 			charging := (st.kind == kindCurrent || st.kind == kindPower) && st.x < 0
 			if charging {
 				// Held at the window top once the immediate branch gets
@@ -167,6 +186,8 @@ func (p *plan) runModelSteps(r *modelRun, repeat int, minV float64) {
 				offered := -st.x * rem // power: |P| over the hold
 				if st.kind == kindCurrent {
 					offered = -st.x * o.EndTerminalV * rem
+				} else if p.curve != nil {
+					offered *= p.curve.at(p.maxV)
 				}
 				h, err := r.sim.Run(cellmodel.Load{Kind: cellmodel.Voltage, Value: p.maxV}, rem, cellmodel.Limits{}, nil)
 				if err != nil {
@@ -182,6 +203,11 @@ func (p *plan) runModelSteps(r *modelRun, repeat int, minV float64) {
 				if rej := offered + h.EnergyOutJ; rej > 0 {
 					s.reject += rej
 				}
+				if st.kind == kindPower && p.curve != nil {
+					// At the load's side: what the source gave while
+					// charging, and for what the bank took in the hold.
+					s.eOut += st.x*o.DurationS + h.EnergyOutJ/p.curve.at(p.maxV)
+				}
 				o.Stop = cellmodel.Completed
 			}
 			y := r.sim.State()
@@ -194,13 +220,23 @@ func (p *plan) runModelSteps(r *modelRun, repeat int, minV float64) {
 				s.maxI2 = max(s.maxI2, i2dt/dur)
 			}
 			s.eLoad += eLoad
-			s.eOut += eLoad * st.toLoad
+			switch {
+			case st.kind == kindPower && p.curve != nil:
+				if !(charging && o.Stop == cellmodel.Completed && dur > o.DurationS) {
+					s.eOut += st.x * dur // the load's own power over the step
+				}
+			default:
+				s.eOut += eLoad * st.toLoad
+			}
 			r.eLeak += eLeak
 			r.eBranches += e0 - r.bank.Energy(y) - eLoad - eLeak
 			s.steps++
 			switch o.Stop {
 			case cellmodel.WindowBottom:
 				s.stop, s.stopStep = stopVoltage, j
+				if byCurrent {
+					s.stop = stopInputCurrent
+				}
 				return
 			case cellmodel.Collapse:
 				s.stop, s.stopStep = stopPower, j
