@@ -1,5 +1,7 @@
 package sizing
 
+import "capbank/sizing/cellmodel"
+
 // Design is everything capbank needs to size a bank: the voltage window, the
 // load profile, the worst-case factors and the candidate cells. It is the
 // design file read by `capbank size` and posted to the web API.
@@ -385,6 +387,11 @@ type Cell struct {
 	// Module, when the cell comes in modules, rounds the bank to whole
 	// modules (see Module). nil: single cells.
 	Module *Module `json:"module,omitempty"`
+	// Model is the cell's equivalent circuit beyond the ideal RC: a
+	// two-branch or three-branch model (see cellmodel.Spec for its keys).
+	// nil: the ideal RC of CapacitanceF and ESROhm. With a model, the
+	// sizing pass and the runtime are solved on it (see modelpass.go).
+	Model *cellmodel.Spec `json:"model,omitempty"`
 	// VoltageDerating is [[temp_c, max_cell_v], …] sorted by temperature:
 	// the per-cell ceiling at the design's hottest cell temperature
 	// (ambient plus the ESR heating), linear between the points and flat

@@ -1,6 +1,7 @@
 package sizing
 
 import (
+	"capbank/sizing/cellmodel"
 	"context"
 	"errors"
 	"fmt"
@@ -274,7 +275,7 @@ func sizeWith(ctx context.Context, d *Design, workers int) (*Report, int64, erro
 func (p *plan) analyseCandidates(cands []Candidate) {
 	which := statOptions(p.d).which
 	for i := range cands {
-		if which == "none" || !cands[i].Feasible || (i > 0 && which != "all") || p.halt.Load() {
+		if which == "none" || !cands[i].Feasible || (i > 0 && which != "all") || p.halt.Load() || p.cell(cands[i].CellID).Model != nil {
 			continue
 		}
 		if c := p.cell(cands[i].CellID); c != nil {
@@ -329,23 +330,27 @@ func CandidateCurve(d *Design, r *Report, cellID string) (*Curve, error) {
 
 // cellLimits are a cell's worst-case figures, ready for any string count.
 type cellLimits struct {
-	s        int
-	ceiling  float64
-	cw, rw   float64 // worst-case cell capacitance (F) and ESR (Ω)
-	gCell    float64 // leakage conductance of one cell, S
-	coldK    float64 // cold factor of the ESR (1: none)
-	coldCK   float64 // cold factor of the capacitance (1: none)
-	tolK     float64 // the minus tolerance as a factor (1: none or not applied)
-	peakA    float64 // 0: not given
-	contA    float64 // 0: not given
-	passTime float64
-	rmsTime  float64 // what the RMS current is taken over: the period, or the pass
-	gLeak    float64 // leakage conductance of one cell alone, S
-	bal      balancingPlan
-	heat     *heatModel // nil: the cell gives no thermal resistance
-	maxTempC float64    // the cell's maximum temperature, a sizing limit with heat; NaN: none
-	ambientC float64
-	halt     *atomic.Bool // the plan's cancel flag, passed to every bank model
+	s       int
+	ceiling float64
+	cw, rw  float64 // worst-case cell capacitance (F) and ESR (Ω)
+	gCell   float64 // leakage conductance of one cell, S
+	// model is the cell's model (nil: the ideal RC), and cellC, cellR its
+	// rated capacitance (F) and ESR (Ω), which cw and rw derate.
+	model        *cellmodel.Model
+	cellC, cellR float64
+	coldK        float64 // cold factor of the ESR (1: none)
+	coldCK       float64 // cold factor of the capacitance (1: none)
+	tolK         float64 // the minus tolerance as a factor (1: none or not applied)
+	peakA        float64 // 0: not given
+	contA        float64 // 0: not given
+	passTime     float64
+	rmsTime      float64 // what the RMS current is taken over: the period, or the pass
+	gLeak        float64 // leakage conductance of one cell alone, S
+	bal          balancingPlan
+	heat         *heatModel // nil: the cell gives no thermal resistance
+	maxTempC     float64    // the cell's maximum temperature, a sizing limit with heat; NaN: none
+	ambientC     float64
+	halt         *atomic.Bool // the plan's cancel flag, passed to every bank model
 	// ceilingTempC is the cell temperature (°C) the voltage derating was
 	// read at, and derated whether it lowered the ceiling; parStep the
 	// whole number of strings a module holds (1: single cells).
@@ -378,6 +383,10 @@ func (p *plan) limitsWith(c *Cell, o limitOptions, flags *[]Flag) cellLimits {
 		maxTempC: math.NaN(), ambientC: p.ambientC, halt: p.halt,
 		wLink: p.wLink, wStr: p.wStr, wBank: p.wBank, imax: p.imax, effCurve: p.curve}
 	l.rmsTime = max(l.passTime, p.periodS)
+	if c.Model != nil {
+		m := c.Model.Model()
+		l.model, l.cellC, l.cellR = &m, c.CapacitanceF, c.ESROhm
+	}
 	if p.d.CellMaxV != nil {
 		if *p.d.CellMaxV <= c.RatedV {
 			l.ceiling = *p.d.CellMaxV
@@ -505,6 +514,7 @@ type trial struct {
 	ok    bool
 	limit string // what failed: voltage, power, peak_current, rms_current, temperature
 	stats passStats
+	model *modelRun // the pass on the cell's model; nil: the ideal RC
 }
 
 // try runs the sizing pass on par strings and judges it: the window
@@ -513,9 +523,16 @@ type trial struct {
 // thermal resistance and a maximum temperature, the hot spot.
 func (p *plan) try(l *cellLimits, par int) trial {
 	m := l.bank(par)
-	s := m.run(p.steps, p.repeat, p.startV, p.minV, p.maxV)
+	var mr *modelRun
+	var s passStats
+	if l.model != nil {
+		mr = p.runModel(l, par)
+		s = mr.stats
+	} else {
+		s = m.run(p.steps, p.repeat, p.startV, p.minV, p.maxV)
+	}
 	p.work.Add(int64(s.steps))
-	tr := trial{par: par, stats: s, ok: true}
+	tr := trial{par: par, stats: s, ok: true, model: mr}
 	switch {
 	case s.stop != stopNone:
 		tr.ok, tr.limit = false, s.stop.String()
@@ -958,6 +975,9 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		cand.LeakageLossJ = 0
 	}
 	cand.RejectedEnergyJ = st.reject
+	if t.model != nil {
+		p.fillModelFigures(cand, c, t.model)
+	}
 	// Totals: the modules' own figures where the module gives them (cells
 	// included), else the cells'.
 	cand.Modules = moduleCount(c, s, par)
@@ -991,22 +1011,26 @@ func (p *plan) fillFigures(cand *Candidate, c *Cell, l *cellLimits, t trial) {
 		return
 	}
 	p.fillHeatAndLife(cand, c, l, m)
-	// The runtime's first repeats are the sizing pass just run: go on from
-	// where it ended.
-	rt := m.runtimeFrom(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget, st.v, st.t)
-	p.work.Add(int64(m.work))
-	if rt.within {
-		v := rt.t
-		cand.RuntimeS = &v
-		cand.RuntimeEnd = rt.end.String()
-		if cand.RuntimeEnd == "" {
-			cand.RuntimeEnd = "voltage"
-		}
-		cand.RuntimeEstimated = rt.estimated
-		if rt.estimated {
-			cand.Flags = append(cand.Flags, Flag{Code: "runtime-estimated", Severity: Info, Message: fmt.Sprintf(
-				"The runtime (%.4g s) spans too many repeats of the steps to run one by one; the periods past the first %d steps were counted by averaging the voltage drop per period.",
-				rt.t, runtimeStepBudget)})
+	if t.model != nil {
+		p.fillModelRuntime(cand, t.model)
+	} else {
+		// The runtime's first repeats are the sizing pass just run: go on from
+		// where it ended.
+		rt := m.runtimeFrom(p.steps, p.period, p.minV, p.maxV, runtimeStepBudget, st.v, st.t)
+		p.work.Add(int64(m.work))
+		if rt.within {
+			v := rt.t
+			cand.RuntimeS = &v
+			cand.RuntimeEnd = rt.end.String()
+			if cand.RuntimeEnd == "" {
+				cand.RuntimeEnd = "voltage"
+			}
+			cand.RuntimeEstimated = rt.estimated
+			if rt.estimated {
+				cand.Flags = append(cand.Flags, Flag{Code: "runtime-estimated", Severity: Info, Message: fmt.Sprintf(
+					"The runtime (%.4g s) spans too many repeats of the steps to run one by one; the periods past the first %d steps were counted by averaging the voltage drop per period.",
+					rt.t, runtimeStepBudget)})
+			}
 		}
 	}
 	if st.reject > 0 {

@@ -203,6 +203,7 @@ func Finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // physicsRules are the cross-field rules the tags cannot say.
 func physicsRules(d *Design) ValidationError {
 	var errs ValidationError
+	errs = append(errs, modelRules(d)...)
 	add := func(field, rule, format string, a ...any) {
 		errs = append(errs, FieldError{Field: field, Rule: rule, Message: fmt.Sprintf(format, a...)})
 	}
