@@ -11,6 +11,7 @@ import (
 
 	"github.com/PuerkitoBio/goquery"
 
+	"capbank/components"
 	"capbank/components/figures"
 	"capbank/sizing"
 	"capbank/web/form"
@@ -240,9 +241,12 @@ func TestLiveUpdateReachesModuleFields(t *testing.T) {
 			t.Errorf("out-of-band %s %q, want %q", id, got, want)
 		}
 	}
+	// Every other slot is cleared by the one clearing element, whose
+	// selector takes in each module field's message on the page.
+	cleared := parse(t, get(t, s, "/")).Find(components.MessageSlots)
 	for _, fl := range append(form.CellModuleFields("inline."), form.ModuleFields...) {
-		if doc.Find("#msg-"+form.DomID(fl.Name)+"[hx-swap-oob]").Length() != 1 {
-			t.Errorf("no out-of-band slot for %s", fl.Name)
+		if cleared.Filter("#msg-"+form.DomID(fl.Name)).Length() != 1 {
+			t.Errorf("no message slot cleared for %s", fl.Name)
 		}
 	}
 }

@@ -74,6 +74,11 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Explore != nil {
 		return nil, fmt.Errorf("sets explore, which this form has no field for; choose the explorer's objectives on the explorer page, or remove the key")
 	}
+	for _, c := range d.Cells {
+		if c.Model != nil {
+			return nil, fmt.Errorf("gives cell %q a %s model (cells[].model), which this form has no fields for; size it with the JSON API or capbank size, or remove the model to size the cell as its capacitance behind its ESR", c.ID, c.Model.Kind)
+		}
+	}
 	if d.BOQ != nil && len(d.BOQ.Extras) > MaxExtras {
 		return nil, fmt.Errorf("has %d own BOQ lines, more than %d", len(d.BOQ.Extras), MaxExtras)
 	}

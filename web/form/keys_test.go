@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"capbank/sizing"
+	"capbank/sizing/cellmodel"
 )
 
 // designFileKeys lists the leaf keys of a design-file type by their
@@ -48,6 +49,9 @@ func TestEveryDesignKeyHasAField(t *testing.T) {
 		"load.profile_csv":      "refused by FromDesign with what to do instead",
 		"load.profile_csv_text": ProfileField,
 		"boq.extras":            "the own-line rows",
+		"series":                "refused by FromDesign with what to do instead (the explorer's points set it)",
+		"explore.extra_series":  "refused by FromDesign; the explorer page has its own settings",
+		"explore.objectives":    "refused by FromDesign; the explorer page has its own settings",
 	}
 	for _, key := range designFileKeys(reflect.TypeFor[sizing.Design](), "") {
 		if _, ok := otherwise[key]; ok {
@@ -61,8 +65,23 @@ func TestEveryDesignKeyHasAField(t *testing.T) {
 		if key == "capacitance_tolerance_pct" {
 			key += "[0]" // the pair is two fields
 		}
+		if strings.HasPrefix(key, "model.") {
+			continue // a cell with a model is refused by FromDesign with what to do instead
+		}
 		if _, ok := cellKeys[key]; !ok {
 			t.Errorf("cell key %s has no field in the cell's inputs", key)
 		}
+	}
+}
+
+// TestCellModelRefusedByName: a design whose cell carries a branch model
+// (cells[].model) is refused by the form with the cell and what to do,
+// never opened with the model dropped, which would size a different cell.
+func TestCellModelRefusedByName(t *testing.T) {
+	t.Parallel()
+	d := &sizing.Design{Cells: []sizing.Cell{{ID: "fit-1", Model: &cellmodel.Spec{Kind: "two-branch"}}}}
+	_, err := FromDesign(d, nil)
+	if err == nil || !strings.Contains(err.Error(), `"fit-1"`) || !strings.Contains(err.Error(), "cells[].model") {
+		t.Fatalf("FromDesign = %v, want a refusal naming the cell and cells[].model", err)
 	}
 }
