@@ -81,3 +81,54 @@ func TestExportsShowModulesAndCeilingTemperature(t *testing.T) {
 		}
 	}
 }
+
+// TestExportsListSystemInputs: the PDF's and the XLSX's design inputs list
+// every bank-in-its-system key the demo gives (start voltage, series
+// multiple, charger, converter with its efficiency curve, wiring, inrush
+// limit) and the 650 F cell's module and voltage derating, each with its
+// design-file key, so a reviewer can check every input that moved the
+// result.
+func TestExportsListSystemInputs(t *testing.T) {
+	t.Parallel()
+	s := mustSize(t, agvDesign, nil, "")
+	plain := func(s string) string { return strings.Join(strings.Fields(strings.ReplaceAll(s, "\u00a0", " ")), " ") }
+	pdfWant := []string{
+		"44 V (load.start_v)", "4 (series_multiple)", "10 A (charger.current_a)", "450 W (charger.power_w)",
+		"10 % of the current limit (charger.end_current_pct)", "0.92 (charger.efficiency)",
+		"26 V (converter.min_input_v)", "240 A (converter.max_input_current_a)",
+		"24 V: 0.88, 36 V: 0.93, 48 V: 0.95 (converter.efficiency_curve)",
+		"converter efficiency by the input voltage (converter.efficiency_curve, below)",
+		"(wiring.link_resistance_ohm)", "1.5 mΩ (wiring.bank_resistance_ohm)", "60 A (system.inrush_limit_a)",
+		"6 in series × 1 in parallel (cells[demo-c650-2v7].module)", "(cells[demo-c650-2v7].voltage_derating)",
+	}
+	text := plain(pdfTextOf(t, writePDF(t, s, s.b, A4)))
+	for _, want := range pdfWant {
+		if !strings.Contains(text, want) {
+			t.Errorf("the PDF's design inputs lack %q", want)
+		}
+	}
+	f := openXLSX(t, s)
+	rows, err := f.GetRows(SheetInputs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string][]string{}
+	for _, r := range rows {
+		if len(r) > 1 {
+			key, _, _ := strings.Cut(r[0], " (")
+			got[key] = r
+		}
+	}
+	for key, want := range map[string]string{
+		"load.start_v": "44", "series_multiple": "4", "charger.current_a": "10", "charger.power_w": "450",
+		"converter.max_input_current_a": "240", "wiring.link_resistance_ohm": "0.00012", "wiring.bank_resistance_ohm": "0.0015",
+		"system.inrush_limit_a": "60",
+	} {
+		if r, ok := got[key]; !ok || r[1] != want {
+			t.Errorf("the XLSX Inputs row for %s is %q, want the value %s", key, r, want)
+		}
+	}
+	if r := got["cells[demo-c650-2v7].voltage_derating"]; len(r) < 2 || !strings.Contains(plain(r[1]), "°C: ") {
+		t.Errorf("the XLSX Inputs row for the cell's voltage derating is %q", r)
+	}
+}

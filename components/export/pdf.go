@@ -510,6 +510,9 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 	if d.Load.Efficiency != nil {
 		eff = figures.Number(*d.Load.Efficiency, sigFigs) + " (converter, both ways)"
 	}
+	if d.Converter != nil && len(d.Converter.EfficiencyCurve) > 0 {
+		eff = "by the input voltage (converter.efficiency_curve, below)"
+	}
 	pass := fmt.Sprintf("%d steps, one pass %s", len(d.Load.StepList()), figures.Duration(r.ProfileDurationS, sigFigs))
 	if r.Repeat > 1 {
 		pass += fmt.Sprintf(", run %d × back to back: sizing pass %s", r.Repeat, figures.Duration(r.PassDurationS, sigFigs))
@@ -533,6 +536,9 @@ func (p *pdf) inputs(d *sizing.Design, r *sizing.Report) {
 		rows = append(rows, []string{"Standby hold asked", quantity(*d.StandbyH, "h") + " above the cut-off with no charger"})
 	}
 	rows = append(rows, []string{"Balancing", balancingInput(d.Balancing)})
+	for _, in := range systemInputs(d) {
+		rows = append(rows, []string{strings.ToUpper(in.label[:1]) + in.label[1:], in.shown() + " (" + in.key + ")"})
+	}
 	rows = append(rows, []string{"Ranking", "feasible candidates ranked by " + r.RankBy})
 	p.table(table{cols: []column{{"input", 1, "L"}, {"value", 3.2, "L"}}, rows: rows, pt: bodyPt})
 

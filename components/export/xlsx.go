@@ -468,7 +468,9 @@ func (x *workbook) inputsSheet(d *sizing.Design, r *sizing.Report) error {
 	} else {
 		t.add("cold_c", "not given", "", "no cold worst case")
 	}
-	if d.Load.Efficiency != nil {
+	if d.Converter != nil && len(d.Converter.EfficiencyCurve) > 0 {
+		t.add("load.efficiency", "by the input voltage", "", "converter.efficiency_curve, below")
+	} else if d.Load.Efficiency != nil {
 		t.add("load.efficiency", left(*d.Load.Efficiency), "")
 	} else {
 		t.add("load.efficiency", left(1.0), "", "not given: power_w is at the bank terminals")
@@ -482,6 +484,13 @@ func (x *workbook) inputsSheet(d *sizing.Design, r *sizing.Report) error {
 	}
 	if d.StandbyH != nil {
 		t.add("standby_h", left(*d.StandbyH), "h")
+	}
+	for _, in := range systemInputs(d) {
+		if in.value != nil {
+			t.add(in.key+" ("+in.label+")", left(*in.value), in.unit)
+		} else {
+			t.add(in.key+" ("+in.label+")", in.text)
+		}
 	}
 	bal := sizing.Balancing{}
 	if d.Balancing != nil {
