@@ -202,7 +202,7 @@ func (p *plan) bind(cand *Candidate, c *Cell, l *cellLimits, lo trial) {
 	cand.Binding = b
 	var why []string
 	if cand.Feasible {
-		why = append(why, p.stringsWhy(cand, l, lo, b))
+		why = append(why, p.stringsWhy(cand, c, l, lo, b))
 	} else {
 		why = append(why, fmt.Sprintf("No string count up to %d carries the pass: %s", MaxParallel, strings.TrimSuffix(cand.Reason, ".")))
 	}
@@ -210,7 +210,7 @@ func (p *plan) bind(cand *Candidate, c *Cell, l *cellLimits, lo trial) {
 	cand.Why = strings.Join(why, "; ") + "."
 }
 
-func (p *plan) stringsWhy(cand *Candidate, l *cellLimits, lo trial, b *Binding) string {
+func (p *plan) stringsWhy(cand *Candidate, c *Cell, l *cellLimits, lo trial, b *Binding) string {
 	n := cand.Parallel
 	head := fmt.Sprintf("%d %s", n, pluralWord(n, "string", "strings"))
 	if lo.par < 1 || cand.Limit == "" {
@@ -260,8 +260,8 @@ func (p *plan) stringsWhy(cand *Candidate, l *cellLimits, lo trial, b *Binding) 
 		}
 		return s
 	case "voltage":
-		return fmt.Sprintf("%s: set by the window bottom, at %s the terminal voltage reaches %s in step %d, %s into the %s pass; %s keep it at %s or above",
-			head, fewer, Quantity(p.minV, "V", 4), step, Quantity(at, "s", 4), Quantity(l.passTime, "s", 4), head, Quantity(cand.MinTerminalV, "V", 4))
+		return fmt.Sprintf("%s: set by %s, at %s the terminal voltage reaches %s in step %d, %s into the %s pass; %s keep it at %s or above",
+			head, p.bottomText(cand, c), fewer, Quantity(p.minV, "V", 4), step, Quantity(at, "s", 4), Quantity(l.passTime, "s", 4), head, Quantity(cand.MinTerminalV, "V", 4))
 	case "input_current":
 		return fmt.Sprintf("%s: set by the converter's input current limit (%s), which %s pass %s", head, Quantity(l.imax, "A", 4), fewer, where)
 	case "peak_current":
@@ -345,4 +345,17 @@ func pluralWord(n int, one, many string) string {
 		return one
 	}
 	return many
+}
+
+// bottomText names what set the bottom a candidate's pass may not pass:
+// the window's, or above it the cells' own floor (a hybrid cell's min_v
+// times the series count) or the converter's minimum input voltage.
+func (p *plan) bottomText(cand *Candidate, c *Cell) string {
+	if !(p.minV > p.d.Window.MinV) {
+		return "the window bottom"
+	}
+	if c.MinV != nil && float64(cand.Series)**c.MinV == p.minV {
+		return fmt.Sprintf("the cells' own floor (%d × %s min_v, above the %s window bottom)", cand.Series, Quantity(*c.MinV, "V", 4), Quantity(p.d.Window.MinV, "V", 4))
+	}
+	return fmt.Sprintf("the converter's minimum input voltage (above the %s window bottom)", Quantity(p.d.Window.MinV, "V", 4))
 }

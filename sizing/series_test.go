@@ -232,3 +232,43 @@ func TestEveryCandidateSaysWhy(t *testing.T) {
 		}
 	}
 }
+
+// TestWhyNamesWhatSetTheBottom: where a bank's strings are set by the
+// lowest voltage it may reach, the why line names what set that voltage:
+// the window bottom, a hybrid cell's own floor (min_v × series), or the
+// converter's minimum input voltage, each with its figure.
+func TestWhyNamesWhatSetTheBottom(t *testing.T) {
+	base := func() *Design {
+		return &Design{
+			Window:    Window{MaxV: 27, MinV: 10},
+			Balancing: &Balancing{Kind: "none"},
+			Load:      Load{Steps: []Step{{CurrentA: fp(2), DurationS: 30}}},
+			Cells:     []Cell{{ID: "c", RatedV: 2.7, CapacitanceF: 10, ESROhm: 0.01}},
+		}
+	}
+	hybrid := base()
+	hybrid.Cells[0].MinV = fp(1.5) // 10 × 1.5 V = 15 V, above the 10 V bottom
+	conv := base()
+	conv.Converter = &Converter{MinInputV: fp(18)}
+	for _, tc := range []struct {
+		name string
+		d    *Design
+		want string
+	}{
+		{"window", base(), "set by the window bottom, at "},
+		{"hybrid floor", hybrid, "set by the cells' own floor (10 × 1.5 V min_v, above the 10 V window bottom), at "},
+		{"converter", conv, "set by the converter's minimum input voltage (above the 10 V window bottom), at "},
+	} {
+		r, err := Size(tc.d)
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		c := r.Candidates[0]
+		if c.Limit != "voltage" && c.Parallel > 1 {
+			t.Fatalf("%s: strings set by %q, want the bottom", tc.name, c.Limit)
+		}
+		if !strings.Contains(c.Why, tc.want) {
+			t.Errorf("%s: why %q, want it to contain %q", tc.name, c.Why, tc.want)
+		}
+	}
+}
