@@ -264,10 +264,9 @@ func severityRank(s string) int {
 }
 
 // pointLinks are each point's links: open, the design page with the
-// design of that one cell (only where the point is the cell's least
-// series count, which the design page sizes without a series key, and the
-// design fits a link; else ""), and file, the design file of exactly that
-// bank (the cell, and the series key where it is above the least).
+// design of exactly that bank (the cell, and the series key, the form's
+// "Cells in series, forced", where it is above the least; "" where the
+// design does not fit a link), and file, the design file of that bank.
 func pointLinks(d *sizing.Design, res *explore.Result, token string) (open, file []string) {
 	pts := res.Explore.Points
 	open, file = make([]string, len(pts)), make([]string, len(pts))
@@ -285,10 +284,11 @@ func pointLinks(d *sizing.Design, res *explore.Result, token string) (open, file
 		v.Set("cell", pts[i].CellID)
 		v.Set("series", strconv.Itoa(pts[i].Series))
 		file[i] = "/explore/design.json?" + v.Encode()
-		if pts[i].Series != least[pts[i].CellID] {
-			continue
+		series := pts[i].Series
+		if series == least[pts[i].CellID] {
+			series = 0 // the least needs no key
 		}
-		if data, err := pointDesign(d, pts[i].CellID, 0); err == nil {
+		if data, err := pointDesign(d, pts[i].CellID, series); err == nil {
 			if tok, err := share.Encode(data); err == nil {
 				open[i] = "/?d=" + url.QueryEscape(tok)
 			}

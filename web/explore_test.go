@@ -210,6 +210,26 @@ func TestExplorePage(t *testing.T) {
 			t.Error("a dot without a link")
 		}
 	})
+	// Every dot opens its exact bank in the design page; above a cell's
+	// least series count through the form's "Cells in series, forced".
+	forced := 0
+	doc.Find("[data-testid=chart-explore] svg[role=img] circle.dot").Each(func(_ int, c *goquery.Selection) {
+		href, _ := c.Parent().Attr("href")
+		if !strings.HasPrefix(href, "/?d=") {
+			t.Errorf("dot link %q does not open the design page", href)
+			return
+		}
+		page := parse(t, get(t, s, href))
+		if n, ok := page.Find("input[name=series]").Attr("value"); ok && n != "" {
+			forced++
+			if !strings.Contains(page.Find("body").Text(), n+" in series ×") {
+				t.Errorf("the design page opened with series %s does not recommend a bank of %s in series", n, n)
+			}
+		}
+	})
+	if forced == 0 {
+		t.Error("no dot opened a bank above its cell's least series count")
+	}
 	rows := doc.Find("[data-testid=front-row]")
 	if rows.Length() != len(res.Explore.Front) {
 		t.Fatalf("%d front rows, want %d", rows.Length(), len(res.Explore.Front))

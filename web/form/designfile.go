@@ -68,9 +68,6 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	if d.Load.ProfileCSV != "" {
 		return nil, fmt.Errorf("names the profile file %q, which this page cannot read; load that CSV with \"Logged profile (CSV)\" instead, or size the design with capbank size", d.Load.ProfileCSV)
 	}
-	if d.Series != nil {
-		return nil, fmt.Errorf("sets series (%d in series), which this form has no field for; size it with the JSON API or capbank size, or remove the key to let capbank choose the series count", *d.Series)
-	}
 	if d.Explore != nil {
 		return nil, fmt.Errorf("sets explore, which this form has no field for; choose the explorer's objectives on the explorer page, or remove the key")
 	}
@@ -186,6 +183,9 @@ func FromDesign(d *sizing.Design, lib CellLookup) (*Form, error) {
 	}
 	if sy := d.System; sy != nil {
 		opt("system.inrush_limit_a", sy.InrushLimitA)
+	}
+	if d.Series != nil {
+		v.Set("series", fmt.Sprint(*d.Series))
 	}
 	if d.SeriesMultiple != nil {
 		v.Set("series_multiple", fmt.Sprint(*d.SeriesMultiple))

@@ -146,6 +146,8 @@ var (
 	ModuleFields = []Field{
 		{Name: "series_multiple", Label: "Series count in multiples of", Kind: KindCount, Units: UnitCount,
 			Hint: "cells per module, e.g. 6: the series count rounds up to whole modules; a cell's own module takes precedence; empty: 1"},
+		{Name: "series", Label: "Cells in series, forced", Kind: KindCount, Units: UnitCount,
+			Hint: "sizes every cell at this series count (the explorer's banks open with it); refused where a cell's ceiling needs more; empty: the fewest the window top allows"},
 	}
 
 	LifeFields = []Field{

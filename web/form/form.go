@@ -447,6 +447,7 @@ func (f *Form) Decode(lib CellLookup) Decoded {
 	d.Load.PeriodS = optional("load.period_s", UnitSecond)
 	d.Load.StartV = optional("load.start_v", UnitVolt)
 	d.SeriesMultiple = optionalCount("series_multiple")
+	d.Series = optionalCount("series")
 	d.Load.ProfileCSVText = f.Profile
 	for i, r := range f.Steps {
 		p := fmt.Sprintf("load.steps[%d]", i)

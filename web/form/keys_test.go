@@ -49,7 +49,6 @@ func TestEveryDesignKeyHasAField(t *testing.T) {
 		"load.profile_csv":      "refused by FromDesign with what to do instead",
 		"load.profile_csv_text": ProfileField,
 		"boq.extras":            "the own-line rows",
-		"series":                "refused by FromDesign with what to do instead (the explorer's points set it)",
 		"explore.extra_series":  "refused by FromDesign; the explorer page has its own settings",
 		"explore.objectives":    "refused by FromDesign; the explorer page has its own settings",
 	}
