@@ -128,8 +128,10 @@ func (s *Server) getExplore(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	shell := s.shell("Design explorer", "Every cell at several series counts, and the banks no other beats", "explore")
+	shell.Script = s.js // the choices form is boosted, with its "Sizing every bank…" status
 	p := components.ExploreProps{
-		Shell:  s.shell("Design explorer", "Every cell at several series counts, and the banks no other beats", "explore"),
+		Shell:  shell,
 		Design: cmp.Or(d.Name, "the unnamed design"), Token: q.token, Library: q.library, DesignHref: "/",
 	}
 	if q.token != "" {
