@@ -182,8 +182,8 @@ func fillExplore(p *components.ExploreProps, d *sizing.Design, res *explore.Resu
 			feasible++
 		}
 	}
-	p.Summary = fmt.Sprintf("%d banks sized: %d cells at up to %d more in series than the window needs; %d carry the pass, %d are on the front.",
-		len(pts), len(d.Cells), res.Explore.ExtraSeries, feasible, len(res.Explore.Front))
+	p.Summary = fmt.Sprintf("%d banks sized: %d cells at up to %d more in series than the window needs; %d %s the pass, %d %s on the front.",
+		len(pts), len(d.Cells), res.Explore.ExtraSeries, feasible, plural(feasible, "carries", "carry"), len(res.Explore.Front), plural(len(res.Explore.Front), "is", "are"))
 	open, file := pointLinks(d, res, q.token)
 	p.Scatter = components.ExploreScatter(res, q.x, q.y, file)
 	for i := range open {
